@@ -1,0 +1,75 @@
+"""The interface every line code implements (one module per code, one registry line)."""
+
+from __future__ import annotations
+
+from abc import ABC, abstractmethod
+from dataclasses import dataclass
+from typing import ClassVar
+
+import numpy as np
+
+from ..spec.model import LineCodeSpec
+
+
+@dataclass(frozen=True, eq=False)
+class DecodedBits:
+    """One candidate decoding of a burst of runs (one per chip alignment / phase).
+
+    bits: uint8 0/1 per decoded data bit.
+    run_index: int64, index (into the runs given to ``decode``) of the run in which each
+        bit's first chip lies, so the decoder can map bits back to time.
+    valid: bool per bit; False where the chips did not form a valid codeword (e.g. a
+        Manchester "00" pair); decoding continues past invalid bits.
+    """
+
+    bits: np.ndarray
+    run_index: np.ndarray
+    valid: np.ndarray
+
+
+class LineCode(ABC):
+    """bits <-> chips (one chip = one symbol unit at level 0/1)."""
+
+    name: ClassVar[str]
+    #: allowed parameter names -> description (for spec validation and docs)
+    PARAMS: ClassVar[dict[str, str]] = {}
+
+    def __init__(self, spec: LineCodeSpec) -> None:
+        self.spec = spec
+
+    @property
+    @abstractmethod
+    def units_per_bit(self) -> float:
+        """Average symbol units (chips) per data bit."""
+
+    @property
+    def efficiency(self) -> float:
+        """Data bits per symbol unit."""
+        return 1.0 / self.units_per_bit
+
+    @property
+    def bits_per_block(self) -> int:
+        """Data bits per code block; frames must be a whole number of blocks (4 for 4B6B)."""
+        return 1
+
+    @property
+    @abstractmethod
+    def max_run_units(self) -> int | None:
+        """Longest run of equal chips the code can emit for any data, None if unbounded."""
+
+    @abstractmethod
+    def encode(self, bits: np.ndarray) -> np.ndarray:
+        """Return chips (uint8) for a 1-D bit array; 2-D input (frames x bits) gives 2-D
+        output where the code has a fixed chip count per bit."""
+
+    @abstractmethod
+    def decode(self, levels: np.ndarray, units: np.ndarray) -> list[DecodedBits]:
+        """Decode runs (levels, lengths in whole units >= 1) to candidate bit streams."""
+
+    def stuff(self, bits: np.ndarray) -> np.ndarray:
+        """Bit stuffing applied to the sections after the sync word (identity by default)."""
+        return bits
+
+    def unstuff(self, bits: np.ndarray) -> np.ndarray:
+        """Inverse of ``stuff`` on a received bit stream (may be longer than one frame)."""
+        return bits

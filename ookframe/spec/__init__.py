@@ -1,0 +1,1 @@
+"""Frame spec: model and TOML loading/validation."""
