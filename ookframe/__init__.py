@@ -1,0 +1,67 @@
+"""ookframe: design, encode, decode, stress and emit C for frames on cheap OOK radio links.
+
+Pipeline: spec -> bits -> symbols (chips) -> pulse train -> (channel) -> decoder -> frames.
+This module is the public API; everything else may change between versions.
+"""
+
+from __future__ import annotations
+
+__version__ = "0.1.0"
+
+from .errors import CaptureError, CodegenError, OokframeError, SpecError, ValueRangeError
+from .frame import (
+    ParsedFrame,
+    encode,
+    encode_many,
+    frame_bits,
+    frame_chips,
+    parse_frame,
+    random_values,
+    values_equal,
+)
+from .layout import Layout, frame_layout
+from .pulses import PulseTrain
+from .spec.load import load_spec, load_spec_and_defaults, spec_from_dict
+from .spec.model import (
+    CheckSpec,
+    CrcParams,
+    DecoderSpec,
+    FieldSpec,
+    FrameSpec,
+    LineCodeSpec,
+    PreambleSpec,
+    SyncSpec,
+    WhiteningSpec,
+)
+
+__all__ = [
+    "__version__",
+    "CaptureError",
+    "CheckSpec",
+    "CodegenError",
+    "CrcParams",
+    "DecoderSpec",
+    "FieldSpec",
+    "FrameSpec",
+    "Layout",
+    "LineCodeSpec",
+    "OokframeError",
+    "ParsedFrame",
+    "PreambleSpec",
+    "PulseTrain",
+    "SpecError",
+    "SyncSpec",
+    "ValueRangeError",
+    "WhiteningSpec",
+    "encode",
+    "encode_many",
+    "frame_bits",
+    "frame_chips",
+    "frame_layout",
+    "load_spec",
+    "load_spec_and_defaults",
+    "parse_frame",
+    "random_values",
+    "spec_from_dict",
+    "values_equal",
+]

@@ -1,0 +1,89 @@
+"""Output helpers shared by commands: JSON on stdout, messages on stderr, safe file writes."""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import sys
+import tempfile
+from pathlib import Path
+from typing import Any
+
+from rich.console import Console
+
+from ..errors import OokframeError
+
+#: data goes to stdout, messages to stderr
+out = Console(highlight=False, soft_wrap=True)
+err = Console(stderr=True, highlight=False, soft_wrap=True)
+
+REGULATORY_CAUTION = (
+    "Airtime, power and duty-cycle figures are estimates. Radio rules differ by region and "
+    "change over time: check your local regulations and certification requirements before "
+    "transmitting."
+)
+
+
+class OutputExists(OokframeError):
+    """An output file exists and --force was not given."""
+
+
+def _clean(o: Any) -> Any:
+    if isinstance(o, float):
+        return o if math.isfinite(o) else None
+    if isinstance(o, dict):
+        return {str(k): _clean(v) for k, v in o.items()}
+    if isinstance(o, list | tuple):
+        return [_clean(v) for v in o]
+    if isinstance(o, bytes):
+        return o.hex()
+    if hasattr(o, "item"):  # numpy scalar
+        return _clean(o.item())
+    return o
+
+
+def dumps_json(obj: Any) -> str:
+    """JSON text of ``obj`` (numpy scalars converted, NaN/inf as null)."""
+    return json.dumps(_clean(obj), indent=2, sort_keys=False)
+
+
+def print_json(obj: Any) -> None:
+    """Print ``obj`` as JSON on stdout."""
+    sys.stdout.write(dumps_json(obj) + "\n")
+    sys.stdout.flush()
+
+
+def check_writable(path: str | Path, force: bool) -> Path:
+    """Return ``path`` after checking it may be written (exists -> OutputExists unless force)."""
+    p = Path(path)
+    if p.exists() and not force:
+        raise OutputExists(f"{p} exists; use --force to overwrite")
+    if p.exists() and p.is_dir():
+        raise OutputExists(f"{p} is a directory")
+    return p
+
+
+def write_atomic(path: str | Path, data: str | bytes, force: bool = False) -> Path:
+    """Write a file all at once (temp file + rename) so nothing half-written is left."""
+    p = check_writable(path, force)
+    p.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(dir=p.parent, prefix=f".{p.name}.", suffix=".tmp")
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data.encode("utf-8") if isinstance(data, str) else data)
+        os.replace(tmp, p)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
+    return p
+
+
+def progress_enabled(args: Any) -> bool:
+    """True when a progress bar should be shown (stderr is a TTY and not --json)."""
+    mode = getattr(args, "progress", "auto")
+    if mode == "off" or getattr(args, "json", False):
+        return False
+    if mode == "on":
+        return True
+    return sys.stderr.isatty()

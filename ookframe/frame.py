@@ -1,0 +1,294 @@
+"""Frames: field values -> on-air bits -> chips -> pulse train, and received bits -> fields.
+
+See :mod:`ookframe.spec.model` for the frame layout and the order of check, whitening and
+bit stuffing.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from functools import lru_cache
+
+import numpy as np
+
+from . import bits as _b
+from .errors import ValueRangeError
+from .pulses import PulseTrain, chips_to_train, concat
+from .spec.model import FieldSpec, FrameSpec
+
+Values = Mapping[str, object]
+
+
+@dataclass(frozen=True)
+class ParsedFrame:
+    """Fields read from received bits: physical values, raw integers/bytes, check result."""
+
+    fields: dict[str, object]
+    raw: dict[str, object]
+    payload_hex: str
+    check_ok: bool
+    n_bits: int
+
+
+@lru_cache(maxsize=64)
+def _line_code(spec: FrameSpec):
+    from .linecodes import get_line_code
+
+    return get_line_code(spec.line_code)
+
+
+@lru_cache(maxsize=64)
+def _check(spec: FrameSpec):
+    from .checks import make_check
+
+    return make_check(spec.check)
+
+
+def head_bits(spec: FrameSpec) -> np.ndarray:
+    """Preamble + sync bits (constant part of every frame)."""
+    return np.array(spec.preamble.bits() + spec.sync.bits(), dtype=np.uint8)
+
+
+def sync_bits(spec: FrameSpec) -> np.ndarray:
+    return np.array(spec.sync.bits(), dtype=np.uint8)
+
+
+def _blob(f: FieldSpec, value: object) -> bytes:
+    if isinstance(value, str):
+        try:
+            value = bytes.fromhex(value)
+        except ValueError:
+            raise ValueRangeError(f"field '{f.name}': {value!r} is not hex") from None
+    if not isinstance(value, bytes | bytearray):
+        raise ValueRangeError(f"field '{f.name}': expected bytes or a hex string")
+    if len(value) > f.max_len_bytes:
+        raise ValueRangeError(f"field '{f.name}': {len(value)} bytes; allowed 0..{f.max_len_bytes}")
+    return bytes(value)
+
+
+def raw_values(spec: FrameSpec, values: Values) -> dict[str, object]:
+    """Return raw values (ints, bytes) for every field; the length field is derived.
+
+    Raises ValueRangeError naming a missing, unknown or out-of-range field.
+    """
+    unknown = [k for k in values if k not in {f.name for f in spec.fields}]
+    if unknown:
+        import difflib
+
+        close = difflib.get_close_matches(unknown[0], [f.name for f in spec.fields], n=1)
+        hint = f" (did you mean '{close[0]}'?)" if close else ""
+        raise ValueRangeError(f"unknown field '{unknown[0]}'{hint}; fields: "
+                              + ", ".join(f.name for f in spec.fields))
+    raw: dict[str, object] = {}
+    blob_len: int | None = None
+    for f in spec.fields:
+        if f.kind == "bytes":
+            b = _blob(f, values.get(f.name, b""))
+            raw[f.name] = b
+            blob_len = len(b)
+    for f in spec.fields:
+        if f.kind == "bytes":
+            continue
+        if f.role == "length":
+            assert blob_len is not None
+            if f.name in values and to_int_or_none(values[f.name]) != blob_len:
+                raise ValueRangeError(f"field '{f.name}' is the length field; it is set from the "
+                                      f"bytes field ({blob_len}), leave it out")
+            raw[f.name] = blob_len
+            continue
+        if f.name not in values:
+            raise ValueRangeError(f"field '{f.name}' has no value (set it or give a default)")
+        raw[f.name] = _b.to_raw(f, values[f.name])
+    return raw
+
+
+def to_int_or_none(v: object) -> int | None:
+    try:
+        return int(v)  # type: ignore[arg-type]
+    except (TypeError, ValueError):
+        return None
+
+
+def field_bits(spec: FrameSpec, raw: Mapping[str, object]) -> np.ndarray:
+    """On-air bits of the fields section (un-whitened)."""
+    parts = []
+    for f in spec.fields:
+        r = raw[f.name]
+        if f.kind == "bytes":
+            assert isinstance(r, bytes)
+            if r:
+                b = np.unpackbits(np.frombuffer(r, dtype=np.uint8))
+                if spec.bit_order == "lsb":
+                    b = b.reshape(-1, 8)[:, ::-1].ravel()
+                parts.append(b)
+        else:
+            assert isinstance(r, int)
+            parts.append(_b.int_to_bits(_b.to_unsigned(r, f.width_bits), f.width_bits,
+                                        spec.bit_order, spec.byte_order))
+    return np.concatenate(parts) if parts else np.zeros(0, np.uint8)
+
+
+def check_bits(spec: FrameSpec, fbits: np.ndarray) -> np.ndarray:
+    """On-air bits of the check over the covered sections (sync and/or fields)."""
+    if spec.check.kind == "none":
+        return np.zeros(0, np.uint8)
+    covered = []
+    if "sync" in spec.check.covers:
+        covered.append(sync_bits(spec))
+    if "fields" in spec.check.covers:
+        covered.append(fbits)
+    value = _check(spec).compute(_b.pack_bits(np.concatenate(covered)))
+    w = spec.check.width_bits
+    return _b.int_to_bits(value, w, spec.bit_order, spec.check.byte_order)
+
+
+def whitening_mask(spec: FrameSpec, n_field_bits: int, n_check_bits: int) -> np.ndarray:
+    """XOR mask over fields + check (zeros where whitening does not cover)."""
+    n = n_field_bits + n_check_bits
+    if spec.whitening.kind == "none":
+        return np.zeros(n, np.uint8)
+    from .whitening import lfsr_bits
+
+    w = spec.whitening
+    start = 0 if "fields" in w.covers else n_field_bits
+    stop = n if "check" in w.covers else n_field_bits
+    mask = np.zeros(n, np.uint8)
+    mask[start:stop] = lfsr_bits(w, stop - start)
+    return mask
+
+
+def body_bits(spec: FrameSpec, values: Values) -> np.ndarray:
+    """Fields + check bits as sent (whitened, not stuffed)."""
+    raw = raw_values(spec, values)
+    fb = field_bits(spec, raw)
+    cb = check_bits(spec, fb)
+    body = np.concatenate((fb, cb))
+    return body ^ whitening_mask(spec, fb.size, cb.size)
+
+
+def frame_bits(spec: FrameSpec, values: Values) -> np.ndarray:
+    """Return the complete on-air bit stream of one frame before line coding (no stuffing)."""
+    return np.concatenate((head_bits(spec), body_bits(spec, values)))
+
+
+def frame_chips(spec: FrameSpec, values: Values) -> np.ndarray:
+    """Return the chips of one frame (bit stuffing after the sync, then line code)."""
+    lc = _line_code(spec)
+    bits = np.concatenate((head_bits(spec), lc.stuff(body_bits(spec, values))))
+    return lc.encode(bits)
+
+
+def frame_train(spec: FrameSpec, values: Values) -> PulseTrain:
+    """Pulse train of one frame (no repeats)."""
+    return chips_to_train(frame_chips(spec, values), spec.unit_us)
+
+
+def encode(spec: FrameSpec, values: Values) -> PulseTrain:
+    """Return the pulse train of one whole transmission: ``repeats`` frames, ``gap_us`` apart."""
+    one = frame_train(spec, values)
+    return concat([one] * spec.repeats, spec.gap_us)
+
+
+def encode_many(spec: FrameSpec, values_list: Sequence[Values]) -> list[PulseTrain]:
+    """Return one transmission per entry of ``values_list``."""
+    return [encode(spec, v) for v in values_list]
+
+
+def random_values(spec: FrameSpec, rng: np.random.Generator) -> dict[str, object]:
+    """Return valid random field values (physical) for every settable field."""
+    out: dict[str, object] = {}
+    for f in spec.fields:
+        if f.role == "length":
+            continue
+        if f.kind == "bytes":
+            n = int(rng.integers(0, f.max_len_bytes + 1))
+            out[f.name] = rng.integers(0, 256, n, dtype=np.uint8).tobytes()
+        else:
+            if f.width_bits < 64:
+                raw = int(rng.integers(f.raw_min, f.raw_max, endpoint=True, dtype=np.int64))
+            else:  # 64-bit: combine two 32-bit draws
+                hi, lo = (int(x) for x in rng.integers(0, 1 << 32, 2, dtype=np.uint64))
+                raw = f.raw_min + ((hi << 32) | lo)
+            out[f.name] = _b.from_raw(f, raw)
+    return out
+
+
+def values_equal(spec: FrameSpec, a: Values, b: Values) -> bool:
+    """True when two value sets give the same raw fields (length field derived)."""
+    try:
+        return raw_values(spec, _settable(spec, a)) == raw_values(spec, _settable(spec, b))
+    except ValueRangeError:
+        return False
+
+
+def _settable(spec: FrameSpec, v: Values) -> dict[str, object]:
+    return {f.name: v[f.name] for f in spec.fields if f.role != "length" and f.name in v}
+
+
+def max_body_bits(spec: FrameSpec) -> int:
+    """Longest fields + check section in bits (before stuffing)."""
+    n = sum(f.width_bits if f.kind == "int" else 8 * f.max_len_bytes for f in spec.fields)
+    return n + spec.check.width_bits
+
+
+def min_body_bits(spec: FrameSpec) -> int:
+    """Shortest fields + check section in bits (bytes field empty)."""
+    return sum(f.width_bits for f in spec.fields if f.kind == "int") + spec.check.width_bits
+
+
+def parse_frame(spec: FrameSpec, bits_after_sync: np.ndarray) -> ParsedFrame | None:
+    """Read fields and verify the check from the bits after the sync word.
+
+    ``bits_after_sync`` is already unstuffed and still whitened; it may run past the end of
+    the frame. Returns None when too few bits are present (truncated frame).
+    """
+    rx = np.asarray(bits_after_sync, dtype=np.uint8)
+    w = spec.whitening
+    n_cb = spec.check.width_bits
+    # de-whiten assuming the longest layout; the mask for a shorter frame is its prefix
+    # when whitening starts at the fields, which is the case that needs the length field.
+    n_max = min(rx.size, max_body_bits(spec))
+    if rx.size < min_body_bits(spec):
+        return None
+    plain = rx[:n_max].copy()
+    if w.kind != "none" and "fields" in w.covers:
+        from .whitening import lfsr_bits
+
+        plain ^= lfsr_bits(w, n_max)
+    raw: dict[str, object] = {}
+    pos = 0
+    blob_len = 0
+    for f in spec.fields:
+        if f.kind == "bytes":
+            n = 8 * blob_len
+            if pos + n + n_cb > rx.size or blob_len > f.max_len_bytes:
+                return None
+            b = plain[pos:pos + n]
+            if spec.bit_order == "lsb" and n:
+                b = b.reshape(-1, 8)[:, ::-1].ravel()
+            raw[f.name] = np.packbits(b).tobytes() if n else b""
+            pos += n
+            continue
+        if pos + f.width_bits > plain.size:
+            return None
+        u = _b.bits_to_int(plain[pos:pos + f.width_bits], spec.bit_order, spec.byte_order)
+        pos += f.width_bits
+        r = _b.to_signed(u, f.width_bits) if f.signed else u
+        raw[f.name] = r
+        if f.role == "length":
+            blob_len = r
+    n_fb = pos
+    fb = plain[:n_fb]
+    if pos + n_cb > rx.size:
+        return None
+    cb = rx[pos:pos + n_cb].copy()
+    if n_cb:
+        cb ^= whitening_mask(spec, n_fb, n_cb)[n_fb:]
+    ok = bool(np.array_equal(cb, check_bits(spec, fb))) if n_cb else True
+    fields: dict[str, object] = {}
+    for f in spec.fields:
+        r = raw[f.name]
+        fields[f.name] = r.hex() if isinstance(r, bytes) else _b.from_raw(f, r)  # type: ignore[arg-type]
+    return ParsedFrame(fields=fields, raw=raw, payload_hex=_b.pack_bits(fb).hex(),
+                       check_ok=ok, n_bits=n_fb + n_cb)

@@ -1,0 +1,86 @@
+"""Frame layout: each section's bits, chips and duration, and the airtime of a transmission."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from . import frame as _f
+from .spec.model import FrameSpec
+
+
+@dataclass(frozen=True)
+class SectionRow:
+    """One row of the layout table (durations in µs)."""
+
+    section: str
+    bits: int
+    chips: int
+    duration_us: float
+    detail: str = ""
+
+
+@dataclass(frozen=True)
+class Layout:
+    """Layout of one frame for a given set of values, plus transmission airtime."""
+
+    rows: tuple[SectionRow, ...]
+    frame_us: float
+    airtime_us: float
+    mark_us: float
+    repeats: int
+    gap_us: float
+    data_dependent: bool
+
+
+def zero_values(spec: FrameSpec) -> dict[str, object]:
+    """Values giving raw 0 (or the nearest allowed) in every field; empty bytes fields."""
+    out: dict[str, object] = {}
+    for f in spec.fields:
+        if f.role == "length":
+            continue
+        if f.kind == "bytes":
+            out[f.name] = b""
+        else:
+            out[f.name] = _f._b.from_raw(f, max(f.raw_min, min(0, f.raw_max)))
+    return out
+
+
+def frame_layout(spec: FrameSpec, values: _f.Values | None = None) -> Layout:
+    """Return the section table and airtime for ``values`` (zeros when None)."""
+    values = zero_values(spec) if values is None else values
+    lc = _f._line_code(spec)
+    raw = _f.raw_values(spec, values)
+    fb = _f.field_bits(spec, raw)
+    cb = _f.check_bits(spec, fb)
+    body = lc.stuff(np.concatenate((fb, cb)) ^ _f.whitening_mask(spec, fb.size, cb.size))
+    head = _f.head_bits(spec)
+    chips = lc.encode(np.concatenate((head, body)))
+    # chips of each section: encode prefixes (exact for stateful codes too)
+    bounds = [spec.preamble.length_bits, spec.sync.length_bits, fb.size,
+              body.size - fb.size]
+    names = ["preamble", "sync", "fields", "check"]
+    details = [
+        f"0x{spec.preamble.pattern:0{(spec.preamble.pattern_bits + 3) // 4}X} x{spec.preamble.count}",
+        f"0x{spec.sync.value:0{(spec.sync.length_bits + 3) // 4}X}",
+        f"{len(spec.fields)} fields",
+        spec.check.crc.name if spec.check.crc and spec.check.crc.name else spec.check.kind,
+    ]
+    rows = []
+    all_bits = np.concatenate((head, body))
+    pos = 0
+    for name, nb, det in zip(names, bounds, details, strict=True):
+        part = all_bits[pos:pos + nb]
+        pos += nb
+        # chip count of a section: encode it alone (state changes levels, not counts);
+        # a partial block of a block code is counted at the code's fixed rate
+        n_chips = lc.encode(part).size if nb % lc.bits_per_block == 0 else round(nb * lc.units_per_bit)
+        rows.append(SectionRow(name, nb, n_chips, n_chips * spec.unit_us, det))
+    frame_us = chips.size * spec.unit_us
+    mark_us = float(chips.sum()) * spec.unit_us
+    data_dependent = lc.name == "pulse_distance" or bool(lc.stuff(np.ones(64, np.uint8)).size != 64) \
+        or spec.is_variable
+    airtime = frame_us * spec.repeats + spec.gap_us * (spec.repeats - 1)
+    return Layout(tuple(rows), frame_us, airtime, mark_us * spec.repeats, spec.repeats,
+                  spec.gap_us, data_dependent)

@@ -1,0 +1,459 @@
+"""Load and validate a frame spec from TOML (``tomllib``) into the frozen model.
+
+Every error is a :class:`~ookframe.errors.SpecError` carrying the key path, what is wrong
+and what is allowed; unknown keys get a close-match suggestion.
+"""
+
+from __future__ import annotations
+
+import difflib
+import keyword
+import math
+import re
+import tomllib
+from collections.abc import Mapping
+from pathlib import Path
+from typing import Any
+
+from ..errors import SpecError
+from .model import (
+    CheckSpec,
+    CrcParams,
+    DecoderSpec,
+    FieldSpec,
+    FrameSpec,
+    LineCodeSpec,
+    PreambleSpec,
+    SyncSpec,
+    WhiteningSpec,
+)
+
+C_KEYWORDS = frozenset(
+    "auto break case char const continue default do double else enum extern float for goto "
+    "if inline int long register restrict return short signed sizeof static struct switch "
+    "typedef union unsigned void volatile while _Bool _Complex _Imaginary bool true false "
+    "NULL".split()
+)
+_IDENT = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*$")
+
+#: timing limits of the links this tool targets (bit rates ~0.3-10 kbit/s are usual)
+MIN_UNIT_US = 1.0
+MAX_UNIT_US = 1_000_000.0
+MAX_REPEATS = 255
+
+TOP_KEYS = ("frame", "line_code", "preamble", "sync", "fields", "check", "whitening", "decoder")
+FRAME_KEYS = (
+    "name", "description", "bit_rate_bps", "unit_us", "bit_order", "byte_order",
+    "repeats", "gap_us",
+)
+FIELD_KEYS = (
+    "name", "width_bits", "signed", "scale", "offset", "role", "kind", "max_len_bytes",
+    "unit", "description", "default",
+)
+CRC_KEYS = ("width", "poly", "init", "refin", "refout", "xorout")
+CHECK_KEYS = ("kind", "model", "covers", "byte_order", *CRC_KEYS)
+WHITENING_KEYS = ("kind", "width", "poly", "seed", "covers")
+DECODER_KEYS = ("glitch_fraction", "tolerance", "loop_gain", "report_bad_check")
+CHECK_KINDS = ("none", "crc", "sum8", "xor8", "fletcher16")
+
+
+def _suggest(key: str, allowed: tuple[str, ...] | list[str]) -> str:
+    close = difflib.get_close_matches(key, list(allowed), n=1)
+    hint = f" (did you mean '{close[0]}'?)" if close else ""
+    return f"unknown key{hint}; allowed: {', '.join(allowed)}"
+
+
+def _table(d: object, path: str) -> Mapping[str, Any]:
+    if not isinstance(d, Mapping):
+        raise SpecError(path, f"must be a table, got {type(d).__name__}")
+    return d
+
+
+def _no_unknown(d: Mapping[str, Any], allowed: tuple[str, ...], path: str) -> None:
+    for k in d:
+        if k not in allowed:
+            raise SpecError(f"{path}.{k}" if path else k, _suggest(k, allowed))
+
+
+def _int(d: Mapping[str, Any], key: str, path: str, default: int | None = None, *,
+         lo: int | None = None, hi: int | None = None) -> int:
+    p = f"{path}.{key}"
+    if key not in d:
+        if default is None:
+            raise SpecError(p, "is required")
+        return default
+    v = d[key]
+    if isinstance(v, str):
+        try:
+            v = int(v.replace("_", ""), 0)
+        except ValueError:
+            raise SpecError(p, f"must be an integer (decimal, 0x.. or 0b..), got '{d[key]}'")
+    if isinstance(v, bool) or not isinstance(v, int):
+        raise SpecError(p, f"must be an integer, got {type(v).__name__}")
+    if lo is not None and v < lo or hi is not None and v > hi:
+        raise SpecError(p, f"{v} is out of range; allowed {lo}..{hi}")
+    return v
+
+
+def _float(d: Mapping[str, Any], key: str, path: str, default: float | None = None, *,
+           lo: float | None = None, hi: float | None = None, lo_open: bool = False) -> float:
+    p = f"{path}.{key}"
+    if key not in d:
+        if default is None:
+            raise SpecError(p, "is required")
+        return default
+    v = d[key]
+    if isinstance(v, bool) or not isinstance(v, int | float):
+        raise SpecError(p, f"must be a number, got {type(v).__name__}")
+    v = float(v)
+    if not math.isfinite(v):
+        raise SpecError(p, "must be finite")
+    if lo is not None and (v < lo or (lo_open and v == lo)):
+        raise SpecError(p, f"{v:g} is out of range; must be {'>' if lo_open else '>='} {lo:g}"
+                        + (f" and <= {hi:g}" if hi is not None else ""))
+    if hi is not None and v > hi:
+        raise SpecError(p, f"{v:g} is out of range; must be <= {hi:g}")
+    return v
+
+
+def _bool(d: Mapping[str, Any], key: str, path: str, default: bool) -> bool:
+    v = d.get(key, default)
+    if not isinstance(v, bool):
+        raise SpecError(f"{path}.{key}", f"must be true or false, got {v!r}")
+    return v
+
+
+def _choice(d: Mapping[str, Any], key: str, path: str, allowed: tuple[str, ...],
+            default: str | None = None) -> str:
+    p = f"{path}.{key}"
+    if key not in d:
+        if default is None:
+            raise SpecError(p, f"is required; allowed: {', '.join(allowed)}")
+        return default
+    v = d[key]
+    if not isinstance(v, str) or v.lower() not in allowed:
+        close = difflib.get_close_matches(str(v).lower(), list(allowed), n=1)
+        hint = f" (did you mean '{close[0]}'?)" if close else ""
+        raise SpecError(p, f"{v!r} is not allowed{hint}; allowed: {', '.join(allowed)}")
+    return v.lower()
+
+
+def _str(d: Mapping[str, Any], key: str, path: str, default: str = "") -> str:
+    v = d.get(key, default)
+    if not isinstance(v, str):
+        raise SpecError(f"{path}.{key}", f"must be a string, got {type(v).__name__}")
+    return v
+
+
+def _identifier(name: object, path: str, what: str) -> str:
+    if not isinstance(name, str) or not _IDENT.match(name):
+        raise SpecError(path, f"{name!r} is not a valid {what}: letters, digits and '_', "
+                        "not starting with a digit")
+    if name in C_KEYWORDS or keyword.iskeyword(name):
+        raise SpecError(path, f"{name!r} is a C or Python keyword; choose another {what}")
+    return name
+
+
+def _sections(d: Mapping[str, Any], path: str, allowed: tuple[str, ...],
+              default: tuple[str, ...]) -> tuple[str, ...]:
+    v = d.get("covers", list(default))
+    if isinstance(v, str):
+        v = [v]
+    if not isinstance(v, list) or not v:
+        raise SpecError(f"{path}.covers", f"must be a non-empty list; allowed: {', '.join(allowed)}")
+    out = []
+    for i, s in enumerate(v):
+        if s not in allowed:
+            raise SpecError(f"{path}.covers[{i}]", f"{s!r} is not allowed; allowed: {', '.join(allowed)}")
+        if s in out:
+            raise SpecError(f"{path}.covers[{i}]", f"{s!r} is listed twice")
+        out.append(s)
+    return tuple(sorted(out, key=allowed.index))
+
+
+def _field(d: object, i: int) -> tuple[FieldSpec, object]:
+    path = f"fields[{i}]"
+    d = _table(d, path)
+    _no_unknown(d, FIELD_KEYS, path)
+    if "name" not in d:
+        raise SpecError(f"{path}.name", "is required")
+    name = _identifier(d["name"], f"{path}.name", "field name")
+    kind = _choice(d, "kind", path, ("int", "bytes"), "int")
+    role = _choice(d, "role", path, ("value", "length"), "value")
+    if kind == "bytes":
+        if "width_bits" in d and d["width_bits"] != 8:
+            raise SpecError(f"{path}.width_bits", "a bytes field has 8-bit elements; omit width_bits")
+        max_len = _int(d, "max_len_bytes", path, lo=1, hi=255)
+        if role == "length":
+            raise SpecError(f"{path}.role", "a bytes field cannot be the length field")
+        f = FieldSpec(name=name, width_bits=8, kind="bytes", max_len_bytes=max_len,
+                      unit=_str(d, "unit", path), description=_str(d, "description", path))
+        return f, d.get("default")
+    if "max_len_bytes" in d:
+        raise SpecError(f"{path}.max_len_bytes", "only allowed with kind = \"bytes\"")
+    width = _int(d, "width_bits", path, lo=1, hi=64)
+    signed = _bool(d, "signed", path, False)
+    scale = _float(d, "scale", path, 1.0)
+    if scale == 0.0:
+        raise SpecError(f"{path}.scale", "must not be 0")
+    offset = _float(d, "offset", path, 0.0)
+    if role == "length" and (signed or scale != 1.0 or offset != 0.0):
+        raise SpecError(f"{path}.role", "a length field must be unsigned and unscaled")
+    f = FieldSpec(name=name, width_bits=width, signed=signed, scale=scale, offset=offset,
+                  role=role, unit=_str(d, "unit", path), description=_str(d, "description", path))
+    return f, d.get("default")
+
+
+def _crc_params(d: Mapping[str, Any], path: str) -> CrcParams:
+    from ..checks import Crc
+
+    if "model" in d:
+        extra = [k for k in CRC_KEYS if k in d]
+        if extra:
+            raise SpecError(f"{path}.{extra[0]}", "give either model or explicit CRC parameters, not both")
+        model = d["model"]
+        if not isinstance(model, str):
+            raise SpecError(f"{path}.model", "must be a catalogue name such as \"CRC-16/KERMIT\"")
+        try:
+            return Crc.named(model).params
+        except (KeyError, SpecError) as e:
+            from ..checks import CATALOGUE
+
+            close = difflib.get_close_matches(model.upper(), list(CATALOGUE), n=3)
+            hint = f"; close matches: {', '.join(close)}" if close else ""
+            raise SpecError(f"{path}.model", f"unknown CRC model {model!r}{hint}") from e
+    width = _int(d, "width", path, lo=3, hi=64)
+    top = (1 << width) - 1
+    params = CrcParams(
+        width=width,
+        poly=_int(d, "poly", path, lo=1, hi=top),
+        init=_int(d, "init", path, 0, lo=0, hi=top),
+        refin=_bool(d, "refin", path, False),
+        refout=_bool(d, "refout", path, False),
+        xorout=_int(d, "xorout", path, 0, lo=0, hi=top),
+    )
+    if params.poly & 1 == 0:
+        raise SpecError(f"{path}.poly", "a CRC polynomial must have its x^0 term set (odd value)")
+    Crc.from_params(params)  # validates
+    return params
+
+
+def _check(d: object) -> CheckSpec:
+    path = "check"
+    d = _table(d, path)
+    _no_unknown(d, CHECK_KEYS, path)
+    kind = _choice(d, "kind", path, CHECK_KINDS, "crc" if ("model" in d or "poly" in d) else None)
+    covers = _sections(d, path, ("sync", "fields"), ("fields",))
+    byte_order = _choice(d, "byte_order", path, ("big", "little"), "big")
+    crc = _crc_params(d, path) if kind == "crc" else None
+    if kind != "crc":
+        for k in ("model", *CRC_KEYS):
+            if k in d:
+                raise SpecError(f"{path}.{k}", f"only allowed with kind = \"crc\" (kind is {kind!r})")
+    spec = CheckSpec(kind=kind, crc=crc, covers=covers, byte_order=byte_order)
+    if byte_order == "little" and spec.width_bits % 8:
+        raise SpecError(f"{path}.byte_order", f"little needs a check width that is a multiple of 8, "
+                        f"this check is {spec.width_bits} bits")
+    return spec
+
+
+def _whitening(d: object) -> WhiteningSpec:
+    path = "whitening"
+    d = _table(d, path)
+    _no_unknown(d, WHITENING_KEYS, path)
+    kind = _choice(d, "kind", path, ("none", "pn9", "lfsr"), "pn9")
+    covers = _sections(d, path, ("fields", "check"), ("fields", "check"))
+    if kind == "none":
+        return WhiteningSpec(kind="none", covers=covers)
+    if kind == "pn9":
+        for k in ("width", "poly"):
+            if k in d:
+                raise SpecError(f"{path}.{k}", "PN9 is fixed as x^9+x^5+1; use kind = \"lfsr\" to change it")
+        width, poly = 9, 0x021
+    else:
+        width = _int(d, "width", path, lo=2, hi=32)
+        poly = _int(d, "poly", path, lo=1, hi=(1 << width) - 1)
+    seed = _int(d, "seed", path, (1 << width) - 1, lo=1, hi=(1 << width) - 1)
+    spec = WhiteningSpec(kind="lfsr" if kind == "lfsr" else "pn9", width=width, poly=poly,
+                         seed=seed, covers=covers)
+    from ..whitening import lfsr_bits
+
+    lfsr_bits(spec, 1)  # validates polynomial/seed
+    return spec
+
+
+def _line_code(d: object) -> LineCodeSpec:
+    from ..linecodes import get_line_code
+
+    path = "line_code"
+    d = _table(d, path)
+    if "name" not in d:
+        from ..linecodes import LINE_CODES
+
+        raise SpecError(f"{path}.name", f"is required; allowed: {', '.join(LINE_CODES)}")
+    name = d["name"]
+    params = tuple(sorted((k, v) for k, v in d.items() if k != "name"))
+    spec = LineCodeSpec(name=str(name).lower(), params=params)
+    get_line_code(spec)  # validates name and params
+    return spec
+
+
+def _preamble(d: object) -> PreambleSpec:
+    path = "preamble"
+    d = _table(d, path)
+    _no_unknown(d, ("pattern", "pattern_bits", "count"), path)
+    bits = _int(d, "pattern_bits", path, 8, lo=1, hi=64)
+    pattern = _int(d, "pattern", path, 0b10101010 & ((1 << bits) - 1), lo=0)
+    if pattern >> bits:
+        raise SpecError(f"{path}.pattern", f"0x{pattern:X} is wider than pattern_bits = {bits}")
+    count = _int(d, "count", path, 2, lo=0, hi=1024)
+    return PreambleSpec(pattern=pattern, pattern_bits=bits, count=count)
+
+
+def _sync(d: object) -> SyncSpec:
+    path = "sync"
+    d = _table(d, path)
+    _no_unknown(d, ("value", "length_bits", "max_errors"), path)
+    length = _int(d, "length_bits", path, lo=4, hi=64)
+    value = _int(d, "value", path, lo=0)
+    if value >> length:
+        raise SpecError(f"{path}.value", f"0x{value:X} is wider than length_bits = {length}")
+    max_errors = _int(d, "max_errors", path, 0, lo=0, hi=max(0, (length - 1) // 4))
+    return SyncSpec(value=value, length_bits=length, max_errors=max_errors)
+
+
+def _decoder(d: object) -> DecoderSpec:
+    path = "decoder"
+    d = _table(d, path)
+    _no_unknown(d, DECODER_KEYS, path)
+    return DecoderSpec(
+        glitch_fraction=_float(d, "glitch_fraction", path, 0.3, lo=0.0, hi=0.9),
+        tolerance=_float(d, "tolerance", path, 0.35, lo=0.05, hi=0.49),
+        loop_gain=_float(d, "loop_gain", path, 0.05, lo=0.0, hi=0.5),
+        report_bad_check=_bool(d, "report_bad_check", path, True),
+    )
+
+
+def spec_from_dict(doc: Mapping[str, Any]) -> FrameSpec:
+    """Return a validated FrameSpec from a parsed TOML document (dict)."""
+    spec, _ = spec_and_defaults_from_dict(doc)
+    return spec
+
+
+def spec_and_defaults_from_dict(doc: Mapping[str, Any]) -> tuple[FrameSpec, dict[str, object]]:
+    """Return (FrameSpec, default field values given in the spec)."""
+    from ..bits import to_raw
+    from ..linecodes import get_line_code
+
+    doc = _table(doc, "")
+    _no_unknown(doc, TOP_KEYS, "")
+    for req in ("frame", "line_code", "sync"):
+        if req not in doc:
+            raise SpecError(req, "section is required")
+    fr = _table(doc["frame"], "frame")
+    _no_unknown(fr, FRAME_KEYS, "frame")
+    if "name" not in fr:
+        raise SpecError("frame.name", "is required (a C identifier, used as the prefix of generated C)")
+    name = _identifier(fr["name"], "frame.name", "frame name (C identifier)")
+    line_code = _line_code(doc["line_code"])
+    lc = get_line_code(line_code)
+    if ("bit_rate_bps" in fr) == ("unit_us" in fr):
+        raise SpecError("frame", "give exactly one of bit_rate_bps or unit_us")
+    if "unit_us" in fr:
+        unit_us = _float(fr, "unit_us", "frame", lo=MIN_UNIT_US, hi=MAX_UNIT_US)
+    else:
+        rate = _float(fr, "bit_rate_bps", "frame", lo=0.0, lo_open=True)
+        unit_us = 1e6 / (rate * lc.units_per_bit)
+        if not MIN_UNIT_US <= unit_us <= MAX_UNIT_US:
+            raise SpecError("frame.bit_rate_bps", f"{rate:g} bit/s gives a symbol unit of {unit_us:g} µs "
+                            f"with {line_code.name}; allowed units are {MIN_UNIT_US:g}..{MAX_UNIT_US:g} µs")
+    raw_fields = doc.get("fields")
+    if not isinstance(raw_fields, list) or not raw_fields:
+        raise SpecError("fields", "at least one field is required ([[fields]] tables)")
+    fields: list[FieldSpec] = []
+    defaults_in: list[tuple[int, object]] = []
+    for i, fd in enumerate(raw_fields):
+        f, default = _field(fd, i)
+        if any(g.name == f.name for g in fields):
+            raise SpecError(f"fields[{i}].name", f"duplicate field name {f.name!r}")
+        fields.append(f)
+        if default is not None:
+            defaults_in.append((i, default))
+    lengths = [i for i, f in enumerate(fields) if f.role == "length"]
+    blobs = [i for i, f in enumerate(fields) if f.kind == "bytes"]
+    if len(lengths) > 1:
+        raise SpecError(f"fields[{lengths[1]}].role", "only one length field is allowed")
+    if len(blobs) > 1:
+        raise SpecError(f"fields[{blobs[1]}].kind", "only one bytes field is allowed")
+    if blobs and not lengths:
+        raise SpecError(f"fields[{blobs[0]}].kind", "a bytes field needs a preceding field with role = \"length\"")
+    if lengths and not blobs:
+        raise SpecError(f"fields[{lengths[0]}].role", "a length field needs a following kind = \"bytes\" field")
+    if blobs:
+        li, bi = lengths[0], blobs[0]
+        if li > bi:
+            raise SpecError(f"fields[{li}].role", "the length field must come before the bytes field")
+        if fields[bi].max_len_bytes > fields[li].raw_max:
+            raise SpecError(f"fields[{bi}].max_len_bytes", f"{fields[bi].max_len_bytes} does not fit the "
+                            f"{fields[li].width_bits}-bit length field '{fields[li].name}'")
+    byte_order = _choice(fr, "byte_order", "frame", ("big", "little"), "big")
+    if byte_order == "little":
+        for i, f in enumerate(fields):
+            if f.kind == "int" and f.width_bits > 8 and f.width_bits % 8:
+                raise SpecError(f"fields[{i}].width_bits", f"byte_order = \"little\" needs widths that are "
+                                f"multiples of 8 for fields wider than 8 bits; '{f.name}' is {f.width_bits}")
+    check = _check(doc["check"]) if "check" in doc else CheckSpec()
+    spec = FrameSpec(
+        name=name,
+        description=_str(fr, "description", "frame"),
+        unit_us=unit_us,
+        line_code=line_code,
+        preamble=_preamble(doc.get("preamble", {})),
+        sync=_sync(doc["sync"]),
+        fields=tuple(fields),
+        check=check,
+        whitening=_whitening(doc["whitening"]) if "whitening" in doc else WhiteningSpec(),
+        bit_order=_choice(fr, "bit_order", "frame", ("msb", "lsb"), "msb"),
+        byte_order=byte_order,
+        repeats=_int(fr, "repeats", "frame", 1, lo=1, hi=MAX_REPEATS),
+        gap_us=_float(fr, "gap_us", "frame", 10000.0, lo=0.0, hi=10_000_000.0),
+        decoder=_decoder(doc.get("decoder", {})),
+    )
+    bpb = lc.bits_per_block
+    if bpb > 1:
+        head = spec.preamble.length_bits + spec.sync.length_bits
+        body = sum(f.width_bits for f in fields if f.kind == "int") + check.width_bits
+        for what, n in (("preamble + sync", head), ("fields + check", body)):
+            if n % bpb:
+                raise SpecError("line_code.name", f"{line_code.name} codes {bpb} bits per block; "
+                                f"{what} is {n} bits, not a multiple of {bpb}")
+    if spec.repeats > 1 and spec.gap_us <= 0:
+        raise SpecError("frame.gap_us", "must be > 0 when repeats > 1, or repeats run together")
+    defaults: dict[str, object] = {}
+    for i, value in defaults_in:
+        f = fields[i]
+        try:
+            to_raw(f, value)
+        except Exception as e:  # noqa: BLE001 - turn any conversion problem into a spec error
+            raise SpecError(f"fields[{i}].default", str(e)) from None
+        defaults[f.name] = value
+    return spec, defaults
+
+
+def load_spec_and_defaults(path: str | Path) -> tuple[FrameSpec, dict[str, object]]:
+    """Return (FrameSpec, defaults) from a TOML file; SpecError on any problem."""
+    p = Path(path)
+    try:
+        text = p.read_text(encoding="utf-8")
+    except OSError as e:
+        raise SpecError("", f"cannot read spec file {str(p)!r}: {e.strerror}") from None
+    try:
+        doc = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as e:
+        raise SpecError("", f"{p}: not valid TOML: {e}") from None
+    return spec_and_defaults_from_dict(doc)
+
+
+def load_spec(path: str | Path) -> FrameSpec:
+    """Return the validated FrameSpec in a TOML file."""
+    return load_spec_and_defaults(path)[0]
