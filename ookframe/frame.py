@@ -256,13 +256,36 @@ def parse_frame(spec: FrameSpec, bits_after_sync: np.ndarray) -> ParsedFrame | N
         from .whitening import lfsr_bits
 
         plain ^= lfsr_bits(w, n_max)
+    got = read_fields(spec, plain, reserve_bits=n_cb)
+    if got is None:
+        return None
+    raw, pos = got
+    n_fb = pos
+    fb = plain[:n_fb]
+    if pos + n_cb > rx.size:
+        return None
+    cb = rx[pos:pos + n_cb].copy()
+    if n_cb:
+        cb ^= whitening_mask(spec, n_fb, n_cb)[n_fb:]
+    ok = bool(np.array_equal(cb, check_bits(spec, fb))) if n_cb else True
+    fields = physical_values(spec, raw)
+    return ParsedFrame(fields=fields, raw=raw, payload_hex=_b.pack_bits(fb).hex(),
+                       check_ok=ok, n_bits=n_fb + n_cb)
+
+
+def read_fields(spec: FrameSpec, plain: np.ndarray, reserve_bits: int = 0
+                ) -> tuple[dict[str, object], int] | None:
+    """Read raw field values from un-whitened fields bits; returns (raw, bits used).
+
+    None when the bits run out (``reserve_bits`` more must follow the fields).
+    """
     raw: dict[str, object] = {}
     pos = 0
     blob_len = 0
     for f in spec.fields:
         if f.kind == "bytes":
             n = 8 * blob_len
-            if pos + n + n_cb > rx.size or blob_len > f.max_len_bytes:
+            if pos + n + reserve_bits > plain.size or blob_len > f.max_len_bytes:
                 return None
             b = plain[pos:pos + n]
             if spec.bit_order == "lsb" and n:
@@ -278,17 +301,28 @@ def parse_frame(spec: FrameSpec, bits_after_sync: np.ndarray) -> ParsedFrame | N
         raw[f.name] = r
         if f.role == "length":
             blob_len = r
-    n_fb = pos
-    fb = plain[:n_fb]
-    if pos + n_cb > rx.size:
-        return None
-    cb = rx[pos:pos + n_cb].copy()
-    if n_cb:
-        cb ^= whitening_mask(spec, n_fb, n_cb)[n_fb:]
-    ok = bool(np.array_equal(cb, check_bits(spec, fb))) if n_cb else True
-    fields: dict[str, object] = {}
-    for f in spec.fields:
-        r = raw[f.name]
-        fields[f.name] = r.hex() if isinstance(r, bytes) else _b.from_raw(f, r)  # type: ignore[arg-type]
-    return ParsedFrame(fields=fields, raw=raw, payload_hex=_b.pack_bits(fb).hex(),
-                       check_ok=ok, n_bits=n_fb + n_cb)
+    return raw, pos
+
+
+def physical_values(spec: FrameSpec, raw: Mapping[str, object]) -> dict[str, object]:
+    """Physical values (bytes fields as hex strings) from raw values."""
+    return {f.name: (raw[f.name].hex() if isinstance(raw[f.name], bytes)  # type: ignore[union-attr]
+                     else _b.from_raw(f, raw[f.name]))  # type: ignore[arg-type]
+            for f in spec.fields}
+
+
+def values_from_payload(spec: FrameSpec, payload: bytes) -> dict[str, object]:
+    """Field values from the raw fields bytes (as packed on air before whitening).
+
+    Raises ValueRangeError when the payload is too short or has bytes left over.
+    """
+    plain = np.unpackbits(np.frombuffer(payload, dtype=np.uint8))
+    got = read_fields(spec, plain)
+    if got is None:
+        raise ValueRangeError(f"payload of {len(payload)} bytes is too short for the fields of "
+                              f"'{spec.name}' (at least {(min_body_bits(spec) - spec.check.width_bits + 7) // 8})")
+    raw, pos = got
+    if (pos + 7) // 8 != len(payload):
+        raise ValueRangeError(f"payload has {len(payload)} bytes; the fields use {(pos + 7) // 8}")
+    values = physical_values(spec, raw)
+    return {f.name: values[f.name] for f in spec.fields if f.role != "length"}

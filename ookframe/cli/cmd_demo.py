@@ -1,0 +1,60 @@
+"""``ookframe demo``: write the demo spec, an encoded frame and its decode into a folder."""
+
+from __future__ import annotations
+
+import argparse
+import tomllib
+from pathlib import Path
+
+from ..captures import format_capture
+from ..decode import decode
+from ..demo import DEMO_SPEC, example_text
+from ..frame import encode, values_equal
+from ..layout import frame_layout
+from ..spec.load import spec_and_defaults_from_dict
+from .cmd_decode import frame_dicts
+from . import exitcodes
+from .output import REGULATORY_CAUTION, OutputExists, dumps_json, err, out, write_atomic
+
+NAME = "demo"
+HELP = "run the built-in demo (a beehive scale node) into ./ookframe-demo/"
+
+
+def add_arguments(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--dir", default="ookframe-demo", help="output folder (default: ookframe-demo)")
+    p.add_argument("--force", action="store_true", help="overwrite files in an existing folder")
+
+
+def run(args: argparse.Namespace) -> int:
+    d = Path(args.dir)
+    names = [DEMO_SPEC, "frame.csv", "frame.vcd", "decoded.json"]
+    clash = [n for n in names if (d / n).exists()]
+    if clash and not args.force:
+        raise OutputExists(f"{d / clash[0]} exists; use --force to overwrite or --dir for another folder")
+    text = example_text(DEMO_SPEC)
+    spec, values = spec_and_defaults_from_dict(tomllib.loads(text))
+    train = encode(spec, values)
+    frames = decode(spec, train)
+    outputs = {
+        DEMO_SPEC: text,
+        "frame.csv": format_capture(train, "csv", signal=spec.name),
+        "frame.vcd": format_capture(train, "vcd", signal=spec.name),
+        "decoded.json": dumps_json(frame_dicts(frames)) + "\n",
+    }
+    for n in names:
+        write_atomic(d / n, outputs[n], force=True)
+    lay = frame_layout(spec, values)
+    ok = [f for f in frames if f.crc_ok and values_equal(spec, f.fields, values)]
+    out.print(f"[bold]ookframe demo[/bold]: {spec.description}")
+    out.print(f"  spec            {d / DEMO_SPEC}")
+    out.print(f"  sent values     {', '.join(f'{k}={v}' for k, v in values.items())}")
+    out.print(f"  transmission    {len(train)} pulses, {lay.repeats} repeats, airtime "
+              f"{lay.airtime_us / 1000:.2f} ms -> {d / 'frame.csv'}, {d / 'frame.vcd'}")
+    out.print(f"  decoded         {len(frames)} frame(s), {len(ok)} with a good check -> {d / 'decoded.json'}")
+    if frames:
+        f0 = frames[0]
+        out.print(f"  first frame     {', '.join(f'{k}={v}' for k, v in f0.fields.items())} "
+                  f"(unit {f0.unit_us:.2f} µs)")
+    out.print(f"  next            ookframe check {d / DEMO_SPEC}")
+    err.print(f"caution: {REGULATORY_CAUTION}")
+    return 0 if len(ok) == spec.repeats else exitcodes.FAILED

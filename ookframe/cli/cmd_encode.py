@@ -1,0 +1,49 @@
+"""``ookframe encode``: one transmission as bits, pulses, CSV, JSON or VCD."""
+
+from __future__ import annotations
+
+import argparse
+
+from ..frame import encode, frame_bits
+from . import common
+from .output import out, write_atomic
+
+NAME = "encode"
+HELP = "encode one frame (all repeats) from field values"
+FORMATS = ("bits", "pulses", "csv", "json", "vcd")
+
+
+def add_arguments(p: argparse.ArgumentParser) -> None:
+    common.add_spec_argument(p)
+    common.add_values_arguments(p)
+    p.add_argument("--format", choices=FORMATS, default="pulses",
+                   help="bits: on-air bits of one frame before line coding; pulses: level and "
+                   "duration per line; csv/json/vcd: capture files (default: pulses)")
+    common.add_output_arguments(p)
+
+
+def render(spec, values, fmt: str) -> str:
+    """Return the text of the encoded transmission in ``fmt``."""
+    if fmt == "bits":
+        return "".join(map(str, frame_bits(spec, values).tolist())) + "\n"
+    train = encode(spec, values)
+    if fmt == "pulses":
+        return "".join(f"{lv} {d:.3f}\n" for lv, d in zip(train.levels.tolist(),
+                                                           train.durations_us.tolist(), strict=True))
+    from ..captures import format_capture
+
+    return format_capture(train, fmt, signal=spec.name)
+
+
+def run(args: argparse.Namespace) -> int:
+    spec, defaults = common.load(args)
+    values = common.values_from_args(spec, defaults, args)
+    text = render(spec, values, args.format)
+    if args.output:
+        p = write_atomic(args.output, text, force=args.force)
+        from .output import err
+
+        err.print(f"wrote {p}")
+    else:
+        out.file.write(text)
+    return 0
