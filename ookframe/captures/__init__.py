@@ -1,0 +1,63 @@
+"""Pulse captures on disk: CSV (``level,duration_us``), JSON and VCD (IEEE 1364).
+
+Every format is a small module with the same trio: ``NAME``, ``EXTENSIONS``,
+``read(path, **options) -> PulseTrain`` and ``write(path, train, **options)``; adding a
+format is adding a file and one line in ``FORMATS``.
+"""
+
+from __future__ import annotations
+
+import os
+from pathlib import Path
+from types import ModuleType
+
+from ..errors import CaptureError
+from ..pulses import PulseTrain
+from . import csv_format, json_format, vcd_format
+
+FORMATS: dict[str, ModuleType] = {m.NAME: m for m in (csv_format, json_format, vcd_format)}
+
+
+def capture_format(path: str | os.PathLike[str], fmt: str | None = None) -> str:
+    """Return the format name for ``path`` (``fmt`` if given, else from the file extension)."""
+    if fmt is not None:
+        if fmt not in FORMATS:
+            raise CaptureError(f"unknown capture format {fmt!r}; allowed: {', '.join(FORMATS)}")
+        return fmt
+    suffix = Path(path).suffix.lower()
+    for name, mod in FORMATS.items():
+        if suffix in mod.EXTENSIONS:
+            return name
+    allowed = ", ".join(ext for m in FORMATS.values() for ext in m.EXTENSIONS)
+    raise CaptureError(f"{path}: cannot tell the capture format from {suffix or 'no'} extension; "
+                       f"allowed: {allowed}")
+
+
+def read_capture(
+    path: str | os.PathLike[str],
+    *,
+    signal: str | None = None,
+    fmt: str | None = None,
+    xz: str = "space",
+) -> PulseTrain:
+    """Return the pulse train stored in ``path`` (durations in µs).
+
+    ``signal`` (VCD only) names the 1-bit signal to read; ``xz`` (VCD only) says what an
+    ``x``/``z`` value means: ``"space"`` (carrier off) or ``"error"``.
+    """
+    name = capture_format(path, fmt)
+    if name != "vcd" and signal is not None:
+        raise CaptureError(f"{path}: --signal applies to VCD captures only, not {name}")
+    if name == "vcd":
+        return vcd_format.read(path, signal=signal, xz=xz)
+    return FORMATS[name].read(path)
+
+
+def write_capture(
+    path: str | os.PathLike[str], train: PulseTrain, fmt: str | None = None, **options: object
+) -> None:
+    """Write ``train`` to ``path`` in ``fmt`` (default: from the extension); atomic replace."""
+    FORMATS[capture_format(path, fmt)].write(path, train, **options)
+
+
+__all__ = ["FORMATS", "capture_format", "read_capture", "write_capture"]

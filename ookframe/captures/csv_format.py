@@ -1,0 +1,88 @@
+"""CSV captures: a header line ``level,duration_us`` then one ``level,duration_us`` per pulse.
+
+Blank lines and lines starting with ``#`` are ignored. Levels are 0 or 1; durations are
+finite and > 0 (µs). Errors name the file and the line number.
+"""
+
+from __future__ import annotations
+
+import os
+import warnings
+
+import numpy as np
+
+from ..errors import CaptureError
+from ..pulses import PulseTrain
+from ._common import (
+    bad_duration,
+    bad_level,
+    check_train_for_write,
+    describe_duration,
+    write_text_atomic,
+)
+
+NAME = "csv"
+EXTENSIONS = (".csv",)
+HEADER = "level,duration_us"
+
+
+def _is_skipped(line: str) -> bool:
+    s = line.strip()
+    return not s or s.startswith("#")
+
+
+def _scan_for_error(path: str | os.PathLike[str], lines: list[str]) -> None:
+    """Raise CaptureError for the first invalid line (slow path, only on bad input)."""
+    for lineno, line in enumerate(lines, 1):
+        if lineno == 1 or _is_skipped(line):
+            continue
+        cells = [c.strip() for c in line.split(",")]
+        if len(cells) != 2:
+            raise CaptureError(f"{path}:{lineno}: expected 2 values 'level,duration_us', "
+                               f"got {len(cells)}: {line.strip()!r}")
+        if cells[0] not in ("0", "1"):
+            raise CaptureError(f"{path}:{lineno}: level {cells[0]!r} must be 0 or 1")
+        try:
+            d = float(cells[1])
+        except ValueError:
+            raise CaptureError(
+                f"{path}:{lineno}: duration_us {cells[1]!r} is not a number") from None
+        if not (np.isfinite(d) and d > 0):
+            raise CaptureError(f"{path}:{lineno}: duration_us {describe_duration(d)}")
+    raise CaptureError(f"{path}: cannot parse as '{HEADER}' CSV")
+
+
+def read(path: str | os.PathLike[str]) -> PulseTrain:
+    """Return the pulse train in a CSV capture (durations in µs)."""
+    try:
+        with open(path, encoding="utf-8") as fh:
+            text = fh.read()
+    except OSError as exc:
+        raise CaptureError(f"{path}: cannot read: {exc.strerror or exc}") from exc
+    except UnicodeDecodeError as exc:
+        raise CaptureError(f"{path}: not a UTF-8 text file") from exc
+    lines = text.splitlines()
+    header = lines[0].strip().replace(" ", "").lstrip("\ufeff") if lines else ""
+    if header != HEADER:
+        raise CaptureError(f"{path}:1: expected header {HEADER!r}, got {header!r}")
+    body = [ln for ln in lines[1:] if not _is_skipped(ln)]
+    if not body:
+        return PulseTrain(np.zeros(0, np.uint8), np.zeros(0))
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            table = np.loadtxt(body, delimiter=",", dtype=np.float64, ndmin=2)
+    except ValueError:
+        _scan_for_error(path, lines)
+        raise  # pragma: no cover - _scan_for_error always raises
+    if table.shape[1] != 2 or bad_level(table[:, 0]) is not None or \
+            bad_duration(table[:, 1]) is not None:
+        _scan_for_error(path, lines)
+    return PulseTrain(table[:, 0].astype(np.uint8), table[:, 1])
+
+
+def write(path: str | os.PathLike[str], train: PulseTrain) -> None:
+    """Write ``train`` as CSV; durations use the shortest text that reads back exactly."""
+    check_train_for_write(path, train.levels, train.durations_us)
+    rows = map("{},{!r}".format, train.levels.tolist(), train.durations_us.tolist())
+    write_text_atomic(path, HEADER + "\n" + "".join(r + "\n" for r in rows))
