@@ -6,14 +6,14 @@ import argparse
 import tomllib
 from pathlib import Path
 
-from ..captures import format_capture
 from ..decode import decode
 from ..demo import DEMO_SPEC, example_text
 from ..frame import encode, values_equal
 from ..layout import frame_layout
 from ..spec.load import spec_and_defaults_from_dict
-from .cmd_decode import frame_dicts
 from . import exitcodes
+from .cmd_decode import frame_dicts
+from .cmd_encode import capture_text
 from .output import REGULATORY_CAUTION, OutputExists, dumps_json, err, out, write_atomic
 
 NAME = "demo"
@@ -37,8 +37,8 @@ def run(args: argparse.Namespace) -> int:
     frames = decode(spec, train)
     outputs = {
         DEMO_SPEC: text,
-        "frame.csv": format_capture(train, "csv", signal=spec.name),
-        "frame.vcd": format_capture(train, "vcd", signal=spec.name),
+        "frame.csv": capture_text(train, "csv", signal=spec.name),
+        "frame.vcd": capture_text(train, "vcd", signal=spec.name),
         "decoded.json": dumps_json(frame_dicts(frames)) + "\n",
     }
     for n in names:

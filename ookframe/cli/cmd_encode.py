@@ -30,9 +30,21 @@ def render(spec, values, fmt: str) -> str:
     if fmt == "pulses":
         return "".join(f"{lv} {d:.3f}\n" for lv, d in zip(train.levels.tolist(),
                                                            train.durations_us.tolist(), strict=True))
-    from ..captures import format_capture
+    return capture_text(train, fmt, signal=spec.name)
 
-    return format_capture(train, fmt, signal=spec.name)
+
+def capture_text(train, fmt: str, signal: str) -> str:
+    """Text of a capture file in ``fmt`` (written through the captures writers)."""
+    import tempfile
+    from pathlib import Path
+
+    from ..captures import write_capture
+
+    with tempfile.TemporaryDirectory() as d:
+        p = Path(d) / f"capture.{fmt}"
+        opts = {"signal": signal} if fmt == "vcd" else {}
+        write_capture(p, train, fmt, **opts)
+        return p.read_text(encoding="utf-8")
 
 
 def run(args: argparse.Namespace) -> int:

@@ -87,7 +87,7 @@ def _int(d: Mapping[str, Any], key: str, path: str, default: int | None = None, 
         try:
             v = int(v.replace("_", ""), 0)
         except ValueError:
-            raise SpecError(p, f"must be an integer (decimal, 0x.. or 0b..), got '{d[key]}'")
+            raise SpecError(p, f"must be an integer (decimal, 0x.. or 0b..), got '{d[key]}'") from None
     if isinstance(v, bool) or not isinstance(v, int):
         raise SpecError(p, f"must be an integer, got {type(v).__name__}")
     if lo is not None and v < lo or hi is not None and v > hi:
