@@ -1,0 +1,102 @@
+"""Command line: results, JSON output, and bad input (message, exit code, no traceback)."""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+from ookframe.cli import exitcodes
+from ookframe.cli.main import main
+
+EXAMPLES = Path(__file__).resolve().parent.parent / "examples"
+HIVE = str(EXAMPLES / "hive_scale.toml")
+
+
+def run(capsys, *argv: str) -> tuple[int, str, str]:
+    code = main(list(argv))
+    cap = capsys.readouterr()
+    assert "Traceback" not in cap.err
+    return code, cap.out, cap.err
+
+
+def test_check_json(capsys):
+    code, out, _ = run(capsys, "check", HIVE, "--json")
+    assert code == 0
+    info = json.loads(out)
+    # 4 preamble bytes + 2 sync + 6 field + 2 CRC bytes = 14 bytes = 112 bits, 2 chips each
+    assert sum(s["bits"] for s in info["sections"]) == 112
+    assert info["frame_us"] == pytest.approx(112 * 2 * 250.0)
+    assert info["airtime_us"] == pytest.approx(3 * 112 * 500.0 + 2 * 8000)
+    assert any("regulations" in c for c in info["cautions"])
+
+
+def test_encode_bits_and_decode_round_trip(capsys, tmp_path):
+    out_csv = tmp_path / "f.csv"
+    code, _, _ = run(capsys, "encode", HIVE, "--set", "hive=7", "--set", "weight_g=12345",
+                     "--format", "csv", "-o", str(out_csv))
+    assert code == 0 and out_csv.read_text().startswith("level,duration_us")
+    code, out, _ = run(capsys, "decode", HIVE, str(out_csv), "--json")
+    assert code == 0
+    frames = json.loads(out)
+    assert len(frames) == 3 and all(f["crc_ok"] for f in frames)
+    assert frames[0]["fields"]["hive"] == 7 and frames[0]["fields"]["weight_g"] == 12345
+    # refuses to overwrite without --force
+    code, _, err = run(capsys, "encode", HIVE, "--format", "csv", "-o", str(out_csv))
+    assert code == exitcodes.EXISTS and "--force" in err
+
+
+def test_encode_payload_equals_set(capsys):
+    _, bits_set, _ = run(capsys, "encode", HIVE, "--format", "bits")
+    _, bits_payload, _ = run(capsys, "encode", HIVE, "--format", "bits", "--payload", "0300a12215a6")
+    assert bits_set == bits_payload and len(bits_set.strip()) == 112
+
+
+def test_demo_writes_folder(capsys, tmp_path):
+    code, out, _ = run(capsys, "demo", "--dir", str(tmp_path / "d"))
+    assert code == 0
+    assert {p.name for p in (tmp_path / "d").iterdir()} >= {"hive_scale.toml", "frame.csv",
+                                                             "frame.vcd", "decoded.json"}
+    assert len(json.loads((tmp_path / "d" / "decoded.json").read_text())) == 3
+    code, _, err = run(capsys, "demo", "--dir", str(tmp_path / "d"))
+    assert code == exitcodes.EXISTS
+
+
+@pytest.mark.parametrize(
+    ("argv", "code", "needle"),
+    [
+        (["chekc", HIVE], exitcodes.USAGE, "did you mean 'check'"),
+        (["check", "/nonexistent.toml"], exitcodes.BAD_SPEC, "cannot read"),
+        (["encode", HIVE, "--set", "hive=999"], exitcodes.BAD_INPUT, "allowed 0..255"),
+        (["encode", HIVE, "--set", "hiev=1"], exitcodes.BAD_INPUT, "did you mean 'hive'"),
+        (["encode", HIVE, "--payload", "zz"], exitcodes.BAD_INPUT, "not hex"),
+    ],
+)
+def test_bad_input(capsys, argv, code, needle):
+    got, _, err = run(capsys, *argv)
+    assert got == code
+    assert needle in err
+
+
+def test_broken_spec_and_garbage_capture(capsys, tmp_path):
+    bad = tmp_path / "bad.toml"
+    bad.write_text((EXAMPLES / "hive_scale.toml").read_text().replace("width_bits = 24", "width_bits = 99"))
+    code, _, err = run(capsys, "check", str(bad))
+    assert code == exitcodes.BAD_SPEC and "fields[1].width_bits" in err and "1..64" in err
+    garbage = tmp_path / "g.csv"
+    garbage.write_text("level,duration_us\n1,nan\n")
+    code, _, err = run(capsys, "decode", HIVE, str(garbage))
+    assert code == exitcodes.BAD_INPUT and "g.csv" in err
+
+
+def test_console_script_no_traceback(tmp_path):
+    """The installed entry point behaves like main(): one line on stderr, non-zero exit."""
+    bad = tmp_path / "x.toml"
+    bad.write_text("[frame]\nname='x'\n")
+    r = subprocess.run([sys.executable, "-m", "ookframe.cli.main", "check", str(bad)],
+                       capture_output=True, text=True, timeout=60)
+    assert r.returncode == exitcodes.BAD_SPEC
+    assert "Traceback" not in r.stderr and "required" in r.stderr
