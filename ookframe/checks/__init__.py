@@ -1,0 +1,30 @@
+"""Error checks: CRCs (Rocksoft model, catalogue of published models) and checksums.
+
+``make_check(CheckSpec)`` returns an object with ``kind``, ``width_bits`` and
+``compute(data: bytes) -> int``. Adding a check: one class in its own module with those
+three members, plus one line in ``registry.CHECKS``.
+"""
+
+from .base import Check
+from .catalogue import ALIASES, CATALOGUE, CatalogueEntry, resolve_name
+from .checksums import Fletcher16, NoCheck, Sum8, Xor8
+from .crc import CHECK_INPUT, CRCMOD_C_EXTENSION, Crc, reflect
+from .registry import CHECKS, make_check
+
+__all__ = [
+    "ALIASES",
+    "CATALOGUE",
+    "CHECKS",
+    "CHECK_INPUT",
+    "CRCMOD_C_EXTENSION",
+    "CatalogueEntry",
+    "Check",
+    "Crc",
+    "Fletcher16",
+    "NoCheck",
+    "Sum8",
+    "Xor8",
+    "make_check",
+    "reflect",
+    "resolve_name",
+]

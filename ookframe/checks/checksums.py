@@ -1,0 +1,65 @@
+"""Simple checksums: none, 8-bit sum, 8-bit XOR, Fletcher-16."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import reduce
+from operator import xor
+from typing import ClassVar
+
+import numpy as np
+
+
+@dataclass(frozen=True)
+class NoCheck:
+    """No check: zero bits, value always 0."""
+
+    kind: ClassVar[str] = "none"
+    width_bits: ClassVar[int] = 0
+
+    def compute(self, data: bytes) -> int:
+        """Return 0 (there is no check value)."""
+        return 0
+
+
+@dataclass(frozen=True)
+class Sum8:
+    """Sum of all bytes modulo 256."""
+
+    kind: ClassVar[str] = "sum8"
+    width_bits: ClassVar[int] = 8
+
+    def compute(self, data: bytes) -> int:
+        """Return the 8-bit sum of ``data`` (0..255)."""
+        return sum(data) & 0xFF
+
+
+@dataclass(frozen=True)
+class Xor8:
+    """XOR of all bytes (longitudinal parity)."""
+
+    kind: ClassVar[str] = "xor8"
+    width_bits: ClassVar[int] = 8
+
+    def compute(self, data: bytes) -> int:
+        """Return the XOR of every byte of ``data`` (0..255)."""
+        return reduce(xor, data, 0)
+
+
+@dataclass(frozen=True)
+class Fletcher16:
+    """Fletcher-16 (Fletcher 1982; RFC 1146's 8-bit form): sums modulo 255, both from 0.
+
+    sum1 = sum of bytes, sum2 = sum of the running sum1 values; value = (sum2 << 8) | sum1.
+    Computed in closed form: sum2 = sum((n - i) * data[i]) for i = 0..n-1.
+    """
+
+    kind: ClassVar[str] = "fletcher16"
+    width_bits: ClassVar[int] = 16
+
+    def compute(self, data: bytes) -> int:
+        """Return the Fletcher-16 value of ``data`` (0..0xFFFF)."""
+        d = np.frombuffer(bytes(data), dtype=np.uint8).astype(np.int64)
+        sum1 = int(d.sum()) % 255
+        sum2 = int(d @ np.arange(d.size, 0, -1, dtype=np.int64)) % 255
+        return (sum2 << 8) | sum1
