@@ -8,6 +8,7 @@ from __future__ import annotations
 
 __version__ = "0.1.0"
 
+from .checks import CATALOGUE, Crc, make_check
 from .errors import CaptureError, CodegenError, OokframeError, SpecError, ValueRangeError
 from .frame import (
     ParsedFrame,
@@ -36,7 +37,9 @@ from .spec.model import (
 
 __all__ = [
     "__version__",
+    "CATALOGUE",
     "CaptureError",
+    "Crc",
     "CheckSpec",
     "CodegenError",
     "CrcParams",
@@ -59,6 +62,7 @@ __all__ = [
     "frame_chips",
     "frame_layout",
     "load_spec",
+    "make_check",
     "load_spec_and_defaults",
     "parse_frame",
     "random_values",

@@ -219,9 +219,11 @@ def _crc_params(d: Mapping[str, Any], path: str) -> CrcParams:
         except (KeyError, SpecError) as e:
             from ..checks import CATALOGUE
 
+            if isinstance(e, SpecError) and "ambiguous" in e.message:
+                raise SpecError(f"{path}.model", e.message) from None
             close = difflib.get_close_matches(model.upper(), list(CATALOGUE), n=3)
             hint = f"; close matches: {', '.join(close)}" if close else ""
-            raise SpecError(f"{path}.model", f"unknown CRC model {model!r}{hint}") from e
+            raise SpecError(f"{path}.model", f"unknown CRC model {model!r}{hint}") from None
     width = _int(d, "width", path, lo=3, hi=64)
     top = (1 << width) - 1
     params = CrcParams(
