@@ -345,6 +345,7 @@ def spec_from_dict(doc: Mapping[str, Any]) -> FrameSpec:
 def spec_and_defaults_from_dict(doc: Mapping[str, Any]) -> tuple[FrameSpec, dict[str, object]]:
     """Return (FrameSpec, default field values given in the spec)."""
     from ..bits import to_raw
+    from ..frame import _blob
     from ..linecodes import get_line_code
 
     doc = _table(doc, "")
@@ -435,7 +436,10 @@ def spec_and_defaults_from_dict(doc: Mapping[str, Any]) -> tuple[FrameSpec, dict
     for i, value in defaults_in:
         f = fields[i]
         try:
-            to_raw(f, value)
+            if f.kind == "bytes":
+                _blob(f, value)
+            else:
+                to_raw(f, value)
         except Exception as e:  # noqa: BLE001 - turn any conversion problem into a spec error
             raise SpecError(f"fields[{i}].default", str(e)) from None
         defaults[f.name] = value
