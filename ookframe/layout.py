@@ -58,8 +58,7 @@ def frame_layout(spec: FrameSpec, values: _f.Values | None = None) -> Layout:
     head = _f.head_bits(spec)
     chips = lc.encode(np.concatenate((head, body)))
     # chips of each section: encode prefixes (exact for stateful codes too)
-    bounds = [spec.preamble.length_bits, spec.sync.length_bits, fb.size,
-              body.size - fb.size]
+    bounds = [spec.preamble.length_bits, spec.sync.length_bits, fb.size, cb.size]
     names = ["preamble", "sync", "fields", "check"]
     details = [
         f"0x{spec.preamble.pattern:0{(spec.preamble.pattern_bits + 3) // 4}X} x{spec.preamble.count}",
@@ -68,7 +67,8 @@ def frame_layout(spec: FrameSpec, values: _f.Values | None = None) -> Layout:
         spec.check.crc.name if spec.check.crc and spec.check.crc.name else spec.check.kind,
     ]
     rows = []
-    all_bits = np.concatenate((head, body))
+    plain = np.concatenate((fb, cb)) ^ _f.whitening_mask(spec, fb.size, cb.size)
+    all_bits = np.concatenate((head, plain))
     pos = 0
     for name, nb, det in zip(names, bounds, details, strict=True):
         part = all_bits[pos:pos + nb]
@@ -77,6 +77,11 @@ def frame_layout(spec: FrameSpec, values: _f.Values | None = None) -> Layout:
         # a partial block of a block code is counted at the code's fixed rate
         n_chips = lc.encode(part).size if nb % lc.bits_per_block == 0 else round(nb * lc.units_per_bit)
         rows.append(SectionRow(name, nb, n_chips, n_chips * spec.unit_us, det))
+    stuffed = body.size - plain.size
+    if stuffed:
+        n_chips = chips.size - sum(r.chips for r in rows)
+        rows.append(SectionRow("stuffing", stuffed, n_chips, n_chips * spec.unit_us,
+                               "bits inserted after the sync"))
     frame_us = chips.size * spec.unit_us
     mark_us = float(chips.sum()) * spec.unit_us
     data_dependent = lc.name == "pulse_distance" or bool(lc.stuff(np.ones(64, np.uint8)).size != 64) \

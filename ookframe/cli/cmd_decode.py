@@ -6,8 +6,6 @@ import argparse
 
 from rich.table import Table
 
-from ..captures import read_capture
-from ..decode import decode
 from . import common
 from .output import err, out, print_json
 
@@ -41,6 +39,8 @@ def frame_dicts(frames) -> list[dict]:
 
 
 def run(args: argparse.Namespace) -> int:
+    from ..captures import read_capture
+    from ..decode import decode
     spec, _ = common.load(args)
     train = read_capture(args.capture, signal=args.signal)
     frames = decode(spec, train, include_bad=not args.good_only)

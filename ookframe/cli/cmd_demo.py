@@ -6,7 +6,6 @@ import argparse
 import tomllib
 from pathlib import Path
 
-from ..decode import decode
 from ..demo import DEMO_SPEC, example_text
 from ..frame import encode, values_equal
 from ..layout import frame_layout
@@ -26,6 +25,7 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    from ..decode import decode
     d = Path(args.dir)
     names = [DEMO_SPEC, "frame.csv", "frame.vcd", "decoded.json"]
     clash = [n for n in names if (d / n).exists()]
