@@ -33,6 +33,8 @@ class LineCode(ABC):
     name: ClassVar[str]
     #: allowed parameter names -> description (for spec validation and docs)
     PARAMS: ClassVar[dict[str, str]] = {}
+    #: allowed parameter names -> default value (same keys as PARAMS)
+    DEFAULTS: ClassVar[dict[str, object]] = {}
 
     def __init__(self, spec: LineCodeSpec) -> None:
         self.spec = spec
@@ -51,6 +53,11 @@ class LineCode(ABC):
     def bits_per_block(self) -> int:
         """Data bits per code block; frames must be a whole number of blocks (4 for 4B6B)."""
         return 1
+
+    @property
+    def chips_per_block(self) -> int | None:
+        """Chips per code block when fixed (then 2-D ``encode`` works); None if data-dependent."""
+        return None
 
     @property
     @abstractmethod
@@ -73,3 +80,7 @@ class LineCode(ABC):
     def unstuff(self, bits: np.ndarray) -> np.ndarray:
         """Inverse of ``stuff`` on a received bit stream (may be longer than one frame)."""
         return bits
+
+    def max_stuffed_bits(self, n_bits: int) -> int:
+        """Return the most bits ``stuff`` can add to ``n_bits`` data bits (0 without stuffing)."""
+        return 0
