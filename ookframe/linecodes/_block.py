@@ -1,0 +1,105 @@
+"""Table-driven block codes: k data bits -> one n-chip codeword (NRZ, Manchester, 4B6B...)."""
+
+from __future__ import annotations
+
+from functools import cached_property
+
+import numpy as np
+
+from ..spec.model import LineCodeSpec
+from ._chips import as_bits, as_runs, expand_runs, table_max_run
+from ._params import ParamReader
+from .base import DecodedBits, LineCode
+
+
+class BlockCode(LineCode):
+    """A line code given by a codeword table; subclasses set the three properties below.
+
+    Data blocks are read MSB first (the first bit is the block value's top bit); codeword
+    chips are sent MSB first. Decoding tries every one of the n chip phases.
+    """
+
+    def __init__(self, spec: LineCodeSpec) -> None:
+        super().__init__(spec)
+        self.params = ParamReader(spec, self.DEFAULTS)
+
+    @property
+    def data_bits(self) -> int:
+        """Data bits per block (k)."""
+        raise NotImplementedError
+
+    @property
+    def code_chips(self) -> int:
+        """Chips per codeword (n <= 8)."""
+        raise NotImplementedError
+
+    @property
+    def codewords(self) -> tuple[int, ...]:
+        """Codeword (n-bit int) of every data block value 0 .. 2**k - 1."""
+        raise NotImplementedError
+
+    # -- derived tables ------------------------------------------------------------------
+    @cached_property
+    def _encode_table(self) -> np.ndarray:
+        return np.array(self.codewords, dtype=np.uint8)
+
+    @cached_property
+    def _decode_table(self) -> np.ndarray:
+        inv = np.full(1 << self.code_chips, -1, dtype=np.int16)
+        inv[self._encode_table] = np.arange(len(self.codewords), dtype=np.int16)
+        return inv
+
+    @cached_property
+    def _data_shifts(self) -> np.ndarray:
+        return np.arange(self.data_bits - 1, -1, -1, dtype=np.uint8)
+
+    @cached_property
+    def _chip_shifts(self) -> np.ndarray:
+        return np.arange(self.code_chips - 1, -1, -1, dtype=np.uint8)
+
+    # -- LineCode interface --------------------------------------------------------------
+    @property
+    def units_per_bit(self) -> float:
+        return self.code_chips / self.data_bits
+
+    @property
+    def bits_per_block(self) -> int:
+        return self.data_bits
+
+    @property
+    def chips_per_block(self) -> int | None:
+        return self.code_chips
+
+    @property
+    def max_run_units(self) -> int | None:
+        return table_max_run(self.codewords, self.code_chips)
+
+    def encode(self, bits: np.ndarray) -> np.ndarray:
+        """Return chips (uint8): 1-D bits -> 1-D chips, 2-D (frames x bits) -> 2-D chips."""
+        b = as_bits(bits)
+        k = self.data_bits
+        if b.shape[-1] % k:
+            raise ValueError(f"{self.name} codes {k} bits per block; got {b.shape[-1]} bits")
+        blocks = b.reshape(*b.shape[:-1], b.shape[-1] // k, k)
+        values = (blocks << self._data_shifts).sum(axis=-1, dtype=np.uint8) if k > 1 else blocks[..., 0]
+        words = self._encode_table[values]
+        chips = (words[..., None] >> self._chip_shifts) & 1
+        return chips.reshape(*b.shape[:-1], values.shape[-1] * self.code_chips).astype(np.uint8)
+
+    def decode(self, levels: np.ndarray, units: np.ndarray) -> list[DecodedBits]:
+        """Return one candidate per chip phase (n candidates); unknown codewords are invalid."""
+        lv, un = as_runs(levels, units)
+        chips, run_of_chip = expand_runs(lv, un)
+        k, n = self.data_bits, self.code_chips
+        out = []
+        for phase in range(n):
+            m = max(chips.size - phase, 0) // n
+            blocks = chips[phase:phase + m * n].reshape(m, n)
+            values = np.packbits(blocks, axis=1).reshape(m) >> (8 - n)
+            data = self._decode_table[values]
+            valid = data >= 0
+            data = np.where(valid, data, 0).astype(np.uint8)
+            bits = ((data[:, None] >> self._data_shifts) & 1).reshape(-1).astype(np.uint8)
+            starts = run_of_chip[phase:phase + m * n:n]
+            out.append(DecodedBits(bits, np.repeat(starts, k), np.repeat(valid, k)))
+        return out

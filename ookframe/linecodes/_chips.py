@@ -1,0 +1,89 @@
+"""Array helpers shared by the line codes (input checks, run expansion, table run lengths)."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+import numpy as np
+
+from .base import DecodedBits
+
+
+def as_bits(bits: np.ndarray, *, max_ndim: int = 2) -> np.ndarray:
+    """Return ``bits`` as a uint8 array of 0/1 (1-D, or 2-D frames x bits when allowed)."""
+    arr = np.asarray(bits)
+    if arr.ndim < 1 or arr.ndim > max_ndim:
+        raise ValueError(f"bits must be a {'1-D' if max_ndim == 1 else '1-D or 2-D'} array, "
+                         f"got {arr.ndim}-D")
+    if arr.size and (arr.min() < 0 or arr.max() > 1):
+        raise ValueError("bits must be 0 or 1")
+    return arr.astype(np.uint8, copy=False)
+
+
+def as_runs(levels: np.ndarray, units: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Return (levels uint8 0/1, units int64 >= 1) checked to be 1-D arrays of equal length."""
+    lv = np.asarray(levels)
+    un = np.asarray(units)
+    if lv.ndim != 1 or un.shape != lv.shape:
+        raise ValueError("levels and units must be 1-D arrays of equal length")
+    un = un.astype(np.int64, copy=False)
+    if un.size and un.min() < 1:
+        raise ValueError("run lengths must be whole units >= 1")
+    return (lv != 0).astype(np.uint8), un
+
+
+def expand_runs(levels: np.ndarray, units: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Return (chips uint8, run index int64 of every chip) for checked runs."""
+    chips = np.repeat(levels, units)
+    run_of_chip = np.repeat(np.arange(levels.size, dtype=np.int64), units)
+    return chips, run_of_chip
+
+
+def mark_space_pairs(
+    levels: np.ndarray, units: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Return (run index of each mark, mark units, units of the space after it, -1 if none)."""
+    marks = np.flatnonzero(levels == 1)
+    nxt = marks + 1
+    has_space = nxt < levels.size
+    has_space[has_space] = levels[nxt[has_space]] == 0
+    space = np.full(marks.size, -1, dtype=np.int64)
+    space[has_space] = units[nxt[has_space]]
+    return marks.astype(np.int64), units[marks], space
+
+
+def empty_candidate() -> DecodedBits:
+    """Return a candidate with no bits."""
+    return DecodedBits(np.zeros(0, np.uint8), np.zeros(0, np.int64), np.zeros(0, bool))
+
+
+def word_chips(word: int, n_chips: int) -> tuple[int, ...]:
+    """Return the chips of an ``n_chips``-wide codeword, MSB (first sent) first."""
+    return tuple((word >> (n_chips - 1 - i)) & 1 for i in range(n_chips))
+
+
+def _run_lengths(chips: Sequence[int]) -> list[int]:
+    runs = [1]
+    for a, b in zip(chips, chips[1:], strict=False):
+        if a == b:
+            runs[-1] += 1
+        else:
+            runs.append(1)
+    return runs
+
+
+def table_max_run(codewords: Sequence[int], n_chips: int) -> int | None:
+    """Return the longest run of equal chips in any concatenation of codewords, None if unbounded.
+
+    Unbounded exactly when a codeword is constant (it can repeat forever). Otherwise a run
+    spans at most the tail of one word and the head of the next, so ordered pairs suffice.
+    """
+    words = [word_chips(w, n_chips) for w in codewords]
+    if any(len(set(w)) == 1 for w in words):
+        return None
+    longest = max(max(_run_lengths(w)) for w in words)
+    for a in words:
+        for b in words:
+            if a[-1] == b[0]:
+                longest = max(longest, _run_lengths(a)[-1] + _run_lengths(b)[0])
+    return longest

@@ -1,0 +1,160 @@
+"""NRZ: one chip per bit, 1 -> mark, with optional HDLC-style bit stuffing (ISO/IEC 13239).
+
+Bit stuffing (``stuff_after = N``, N >= 2; 0 = off) looks at the stuffed stream as sent:
+
+- ``stuff_value = "both"`` (default, a generalisation of HDLC): after N equal bits of
+  either value, the complement is inserted, so no run on air exceeds N chips. The inserted
+  bit counts towards the next run (it is a bit on air like any other).
+- ``stuff_value = "ones"`` (the HDLC rule of ISO/IEC 13239 with N = 5): after N ones a 0
+  is inserted; runs of zeros stay unbounded.
+
+A stuffed bit is also inserted after the last data bit when it completes a run of N, so
+``unstuff`` can work on a received stream longer than the frame: it drops the bit after
+every run of N (whatever its value) and reads on.
+"""
+
+from __future__ import annotations
+
+from typing import ClassVar
+
+import numpy as np
+
+from ..errors import SpecError
+from ..spec.model import LineCodeSpec
+from ._block import BlockCode
+from ._chips import as_bits
+
+STUFF_VALUES: tuple[str, ...] = ("both", "ones")
+MAX_STUFF_AFTER = 64
+
+
+def _runs(bits: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Return (start index, length, value) of every run of equal bits (non-empty input)."""
+    starts = np.flatnonzero(np.concatenate(([True], bits[1:] != bits[:-1])))
+    lengths = np.diff(np.append(starts, bits.size))
+    return starts, lengths, bits[starts]
+
+
+def _spread(counts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Return (owner index, k = 0..count-1) for ``counts[i]`` items owned by each i."""
+    owner = np.repeat(np.arange(counts.size), counts)
+    first = np.cumsum(counts) - counts
+    return owner, np.arange(owner.size) - first[owner]
+
+
+def _carry_in(lengths: np.ndarray, after: int) -> np.ndarray:
+    """Return 1 for each run preceded on air by a stuffed bit of its own value ("both" rule).
+
+    carry[i+1] = ((lengths[i] + carry[i]) % N == 0): run i maps the carry through NOT
+    (length % N == 0), unchanged (length % N == N-1) or to 0 (otherwise), so the carry is
+    the parity of the NOT runs since the last run that resets it.
+    """
+    r = lengths % after
+    flip = r == 0
+    reset = (r != 0) & (r != after - 1)
+    idx = np.arange(lengths.size)
+    last_reset = np.maximum.accumulate(np.where(reset, idx, -1))
+    flips = np.cumsum(flip)
+    before = np.where(last_reset >= 0, flips[np.maximum(last_reset, 0)], 0)
+    carry_out = (flips - before) % 2
+    return np.concatenate(([0], carry_out[:-1]))
+
+
+def stuff_bits(bits: np.ndarray, after: int, value: str) -> np.ndarray:
+    """Return ``bits`` with a stuffed bit inserted after every run of ``after`` (see module)."""
+    if bits.size == 0:
+        return bits.copy()
+    starts, lengths, values = _runs(bits)
+    if value == "ones":
+        first = np.full(lengths.size, after - 1)  # offset in the run of the first stuff
+        counts = np.where(values == 1, lengths // after, 0)
+    else:
+        first = after - 1 - _carry_in(lengths, after)
+        counts = np.where(lengths > first, (lengths - 1 - first) // after + 1, 0)
+    owner, k = _spread(counts)
+    positions = starts[owner] + first[owner] + k * after + 1
+    return np.insert(bits, positions, 1 - values[owner])
+
+
+def unstuff_bits(bits: np.ndarray, after: int, value: str) -> np.ndarray:
+    """Return ``bits`` without the bit that follows every run of ``after`` (see module)."""
+    if bits.size == 0:
+        return bits.copy()
+    starts, lengths, values = _runs(bits)
+    # bits dropped inside a run sit at offsets N, N + period, ...; a run whose count ends at
+    # N makes the first bit of the next run the stuffed one
+    if value == "ones":
+        period = after + 1
+        inner = np.where(values == 1, lengths // period, 0)
+        ends_full = (values == 1) & (lengths % period == after)
+    else:
+        period = after
+        inner = (lengths - 1) // period
+        ends_full = lengths % period == 0
+    owner, k = _spread(inner)
+    drop_inner = starts[owner] + after + k * period
+    drop_next = starts[1:][ends_full[:-1]]
+    keep = np.ones(bits.size, bool)
+    keep[drop_inner] = False
+    keep[drop_next] = False
+    return bits[keep]
+
+
+class Nrz(BlockCode):
+    """Non-return-to-zero: bit 1 -> one mark chip, bit 0 -> one space chip."""
+
+    name = "nrz"
+    DEFAULTS: ClassVar[dict[str, object]] = {"stuff_after": 0, "stuff_value": "both"}
+    PARAMS: ClassVar[dict[str, str]] = {
+        "stuff_after": f"bit stuffing after N equal bits (2..{MAX_STUFF_AFTER}), 0 = off; "
+        "default 0",
+        "stuff_value": '"both" (insert the complement after N equal bits of either value) or '
+        '"ones" (HDLC: insert 0 after N ones); default "both"',
+    }
+
+    def __init__(self, spec: LineCodeSpec) -> None:
+        super().__init__(spec)
+        after = self.params.integer("stuff_after", 0, MAX_STUFF_AFTER)
+        if after == 1:
+            raise SpecError("line_code.stuff_after",
+                            f"must be 0 (off) or 2..{MAX_STUFF_AFTER}, got 1")
+        self.stuff_after = after
+        self.stuff_value = self.params.choice("stuff_value", STUFF_VALUES)
+
+    @property
+    def data_bits(self) -> int:
+        return 1
+
+    @property
+    def code_chips(self) -> int:
+        return 1
+
+    @property
+    def codewords(self) -> tuple[int, ...]:
+        return (0, 1)
+
+    @property
+    def max_run_units(self) -> int | None:
+        """Longest run in the stuffed stream: N with symmetric stuffing, else unbounded."""
+        if self.stuff_after and self.stuff_value == "both":
+            return self.stuff_after
+        return None
+
+    def stuff(self, bits: np.ndarray) -> np.ndarray:
+        """Return the stuffed bit stream (1-D); identity when stuffing is off."""
+        b = as_bits(bits, max_ndim=1)
+        return stuff_bits(b, self.stuff_after, self.stuff_value) if self.stuff_after else b
+
+    def unstuff(self, bits: np.ndarray) -> np.ndarray:
+        """Return the received stream with stuffed bits removed (1-D, any length)."""
+        b = as_bits(bits, max_ndim=1)
+        return unstuff_bits(b, self.stuff_after, self.stuff_value) if self.stuff_after else b
+
+    def max_stuffed_bits(self, n_bits: int) -> int:
+        """Return the most stuffed bits ``n_bits`` data bits can need (worst-case data)."""
+        n = self.stuff_after
+        if not n or n_bits < n:
+            return 0
+        if self.stuff_value == "ones":
+            return n_bits // n
+        return 1 + (n_bits - n) // (n - 1)

@@ -1,0 +1,75 @@
+"""Pulse-distance code: every bit is a fixed mark followed by a space whose length carries
+the bit (``zero_space_units`` or ``one_space_units``).
+
+The last bit's space would run into the gap, so ``encode`` ends the chips with one extra
+stop mark of ``mark_units``; ``decode`` reads one bit per mark that has a space after it.
+``units_per_bit`` is the mean over equiprobable 0 and 1 bits (the stop mark excluded).
+"""
+
+from __future__ import annotations
+
+from typing import ClassVar
+
+import numpy as np
+
+from ..errors import SpecError
+from ..spec.model import LineCodeSpec
+from ._chips import as_bits, as_runs, mark_space_pairs
+from ._params import ParamReader
+from .base import DecodedBits, LineCode
+
+MAX_UNITS = 64
+
+
+class PulseDistance(LineCode):
+    """Pulse-distance code: fixed mark, the space length carries the bit; data-dependent length."""
+
+    name = "pulse_distance"
+    DEFAULTS: ClassVar[dict[str, object]] = {
+        "mark_units": 1, "zero_space_units": 1, "one_space_units": 3,
+    }
+    PARAMS: ClassVar[dict[str, str]] = {
+        "mark_units": f"units of every mark, also the stop mark (1..{MAX_UNITS}); default 1",
+        "zero_space_units": f"units of the space after a 0 bit (1..{MAX_UNITS}); default 1",
+        "one_space_units": f"units of the space after a 1 bit (1..{MAX_UNITS}, not equal to "
+        "zero_space_units); default 3",
+    }
+
+    def __init__(self, spec: LineCodeSpec) -> None:
+        super().__init__(spec)
+        p = ParamReader(spec, self.DEFAULTS)
+        self.mark_units = p.integer("mark_units", 1, MAX_UNITS)
+        self.zero_space_units = p.integer("zero_space_units", 1, MAX_UNITS)
+        self.one_space_units = p.integer("one_space_units", 1, MAX_UNITS)
+        if self.one_space_units == self.zero_space_units:
+            raise SpecError("line_code.one_space_units", "must differ from zero_space_units "
+                            f"({self.zero_space_units}), got {self.one_space_units}")
+
+    @property
+    def units_per_bit(self) -> float:
+        return self.mark_units + (self.zero_space_units + self.one_space_units) / 2
+
+    @property
+    def max_run_units(self) -> int | None:
+        return max(self.mark_units, self.zero_space_units, self.one_space_units)
+
+    def encode(self, bits: np.ndarray) -> np.ndarray:
+        """Return chips (uint8) of a 1-D bit array, ending with the stop mark."""
+        b = as_bits(bits, max_ndim=1)
+        spaces = np.where(b == 1, self.one_space_units, self.zero_space_units)
+        runs = np.empty(2 * b.size + 1, np.int64)
+        runs[0::2] = self.mark_units
+        runs[1::2] = spaces
+        levels = np.ones(runs.size, np.uint8)
+        levels[1::2] = 0
+        return np.repeat(levels, runs)
+
+    def decode(self, levels: np.ndarray, units: np.ndarray) -> list[DecodedBits]:
+        """Return one candidate: one bit per mark followed by a space (1 = one_space_units)."""
+        lv, un = as_runs(levels, units)
+        run, mark, space = mark_space_pairs(lv, un)
+        keep = space >= 0
+        run, mark, space = run[keep], mark[keep], space[keep]
+        one = space == self.one_space_units
+        valid = (mark == self.mark_units) & (one | (space == self.zero_space_units))
+        return [DecodedBits((one & valid).astype(np.uint8), run, valid)]
