@@ -188,13 +188,13 @@ def test_pulse_distance_rejects_2d():
     """pulse_distance has a data-dependent chip count: no 2-D encode, chips_per_block None."""
     lc = code("pulse_distance")
     assert lc.chips_per_block is None
-    with pytest.raises(ValueError):
+    with pytest.raises(ValueError, match="1-D bits only"):
         lc.encode(np.zeros((2, 4), np.uint8))
 
 
 @pytest.mark.parametrize(("name", "params"), VARIANTS, ids=ids(VARIANTS))
-def test_empty_input(name, params):
-    """Empty runs decode to empty candidates; bad runs are rejected."""
+def test_empty_and_bad_input(name, params):
+    """Empty runs decode to empty candidates; zero-length runs and non-0/1 bits are rejected."""
     lc = code(name, **params)
     for c in lc.decode(np.zeros(0, np.uint8), np.zeros(0, np.int64)):
         assert c.bits.size == 0

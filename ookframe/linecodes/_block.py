@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from functools import cached_property
+from typing import ClassVar
 
 import numpy as np
 
@@ -13,30 +14,27 @@ from .base import DecodedBits, LineCode
 
 
 class BlockCode(LineCode):
-    """A line code given by a codeword table; subclasses set the three properties below.
+    """A line code given by a codeword table; subclasses set the three class constants.
 
     Data blocks are read MSB first (the first bit is the block value's top bit); codeword
     chips are sent MSB first. Decoding tries every one of the n chip phases.
     """
+
+    #: data bits per block (k)
+    DATA_BITS: ClassVar[int] = 1
+    #: chips per codeword (n <= 8)
+    CODE_CHIPS: ClassVar[int] = 1
+    #: codeword (n-bit int) of every data block value 0 .. 2**k - 1
+    CODEWORDS: ClassVar[tuple[int, ...]] = (0, 1)
 
     def __init__(self, spec: LineCodeSpec) -> None:
         super().__init__(spec)
         self.params = ParamReader(spec, self.DEFAULTS)
 
     @property
-    def data_bits(self) -> int:
-        """Data bits per block (k)."""
-        raise NotImplementedError
-
-    @property
-    def code_chips(self) -> int:
-        """Chips per codeword (n <= 8)."""
-        raise NotImplementedError
-
-    @property
     def codewords(self) -> tuple[int, ...]:
-        """Codeword (n-bit int) of every data block value 0 .. 2**k - 1."""
-        raise NotImplementedError
+        """Codeword table in use (a parameter may choose it, e.g. Manchester's convention)."""
+        return self.CODEWORDS
 
     # -- derived tables ------------------------------------------------------------------
     @cached_property
@@ -45,52 +43,57 @@ class BlockCode(LineCode):
 
     @cached_property
     def _decode_table(self) -> np.ndarray:
-        inv = np.full(1 << self.code_chips, -1, dtype=np.int16)
+        inv = np.full(1 << self.CODE_CHIPS, -1, dtype=np.int16)
         inv[self._encode_table] = np.arange(len(self.codewords), dtype=np.int16)
         return inv
 
     @cached_property
     def _data_shifts(self) -> np.ndarray:
-        return np.arange(self.data_bits - 1, -1, -1, dtype=np.uint8)
+        return np.arange(self.DATA_BITS - 1, -1, -1, dtype=np.uint8)
 
     @cached_property
     def _chip_shifts(self) -> np.ndarray:
-        return np.arange(self.code_chips - 1, -1, -1, dtype=np.uint8)
+        return np.arange(self.CODE_CHIPS - 1, -1, -1, dtype=np.uint8)
 
     # -- LineCode interface --------------------------------------------------------------
     @property
     def units_per_bit(self) -> float:
-        return self.code_chips / self.data_bits
+        return self.CODE_CHIPS / self.DATA_BITS
 
     @property
     def bits_per_block(self) -> int:
-        return self.data_bits
+        return self.DATA_BITS
 
     @property
     def chips_per_block(self) -> int | None:
-        return self.code_chips
+        return self.CODE_CHIPS
+
+    @cached_property
+    def _table_max_run(self) -> int | None:
+        return table_max_run(self.codewords, self.CODE_CHIPS)
 
     @property
     def max_run_units(self) -> int | None:
-        return table_max_run(self.codewords, self.code_chips)
+        """Longest run over any codeword sequence, computed from the table."""
+        return self._table_max_run
 
     def encode(self, bits: np.ndarray) -> np.ndarray:
         """Return chips (uint8): 1-D bits -> 1-D chips, 2-D (frames x bits) -> 2-D chips."""
         b = as_bits(bits)
-        k = self.data_bits
+        k = self.DATA_BITS
         if b.shape[-1] % k:
             raise ValueError(f"{self.name} codes {k} bits per block; got {b.shape[-1]} bits")
         blocks = b.reshape(*b.shape[:-1], b.shape[-1] // k, k)
         values = (blocks << self._data_shifts).sum(axis=-1, dtype=np.uint8) if k > 1 else blocks[..., 0]
         words = self._encode_table[values]
         chips = (words[..., None] >> self._chip_shifts) & 1
-        return chips.reshape(*b.shape[:-1], values.shape[-1] * self.code_chips).astype(np.uint8)
+        return chips.reshape(*b.shape[:-1], values.shape[-1] * self.CODE_CHIPS).astype(np.uint8)
 
     def decode(self, levels: np.ndarray, units: np.ndarray) -> list[DecodedBits]:
         """Return one candidate per chip phase (n candidates); unknown codewords are invalid."""
         lv, un = as_runs(levels, units)
         chips, run_of_chip = expand_runs(lv, un)
-        k, n = self.data_bits, self.code_chips
+        k, n = self.DATA_BITS, self.CODE_CHIPS
         out = []
         for phase in range(n):
             m = max(chips.size - phase, 0) // n

@@ -18,15 +18,6 @@ class Code3of6(BlockCode):
     """EN 13757-4 3-out-of-6 code: 4 data bits -> 6 chips, weight 3."""
 
     name = "3of6"
-
-    @property
-    def data_bits(self) -> int:
-        return 4
-
-    @property
-    def code_chips(self) -> int:
-        return 6
-
-    @property
-    def codewords(self) -> tuple[int, ...]:
-        return CODEWORDS_3OF6
+    DATA_BITS = 4
+    CODE_CHIPS = 6
+    CODEWORDS = CODEWORDS_3OF6

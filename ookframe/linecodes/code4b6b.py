@@ -21,15 +21,6 @@ class Code4b6b(BlockCode):
     """4B6B block code: 4 data bits -> 6 chips, weight 3; longest run 4 units."""
 
     name = "4b6b"
-
-    @property
-    def data_bits(self) -> int:
-        return 4
-
-    @property
-    def code_chips(self) -> int:
-        return 6
-
-    @property
-    def codewords(self) -> tuple[int, ...]:
-        return CODEWORDS_4B6B
+    DATA_BITS = 4
+    CODE_CHIPS = 6
+    CODEWORDS = CODEWORDS_4B6B

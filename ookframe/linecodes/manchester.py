@@ -25,6 +25,8 @@ class Manchester(BlockCode):
     """Manchester code, 2 chips per bit, either convention; runs are at most 2 units."""
 
     name = "manchester"
+    DATA_BITS = 1
+    CODE_CHIPS = 2
     DEFAULTS: ClassVar[dict[str, object]] = {"convention": "ieee"}
     PARAMS: ClassVar[dict[str, str]] = {
         "convention": '"ieee" (IEEE 802.3: 1 = low->high) or "thomas" (1 = high->low); '
@@ -34,14 +36,6 @@ class Manchester(BlockCode):
     def __init__(self, spec: LineCodeSpec) -> None:
         super().__init__(spec)
         self.convention = self.params.choice("convention", tuple(CONVENTIONS))
-
-    @property
-    def data_bits(self) -> int:
-        return 1
-
-    @property
-    def code_chips(self) -> int:
-        return 2
 
     @property
     def codewords(self) -> tuple[int, ...]:

@@ -104,6 +104,9 @@ class Nrz(BlockCode):
     """Non-return-to-zero: bit 1 -> one mark chip, bit 0 -> one space chip."""
 
     name = "nrz"
+    DATA_BITS = 1
+    CODE_CHIPS = 1
+    CODEWORDS = (0, 1)
     DEFAULTS: ClassVar[dict[str, object]] = {"stuff_after": 0, "stuff_value": "both"}
     PARAMS: ClassVar[dict[str, str]] = {
         "stuff_after": f"bit stuffing after N equal bits (2..{MAX_STUFF_AFTER}), 0 = off; "
@@ -120,18 +123,6 @@ class Nrz(BlockCode):
                             f"must be 0 (off) or 2..{MAX_STUFF_AFTER}, got 1")
         self.stuff_after = after
         self.stuff_value = self.params.choice("stuff_value", STUFF_VALUES)
-
-    @property
-    def data_bits(self) -> int:
-        return 1
-
-    @property
-    def code_chips(self) -> int:
-        return 1
-
-    @property
-    def codewords(self) -> tuple[int, ...]:
-        return (0, 1)
 
     @property
     def max_run_units(self) -> int | None:

@@ -55,6 +55,9 @@ class PulseDistance(LineCode):
 
     def encode(self, bits: np.ndarray) -> np.ndarray:
         """Return chips (uint8) of a 1-D bit array, ending with the stop mark."""
+        if np.ndim(bits) != 1:
+            raise ValueError("pulse_distance encodes 1-D bits only: its chip count depends on "
+                             "the data (chips_per_block is None); encode frames one by one")
         b = as_bits(bits, max_ndim=1)
         spaces = np.where(b == 1, self.one_space_units, self.zero_space_units)
         runs = np.empty(2 * b.size + 1, np.int64)
