@@ -21,6 +21,7 @@ from .frame import (
     values_equal,
 )
 from .layout import Layout, frame_layout
+from .linecodes import LINE_CODES, get_line_code
 from .pulses import PulseTrain
 from .spec.load import load_spec, load_spec_and_defaults, spec_from_dict
 from .spec.model import (
@@ -34,6 +35,7 @@ from .spec.model import (
     SyncSpec,
     WhiteningSpec,
 )
+from .whitening import lfsr_bits, whiten
 
 __all__ = [
     "__version__",
@@ -47,6 +49,7 @@ __all__ = [
     "FieldSpec",
     "FrameSpec",
     "Layout",
+    "LINE_CODES",
     "LineCodeSpec",
     "OokframeError",
     "ParsedFrame",
@@ -61,6 +64,8 @@ __all__ = [
     "frame_bits",
     "frame_chips",
     "frame_layout",
+    "get_line_code",
+    "lfsr_bits",
     "load_spec",
     "make_check",
     "load_spec_and_defaults",
@@ -68,4 +73,5 @@ __all__ = [
     "random_values",
     "spec_from_dict",
     "values_equal",
+    "whiten",
 ]

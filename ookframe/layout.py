@@ -69,13 +69,16 @@ def frame_layout(spec: FrameSpec, values: _f.Values | None = None) -> Layout:
     rows = []
     plain = np.concatenate((fb, cb)) ^ _f.whitening_mask(spec, fb.size, cb.size)
     all_bits = np.concatenate((head, plain))
+    def chips_upto(k: int) -> int:
+        # chips of the first k bits; a partial block of a block code counts at the fixed rate
+        if k % lc.bits_per_block:
+            return round(k * lc.units_per_bit)
+        return lc.encode(all_bits[:k]).size
+
     pos = 0
     for name, nb, det in zip(names, bounds, details, strict=True):
-        part = all_bits[pos:pos + nb]
+        n_chips = chips_upto(pos + nb) - chips_upto(pos)
         pos += nb
-        # chip count of a section: encode it alone (state changes levels, not counts);
-        # a partial block of a block code is counted at the code's fixed rate
-        n_chips = lc.encode(part).size if nb % lc.bits_per_block == 0 else round(nb * lc.units_per_bit)
         rows.append(SectionRow(name, nb, n_chips, n_chips * spec.unit_us, det))
     stuffed = body.size - plain.size
     if stuffed:

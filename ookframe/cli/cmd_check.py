@@ -56,7 +56,7 @@ def run(args: argparse.Namespace) -> int:
         t.add_column(col, justify="left" if col in ("section", "detail") else "right")
     for r in lay.rows:
         t.add_row(r.section, str(r.bits), str(r.chips), f"{r.duration_us:.1f}", r.detail)
-    t.add_row("frame", str(sum(r.bits for r in lay.rows)), str(sum(r.chips for r in lay.rows)),
+    t.add_row("frame", str(sum(r.bits for r in lay.rows)), str(round(lay.frame_us / spec.unit_us)),
               f"{lay.frame_us:.1f}", "")
     out.print(t)
     note = " (for all-zero field values; length depends on the data)" if lay.data_dependent else ""
