@@ -54,12 +54,16 @@ def _normalise(level0: int, t_us: np.ndarray, end_us: float) -> Edges:
     (0, end_us) removed (a toggle at or before 0 flips the first level instead).
     ``t_us`` must be sorted."""
     if t_us.size > 1:
-        starts = np.flatnonzero(np.concatenate(([True], t_us[1:] != t_us[:-1])))
-        counts = np.diff(np.append(starts, t_us.size))
-        t_us = t_us[starts[(counts & 1) == 1]]
-    before = int(np.count_nonzero(t_us <= 0.0))
-    t_us = t_us[(t_us > 0.0) & (t_us < end_us)]
-    return Edges((level0 + before) & 1, t_us, end_us)
+        same = t_us[1:] == t_us[:-1]
+        if same.any():
+            starts = np.flatnonzero(np.concatenate(([True], ~same)))
+            counts = np.diff(np.append(starts, t_us.size))
+            t_us = t_us[starts[(counts & 1) == 1]]
+    if t_us.size and (t_us[0] <= 0.0 or t_us[-1] >= end_us):
+        before = int(np.count_nonzero(t_us <= 0.0))
+        t_us = t_us[(t_us > 0.0) & (t_us < end_us)]
+        level0 = (level0 + before) & 1
+    return Edges(level0, t_us, end_us)
 
 
 def _insert_sorted(t_us: np.ndarray, new_us: np.ndarray) -> np.ndarray:
@@ -83,11 +87,13 @@ def _toggle_pairs(e: Edges, new_us: np.ndarray) -> Edges:
 
 def _min_width(e: Edges, min_width_us: float) -> Edges:
     """Return edges where no pulse is narrower than ``min_width_us`` (later edges pushed)."""
-    n = e.t_us.size
-    if n == 0:
-        return Edges(e.level0, e.t_us, max(e.end_us, min_width_us))
-    step = np.arange(1, n + 1) * min_width_us
-    t = np.maximum.accumulate(np.maximum(e.t_us - step, 0.0)) + step
+    t = e.t_us
+    if t.size == 0:
+        return Edges(e.level0, t, max(e.end_us, min_width_us))
+    if t[0] >= min_width_us and (t.size == 1 or np.diff(t).min() >= min_width_us):
+        return Edges(e.level0, t, max(e.end_us, float(t[-1]) + min_width_us))
+    step = np.arange(1, t.size + 1) * min_width_us
+    t = np.maximum.accumulate(np.maximum(t - step, 0.0)) + step
     return Edges(e.level0, t, max(e.end_us, float(t[-1]) + min_width_us))
 
 
@@ -127,25 +133,24 @@ def _k_clock(e: Edges, clock_pct: float, drift: float, bursts: np.ndarray | None
 
 
 def _k_mark_bias(e: Edges, bias_us: float, min_width_us: float) -> Edges:
-    levels = e.pulse_levels()
     t = e.t_us.copy()
-    t[levels[:-1] == 1] += bias_us  # toggle i ends pulse i: falling when pulse i is a mark
-    end = e.end_us + (bias_us if levels[-1] == 1 else 0.0)
+    t[1 - e.level0 :: 2] += bias_us  # toggle i ends pulse i: falling when pulse i is a mark
+    last_is_mark = (e.level0 + t.size) & 1 == 1
+    end = e.end_us + (bias_us if last_is_mark else 0.0)
     return _min_width(Edges(e.level0, t, end), min_width_us)
 
 
 def _k_dropout(e: Edges, prob: float, rng: np.random.Generator) -> Edges:
-    levels = e.pulse_levels()
-    marks = np.flatnonzero(levels == 1)
+    n_t = e.t_us.size
+    marks = np.arange(1 - e.level0, n_t + 1, 2)
     lost = marks[rng.random(marks.size) < prob]
     if lost.size == 0:
         return e
-    n_t = e.t_us.size
     drop = np.zeros(n_t, bool)
     before = lost - 1
     drop[before[before >= 0]] = True
     drop[lost[lost < n_t]] = True
-    level0 = 0 if (lost.size and lost[0] == 0) else e.level0
+    level0 = 0 if lost[0] == 0 else e.level0
     return Edges(level0, e.t_us[~drop], e.end_us)
 
 
@@ -153,40 +158,49 @@ def _poisson_points(
     starts_us: np.ndarray, lengths_us: np.ndarray, mean_us: float, rng: np.random.Generator,
     *, even: bool,
 ) -> np.ndarray:
-    """Return sorted points of a Poisson process (mean spacing ``mean_us``) inside each
-    interval [start, start + length); with ``even`` each interval gets an even count."""
-    counts = rng.poisson(lengths_us / mean_us)
-    if even:
-        counts -= counts & 1
-    where = np.repeat(np.arange(lengths_us.size), counts)
-    pts = starts_us[where] + rng.random(where.size) * lengths_us[where]
-    return np.sort(pts)
+    """Return sorted points of a Poisson process (mean spacing ``mean_us``) inside the
+    disjoint, ordered intervals [start, start + length); with ``even`` each interval keeps
+    an even number of points (its last one dropped when odd).
+
+    One process runs over the intervals laid end to end and is mapped back, so the
+    points come out sorted without a sort.
+    """
+    cum = np.cumsum(lengths_us)
+    total = float(cum[-1]) if cum.size else 0.0
+    if total <= 0.0:
+        return np.zeros(0)
+    expect = total / mean_us
+    pos = np.cumsum(rng.exponential(mean_us, int(expect + 6.0 * np.sqrt(expect) + 16.0)))
+    while pos[-1] < total:  # rare: extend the process
+        more = rng.exponential(mean_us, max(16, int(expect / 8)))
+        pos = np.concatenate((pos, pos[-1] + np.cumsum(more)))
+    pos = pos[: np.searchsorted(pos, total)]
+    region = np.searchsorted(cum, pos, side="right")
+    offset = np.concatenate(([0.0], cum[:-1]))
+    pts = starts_us[region] + (pos - offset[region])
+    if even and pts.size:
+        counts = np.bincount(region, minlength=lengths_us.size)
+        odd = np.flatnonzero(counts & 1)
+        if odd.size:
+            pts = np.delete(pts, np.cumsum(counts)[odd] - 1)
+    return pts
 
 
 def _k_idle_noise(
     e: Edges, lead_us: float, mean_us: float, quiet_us: float, rng: np.random.Generator
 ) -> Edges:
-    levels = e.pulse_levels()
     t = e.t_us + lead_us
-    extra: list[np.ndarray] = []
-    level0 = e.level0
-    if level0 == 1:
-        extra.append(np.array([lead_us]))
-        level0 = 0
-    extra.append(t)
-    if levels[-1] == 1:
-        extra.append(np.array([e.end_us + lead_us]))
-    t = np.concatenate(extra)
+    head = [np.array([lead_us])] if e.level0 == 1 else []
+    tail = [np.array([e.end_us + lead_us])] if (e.level0 + t.size) & 1 == 1 else []
+    t = np.concatenate((*head, t, *tail))
     end = e.end_us + 2 * lead_us
-    starts = np.concatenate(([0.0], t))
-    stops = np.append(t, end)
-    space = ((level0 + np.arange(starts.size)) & 1) == 0
-    begin = starts + quiet_us
-    begin[0] = 0.0  # the receiver was idle before the train: noise from the start
-    length = stops - begin
-    ok = space & (length > 0)
+    # the train now starts and ends with a space: spaces are the even pulses
+    begin = np.concatenate(([0.0], t[1::2] + quiet_us))
+    stop = np.append(t[0::2], end)
+    length = stop - begin
+    ok = length > 0
     noise = _poisson_points(begin[ok], length[ok], mean_us, rng, even=True)
-    return _toggle_pairs(Edges(level0, t, end), noise)
+    return _normalise(0, _insert_sorted(t, noise), end)
 
 
 def _k_glitches(

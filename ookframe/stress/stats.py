@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from scipy.stats import beta
+from scipy.stats import beta, chi2
 
 
 def clopper_pearson(k: int, n: int, confidence: float = 0.95) -> tuple[float, float]:
@@ -21,4 +21,15 @@ def clopper_pearson(k: int, n: int, confidence: float = 0.95) -> tuple[float, fl
     alpha = 1.0 - confidence
     low = 0.0 if k == 0 else float(beta.ppf(alpha / 2, k, n - k + 1))
     high = 1.0 if k == n else float(beta.ppf(1 - alpha / 2, k + 1, n - k))
+    return (low, high)
+
+
+def poisson_ci(k: int, confidence: float = 0.95) -> tuple[float, float]:
+    """Return the exact (Garwood 1936, Biometrika 28) two-sided interval for the mean of a
+    Poisson count after observing ``k`` events: chi-square quantiles / 2."""
+    if k < 0:
+        raise ValueError(f"need k >= 0, got {k}")
+    alpha = 1.0 - confidence
+    low = 0.0 if k == 0 else float(chi2.ppf(alpha / 2, 2 * k) / 2)
+    high = float(chi2.ppf(1 - alpha / 2, 2 * k + 2) / 2)
     return (low, high)

@@ -1,0 +1,261 @@
+"""Monte Carlo stress runs: random frames through a channel and the reference decoder.
+
+Work is split into fixed chunks of ``chunk_frames`` transmissions; chunk ``i`` draws all
+its randomness from ``SeedSequence(seed).spawn(n_chunks)[i]``, so a run gives the same
+counts with any number of workers and any ``concurrent.futures.Executor``: a process
+pool (``workers > 1``), or for very large runs a Dask distributed cluster through
+``distributed.Client(...).get_executor()``. A chunk is one batch: encode all its frames,
+join them into one train with idle gaps, apply the channel once, decode once, and match
+decoded frames to sent ones by time (each transmission owns the window from half a gap
+before it to half a gap after it).
+"""
+
+from __future__ import annotations
+
+import time
+from collections.abc import Callable, Iterator
+from concurrent.futures import Executor, ProcessPoolExecutor
+from dataclasses import dataclass, field, fields
+
+import numpy as np
+
+from ..channel import ChannelSpec, apply_channel, channel_time_map_us
+from ..pulses import PulseTrain
+from ..spec.model import FrameSpec
+from .batch import Batch, random_batch
+from .stats import clopper_pearson
+
+DEFAULT_CHUNK_FRAMES = 500
+
+Decoder = Callable[[FrameSpec, PulseTrain], list]
+Progress = Callable[[int], None]
+
+
+@dataclass(frozen=True)
+class Counts:
+    """Integer tallies of one chunk (they add up across chunks)."""
+
+    frames: int = 0
+    ok: int = 0
+    lost_sync: int = 0
+    bad_check: int = 0
+    false_accepts: int = 0
+    copies_ok: int = 0
+    decoded: int = 0
+    stray_frames: int = 0
+    stray_accepts: int = 0
+    pulses: int = 0
+
+    def __add__(self, other: Counts) -> Counts:
+        return Counts(*(getattr(self, f.name) + getattr(other, f.name) for f in fields(self)))
+
+
+@dataclass(frozen=True)
+class StressResult:
+    """Outcome of a stress run.
+
+    frames: transmissions sent (each ``spec.repeats`` copies); ok: transmissions with at
+    least one copy decoded with the check passing and every field right; per: 1 - ok /
+    frames, with ``per_ci95`` its 95 % Clopper-Pearson interval. Failed transmissions are
+    ``lost_sync`` (nothing decoded in their time window) or ``bad_check`` (something
+    decoded, nothing right). false_accepts: decoded frames whose check passed but whose
+    fields are wrong (each one counted, also in transmissions that were ok).
+    stray_frames / stray_accepts: frames decoded outside every window (in lead-in noise).
+    copies_ok: correct decoded frames (up to frames * repeats). frames_per_s: end-to-end
+    throughput (wall clock, not part of equality).
+    """
+
+    spec_name: str
+    channel: ChannelSpec
+    seed: int
+    frames: int
+    ok: int
+    per: float
+    per_ci95: tuple[float, float]
+    lost_sync: int
+    bad_check: int
+    false_accepts: int
+    false_accept_ci95: tuple[float, float]
+    copies_ok: int
+    decoded: int
+    stray_frames: int
+    stray_accepts: int
+    pulses: int
+    chunk_frames: int
+    elapsed_s: float = field(compare=False)
+    frames_per_s: float = field(compare=False)
+    workers: int = field(compare=False)
+
+    def to_dict(self) -> dict[str, object]:
+        """Return the result as a JSON-ready dict."""
+        d = {f.name: getattr(self, f.name) for f in fields(self)}
+        d["channel"] = self.channel.to_dict()
+        d["per_ci95"] = list(self.per_ci95)
+        d["false_accept_ci95"] = list(self.false_accept_ci95)
+        return d
+
+
+def match_frames(batch: Batch, decoded: list, time_map_us: np.ndarray) -> Counts:
+    """Return the tallies of ``decoded`` frames against the sent ``batch``.
+
+    ``time_map_us`` holds the window bounds (n + 1 values, output times) of the
+    transmissions: transmission i owns [time_map_us[i], time_map_us[i + 1]).
+    """
+    n = batch.n
+    got_any = np.zeros(n, bool)
+    got_ok = np.zeros(n, bool)
+    false_accepts = copies_ok = stray = stray_ok = 0
+    for fr in decoded:
+        i = int(np.searchsorted(time_map_us, fr.start_us, side="right")) - 1
+        if not 0 <= i < n:
+            stray += 1
+            stray_ok += int(fr.crc_ok)
+            continue
+        got_any[i] = True
+        if fr.crc_ok:
+            if fr.payload_hex == batch.payload_hex[i]:
+                got_ok[i] = True
+                copies_ok += 1
+            else:
+                false_accepts += 1
+    ok = int(got_ok.sum())
+    return Counts(
+        frames=n,
+        ok=ok,
+        lost_sync=int((~got_any).sum()),
+        bad_check=int((got_any & ~got_ok).sum()),
+        false_accepts=false_accepts,
+        copies_ok=copies_ok,
+        decoded=len(decoded),
+        stray_frames=stray,
+        stray_accepts=stray_ok,
+    )
+
+
+def _reference_decoder(spec: FrameSpec, train: PulseTrain) -> list:
+    from ..decode import decode
+
+    return decode(spec, train, include_bad=True)
+
+
+def run_chunk(
+    spec: FrameSpec,
+    channel: ChannelSpec,
+    n: int,
+    seed_seq: np.random.SeedSequence,
+    gap_us: float | None = None,
+    decoder: Decoder | None = None,
+) -> Counts:
+    """Return the tallies of one chunk: ``n`` random transmissions, one batch."""
+    rng = np.random.default_rng(seed_seq)
+    batch = random_batch(spec, n, rng, gap_us=gap_us)
+    rx = apply_channel(batch.train, channel, rng, burst_starts_us=batch.starts_us)
+    decoded = (decoder or _reference_decoder)(spec, rx)
+    half = batch.gap_us / 2
+    bounds = np.append(batch.starts_us - half, batch.ends_us[-1] + half)
+    bounds = channel_time_map_us(bounds, channel, batch.starts_us)
+    counts = match_frames(batch, decoded, bounds)
+    return counts + Counts(pulses=len(rx))
+
+
+def chunk_plan(n_frames: int, chunk_frames: int) -> list[int]:
+    """Return the number of transmissions in each chunk (all ``chunk_frames`` but the last)."""
+    if n_frames < 0 or chunk_frames < 1:
+        raise ValueError("n_frames must be >= 0 and chunk_frames >= 1")
+    full, rest = divmod(n_frames, chunk_frames)
+    return [chunk_frames] * full + ([rest] if rest else [])
+
+
+def run_chunks(
+    spec: FrameSpec,
+    channel: ChannelSpec,
+    n_frames: int,
+    *,
+    seed: int,
+    executor: Executor | None = None,
+    workers: int = 1,
+    chunk_frames: int = DEFAULT_CHUNK_FRAMES,
+    gap_us: float | None = None,
+    decoder: Decoder | None = None,
+    progress: Progress | None = None,
+) -> Counts:
+    """Return the summed tallies of all chunks of a run (see the module docstring)."""
+    plan = chunk_plan(n_frames, chunk_frames)
+    seqs = np.random.SeedSequence(seed).spawn(len(plan))
+    total = Counts()
+    for counts in _map_chunks(spec, channel, plan, seqs, executor, workers, gap_us, decoder):
+        total = total + counts
+        if progress is not None:
+            progress(counts.frames)
+    return total
+
+
+def _map_chunks(spec, channel, plan, seqs, executor, workers, gap_us, decoder) -> Iterator[Counts]:
+    args = [(spec, channel, n, s, gap_us, decoder) for n, s in zip(plan, seqs, strict=True)]
+    if executor is None and workers <= 1:
+        for a in args:
+            yield run_chunk(*a)
+        return
+    own = executor is None
+    pool = ProcessPoolExecutor(max_workers=workers) if own else executor
+    try:
+        futures = [pool.submit(run_chunk, *a) for a in args]
+        from concurrent.futures import as_completed
+
+        for fut in as_completed(futures):
+            yield fut.result()
+    finally:
+        if own:
+            pool.shutdown(cancel_futures=True)
+
+
+def run_stress(
+    spec: FrameSpec,
+    channel: ChannelSpec,
+    n_frames: int,
+    *,
+    seed: int = 0,
+    executor: Executor | None = None,
+    workers: int = 1,
+    chunk_frames: int = DEFAULT_CHUNK_FRAMES,
+    gap_us: float | None = None,
+    decoder: Decoder | None = None,
+    progress: Progress | None = None,
+) -> StressResult:
+    """Return the outcome of sending ``n_frames`` random transmissions of ``spec`` through
+    ``channel`` and the reference decoder (or ``decoder(spec, train)``, which must be
+    picklable for a process pool).
+
+    ``executor``: any ``concurrent.futures.Executor`` (e.g. ``Client.get_executor()`` of
+    Dask distributed); else a process pool of ``workers`` when ``workers > 1``, else
+    in-process. ``gap_us``: idle time between transmissions (default ``spec.gap_us``).
+    ``progress(k)`` is called as chunks of ``k`` transmissions finish. Same arguments ->
+    same result, whatever the executor or worker count.
+    """
+    t0 = time.perf_counter()
+    c = run_chunks(spec, channel, n_frames, seed=seed, executor=executor, workers=workers,
+                   chunk_frames=chunk_frames, gap_us=gap_us, decoder=decoder, progress=progress)
+    elapsed = time.perf_counter() - t0
+    n_copies = c.frames * spec.repeats
+    return StressResult(
+        spec_name=spec.name,
+        channel=channel,
+        seed=seed,
+        frames=c.frames,
+        ok=c.ok,
+        per=(1.0 - c.ok / c.frames) if c.frames else 0.0,
+        per_ci95=clopper_pearson(c.frames - c.ok, c.frames),
+        lost_sync=c.lost_sync,
+        bad_check=c.bad_check,
+        false_accepts=c.false_accepts,
+        false_accept_ci95=clopper_pearson(min(c.false_accepts, n_copies), n_copies),
+        copies_ok=c.copies_ok,
+        decoded=c.decoded,
+        stray_frames=c.stray_frames,
+        stray_accepts=c.stray_accepts,
+        pulses=c.pulses,
+        chunk_frames=chunk_frames,
+        elapsed_s=elapsed,
+        frames_per_s=c.frames / elapsed if elapsed > 0 else float("inf"),
+        workers=workers if executor is None else 0,
+    )
