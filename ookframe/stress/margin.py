@@ -1,0 +1,165 @@
+"""Tolerance margins: for each impairment alone, the largest value that keeps PER below a
+target, by bisection with the confidence interval taken into account."""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Sequence
+from concurrent.futures import Executor, ProcessPoolExecutor
+from dataclasses import dataclass
+
+from ..channel import SIGNED, ChannelSpec
+from ..errors import ValueRangeError
+from ..spec.model import FrameSpec
+from .runner import DEFAULT_CHUNK_FRAMES, StressResult, run_stress
+
+#: impairments searched by default
+MARGIN_IMPAIRMENTS: tuple[str, ...] = (
+    "jitter_us", "mark_bias_us", "clock_error_pct", "drift_pct_per_s", "quant_step_us",
+    "glitch_rate_per_ms", "dropout_prob",
+)
+
+
+def search_limit(spec: FrameSpec, name: str) -> float:
+    """Return the largest magnitude of impairment ``name`` searched for ``spec``."""
+    frame_s = _frame_s(spec)
+    return {
+        "jitter_us": spec.unit_us,
+        "mark_bias_us": spec.unit_us,
+        "clock_error_pct": 20.0,
+        "drift_pct_per_s": 20.0 / frame_s,  # 20 % off by the end of one transmission
+        "quant_step_us": spec.unit_us,
+        "glitch_rate_per_ms": 1000.0 / spec.unit_us,  # one per unit
+        "dropout_prob": 0.5,
+        "idle_noise_us": 10 * spec.gap_us,
+        "min_width_us": spec.unit_us,
+    }.get(name, spec.unit_us)
+
+
+def _frame_s(spec: FrameSpec) -> float:
+    from ..frame import encode
+    from ..layout import zero_values
+
+    return encode(spec, zero_values(spec)).total_us / 1e6
+
+
+@dataclass(frozen=True)
+class MarginRow:
+    """Result for one impairment in one direction (sign -1 for negative values).
+
+    limit: largest value found that passes (PER upper 95 % bound < target); status
+    "ok" (a pass/fail boundary was bracketed to ``resolution``), "beyond" (even the search
+    limit passes; limit = search limit), "fails-at-zero" (the base channel fails already).
+    """
+
+    impairment: str
+    sign: int
+    limit: float
+    first_fail: float | None
+    status: str
+    at_limit: StressResult | None
+
+
+@dataclass(frozen=True)
+class MarginResult:
+    """Margins of one spec against ``target_per`` (``n_frames`` per evaluation)."""
+
+    spec_name: str
+    target_per: float
+    n_frames: int
+    channel: ChannelSpec
+    rows: tuple[MarginRow, ...]
+
+    def to_dict(self) -> dict[str, object]:
+        """Return the margins as a JSON-ready dict."""
+        return {
+            "spec": self.spec_name,
+            "target_per": self.target_per,
+            "frames_per_point": self.n_frames,
+            "channel": self.channel.to_dict(),
+            "margins": [
+                {"impairment": r.impairment, "sign": r.sign, "limit": r.limit,
+                 "first_fail": r.first_fail, "status": r.status,
+                 "per_at_limit": r.at_limit.per if r.at_limit else None,
+                 "per_ci95_at_limit": list(r.at_limit.per_ci95) if r.at_limit else None}
+                for r in self.rows
+            ],
+        }
+
+
+def frames_needed(target_per: float) -> int:
+    """Return the fewest frames for which 0 errors can show PER < target at 95 %:
+    the Clopper-Pearson upper bound for k = 0 is 1 - 0.025^(1/n)."""
+    return math.ceil(math.log(0.025) / math.log1p(-target_per))
+
+
+def run_margin(
+    spec: FrameSpec,
+    target_per: float,
+    *,
+    channel: ChannelSpec | None = None,
+    impairments: Sequence[str] = MARGIN_IMPAIRMENTS,
+    n_frames: int | None = None,
+    resolution: float = 0.02,
+    seed: int = 0,
+    executor: Executor | None = None,
+    workers: int = 1,
+    chunk_frames: int = DEFAULT_CHUNK_FRAMES,
+    progress: Callable[[str], None] | None = None,
+) -> MarginResult:
+    """Return, for each impairment alone (added to ``channel``, default ideal), the largest
+    value whose PER upper 95 % bound stays below ``target_per``; signed impairments are
+    searched in both directions. Bisection assumes PER grows with the magnitude and
+    stops when the bracket is narrower than ``resolution`` * search limit; every point
+    uses the same seed (common random numbers)."""
+    if not 0 < target_per < 1:
+        raise ValueRangeError(f"target PER must be in (0, 1), got {target_per}")
+    base = channel or ChannelSpec()
+    need = frames_needed(target_per)
+    n = max(2 * need, 200) if n_frames is None else n_frames
+    if n < need:
+        raise ValueRangeError(
+            f"{n} frames cannot show PER < {target_per} at 95 %; use at least {need}"
+        )
+    own = executor is None and workers > 1
+    pool = ProcessPoolExecutor(max_workers=workers) if own else executor
+
+    def evaluate(name: str, value: float) -> StressResult:
+        return run_stress(spec, base.with_(**{name: value}), n, seed=seed, executor=pool,
+                          workers=workers, chunk_frames=chunk_frames)
+
+    def passes(r: StressResult) -> bool:
+        return r.per_ci95[1] < target_per
+
+    rows = []
+    try:
+        for name in impairments:
+            if progress is not None:
+                progress(name)
+            start = float(getattr(base, name))
+            for sign in ((1, -1) if name in SIGNED else (1,)):
+                rows.append(_bisect(name, sign, start, search_limit(spec, name), resolution,
+                                    evaluate, passes))
+    finally:
+        if own and pool is not None:
+            pool.shutdown()
+    return MarginResult(spec.name, target_per, n, base, tuple(rows))
+
+
+def _bisect(name, sign, start, limit, resolution, evaluate, passes) -> MarginRow:
+    at0 = evaluate(name, start)
+    if not passes(at0):
+        return MarginRow(name, sign, start, start, "fails-at-zero", None)
+    far = start + sign * limit
+    at_far = evaluate(name, far)
+    if passes(at_far):
+        return MarginRow(name, sign, far, None, "beyond", at_far)
+    good, good_r, bad = start, at0, far
+    while abs(bad - good) > resolution * limit:
+        mid = (good + bad) / 2
+        r = evaluate(name, mid)
+        if passes(r):
+            good, good_r = mid, r
+        else:
+            bad = mid
+    return MarginRow(name, sign, good, bad, "ok", good_r)

@@ -1,0 +1,35 @@
+"""Tests of ookframe.stress.margin: sample-size rule and bisection."""
+
+from __future__ import annotations
+
+import pytest
+
+from ookframe.errors import ValueRangeError
+from ookframe.stress.margin import frames_needed, run_margin
+from ookframe.stress.stats import clopper_pearson
+from tests.conftest import example_spec
+
+
+def test_frames_needed_is_the_zero_error_clopper_pearson_bound():
+    """n is the smallest count whose k = 0 upper bound 1 - 0.025^(1/n) (Clopper & Pearson
+    1934) is below the target."""
+    for target in (0.1, 0.01, 0.001):
+        n = frames_needed(target)
+        assert clopper_pearson(0, n)[1] < target <= clopper_pearson(0, n - 1)[1]
+
+
+def test_margin_brackets_a_boundary():
+    spec, _ = example_spec("hive_scale.toml")
+    r = run_margin(spec, 0.1, impairments=["jitter_us", "clock_error_pct"], n_frames=60,
+                   resolution=0.05, chunk_frames=30)
+    rows = {(x.impairment, x.sign): x for x in r.rows}
+    assert set(rows) == {("jitter_us", 1), ("clock_error_pct", 1), ("clock_error_pct", -1)}
+    j = rows[("jitter_us", 1)]
+    assert j.status == "ok" and 0 < j.limit < j.first_fail <= spec.unit_us
+    assert j.first_fail - j.limit <= 0.05 * spec.unit_us
+    assert j.at_limit is not None and j.at_limit.per_ci95[1] < 0.1
+    # the decoder's claimed ±5 % clock tolerance is inside the measured margin
+    assert rows[("clock_error_pct", 1)].limit >= 5.0
+    assert rows[("clock_error_pct", -1)].limit <= -5.0
+    with pytest.raises(ValueRangeError, match="at least"):
+        run_margin(spec, 0.01, n_frames=10)
