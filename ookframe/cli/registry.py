@@ -5,4 +5,9 @@ COMMANDS: tuple[str, ...] = (
     "cmd_encode",
     "cmd_decode",
     "cmd_demo",
+    "cmd_stress",
+    "cmd_noise",
+    "cmd_sweep",
+    "cmd_margin",
+    "cmd_vectors",
 )

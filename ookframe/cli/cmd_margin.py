@@ -1,0 +1,56 @@
+"""``ookframe margin``: the largest value of each impairment that keeps PER below a target."""
+
+from __future__ import annotations
+
+import argparse
+
+from rich.table import Table
+
+from ..stress.margin import MARGIN_IMPAIRMENTS, run_margin
+from . import common, exitcodes
+from .cmd_stress import add_channel_arguments, add_run_arguments, channel_from_args
+from .output import err, out, print_json, progress_enabled
+
+NAME = "margin"
+HELP = "largest value of each impairment alone with PER below a target (bisection, 95 % CI)"
+
+
+def add_arguments(p: argparse.ArgumentParser) -> None:
+    common.add_spec_argument(p)
+    p.add_argument("--target-per", type=float, default=0.01, help="PER target (default 0.01)")
+    p.add_argument("--frames", type=int, default=None,
+                   help="transmissions per evaluation (default: twice the fewest that can "
+                   "show the target at 95 %%)")
+    p.add_argument("--impairments", default=",".join(MARGIN_IMPAIRMENTS),
+                   help="comma-separated impairments to search")
+    p.add_argument("--resolution", type=float, default=0.02,
+                   help="bracket width as a fraction of the search range (default 0.02)")
+    add_channel_arguments(p, "ideal")
+    add_run_arguments(p)
+
+
+def run(args: argparse.Namespace) -> int:
+    spec, _ = common.load(args)
+    names = [n.strip() for n in args.impairments.split(",") if n.strip()]
+    show = progress_enabled(args)
+    r = run_margin(spec, args.target_per, channel=channel_from_args(args), impairments=names,
+                   n_frames=args.frames, resolution=args.resolution, seed=args.seed,
+                   workers=args.workers, chunk_frames=args.chunk_frames,
+                   progress=(lambda n: err.print(f"searching {n} ...")) if show else None)
+    failed = any(row.status == "fails-at-zero" for row in r.rows)
+    if args.json:
+        print_json(r.to_dict())
+        return exitcodes.FAILED if failed else 0
+    t = Table(title=f"{spec.name}: margins for PER < {args.target_per:g} "
+              f"({r.n_frames} frames per point, upper 95 % bound)")
+    for col in ("impairment", "largest passing", "first failing", "PER there [95 % CI]", "note"):
+        t.add_column(col, justify="left" if col in ("impairment", "note") else "right")
+    for row in r.rows:
+        at = row.at_limit
+        per = f"{at.per:.3g} [{at.per_ci95[0]:.3g}, {at.per_ci95[1]:.3g}]" if at else "-"
+        first = "-" if row.first_fail is None else f"{row.first_fail:.4g}"
+        note = {"ok": "", "beyond": "passes the whole search range",
+                "fails-at-zero": "fails already without it"}[row.status]
+        t.add_row(row.impairment, f"{row.limit:.4g}", first, per, note)
+    out.print(t)
+    return exitcodes.FAILED if failed else 0

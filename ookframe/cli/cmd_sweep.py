@@ -1,0 +1,53 @@
+"""``ookframe sweep``: PER against one impairment, several designs side by side."""
+
+from __future__ import annotations
+
+import argparse
+
+from rich.table import Table
+
+from ..spec.load import load_spec
+from ..stress.sweep import parse_vary, plot_sweep, run_sweep
+from .cmd_stress import add_channel_arguments, add_run_arguments, channel_from_args, progress_bar
+from .output import check_writable, err, out, print_json
+
+NAME = "sweep"
+HELP = "PER (with 95 % CI) against one impairment for one or more specs; table and plot"
+
+
+def add_arguments(p: argparse.ArgumentParser) -> None:
+    p.add_argument("specs", nargs="+", metavar="SPEC", help="frame spec files (TOML)")
+    p.add_argument("--vary", required=True, metavar="NAME=START:STOP:COUNT",
+                   help="impairment and grid, e.g. jitter_us=0:40:21 or mark_bias_us=-8,0,8")
+    p.add_argument("--frames", type=int, default=2000, help="transmissions per point")
+    p.add_argument("--plot", metavar="FILE", help="write a plot (.png, .svg, .pdf)")
+    p.add_argument("--force", action="store_true", help="overwrite an existing plot file")
+    add_channel_arguments(p, "ideal")
+    add_run_arguments(p)
+
+
+def run(args: argparse.Namespace) -> int:
+    name, values = parse_vary(args.vary)
+    specs = [load_spec(s) for s in args.specs]
+    if args.plot:
+        check_writable(args.plot, args.force)
+    ch = channel_from_args(args)
+    total = args.frames * len(values) * len(specs)
+    with progress_bar(args, total, "sweep") as tick:
+        res = run_sweep(specs, ch, name, values, args.frames, seed=args.seed,
+                        workers=args.workers, chunk_frames=args.chunk_frames, progress=tick)
+    if args.plot:
+        plot_sweep(res, args.plot)
+        err.print(f"wrote {args.plot}")
+    if args.json:
+        print_json(res.to_dict())
+        return 0
+    t = Table(title=f"PER vs {name} ({args.frames} frames per point)")
+    t.add_column(name, justify="right")
+    for s in res.specs:
+        t.add_column(f"{s} PER [95 % CI]", justify="right")
+    for k, v in enumerate(res.values):
+        t.add_row(f"{v:g}", *(f"{rows[k].per:.3g} [{rows[k].per_ci95[0]:.3g}, "
+                              f"{rows[k].per_ci95[1]:.3g}]" for rows in res.results))
+    out.print(t)
+    return 0
