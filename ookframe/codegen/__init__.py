@@ -1,0 +1,101 @@
+"""C code generation: a single C99 header per frame spec, timed in timer ticks.
+
+Python computes every value (tick quantisation, tables, shifts, masks) in
+:mod:`.model` / :mod:`.timing`; the Jinja2 templates in ``codegen_templates/`` place them.
+"""
+
+from __future__ import annotations
+
+import os
+from dataclasses import dataclass
+from pathlib import Path
+
+from ..errors import CodegenError
+from ..spec.model import FrameSpec
+from .model import CModel, build_model
+from .render import render_model
+from .schedule import Schedule, schedule_from_bits, tx_schedule
+from .timing import CRC_IMPLS, DEFAULT_PRESCALERS, TimerTarget, Timing
+
+
+@dataclass(frozen=True)
+class Emitted:
+    """A rendered header: file name, text and the model it came from (for the report)."""
+
+    filename: str
+    text: str
+    model: CModel
+
+    @property
+    def timing(self) -> Timing:
+        """The tick quantisation used."""
+        return self.model.timing
+
+    def report(self) -> dict[str, object]:
+        """Return the emit report as plain data (JSON-ready)."""
+        m = self.model
+        t = m.timing
+        return {
+            "header": self.filename,
+            "prefix": m.prefix,
+            "spec_sha256": m.spec_hash,
+            "clock_hz": t.clock_hz,
+            "timer_bits": t.timer_bits,
+            "prescaler": t.prescaler,
+            "timer_hz": t.timer_hz,
+            "tick_us": t.tick_us,
+            "ticks_type": m.ticks_type,
+            "max_pulse_ticks": m.max_pulse_ticks,
+            "worst_error_pct": 100.0 * t.worst_error,
+            "tolerance_pct": 100.0 * t.tolerance,
+            "crc_impl": m.target.crc_impl if m.spec.check.kind == "crc" else None,
+            "durations": t.table(),
+            "max_frame_bits": m.max_frame_bits,
+        }
+
+
+def emit_header(spec: FrameSpec, target: TimerTarget | None = None) -> Emitted:
+    """Return the generated header for ``spec`` (CodegenError when it cannot be made)."""
+    model = build_model(spec, target)
+    return Emitted(f"{spec.name}.h", render_model(model), model)
+
+
+def write_header(emitted: Emitted, out_dir: str | os.PathLike[str], *, force: bool = False
+                 ) -> Path:
+    """Write ``emitted`` into ``out_dir`` and return its path.
+
+    Refuses (CodegenError) to replace an existing file unless ``force``; writes through a
+    temporary file so an error never leaves a half-written header.
+    """
+    d = Path(out_dir)
+    if d.exists() and not d.is_dir():
+        raise CodegenError(f"output {d} exists and is not a directory")
+    target = d / emitted.filename
+    if target.exists() and not force:
+        raise CodegenError(f"{target} exists; use --force to overwrite it")
+    try:
+        d.mkdir(parents=True, exist_ok=True)
+        tmp = d / f".{emitted.filename}.tmp{os.getpid()}"
+        tmp.write_text(emitted.text, encoding="utf-8", newline="\n")
+        os.replace(tmp, target)
+    except OSError as exc:
+        if "tmp" in locals():
+            tmp.unlink(missing_ok=True)
+        raise CodegenError(f"cannot write {target}: {exc.strerror or exc}") from exc
+    return target
+
+
+__all__ = [
+    "CRC_IMPLS",
+    "DEFAULT_PRESCALERS",
+    "CModel",
+    "Emitted",
+    "Schedule",
+    "TimerTarget",
+    "Timing",
+    "build_model",
+    "emit_header",
+    "schedule_from_bits",
+    "tx_schedule",
+    "write_header",
+]
