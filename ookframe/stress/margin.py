@@ -5,13 +5,13 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable, Sequence
-from concurrent.futures import Executor, ProcessPoolExecutor
+from concurrent.futures import Executor
 from dataclasses import dataclass
 
 from ..channel import SIGNED, ChannelSpec
 from ..errors import ValueRangeError
 from ..spec.model import FrameSpec
-from .runner import DEFAULT_CHUNK_FRAMES, StressResult, run_stress
+from .runner import DEFAULT_CHUNK_FRAMES, StressResult, pool_for, run_stress
 
 #: impairments searched by default
 MARGIN_IMPAIRMENTS: tuple[str, ...] = (
@@ -121,18 +121,17 @@ def run_margin(
         raise ValueRangeError(
             f"{n} frames cannot show PER < {target_per} at 95 %; use at least {need}"
         )
-    own = executor is None and workers > 1
-    pool = ProcessPoolExecutor(max_workers=workers) if own else executor
-
-    def evaluate(name: str, value: float) -> StressResult:
-        return run_stress(spec, base.with_(**{name: value}), n, seed=seed, executor=pool,
-                          workers=workers, chunk_frames=chunk_frames)
 
     def passes(r: StressResult) -> bool:
         return r.per_ci95[1] < target_per
 
     rows = []
-    try:
+    with pool_for(executor, workers) as pool:
+
+        def evaluate(name: str, value: float) -> StressResult:
+            return run_stress(spec, base.with_(**{name: value}), n, seed=seed, executor=pool,
+                              chunk_frames=chunk_frames)
+
         for name in impairments:
             if progress is not None:
                 progress(name)
@@ -140,9 +139,6 @@ def run_margin(
             for sign in ((1, -1) if name in SIGNED else (1,)):
                 rows.append(_bisect(name, sign, start, search_limit(spec, name), resolution,
                                     evaluate, passes))
-    finally:
-        if own and pool is not None:
-            pool.shutdown()
     return MarginResult(spec.name, target_per, n, base, tuple(rows))
 
 

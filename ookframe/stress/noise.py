@@ -4,14 +4,14 @@ from __future__ import annotations
 
 import time
 from collections.abc import Callable
-from concurrent.futures import Executor, ProcessPoolExecutor, as_completed
+from concurrent.futures import Executor
 from dataclasses import dataclass, field
 
 import numpy as np
 
 from ..channel import idle_noise_train
 from ..spec.model import FrameSpec
-from .runner import Decoder, _reference_decoder
+from .runner import Decoder, _reference_decoder, map_unordered, pool_for
 from .stats import poisson_ci
 from .theory import expected_false_frames_per_hour
 
@@ -83,27 +83,13 @@ def run_noise(
     args = [(spec, s * 1e6, mean_us, q, decoder) for s, q in zip(plan, seqs, strict=True)]
     t0 = time.perf_counter()
     pulses = hits = passing = 0
-
-    def add(got: tuple[int, int, int], seconds: float) -> None:
-        nonlocal pulses, hits, passing
-        pulses += got[0]
-        hits += got[1]
-        passing += got[2]
-        if progress is not None:
-            progress(seconds)
-
-    if executor is None and workers <= 1:
-        for a in args:
-            add(noise_chunk(*a), a[1] / 1e6)
-    else:
-        pool = executor or ProcessPoolExecutor(max_workers=workers)
-        try:
-            futs = {pool.submit(noise_chunk, *a): a[1] / 1e6 for a in args}
-            for fut in as_completed(futs):
-                add(fut.result(), futs[fut])
-        finally:
-            if executor is None:
-                pool.shutdown(cancel_futures=True)
+    with pool_for(executor, workers) as pool:
+        for k, got in map_unordered(noise_chunk, args, pool):
+            pulses += got[0]
+            hits += got[1]
+            passing += got[2]
+            if progress is not None:
+                progress(plan[k])
     exp_hits, exp_pass = expected_false_frames_per_hour(spec)
     lo_h, hi_h = poisson_ci(hits)
     lo_p, hi_p = poisson_ci(passing)

@@ -13,9 +13,11 @@ before it to half a gap after it).
 from __future__ import annotations
 
 import time
-from collections.abc import Callable, Iterator
-from concurrent.futures import Executor, ProcessPoolExecutor
+from collections.abc import Callable, Iterator, Sequence
+from concurrent.futures import Executor, ProcessPoolExecutor, as_completed
+from contextlib import contextmanager
 from dataclasses import dataclass, field, fields
+from typing import TypeVar
 
 import numpy as np
 
@@ -27,6 +29,7 @@ from .stats import clopper_pearson
 
 DEFAULT_CHUNK_FRAMES = 500
 
+T = TypeVar("T")
 Decoder = Callable[[FrameSpec, PulseTrain], list]
 Progress = Callable[[int], None]
 
@@ -166,47 +169,31 @@ def chunk_plan(n_frames: int, chunk_frames: int) -> list[int]:
     return [chunk_frames] * full + ([rest] if rest else [])
 
 
-def run_chunks(
-    spec: FrameSpec,
-    channel: ChannelSpec,
-    n_frames: int,
-    *,
-    seed: int,
-    executor: Executor | None = None,
-    workers: int = 1,
-    chunk_frames: int = DEFAULT_CHUNK_FRAMES,
-    gap_us: float | None = None,
-    decoder: Decoder | None = None,
-    progress: Progress | None = None,
-) -> Counts:
-    """Return the summed tallies of all chunks of a run (see the module docstring)."""
-    plan = chunk_plan(n_frames, chunk_frames)
-    seqs = np.random.SeedSequence(seed).spawn(len(plan))
-    total = Counts()
-    for counts in _map_chunks(spec, channel, plan, seqs, executor, workers, gap_us, decoder):
-        total = total + counts
-        if progress is not None:
-            progress(counts.frames)
-    return total
-
-
-def _map_chunks(spec, channel, plan, seqs, executor, workers, gap_us, decoder) -> Iterator[Counts]:
-    args = [(spec, channel, n, s, gap_us, decoder) for n, s in zip(plan, seqs, strict=True)]
-    if executor is None and workers <= 1:
-        for a in args:
-            yield run_chunk(*a)
+@contextmanager
+def pool_for(executor: Executor | None, workers: int) -> Iterator[Executor | None]:
+    """Yield ``executor``, else a process pool of ``workers`` (shut down afterwards) when
+    ``workers > 1``, else None (run in this process)."""
+    if executor is not None or workers <= 1:
+        yield executor
         return
-    own = executor is None
-    pool = ProcessPoolExecutor(max_workers=workers) if own else executor
+    pool = ProcessPoolExecutor(max_workers=workers)
     try:
-        futures = [pool.submit(run_chunk, *a) for a in args]
-        from concurrent.futures import as_completed
-
-        for fut in as_completed(futures):
-            yield fut.result()
+        yield pool
     finally:
-        if own:
-            pool.shutdown(cancel_futures=True)
+        pool.shutdown(cancel_futures=True)
+
+
+def map_unordered(
+    fn: Callable[..., T], arg_tuples: Sequence[tuple], pool: Executor | None
+) -> Iterator[tuple[int, T]]:
+    """Yield (index, fn(*args)) for every argument tuple, in completion order."""
+    if pool is None:
+        for k, a in enumerate(arg_tuples):
+            yield k, fn(*a)
+        return
+    futures = {pool.submit(fn, *a): k for k, a in enumerate(arg_tuples)}
+    for fut in as_completed(futures):
+        yield futures[fut], fut.result()
 
 
 def run_stress(
@@ -233,8 +220,15 @@ def run_stress(
     same result, whatever the executor or worker count.
     """
     t0 = time.perf_counter()
-    c = run_chunks(spec, channel, n_frames, seed=seed, executor=executor, workers=workers,
-                   chunk_frames=chunk_frames, gap_us=gap_us, decoder=decoder, progress=progress)
+    plan = chunk_plan(n_frames, chunk_frames)
+    seqs = np.random.SeedSequence(seed).spawn(len(plan))
+    args = [(spec, channel, n, q, gap_us, decoder) for n, q in zip(plan, seqs, strict=True)]
+    c = Counts()
+    with pool_for(executor, workers) as pool:
+        for _, counts in map_unordered(run_chunk, args, pool):
+            c = c + counts  # integer sums: the order of completion does not matter
+            if progress is not None:
+                progress(counts.frames)
     elapsed = time.perf_counter() - t0
     n_copies = c.frames * spec.repeats
     return StressResult(

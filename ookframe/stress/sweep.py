@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from collections.abc import Callable, Sequence
-from concurrent.futures import Executor, ProcessPoolExecutor
+from concurrent.futures import Executor
 from dataclasses import dataclass
 
 import numpy as np
@@ -11,7 +11,7 @@ import numpy as np
 from ..channel import ChannelSpec, impairment_names
 from ..errors import ValueRangeError
 from ..spec.model import FrameSpec
-from .runner import DEFAULT_CHUNK_FRAMES, StressResult, run_stress
+from .runner import DEFAULT_CHUNK_FRAMES, StressResult, pool_for, run_stress
 
 
 def parse_vary(text: str) -> tuple[str, tuple[float, ...]]:
@@ -86,21 +86,15 @@ def run_sweep(
         raise ValueRangeError(
             f"unknown impairment {parameter!r}; allowed: {', '.join(impairment_names())}"
         )
-    own = executor is None and workers > 1
-    pool = ProcessPoolExecutor(max_workers=workers) if own else executor
-    try:
+    with pool_for(executor, workers) as pool:
         results = tuple(
             tuple(
                 run_stress(spec, channel.with_(**{parameter: float(v)}), n_frames, seed=seed,
-                           executor=pool, workers=workers, chunk_frames=chunk_frames,
-                           progress=progress)
+                           executor=pool, chunk_frames=chunk_frames, progress=progress)
                 for v in values
             )
             for spec in specs
         )
-    finally:
-        if own and pool is not None:
-            pool.shutdown()
     return SweepResult(parameter, tuple(float(v) for v in values),
                        tuple(s.name for s in specs), channel, results)
 
