@@ -8,6 +8,7 @@ from __future__ import annotations
 
 __version__ = "0.1.0"
 
+from .channel import PRESETS, ChannelSpec, apply_channel, get_preset
 from .checks import CATALOGUE, Crc, make_check
 from .errors import CaptureError, CodegenError, OokframeError, SpecError, ValueRangeError
 from .frame import (
@@ -35,9 +36,14 @@ from .spec.model import (
     SyncSpec,
     WhiteningSpec,
 )
+from .stress import NoiseResult, StressResult, run_noise, run_stress
 from .whitening import lfsr_bits, whiten
 
 __all__ = [
+    "StressResult",
+    "NoiseResult",
+    "PRESETS",
+    "ChannelSpec",
     "__version__",
     "CATALOGUE",
     "CaptureError",
@@ -72,6 +78,10 @@ __all__ = [
     "parse_frame",
     "random_values",
     "spec_from_dict",
+    "apply_channel",
+    "get_preset",
+    "run_noise",
+    "run_stress",
     "values_equal",
     "whiten",
 ]
