@@ -10,4 +10,6 @@ COMMANDS: tuple[str, ...] = (
     "cmd_sweep",
     "cmd_margin",
     "cmd_vectors",
+    "cmd_syncword",
+    "cmd_crc_strength",
 )
