@@ -3,3 +3,37 @@
 Each module is a pure engine over the frame spec (or plain numbers); the CLI commands and
 the ``check`` design report format their results.
 """
+
+from .check_strength import CheckStrength, alternatives, check_strength, covered_bits
+from .crc_strength import (
+    CrcStrength,
+    HdReach,
+    crc_strength,
+    hd_reach,
+    koopman_to_normal,
+    normal_to_koopman,
+)
+from .linecode_stats import LineCodeStats, chip_stats, frame_stats
+from .report import design_report
+from .syncword import SyncQuality, search_sync_words, spec_sync_quality, sync_quality
+
+__all__ = [
+    "CheckStrength",
+    "CrcStrength",
+    "HdReach",
+    "LineCodeStats",
+    "SyncQuality",
+    "alternatives",
+    "check_strength",
+    "chip_stats",
+    "covered_bits",
+    "crc_strength",
+    "design_report",
+    "frame_stats",
+    "hd_reach",
+    "koopman_to_normal",
+    "normal_to_koopman",
+    "search_sync_words",
+    "spec_sync_quality",
+    "sync_quality",
+]
