@@ -10,6 +10,8 @@ COMMANDS: tuple[str, ...] = (
     "cmd_sweep",
     "cmd_margin",
     "cmd_vectors",
+    "cmd_airtime",
+    "cmd_plot",
     "cmd_syncword",
     "cmd_crc_strength",
 )

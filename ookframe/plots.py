@@ -1,0 +1,127 @@
+"""Figures of a frame design (matplotlib, Agg): timing diagram and baseband PSD as PNG bytes.
+
+Figures are built with the object-oriented API (``matplotlib.figure.Figure``), so no global
+pyplot state or interactive backend is touched.
+"""
+
+from __future__ import annotations
+
+import io
+from collections.abc import Mapping
+
+import numpy as np
+from matplotlib.figure import Figure
+
+from .frame import body_bits, field_bits, frame_chips, head_bits, raw_values
+from .linecodes import get_line_code
+from .spec.model import FrameSpec
+
+_COLOURS = {"preamble": "tab:blue", "sync": "tab:orange", "fields": "tab:green",
+            "check": "tab:red"}
+#: bits of the body shown after the sync in the zoomed panel of the timing diagram
+ZOOM_BODY_BITS = 24
+
+
+class _OnAir:
+    """On-air bits of one frame (after stuffing) and how many chips any prefix of them takes."""
+
+    def __init__(self, spec: FrameSpec, values: Mapping[str, object]) -> None:
+        self.lc = get_line_code(spec.line_code)
+        body = body_bits(spec, values)
+        n_fields = field_bits(spec, raw_values(spec, values)).size
+        stuffed = self.lc.stuff(body)
+        self.n_head = spec.preamble.length_bits + spec.sync.length_bits
+        self.n_fields = self.lc.stuff(body[:n_fields]).size if n_fields else 0
+        self.bits = np.concatenate((head_bits(spec), stuffed))
+        self.n_chips = self.lc.encode(self.bits).size
+        self._lead = self.lc.encode(np.zeros(0, np.uint8)).size  # e.g. an appended stop mark
+
+    def chips_before(self, n_bits: int) -> int:
+        """Chips sent before on-air bit ``n_bits`` (a partial block at the code's fixed rate)."""
+        if n_bits >= self.bits.size:
+            return self.n_chips
+        if n_bits % self.lc.bits_per_block:
+            return round(n_bits * self.lc.units_per_bit)
+        return self.lc.encode(self.bits[:n_bits]).size - self._lead
+
+
+def section_spans_us(spec: FrameSpec, values: Mapping[str, object]) -> list[tuple[str, float, float]]:
+    """Return (section, start_us, stop_us) of preamble, sync, fields and check on air.
+
+    Bit stuffing is counted with the section whose bits caused it; a stop mark the line code
+    appends belongs to the last section. Empty sections are left out.
+    """
+    air = _OnAir(spec, values)
+    stops = [spec.preamble.length_bits, air.n_head, air.n_head + air.n_fields]
+    edges = [0] + [air.chips_before(b) for b in stops] + [air.n_chips]
+    return [(name, a * spec.unit_us, b * spec.unit_us)
+            for name, a, b in zip(("preamble", "sync", "fields", "check"), edges[:-1], edges[1:],
+                                  strict=True) if b > a]
+
+
+def _draw_levels(ax, chips: np.ndarray, unit_us: float, spans, stop_us: float) -> None:
+    n = min(chips.size, int(np.ceil(stop_us / unit_us - 1e-9)))
+    t = np.arange(n + 1) * unit_us
+    lv = np.append(chips[:n], chips[n - 1]).astype(float)
+    ax.step(t, lv, where="post", color="black", linewidth=1.0)
+    ax.fill_between(t, lv, step="post", color="0.6", alpha=0.5)
+    for name, a, b in spans:
+        if a >= t[-1]:
+            continue
+        b = min(b, t[-1])
+        ax.axvspan(a, b, color=_COLOURS[name], alpha=0.15, linewidth=0)
+        if b - a > 0.04 * t[-1]:  # label only spans wide enough to hold it
+            ax.text((a + b) / 2, 1.12, name, ha="center", va="bottom", fontsize=8,
+                    color=_COLOURS[name])
+    ax.set_xlim(0, t[-1])
+    ax.set_ylim(-0.15, 1.35)
+    ax.set_yticks([0, 1], ["space", "mark"])
+    ax.set_xlabel("time (µs)")
+
+
+def timing_figure(spec: FrameSpec, values: Mapping[str, object]) -> Figure:
+    """Return a two-panel timing diagram: the whole first frame, and its start (preamble,
+    sync and the first body bits) chip by chip; levels against µs, sections shaded."""
+    chips = frame_chips(spec, values)
+    spans = section_spans_us(spec, values)
+    frame_us = chips.size * spec.unit_us
+    air = _OnAir(spec, values)
+    zoom_us = air.chips_before(air.n_head + ZOOM_BODY_BITS) * spec.unit_us
+    fig = Figure(figsize=(11, 5.5), layout="constrained")
+    top, bottom = fig.subplots(2, 1)
+    _draw_levels(top, chips, spec.unit_us, spans, frame_us)
+    top.set_title(f"{spec.name}: one frame, {spec.line_code.name}, unit {spec.unit_us:g} µs, "
+                  f"{frame_us / 1000:.2f} ms (x{spec.repeats} per transmission)", fontsize=10)
+    _draw_levels(bottom, chips, spec.unit_us, spans, zoom_us)
+    bottom.set_title(f"start of the frame: first {zoom_us / 1000:.2f} ms", fontsize=10)
+    return fig
+
+
+def psd_figure(spec: FrameSpec, rng: np.random.Generator) -> Figure:
+    """Return the baseband PSD (dB relative to its peak against kHz) with the 99 % bandwidth."""
+    from .analysis.spectrum import baseband_psd, occupied_bandwidth_hz
+
+    b99_hz = occupied_bandwidth_hz(spec, rng)
+    f_hz, psd = baseband_psd(spec, rng, max_freq_hz=max(1.5 * b99_hz, 4e6 / spec.unit_us))
+    db = 10.0 * np.log10(np.maximum(psd / psd.max(), 1e-12))
+    fig = Figure(figsize=(10, 4.5), layout="constrained")
+    ax = fig.subplots()
+    ax.plot(f_hz / 1e3, db, color="tab:blue", linewidth=0.8)
+    ax.axvline(b99_hz / 1e3, color="tab:red", linestyle="--", linewidth=1.0)
+    ax.text(b99_hz / 1e3, -5, f" 99 % bandwidth {b99_hz / 1e3:.1f} kHz", color="tab:red",
+            ha="left", va="top", fontsize=9)
+    ax.set_xlim(0, f_hz[-1] / 1e3)
+    ax.set_ylim(-60, 3)
+    ax.set_xlabel("frequency (kHz), one-sided baseband")
+    ax.set_ylabel("PSD (dB re peak)")
+    ax.set_title(f"{spec.name}: keyed baseband PSD, AC part (DC line removed), random payloads, "
+                 "ideal rectangular keying", fontsize=10)
+    ax.grid(True, alpha=0.3)
+    return fig
+
+
+def figure_png(fig: Figure, dpi: int = 110) -> bytes:
+    """Return the figure rendered as PNG bytes."""
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png", dpi=dpi)
+    return buf.getvalue()
