@@ -287,6 +287,8 @@ def _check_model(spec: FrameSpec, crc_impl: str) -> dict[str, object]:
         "name": crc.name or "custom",
         "describe": crc.describe(),
         "type": ctype, "type_bits": tbits,
+        # narrow registers are promoted to int; work on them as unsigned
+        "W": "(unsigned)" if tbits <= 16 else "",
         "refin": crc.refin, "refout": crc.refout,
         "poly": uint_literal(crc.poly, tbits),
         "init_reg": uint_literal(reflect(crc.init, w) if crc.refin else crc.init, tbits),
@@ -320,7 +322,8 @@ def _whitening_model(spec: FrameSpec) -> dict[str, object]:
     return {"on": True, "fields": "fields" in w.covers,
             "check": "check" in w.covers and spec.check.width_bits > 0,
             "type": ltype, "poly": uint_literal(w.poly, tbits), "seed": uint_literal(w.seed, tbits),
-            "width": w.width, "folds": folds, "kind": w.kind}
+            "width": w.width, "top_shift": w.width - 1, "folds": folds, "kind": w.kind,
+            "W": "(unsigned)" if tbits <= 16 else ""}
 
 
 def build_model(spec: FrameSpec, target: TimerTarget | None = None) -> CModel:
