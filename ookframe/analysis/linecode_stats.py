@@ -31,10 +31,12 @@ from __future__ import annotations
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from fractions import Fraction
+from functools import lru_cache
 
 import numpy as np
 
 from ..linecodes import LineCode, get_line_code
+from ..pulses import chips_to_runs
 from ..spec.model import FrameSpec
 
 Chips = tuple[int, ...]
@@ -189,14 +191,10 @@ def _arcs(machine: ChipMachine, stuff: Stuffer | None, state: tuple[int, int], v
     return _Arc(c, (m, t))
 
 
+@lru_cache(maxsize=4096)
 def _runs_of(chips: Chips) -> list[int]:
-    runs = [1]
-    for a, b in zip(chips, chips[1:], strict=False):
-        if a == b:
-            runs[-1] += 1
-        else:
-            runs.append(1)
-    return runs
+    """Run lengths of a (non-empty) chip tuple."""
+    return chips_to_runs(np.array(chips, np.uint8))[1].tolist()
 
 
 def _max_run(machine: ChipMachine, stuff: Stuffer | None, steps: Sequence[_Step]) -> int:
