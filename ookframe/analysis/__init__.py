@@ -1,14 +1,15 @@
 """Design analysis: CRC strength, sync-word quality, line-code bounds, spectrum, airtime.
 
 Each module is a pure engine over the frame spec (or plain numbers); the CLI commands and
-the ``check`` design report format their results.
+the ``check`` design report format their results. The functions named like their modules
+(``crc_strength.crc_strength``, ``check_strength.check_strength``) are imported from the
+module, so that the module names stay importable from here.
 """
 
-from .check_strength import CheckStrength, alternatives, check_strength, covered_bits
+from .check_strength import CheckStrength, alternatives, covered_bits
 from .crc_strength import (
     CrcStrength,
     HdReach,
-    crc_strength,
     hd_reach,
     koopman_to_normal,
     normal_to_koopman,
@@ -24,10 +25,8 @@ __all__ = [
     "LineCodeStats",
     "SyncQuality",
     "alternatives",
-    "check_strength",
     "chip_stats",
     "covered_bits",
-    "crc_strength",
     "design_report",
     "frame_stats",
     "hd_reach",

@@ -20,6 +20,8 @@ NAME = "crc-strength"
 HELP = ("Hamming distance of a CRC polynomial at a data length, and the longest data word "
         "for each HD from 2 to 6")
 DEFAULT_DATA_BITS = 1024
+#: error-pattern combinations one weight may examine here (the design report uses less)
+DEFAULT_MAX_WORK = 250_000_000
 
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
@@ -31,6 +33,9 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    help="--poly is in Koopman's notation (x^W as top bit, +1 implied: 0x8810)")
     p.add_argument("--data-bits", type=int, default=DEFAULT_DATA_BITS, metavar="N",
                    help=f"data word length for the HD (default {DEFAULT_DATA_BITS})")
+    p.add_argument("--max-work", type=int, default=DEFAULT_MAX_WORK, metavar="K",
+                   help="most error-pattern combinations examined per weight; beyond, the HD "
+                   f"is given as a lower bound (default {DEFAULT_MAX_WORK:_})")
     common.add_json_argument(p)
 
 
@@ -45,7 +50,7 @@ def run(args: argparse.Namespace) -> int:
     poly = _int(args.poly, "--poly")
     if args.koopman:
         poly = koopman_to_normal(poly, args.width)
-    s = crc_strength(args.width, poly, args.data_bits)
+    s = crc_strength(args.width, poly, args.data_bits, max_work=args.max_work)
     if args.json:
         print_json(s.as_dict())
         return 0
