@@ -100,3 +100,14 @@ def test_console_script_no_traceback(tmp_path):
                        capture_output=True, text=True, timeout=60)
     assert r.returncode == exitcodes.BAD_SPEC
     assert "Traceback" not in r.stderr and "required" in r.stderr
+
+
+def test_every_command_has_working_help(capsys):
+    """Help text of every registered command renders (argparse formats '%' in help)."""
+    from ookframe.cli.main import build_parser
+
+    _, table = build_parser()
+    assert {"check", "encode", "decode", "demo"} <= set(table)
+    for name in table:
+        assert main([name, "--help"]) == 0
+        assert name in capsys.readouterr().out

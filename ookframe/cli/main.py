@@ -31,7 +31,8 @@ def build_parser() -> tuple[argparse.ArgumentParser, dict[str, ModuleType]]:
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
     table: dict[str, ModuleType] = {}
     for mod in _modules():
-        p = sub.add_parser(mod.NAME, help=mod.HELP, description=mod.HELP)
+        text = mod.HELP.replace("%", "%%")  # argparse formats help strings with %
+        p = sub.add_parser(mod.NAME, help=text, description=text)
         mod.add_arguments(p)
         table[mod.NAME] = mod
     return parser, table
