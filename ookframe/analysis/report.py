@@ -19,7 +19,7 @@ one engine of this package:
 
 from __future__ import annotations
 
-from ..cli.output import REGULATORY_CAUTION
+from ..cautions import REGULATORY_CAUTION
 from ..spec.model import FrameSpec
 from .check_strength import (
     DEFAULT_BER,

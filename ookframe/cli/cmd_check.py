@@ -9,7 +9,7 @@ from rich.table import Table
 from ..layout import frame_layout
 from ..linecodes import get_line_code
 from . import common
-from .output import REGULATORY_CAUTION, err, out, print_json
+from .output import err, out, print_json
 
 NAME = "check"
 HELP = "validate a spec; print the frame layout, timing, airtime and design report"
@@ -17,6 +17,8 @@ HELP = "validate a spec; print the frame layout, timing, airtime and design repo
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
     common.add_spec_argument(p)
+    p.add_argument("--ber", type=float, default=1e-4,
+                   help="bit-error rate for the undetected-error figure (default 1e-4)")
     common.add_json_argument(p)
 
 
@@ -42,11 +44,15 @@ def layout_dict(spec, lay) -> dict:
 
 
 def run(args: argparse.Namespace) -> int:
+    from ..analysis.report import design_report
+
     spec, defaults = common.load(args)
     lay = frame_layout(spec)
     info = layout_dict(spec, lay)
+    report = design_report(spec, ber=args.ber)
+    info["airtime_for_zero_values_us"] = info.pop("airtime_us")
+    info.update(report)
     if args.json:
-        info["cautions"] = [REGULATORY_CAUTION]
         print_json(info)
         return 0
     err.print(f"spec '{spec.name}' is valid")
@@ -59,8 +65,36 @@ def run(args: argparse.Namespace) -> int:
     t.add_row("frame", str(sum(r.bits for r in lay.rows)), str(round(lay.frame_us / spec.unit_us)),
               f"{lay.frame_us:.1f}", "")
     out.print(t)
-    note = " (for all-zero field values; length depends on the data)" if lay.data_dependent else ""
+    note = " (for all-zero field values)" if lay.data_dependent else ""
     out.print(f"airtime of one transmission: {lay.airtime_us / 1000:.2f} ms = {lay.repeats} x "
-              f"{lay.frame_us / 1000:.2f} ms + {lay.repeats - 1} gap(s) of {lay.gap_us / 1000:.2f} ms{note}")
-    out.print(f"[yellow]caution:[/yellow] {REGULATORY_CAUTION}")
+              f"{lay.frame_us / 1000:.2f} ms + {lay.repeats - 1} gap(s) of {lay.gap_us / 1000:.2f} ms{note}; "
+              f"longest over all payloads {report['airtime_us'] / 1000:.2f} ms")
+    out.print(_report_table(report))
+    for c in report["cautions"]:
+        out.print(f"[yellow]caution:[/yellow] {c}", markup=True)
     return 0
+
+
+def _report_table(r: dict) -> Table:
+    lc, sy, ck = r["line_code"], r["sync"], r["check"]
+    t = Table(title="design report", show_header=True)
+    t.add_column("figure")
+    t.add_column("value", justify="right")
+    t.add_column("note")
+    exact = "exact" if lc["exact"] else "bound: " + "; ".join(lc["bounded"])
+    t.add_row("line code efficiency", f"{lc['efficiency']:.3f}", "data bits per symbol unit")
+    t.add_row("longest run", f"{lc['max_run_units']} units", exact)
+    t.add_row("mark fraction", f"{lc['mark_fraction'][0]:.3f} .. {lc['mark_fraction'][1]:.3f}", exact)
+    t.add_row("transitions per bit (min)", f"{lc['min_transitions_per_bit']:.3f}", exact)
+    t.add_row("sync max sidelobe", str(sy["max_sidelobe"]), f"word {sy['word']}, {sy['n_bits']} bits")
+    t.add_row("sync distance to preamble", str(sy["min_distance_to_preamble"]),
+              f"{sy['max_errors']} bit error(s) allowed")
+    t.add_row("false syncs per hour on noise", f"{sy['false_syncs_per_hour_on_noise']:.3g}",
+              "random bits at the spec's bit rate")
+    hd = f"{ck['hd']}" if ck["hd_exact"] else f">= {ck['hd']}"
+    t.add_row("check", f"{ck['name'] or ck['kind']}", f"{ck['data_bits']} covered bits")
+    t.add_row("Hamming distance", hd, "at this frame's covered length")
+    t.add_row("P(undetected) per frame", f"{ck['undetected_per_frame_at_ber']:.3g}", f"at BER {ck['ber']:g}")
+    if r["bandwidth_hz"] is not None:
+        t.add_row("99 % bandwidth", f"{r['bandwidth_hz'] / 1000:.2f} kHz", "one-sided baseband, ideal keying")
+    return t

@@ -12,17 +12,13 @@ from typing import Any
 
 from rich.console import Console
 
+from ..cautions import REGULATORY_CAUTION  # noqa: F401 - re-exported for commands
 from ..errors import OokframeError
 
 #: data goes to stdout, messages to stderr
 out = Console(highlight=False, soft_wrap=True)
 err = Console(stderr=True, highlight=False, soft_wrap=True)
 
-REGULATORY_CAUTION = (
-    "Airtime, power and duty-cycle figures are estimates. Radio rules differ by region and "
-    "change over time: check your local regulations and certification requirements before "
-    "transmitting."
-)
 
 
 class OutputExists(OokframeError):
