@@ -33,7 +33,7 @@ from functools import lru_cache
 import numpy as np
 
 from ..errors import ValueRangeError
-from ..frame import head_bits, max_body_bits
+from ..frame import head_bits
 from ..linecodes import get_line_code
 from ..spec.model import FrameSpec
 from .regions import REGIONS, Finding, check_region, usage
@@ -138,17 +138,12 @@ class AirtimeReport:
 def max_frame_us(spec: FrameSpec) -> float:
     """Return an upper bound in µs on one frame's duration over all payloads.
 
-    Longest bytes field, most stuffed bits the line code can add, and every body bit at the
-    longer of its two symbols (all-zero or all-one body, whichever is longer); exact for
-    codes whose frame length does not depend on the data.
+    From the exact worst-case chip count of :func:`.linecode_stats.frame_stats` (longest
+    bytes field, stuffing and data-dependent symbol lengths included).
     """
-    lc = get_line_code(spec.line_code)
-    n_body = max_body_bits(spec)
-    n_body += lc.max_stuffed_bits(n_body)
-    head = head_bits(spec)
-    chips = max(lc.encode(np.concatenate((head, np.full(n_body, v, np.uint8)))).size
-                for v in (0, 1))
-    return chips * spec.unit_us
+    from .linecode_stats import frame_stats
+
+    return frame_stats(spec).max_frame_chips * spec.unit_us
 
 
 def max_airtime_us(spec: FrameSpec) -> float:
