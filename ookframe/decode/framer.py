@@ -1,0 +1,270 @@
+"""The reference decoder: pulse train -> decoded frames (pipeline in ``decode``)."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..frame import parse_frame
+from ..pulses import PulseTrain
+from ..spec.model import FrameSpec
+from .classify import classify, head_unit, track_unit
+from .detect import find_candidates
+from .glitch import drop_glitches
+from .head import MAX_CLOCK_ERROR, HeadModel, bit_chips, head_model
+from .segment import burst_breaks, burst_end
+from .sync import best_sync
+from .validate import validate_train
+
+#: a frame the check cannot vouch for is taken for noise when more than this fraction
+#: of its pulses is out of tolerance (random pulses: typically 25-50 %; real frames hit
+#: by interference: a few %)
+NOISE_TIMING_FRACTION = 0.2
+
+
+@dataclass(frozen=True)
+class DecodedFrame:
+    """One frame found in a pulse train.
+
+    fields: name -> physical value (bytes fields as hex); raw: name -> raw int / bytes;
+    payload_hex: the field bytes as packed on air, de-whitened; crc_ok: the check (CRC or
+    checksum) matches (True when the spec has none).
+    start_us / end_us: time of the frame's first chip start and last chip end, measured
+    from the start of the train (the first chip is extrapolated when it merged with idle).
+    unit_us: estimated symbol unit of this frame (measured run time / whole units);
+    clock_error: unit_us / spec.unit_us - 1.
+    worst_deviation: largest |duration / tracked unit - whole units| of the frame's pulses,
+    as a fraction of one unit (0.5 would be a coin toss between two unit counts).
+    pulses: measured pulses wholly inside the frame (the rates below are out of these);
+    sync_errors: bit errors in the sync word; timing_errors: pulses off by more than the
+    spec's tolerance; code_errors: data bits whose chips were no valid codeword.
+    """
+
+    fields: dict[str, object]
+    raw: dict[str, object]
+    payload_hex: str
+    crc_ok: bool
+    start_us: float
+    end_us: float
+    unit_us: float
+    clock_error: float
+    worst_deviation: float
+    pulses: int
+    sync_errors: int
+    timing_errors: int
+    code_errors: int
+
+
+@dataclass(frozen=True)
+class _Windows:
+    """Classified pulses of every candidate window, concatenated (ragged arrays)."""
+
+    first: np.ndarray  # train index of each window's first pulse (a signature pulse)
+    offset: np.ndarray  # where each window starts in the arrays below
+    length: np.ndarray  # pulses of each window
+    start_unit_us: np.ndarray  # unit estimate at each window's start (head fit)
+    units: np.ndarray  # whole units (capped at the longest run)
+    deviation: np.ndarray  # |d/u - n|, or how far beyond the longest run
+    unit_us: np.ndarray  # tracked unit each pulse was classified with
+    capped: np.ndarray  # True where the pulse was longer than any run of a frame
+
+
+def _classify_windows(spec: FrameSpec, hm: HeadModel, dur: np.ndarray, first: np.ndarray,
+                      stop: np.ndarray, unit0: np.ndarray) -> _Windows:
+    """Return the windows [first, stop) classified: head fit, drift tracking, units.
+
+    A window ends early at its first pulse longer than any run of a frame (included: a
+    frame's last space runs into it).
+    """
+    dec = spec.decoder
+    length = stop - first
+    offset = np.concatenate(([0], np.cumsum(length)[:-1]))
+    window = np.repeat(np.arange(first.size), length)
+    idx = np.arange(int(length.sum())) - offset[window] + first[window]
+    d = dur[idx]
+    start_unit = head_unit(d, length, unit0, hm.body_chip - int(hm.prefix_units.sum()))
+    unit = track_unit(d, length, start_unit, gain=dec.loop_gain, tolerance=dec.tolerance,
+                      max_units=hm.cap_units + 1)
+    n, dev = classify(d, unit)
+    capped = n > hm.cap_units
+    pos = idx - first[window]
+    first_cap = np.minimum.reduceat(np.where(capped, pos, length[window]), offset)
+    length = np.minimum(length, first_cap + 1)
+    dev = np.where(capped, d / unit - hm.cap_units, dev)
+    return _Windows(first, offset, length, start_unit, np.minimum(n, hm.cap_units), dev,
+                    unit, capped)
+
+
+@dataclass(frozen=True)
+class _Window:
+    """Runs given to the line code for one candidate: the head prefix + measured pulses."""
+
+    first: int  # train index of the first measured pulse
+    levels: np.ndarray
+    units: np.ndarray
+    chip0: np.ndarray  # chip offset of every run
+    start_us: np.ndarray  # start time of every run (prefix runs extrapolated)
+    unit_us: np.ndarray  # unit of every run
+    dur_us: np.ndarray  # measured duration (NaN for the prefix and for capped runs)
+    deviation: np.ndarray  # |d/u - n| (0 for the prefix)
+    n_prefix: int
+
+    def time_of_chip(self, chip: int, *, end: bool = False) -> tuple[float, int]:
+        """Return (time in µs, run) of the start of ``chip`` (of its end with ``end``)."""
+        c = chip - 1 if end else chip
+        r = int(np.searchsorted(self.chip0, c, side="right")) - 1
+        r = min(max(r, 0), self.levels.size - 1)
+        if end and chip == self.chip0[r] + self.units[r] and r >= self.n_prefix \
+                and not np.isnan(self.dur_us[r]):
+            return float(self.start_us[r] + self.dur_us[r]), r
+        return float(self.start_us[r] + (chip - self.chip0[r]) * self.unit_us[r]), r
+
+
+def _window(hm: HeadModel, ws: _Windows, k: int, levels: np.ndarray, dur: np.ndarray,
+            t0: np.ndarray) -> _Window:
+    """Return the runs of candidate window ``k`` with the head prefix in front."""
+    first, a = int(ws.first[k]), int(ws.offset[k])
+    m = int(ws.length[k])
+    unit0 = float(ws.start_unit_us[k])
+    pu = hm.prefix_units
+    units = np.concatenate((pu, ws.units[a:a + m]))
+    chip0 = np.concatenate(([0], np.cumsum(units)[:-1]))
+    pre_start = t0[first] - (int(pu.sum()) - chip0[:pu.size]) * unit0
+    d = dur[first:first + m]
+    return _Window(
+        first=first,
+        levels=np.concatenate((hm.prefix_levels, levels[first:first + m])),
+        units=units,
+        chip0=chip0,
+        start_us=np.concatenate((pre_start, t0[first:first + m])),
+        unit_us=np.concatenate((np.full(pu.size, unit0), ws.unit_us[a:a + m])),
+        dur_us=np.concatenate((np.full(pu.size, np.nan),
+                               np.where(ws.capped[a:a + m], np.nan, d))),
+        deviation=np.concatenate((np.zeros(pu.size), ws.deviation[a:a + m])),
+        n_prefix=int(pu.size),
+    )
+
+
+def _rank(hit: tuple[int, int, int], hm: HeadModel) -> tuple[int, int, int]:
+    pos, sync_errors, lead_errors = hit
+    return sync_errors + lead_errors, sync_errors, abs(pos - hm.sync_bit)
+
+
+def _frame_from(spec: FrameSpec, hm: HeadModel, w: _Window) -> tuple[DecodedFrame, int] | None:
+    """Return (frame, train index of its last pulse) decoded from one window, or None."""
+    lc = hm.line_code
+    sync = hm.sync_bits
+    best = None
+    for cand in lc.decode(w.levels, w.units):
+        hit = best_sync(cand.bits, cand.valid, hm.lead_bits, sync, hm.sync_bit,
+                        hm.sync_reach_bits, spec.sync.max_errors)
+        if hit is not None and (best is None or _rank(hit, hm) < _rank(best[1], hm)):
+            best = (cand, hit)
+    if best is None:
+        return None
+    cand, (pos, sync_errors, _) = best
+    body_at = pos + sync.size
+    body = lc.unstuff(cand.bits[body_at:])
+    parsed = parse_frame(spec, body)
+    if parsed is None:
+        return None
+    on_air = lc.stuff(body[:parsed.n_bits])
+    end_bit = body_at + on_air.size
+    if end_bit > cand.bits.size:
+        return None
+    chips = bit_chips(lc, w.chip0, cand.run_index[pos:end_bit])
+    c_start = int(chips[0]) - hm.sync_chip
+    n_bits = hm.head_bits.size + on_air.size
+    if lc.chips_per_block is not None:
+        n_chips = n_bits // lc.bits_per_block * lc.chips_per_block
+    else:
+        n_chips = lc.encode(np.concatenate((hm.head_bits, on_air))).size
+    start_us, _ = w.time_of_chip(c_start)
+    end_us, last = w.time_of_chip(c_start + n_chips, end=True)
+    # measured runs wholly inside the frame (the last one often runs on into the gap)
+    inner = np.arange(w.n_prefix, last + 1)
+    inner = inner[(w.chip0[inner] >= c_start)
+                  & (w.chip0[inner] + w.units[inner] <= c_start + n_chips)]
+    if inner.size and inner[-1] == last and np.isnan(w.dur_us[last]):
+        inner = inner[:-1]
+    dev = w.deviation[inner]
+    measured = inner[~np.isnan(w.dur_us[inner])]
+    if measured.size:
+        unit_us = float(w.dur_us[measured].sum() / w.units[measured].sum())
+    else:
+        unit_us = float(w.unit_us[w.n_prefix])
+    frame = DecodedFrame(
+        fields=parsed.fields,
+        raw=parsed.raw,
+        payload_hex=parsed.payload_hex,
+        crc_ok=parsed.check_ok,
+        start_us=start_us,
+        end_us=end_us,
+        unit_us=unit_us,
+        clock_error=unit_us / spec.unit_us - 1.0,
+        worst_deviation=float(dev.max()) if dev.size else 0.0,
+        pulses=int(inner.size),
+        sync_errors=sync_errors,
+        timing_errors=int((dev > spec.decoder.tolerance).sum()),
+        code_errors=int((~cand.valid[body_at:end_bit]).sum()),
+    )
+    return frame, w.first + last - w.n_prefix
+
+
+def _plausible(spec: FrameSpec, frame: DecodedFrame) -> bool:
+    """True unless the check cannot vouch for the frame (it failed, or there is none) and
+    more than NOISE_TIMING_FRACTION of its pulses are out of tolerance: noise, not a frame."""
+    if frame.crc_ok and spec.check.kind != "none":
+        return True
+    return frame.timing_errors <= NOISE_TIMING_FRACTION * max(frame.pulses, 1)
+
+
+def decode(spec: FrameSpec, train: PulseTrain, *,
+           include_bad: bool | None = None) -> list[DecodedFrame]:
+    """Return every frame of ``spec`` found in ``train``, in time order.
+
+    Pipeline: validate (CaptureError on NaN / inf / non-positive durations or levels other
+    than 0/1) -> glitch filter -> head signatures found at any clock within +-10 % of
+    ``spec.unit_us`` (unit estimate from the preamble) -> for all candidates at once:
+    unit refit over the head, drift tracking, classification -> per candidate: line-code
+    decode, sync search with the allowed bit errors, unstuff, field parsing and check.
+    Repeats are separate frames. Frames whose check fails are included unless
+    ``include_bad`` is False (default: the spec's ``decoder.report_bad_check``); frames
+    cut off by the end of the train are left out. Random pulses never raise.
+    """
+    validate_train(train)
+    if include_bad is None:
+        include_bad = spec.decoder.report_bad_check
+    dec = spec.decoder
+    clean = drop_glitches(train.levels, train.durations_us, dec.glitch_fraction * spec.unit_us)
+    if len(clean) == 0:
+        return []
+    hm = head_model(spec)
+    levels, dur = clean.levels, clean.durations_us
+    first, unit0 = find_candidates(levels, dur, hm.sig_levels, hm.sig_units, spec.unit_us,
+                                   dec.tolerance, MAX_CLOCK_ERROR)
+    if first.size == 0:
+        return []
+    t0 = clean.edges_us()
+    prefix_chips = int(hm.prefix_units.sum())
+    stop = burst_end(first, burst_breaks(dur, hm.break_us), dur.size)
+    reach_us = t0[first] + (hm.max_frame_chips - prefix_chips) * unit0 * (1 + MAX_CLOCK_ERROR)
+    stop = np.minimum(stop, np.searchsorted(t0, reach_us, side="right") + 1)
+    stop = np.maximum(np.minimum(stop, dur.size), first + 1)
+    ws = _classify_windows(spec, hm, dur, first, stop, unit0)
+    frames: list[DecodedFrame] = []
+    done = -1
+    for k, i in enumerate(first.tolist()):
+        if i <= done:
+            continue
+        got = _frame_from(spec, hm, _window(hm, ws, k, levels, dur, t0))
+        if got is None:
+            continue
+        frame, last = got
+        if not _plausible(spec, frame):
+            continue  # noise that happened to parse: later candidates may lie inside it
+        done = last
+        if frame.crc_ok or include_bad:
+            frames.append(frame)
+    return frames

@@ -1,0 +1,179 @@
+"""What the decoder knows in advance about every frame of a spec: the runs of the
+preamble + sync (the head), the signature used to find frames, and timing limits."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from functools import lru_cache
+
+import numpy as np
+
+from ..frame import max_body_bits
+from ..linecodes import LineCode, get_line_code
+from ..pulses import chips_to_runs
+from ..spec.model import FrameSpec
+from .segment import break_threshold_us
+
+#: largest transmitter clock error searched for (fraction); twice the +-5 % of cheap RC
+#: oscillators (common practice, no source)
+MAX_CLOCK_ERROR = 0.10
+#: fewest preamble runs for a preamble-only signature (else the sync joins it)
+MIN_SIGNATURE_RUNS = 4
+#: preamble bits just before the sync that also rank sync hits
+LEAD_BITS = 16
+#: most runs in a signature (the last ones before the sync: early runs may be eaten by AGC)
+MAX_SIGNATURE_RUNS = 32
+
+
+@dataclass(frozen=True, eq=False)
+class HeadModel:
+    """Decoder constants of one spec (see module docstring). Run arrays are of the head."""
+
+    line_code: LineCode
+    head_bits: np.ndarray
+    sync_bits: np.ndarray
+    lead_bits: np.ndarray
+    levels: np.ndarray
+    units: np.ndarray
+    sig_start: int
+    sig_stop: int
+    sync_bit: int
+    sync_chip: int
+    body_chip: int
+    sync_reach_bits: int
+    max_frame_chips: int
+    cap_units: int
+    break_us: float
+
+    @property
+    def sig_levels(self) -> np.ndarray:
+        return self.levels[self.sig_start:self.sig_stop]
+
+    @property
+    def sig_units(self) -> np.ndarray:
+        return self.units[self.sig_start:self.sig_stop]
+
+    @property
+    def prefix_levels(self) -> np.ndarray:
+        """Levels of the head runs before the signature (not measured: taken as sent)."""
+        return self.levels[:self.sig_start]
+
+    @property
+    def prefix_units(self) -> np.ndarray:
+        return self.units[:self.sig_start]
+
+
+def bit_chips(line_code: LineCode, cs: np.ndarray, run_index: np.ndarray) -> np.ndarray:
+    """Return the chip offset of the first chip of each decoded bit's code block.
+
+    ``cs`` is the chip offset of every run given to ``decode``, ``run_index`` the run of
+    each bit. Fixed-length codes: blocks sit at ``phase + block * chips_per_block``, the
+    phase being the one that starts the most blocks on run starts; others start every bit
+    on a run (a mark).
+    """
+    cpb = line_code.chips_per_block
+    if cpb is None or run_index.size == 0:
+        return cs[run_index]
+    block = np.arange(run_index.size) // line_code.bits_per_block * cpb
+    phase = int((cs[run_index] - block).max())
+    return phase + block
+
+
+def _signature(levels: np.ndarray, units: np.ndarray, sync_chip: int) -> tuple[int, int]:
+    cs = np.concatenate(([0], np.cumsum(units)))
+    pre = np.flatnonzero(cs[1:] <= sync_chip)  # runs wholly before the sync's block
+    pre = pre[pre >= 1]  # the first run may merge with the idle level or noise
+    if pre.size >= MIN_SIGNATURE_RUNS:
+        stop = int(pre[-1]) + 1
+        return max(1, stop - MAX_SIGNATURE_RUNS), stop
+    if levels.size >= 3:  # interior head runs (sync included; needs an exact sync)
+        return 1, min(levels.size - 1, 1 + MAX_SIGNATURE_RUNS)
+    first_mark = int(np.argmax(levels == 1))
+    return first_mark, first_mark + 1
+
+
+def _self_shift_bits(levels: np.ndarray, units: np.ndarray, start: int, stop: int,
+                     line_code: LineCode) -> int:
+    """Bits by which the signature can also match later in the head (periodic preambles)."""
+    cs = np.concatenate(([0], np.cumsum(units)))
+    best = 0
+    for s in range(1, levels.size - 1 - stop + 1):
+        a, b = start + s, stop + s
+        if np.array_equal(levels[a:b], levels[start:stop]) and np.array_equal(
+            units[a:b], units[start:stop]
+        ):
+            best = max(best, int(cs[a] - cs[start]))
+    return math.ceil(best / line_code.units_per_bit)
+
+
+def _max_chips_per_bit(lc: LineCode) -> float:
+    k = lc.bits_per_block
+    n = max(lc.encode(np.zeros(k, np.uint8)).size, lc.encode(np.ones(k, np.uint8)).size)
+    return n / k
+
+
+def build_head(spec: FrameSpec) -> HeadModel:
+    """Return the decoder constants of ``spec``."""
+    lc = get_line_code(spec.line_code)
+    pre = np.array(spec.preamble.bits(), dtype=np.uint8)
+    sync = np.array(spec.sync.bits(), dtype=np.uint8)
+    head = np.concatenate((pre, sync))
+    chips = lc.encode(head)
+    levels, units = chips_to_runs(chips)
+    cs = np.concatenate(([0], np.cumsum(units)))
+    bpb = lc.bits_per_block
+    cpb = lc.chips_per_block
+    if cpb is not None:
+        sync_chip = pre.size // bpb * cpb
+    else:  # bits start on marks: locate the sync's first bit through the code's decoder
+        cand = lc.decode(levels, units)[0]
+        sync_chip = int(cs[cand.run_index[pre.size]])
+    if cpb is not None:
+        body_chip = head.size // bpb * cpb
+    else:
+        longer = lc.encode(np.concatenate((head, np.zeros(bpb, np.uint8))))
+        cand = lc.decode(*chips_to_runs(longer))[0]
+        body_chip = int(np.concatenate(([0], np.cumsum(chips_to_runs(longer)[1])))[
+            cand.run_index[head.size]])
+    start, stop = _signature(levels, units, sync_chip)
+    reach = max(_self_shift_bits(levels, units, start, stop, lc), 0) + 2 * bpb
+    n_max = head.size + max_body_bits(spec)
+    n_max += lc.max_stuffed_bits(max_body_bits(spec))
+    max_chips = math.ceil(n_max * _max_chips_per_bit(lc)) + 2 * (cpb or 1)
+    max_run = lc.max_run_units
+    if max_run is None:
+        max_run = max_chips
+    elif lc.max_stuffed_bits(max_body_bits(spec)):
+        # stuffing starts afresh after the sync: a body run can extend the head's last run
+        max_run = max(max_run + int(units[-1]), int(units.max()))
+    return HeadModel(
+        line_code=lc,
+        head_bits=head,
+        sync_bits=sync,
+        lead_bits=pre[max(pre.size - LEAD_BITS, 0):],
+        levels=levels,
+        units=units,
+        sig_start=start,
+        sig_stop=stop,
+        sync_bit=int(pre.size),
+        sync_chip=int(sync_chip),
+        body_chip=int(body_chip),
+        sync_reach_bits=int(reach),
+        max_frame_chips=int(max_chips),
+        cap_units=int(max_run),
+        break_us=break_threshold_us(max_run, spec.unit_us, MAX_CLOCK_ERROR),
+    )
+
+
+@lru_cache(maxsize=64)
+def _cached(spec: FrameSpec) -> HeadModel:
+    return build_head(spec)
+
+
+def head_model(spec: FrameSpec) -> HeadModel:
+    """Return the (cached) decoder constants of ``spec``."""
+    try:
+        return _cached(spec)
+    except TypeError:  # unhashable parameter values
+        return build_head(spec)
