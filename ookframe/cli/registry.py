@@ -5,6 +5,7 @@ COMMANDS: tuple[str, ...] = (
     "cmd_encode",
     "cmd_decode",
     "cmd_demo",
+    "cmd_emit",
     "cmd_stress",
     "cmd_noise",
     "cmd_sweep",

@@ -1,0 +1,81 @@
+"""``ookframe emit``: write the C header for a spec and print the timing report."""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+
+from rich.table import Table
+
+from ..codegen import CRC_IMPLS, DEFAULT_PRESCALERS, TimerTarget, emit_header
+from ..codegen.timing import DEFAULT_CLOCK_HZ, DEFAULT_TIMER_BITS, DEFAULT_TOLERANCE
+from . import common
+from .output import check_writable, err, out, print_json, write_atomic
+
+NAME = "emit"
+HELP = "generate the C99 transmitter header <name>.h (timer-tick timing, report)"
+
+
+def _prescalers(text: str) -> tuple[int, ...]:
+    items = [t.strip() for t in text.split(",") if t.strip()]
+    try:
+        return tuple(int(t, 0) for t in items)
+    except ValueError:
+        raise argparse.ArgumentTypeError(
+            f"{text!r} is not a comma-separated list of integers, e.g. 1,8,64,256,1024") from None
+
+
+def add_arguments(p: argparse.ArgumentParser) -> None:
+    common.add_spec_argument(p)
+    p.add_argument("-o", "--output-dir", dest="output_dir", metavar="DIR", required=True,
+                   help="folder for <name>.h (created if missing)")
+    p.add_argument("--mcu-clock-hz", type=int, default=DEFAULT_CLOCK_HZ, metavar="HZ",
+                   help=f"timer input clock before the prescaler (default {DEFAULT_CLOCK_HZ})")
+    p.add_argument("--timer-bits", type=int, default=DEFAULT_TIMER_BITS, metavar="N",
+                   help=f"compare-timer width: 8, 16, 24 or 32 (default {DEFAULT_TIMER_BITS})")
+    p.add_argument("--prescalers", type=_prescalers, default=DEFAULT_PRESCALERS,
+                   metavar="LIST", help="allowed prescalers, comma-separated (default "
+                   + ",".join(map(str, DEFAULT_PRESCALERS)) + ")")
+    p.add_argument("--crc-impl", choices=CRC_IMPLS, default="table256",
+                   help="CRC code: 256-entry table (fastest), 16-entry nibble table, or "
+                   "bitwise (smallest); default table256")
+    p.add_argument("--tolerance-pct", type=float, default=100 * DEFAULT_TOLERANCE, metavar="PCT",
+                   help="refuse when any duration is off by more than PCT %% after "
+                   f"quantisation (default {100 * DEFAULT_TOLERANCE:g})")
+    p.add_argument("--force", action="store_true", help="overwrite an existing header")
+    common.add_json_argument(p)
+
+
+def report_table(report: dict) -> Table:
+    """Return the timing table of an emit report."""
+    t = Table(title=f"{report['header']}: {report['clock_hz']} Hz / prescaler "
+              f"{report['prescaler']} = tick {report['tick_us']:g} µs, {report['timer_bits']}-bit "
+              f"timer, worst error {report['worst_error_pct']:.3f} % (limit "
+              f"{report['tolerance_pct']:g} %)")
+    for col in ("duration", "nominal µs", "ticks", "quantised µs", "error %"):
+        t.add_column(col, justify="left" if col == "duration" else "right")
+    for d in report["durations"]:
+        t.add_row(str(d["name"]), f"{d['nominal_us']:.3f}", str(d["ticks"]),
+                  f"{d['quantised_us']:.3f}", f"{d['error_pct']:+.3f}")
+    return t
+
+
+def run(args: argparse.Namespace) -> int:
+    spec, _ = common.load(args)
+    target = TimerTarget(clock_hz=args.mcu_clock_hz, timer_bits=args.timer_bits,
+                         prescalers=tuple(args.prescalers), tolerance=args.tolerance_pct / 100,
+                         crc_impl=args.crc_impl)
+    emitted = emit_header(spec, target)  # everything is computed before anything is written
+    path = Path(args.output_dir) / emitted.filename
+    check_writable(path, args.force)
+    write_atomic(path, emitted.text, force=args.force)
+    report = {**emitted.report(), "path": str(path)}
+    if args.json:
+        print_json(report)
+    else:
+        out.print(report_table(report))
+        out.print(f"pulse type {report['ticks_type']}, longest pulse {report['max_pulse_ticks']} "
+                  f"ticks; frame up to {report['max_frame_bits']} bits"
+                  + (f"; CRC code {report['crc_impl']}" if report["crc_impl"] else ""))
+    err.print(f"wrote {path}")
+    return 0
