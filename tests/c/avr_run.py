@@ -127,9 +127,14 @@ def edge_errors_ticks(emitted: Emitted, values: Mapping[str, object], trace: Pat
     return (got - got[0]) - (want - want[0])
 
 
+def pin_high_cycles(emitted: Emitted, trace: Path, signal: str) -> np.ndarray:
+    """Return the CPU cycles of every high pulse of ``signal`` (the measured call plus the
+    2-cycle pin write that ends the measurement), rounded to whole cycles."""
+    pin = read_capture(trace, signal=signal)
+    high = pin.durations_us[pin.levels == 1]
+    return np.rint(high * emitted.model.timing.clock_hz / 1e6)
+
+
 def tx_next_cycles(emitted: Emitted, trace: Path) -> np.ndarray:
-    """Return the CPU cycles of every tx_next call (CPU pin high time; includes the 2-cycle
-    pin write that ends the measurement)."""
-    cpu = read_capture(trace, signal="CPU")
-    high = cpu.durations_us[cpu.levels == 1]
-    return high * emitted.model.timing.clock_hz / 1e6
+    """Return the CPU cycles of every tx_next call (CPU pin high time)."""
+    return pin_high_cycles(emitted, trace, "CPU")

@@ -5,7 +5,8 @@
  * compare match), so every edge lands exactly on a timer tick; the ISR only prepares
  * the next pulse. PD2 is high while tx_next runs (cycle measurement; on another port,
  * because simavr 1.6 lets a PORTB write override the OC1A output). PD3 high = pack failed;
- * PD4 rises when the transmission is over (so the trace runs past the last TX edge).
+ * PD4 rises when the transmission is over (so the trace runs past the last TX edge);
+ * PD5 is high while <prefix>_pack runs.
  *
  * Build (see tests/test_codegen_avr.py): avr-gcc -mmcu=atmega328p -Os -DF_CPU=...
  *   -DOOK_HEADER='"name.h"' -DOOK_PREFIX=name -DOOK_UPREFIX=NAME
@@ -30,6 +31,7 @@ AVR_MCU_VCD_PORT_PIN('B', 1, "TX");
 AVR_MCU_VCD_PORT_PIN('D', 2, "CPU");
 AVR_MCU_VCD_PORT_PIN('D', 3, "ERROR");
 AVR_MCU_VCD_PORT_PIN('D', 4, "END");
+AVR_MCU_VCD_PORT_PIN('D', 5, "PACK");
 
 #define OOK_CAT_(a, b) a##b
 #define OOK_CAT(a, b) OOK_CAT_(a, b)
@@ -99,12 +101,15 @@ int main(void)
 {
     DDRB = (uint8_t)(1u << PB1);
     PORTB = 0;
-    DDRD = (uint8_t)((1u << PD2) | (1u << PD3) | (1u << PD4));
+    DDRD = (uint8_t)((1u << PD2) | (1u << PD3) | (1u << PD4) | (1u << PD5));
     PORTD = 0;
 #ifndef OOK_BASELINE
     {
         static const struct OOK_FN(_fields) demo = OOK_DEMO_FIELDS;
-        size_t nbits = OOK_FN(_pack)(&demo, frame, sizeof frame);
+        size_t nbits;
+        PORTD |= (uint8_t)(1u << PD5);
+        nbits = OOK_FN(_pack)(&demo, frame, sizeof frame);
+        PORTD &= (uint8_t)~(1u << PD5);
         if (nbits == 0u) {
             PORTD |= (uint8_t)(1u << PD3);
             cli();
