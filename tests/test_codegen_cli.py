@@ -6,17 +6,10 @@ import json
 from pathlib import Path
 
 from ookframe.cli import exitcodes
-from ookframe.cli.main import main
+from tests.test_cli import run
 
 EXAMPLES = Path(__file__).resolve().parent.parent / "examples"
 HIVE = str(EXAMPLES / "hive_scale.toml")
-
-
-def run(capsys, *argv: str) -> tuple[int, str, str]:
-    code = main(list(argv))
-    cap = capsys.readouterr()
-    assert "Traceback" not in cap.err
-    return code, cap.out, cap.err
 
 
 def test_emit_writes_header_and_report(capsys, tmp_path):
