@@ -313,6 +313,24 @@ def test_every_line_code_and_crc_impl(tmp_path, lc, crc_impl):
     assert_harness_matches(emitted, program, np.random.default_rng(3), 40)
 
 
+@pytest.mark.slow
+@needs_gcc
+@pytest.mark.parametrize("target, frame, ticks_type", [
+    (TimerTarget(timer_bits=8, prescalers=(64,)), {"unit_us": 2000.0, "repeats": 1}, "uint8_t"),
+    (TimerTarget(clock_hz=16_000_000, timer_bits=32, prescalers=(1,)), {}, "uint32_t"),
+    (TimerTarget(clock_hz=1_000_000, prescalers=(1, 8)), {"unit_us": 1000.0}, "uint16_t"),
+], ids=["8-bit", "32-bit", "1MHz"])
+def test_timer_targets(tmp_path, target, frame, ticks_type):
+    """8-, 16- and 32-bit timers: the ticks type fits, merged pulses longer than one timer
+    period are split (8-bit case: 250-tick units, runs of 2 exceed 255), output stays exact."""
+    spec = spec_from_dict(base_doc({"name": "nrz"}, **frame))
+    emitted = emit_header(spec, target)
+    assert emitted.model.ticks_type == ticks_type
+    assert emitted.model.max_pulse_ticks <= target.timer_max_ticks
+    program = build_harness(emitted, tmp_path, GCC)
+    assert_harness_matches(emitted, program, np.random.default_rng(5), 40)
+
+
 @st.composite
 def spec_docs(draw) -> dict:
     """Random valid spec documents covering line codes, widths 1..64, signedness, scale,

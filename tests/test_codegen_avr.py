@@ -7,10 +7,14 @@ with ookframe.captures and decoded with ookframe.decode.
 
 from __future__ import annotations
 
+import json
+from pathlib import Path
+
 import numpy as np
 import pytest
 
 from ookframe.captures import read_capture
+from ookframe.cli.main import main
 from ookframe.codegen import TimerTarget, emit_header
 from ookframe.decode import decode
 from ookframe.demo import DEMO_SPEC
@@ -22,6 +26,7 @@ pytestmark = [pytest.mark.slow,
               pytest.mark.skipif(bool(avr_run.MISSING),
                                  reason=f"AVR toolchain missing: {', '.join(avr_run.MISSING)}")]
 
+EXAMPLES_DIR = Path(__file__).resolve().parent.parent / "examples"
 EXAMPLES = ["hive_scale.toml", "greenhouse_probe.toml", "gate_sensor.toml", "tank_level.toml",
             "coldframe_vent.toml"]
 
@@ -47,6 +52,18 @@ def test_simulated_avr_transmits_the_frame(tmp_path, name):
           f"tx_next max {cycles.max():.0f} cycles, worst edge {np.abs(errors).max():.2f} ticks")
     assert cycles.max() < shortest_pulse_cycles  # the ISR keeps up with the shortest pulse
     assert 0 < result.code_flash_bytes < 4096 and 0 < result.code_ram_bytes < 128
+
+
+def test_cli_decodes_the_simavr_trace(tmp_path, capsys):
+    """``ookframe decode SPEC trace.vcd --signal TX --json`` reads the simavr VCD (timescale
+    10 ns, several signals) and reports every repeat with its fields."""
+    spec, values = example_spec(DEMO_SPEC)
+    result = avr_run.run(emit_header(spec), values, tmp_path)
+    code = main(["decode", str(EXAMPLES_DIR / DEMO_SPEC), str(result.trace), "--signal", "TX",
+                 "--json"])
+    frames = json.loads(capsys.readouterr().out)
+    assert code == 0 and len(frames) == spec.repeats
+    assert all(f["crc_ok"] and values_equal(spec, f["fields"], values) for f in frames)
 
 
 @pytest.mark.parametrize("crc_impl", ["table256", "table16", "bitwise"])
