@@ -8,6 +8,8 @@ streams many cases per process; every byte and every (level, ticks) pulse must m
 from __future__ import annotations
 
 import dataclasses
+import os
+import re
 import subprocess
 from pathlib import Path
 
@@ -16,6 +18,7 @@ import pytest
 from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 
+from ookframe import __version__
 from ookframe.bits import from_raw
 from ookframe.checks import CATALOGUE, Crc
 from ookframe.codegen import TimerTarget, build_model, emit_header, tx_schedule, write_header
@@ -269,6 +272,27 @@ def test_header_banner_is_reproducible():
         assert word not in head.lower().replace("timer", "").replace("timing", "")
     other = dataclasses.replace(spec, repeats=2)
     assert spec_hash(other) != spec_hash(spec)
+
+
+GOLDEN = Path(__file__).resolve().parent / "c" / "golden" / "probe.h"
+
+
+def _without_hash(text: str) -> str:
+    text = text.replace(f'ookframe {__version__}', "ookframe <version>")
+    text = text.replace(f'VERSION "{__version__}"', 'VERSION "<version>"')
+    return re.sub(r"0x[0-9A-F]{8}u|[0-9a-f]{64}", "<hash>", text)
+
+
+def test_golden_header():
+    """The header for a fixed spec (Manchester, bytes field, CRC over sync + fields, PN9,
+    3 repeats) equals the reviewed copy in tests/c/golden/probe.h (spec hash and version
+    masked, so a change of the spec model or a release alone does not fail it). After an intended template change,
+    regenerate with OOKFRAME_UPDATE_GOLDEN=1 and review the diff."""
+    text = emit_header(spec_from_dict(base_doc({"name": "manchester"}))).text
+    if os.environ.get("OOKFRAME_UPDATE_GOLDEN") == "1":
+        GOLDEN.parent.mkdir(parents=True, exist_ok=True)
+        GOLDEN.write_text(text)
+    assert _without_hash(text) == _without_hash(GOLDEN.read_text())
 
 
 def test_write_header_never_overwrites_without_force(tmp_path):

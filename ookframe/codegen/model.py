@@ -445,5 +445,5 @@ def _layout_rows(spec: FrameSpec, fields: tuple[CField, ...], head_bits: int
         label = c.crc.name if c.kind == "crc" and c.crc and c.crc.name else c.kind
         rows.append(("check", "var" if any(f.kind == "bytes" for f in fields)
                      else str(sum(f.width_bits for f in fields) + head_bits),
-                     str(c.width_bits), f"{label} over {'+'.join(c.covers)}, {c.byte_order}"))
+                     str(c.width_bits), f"{label} over {'+'.join(c.covers)}, {c.byte_order}-endian"))
     return tuple(rows)
