@@ -243,9 +243,7 @@ def write(path: str | os.PathLike[str], train: PulseTrain, *, signal: str = "ook
     if train.levels.size == 0:
         write_text_atomic(path, header + "#0\n$dumpvars\nx!\n$end\n")
         return
-    changes = np.char.add(np.char.add("#", edges_ns[:-1].astype(str)),
-                          np.char.add("\n", np.char.add(train.levels.astype(str), "!")))
-    body = ["#0\n$dumpvars\n", f"{int(train.levels[0])}!\n$end\n"]
-    body += [c + "\n" for c in changes[1:].tolist()]
-    body.append(f"#{int(edges_ns[-1])}\n")
-    write_text_atomic(path, header + "".join(body))
+    changes = "".join(map("#{}\n{}!\n".format, edges_ns[1:-1].tolist(),
+                          train.levels[1:].tolist()))
+    body = f"#0\n$dumpvars\n{int(train.levels[0])}!\n$end\n{changes}#{int(edges_ns[-1])}\n"
+    write_text_atomic(path, header + body)
