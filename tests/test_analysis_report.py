@@ -48,10 +48,17 @@ def test_fixed_length_airtime_equals_layout():
 
 
 def test_weak_crc_gets_a_suggestion():
-    """tank_level uses CRC-16/EN-13757 (poly 0x3D65, period 151 bits): at its 160 covered
+    """tank_level with CRC-16/EN-13757 (poly 0x3D65, period 151 bits): at its 160 covered
     bits a weight-2 error goes undetected (HD 2); the report suggests a stronger 16-bit
-    catalogue CRC and cautions about it."""
+    catalogue CRC and cautions about it. (The shipped example uses CRC-16/IBM-3740 for
+    this reason.)"""
+    import dataclasses
+
+    from ookframe import Crc
+
     spec, _ = example_spec("tank_level.toml")
+    weak = dataclasses.replace(spec.check, crc=Crc.named("CRC-16/EN-13757").params)
+    spec = dataclasses.replace(spec, check=weak)
     assert crc_strength(16, 0x3D65, 8, reach=False).period_bits == 151
     r = design_report(spec, with_bandwidth=False)
     assert r["check"]["hd"] == 2
