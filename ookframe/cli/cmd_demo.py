@@ -16,6 +16,8 @@ from .cmd_encode import capture_text
 from .output import REGULATORY_CAUTION, OutputExists, dumps_json, err, out, write_atomic
 
 NAME = "demo"
+#: random transmissions sent through the cheap-link channel preset in the demo
+STRESS_FRAMES = 300
 HELP = "run the built-in demo (a beehive scale node) into ./ookframe-demo/"
 
 
@@ -55,6 +57,14 @@ def run(args: argparse.Namespace) -> int:
         f0 = frames[0]
         out.print(f"  first frame     {', '.join(f'{k}={v}' for k, v in f0.fields.items())} "
                   f"(unit {f0.unit_us:.2f} µs)")
+    from ..channel import get_preset
+    from ..stress import run_stress
+
+    preset = "budget-superregen"
+    st = run_stress(spec, get_preset(preset), STRESS_FRAMES, seed=1)
+    out.print(f"  through {preset}: {st.frames} random transmissions, {st.ok} delivered, PER "
+              f"{st.per:.3f} (95 % CI {st.per_ci95[0]:.3f}..{st.per_ci95[1]:.3f}), "
+              f"{st.false_accepts} false accepts")
     out.print(f"  next            ookframe check {d / DEMO_SPEC}")
     err.print(f"caution: {REGULATORY_CAUTION}")
     return 0 if len(ok) == spec.repeats else exitcodes.FAILED
