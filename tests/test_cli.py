@@ -59,7 +59,7 @@ def test_demo_writes_folder(capsys, tmp_path):
     code, out, _ = run(capsys, "demo", "--dir", str(tmp_path / "d"))
     assert code == 0
     assert {p.name for p in (tmp_path / "d").iterdir()} >= {"hive_scale.toml", "frame.csv",
-                                                             "frame.vcd", "decoded.json"}
+                                                             "frame.vcd", "decoded.json", "hive_scale.h"}
     assert len(json.loads((tmp_path / "d" / "decoded.json").read_text())) == 3
     code, _, err = run(capsys, "demo", "--dir", str(tmp_path / "d"))
     assert code == exitcodes.EXISTS

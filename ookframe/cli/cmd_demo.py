@@ -6,6 +6,7 @@ import argparse
 import tomllib
 from pathlib import Path
 
+from ..codegen import emit_header
 from ..demo import DEMO_SPEC, example_text
 from ..frame import encode, values_equal
 from ..layout import frame_layout
@@ -29,7 +30,7 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     from ..decode import decode
     d = Path(args.dir)
-    names = [DEMO_SPEC, "frame.csv", "frame.vcd", "decoded.json"]
+    names = [DEMO_SPEC, "frame.csv", "frame.vcd", "decoded.json", "hive_scale.h"]
     clash = [n for n in names if (d / n).exists()]
     if clash and not args.force:
         raise OutputExists(f"{d / clash[0]} exists; use --force to overwrite or --dir for another folder")
@@ -37,11 +38,13 @@ def run(args: argparse.Namespace) -> int:
     spec, values = spec_and_defaults_from_dict(tomllib.loads(text))
     train = encode(spec, values)
     frames = decode(spec, train)
+    header = emit_header(spec)  # default target: 8 MHz AVR-style 16-bit timer
     outputs = {
         DEMO_SPEC: text,
         "frame.csv": capture_text(train, "csv", signal=spec.name),
         "frame.vcd": capture_text(train, "vcd", signal=spec.name),
         "decoded.json": dumps_json(frame_dicts(frames)) + "\n",
+        "hive_scale.h": header.text,
     }
     for n in names:
         write_atomic(d / n, outputs[n], force=True)
@@ -65,6 +68,9 @@ def run(args: argparse.Namespace) -> int:
     out.print(f"  through {preset}: {st.frames} random transmissions, {st.ok} delivered, PER "
               f"{st.per:.3f} (95 % CI {st.per_ci95[0]:.3f}..{st.per_ci95[1]:.3f}), "
               f"{st.false_accepts} false accepts")
+    t = header.timing
+    out.print(f"  C header        {d / 'hive_scale.h'}: timer {t.timer_hz:g} Hz (prescaler "
+              f"{t.prescaler}), worst timing error {100 * t.worst_error:.3f} %")
     out.print(f"  next            ookframe check {d / DEMO_SPEC}")
     err.print(f"caution: {REGULATORY_CAUTION}")
     return 0 if len(ok) == spec.repeats else exitcodes.FAILED
