@@ -26,13 +26,11 @@ def fit_unit(durations_us: np.ndarray, units: np.ndarray) -> np.ndarray:
     jitter of single edges averages out much better than in total time / total units.
     """
     d = np.asarray(durations_us, dtype=np.float64)
-    u = np.broadcast_to(np.asarray(units, dtype=np.float64), d.shape)
-    zeros = np.zeros((*d.shape[:-1], 1))
-    t = np.concatenate((zeros, np.cumsum(d, axis=-1)), axis=-1)
-    c = np.concatenate((zeros, np.cumsum(u, axis=-1)), axis=-1)
-    tc = t - t.mean(axis=-1, keepdims=True)
-    cc = c - c.mean(axis=-1, keepdims=True)
-    return (tc * cc).sum(axis=-1) / (cc * cc).sum(axis=-1)
+    t = np.cumsum(d, axis=-1)
+    c = np.cumsum(np.broadcast_to(np.asarray(units, dtype=np.float64), d.shape), axis=-1)
+    n = d.shape[-1] + 1  # the origin edge (0, 0) adds nothing to the sums below
+    st, sc = t.sum(axis=-1), c.sum(axis=-1)
+    return (n * (t * c).sum(axis=-1) - st * sc) / (n * (c * c).sum(axis=-1) - sc * sc)
 
 
 def _ragged(lengths: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

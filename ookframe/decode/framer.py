@@ -9,7 +9,7 @@ import numpy as np
 from ..frame import parse_frame
 from ..pulses import PulseTrain
 from ..spec.model import FrameSpec
-from .classify import classify, head_unit, track_unit
+from .classify import classify, fit_unit, head_unit, track_unit
 from .detect import find_candidates
 from .glitch import drop_glitches
 from .head import MAX_CLOCK_ERROR, HeadModel, bit_chips, head_model
@@ -32,7 +32,8 @@ class DecodedFrame:
     checksum) matches (True when the spec has none).
     start_us / end_us: time of the frame's first chip start and last chip end, measured
     from the start of the train (the first chip is extrapolated when it merged with idle).
-    unit_us: estimated symbol unit of this frame (measured run time / whole units);
+    unit_us: estimated symbol unit of this frame (least-squares fit of its edge times over
+    their chip counts);
     clock_error: unit_us / spec.unit_us - 1.
     worst_deviation: largest |duration / tracked unit - whole units| of the frame's pulses,
     as a fraction of one unit (0.5 would be a coin toss between two unit counts).
@@ -161,6 +162,8 @@ def _frame_from(spec: FrameSpec, hm: HeadModel, w: _Window) -> tuple[DecodedFram
                         hm.sync_reach_bits, spec.sync.max_errors)
         if hit is not None and (best is None or _rank(hit, hm) < _rank(best[1], hm)):
             best = (cand, hit)
+            if _rank(hit, hm) == (0, 0, 0):
+                break  # a perfect hit where expected: no other phase can beat it
     if best is None:
         return None
     cand, (pos, sync_errors, _) = best
@@ -173,8 +176,7 @@ def _frame_from(spec: FrameSpec, hm: HeadModel, w: _Window) -> tuple[DecodedFram
     end_bit = body_at + on_air.size
     if end_bit > cand.bits.size:
         return None
-    chips = bit_chips(lc, w.chip0, cand.run_index[pos:end_bit])
-    c_start = int(chips[0]) - hm.sync_chip
+    c_start = int(bit_chips(lc, w.chip0, cand.run_index, pos + 1)[pos]) - hm.sync_chip
     n_bits = hm.head_bits.size + on_air.size
     if lc.chips_per_block is not None:
         n_chips = n_bits // lc.bits_per_block * lc.chips_per_block
@@ -190,7 +192,9 @@ def _frame_from(spec: FrameSpec, hm: HeadModel, w: _Window) -> tuple[DecodedFram
         inner = inner[:-1]
     dev = w.deviation[inner]
     measured = inner[~np.isnan(w.dur_us[inner])]
-    if measured.size:
+    if measured.size >= 2 and np.all(np.diff(measured) == 1):
+        unit_us = float(fit_unit(w.dur_us[measured], w.units[measured]))
+    elif measured.size:
         unit_us = float(w.dur_us[measured].sum() / w.units[measured].sum())
     else:
         unit_us = float(w.unit_us[w.n_prefix])

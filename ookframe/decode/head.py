@@ -64,19 +64,21 @@ class HeadModel:
         return self.units[:self.sig_start]
 
 
-def bit_chips(line_code: LineCode, cs: np.ndarray, run_index: np.ndarray) -> np.ndarray:
-    """Return the chip offset of the first chip of each decoded bit's code block.
+def bit_chips(line_code: LineCode, cs: np.ndarray, run_index: np.ndarray, stop: int) -> np.ndarray:
+    """Return the chip offset of the first chip of the code block of bits 0 .. stop-1.
 
     ``cs`` is the chip offset of every run given to ``decode``, ``run_index`` the run of
-    each bit. Fixed-length codes: blocks sit at ``phase + block * chips_per_block``, the
-    phase being the one that starts the most blocks on run starts; others start every bit
-    on a run (a mark).
+    each bit of one candidate. Fixed-length codes: block b sits at ``phase + b *
+    chips_per_block``; a block's first chip lies in its run, so the phase is at least
+    ``cs[run] - b * chips_per_block`` for every block, and the first block starts on the
+    window's first run boundary at or after it. Other codes start every bit on a run.
     """
+    r = run_index[:stop]
     cpb = line_code.chips_per_block
-    if cpb is None or run_index.size == 0:
-        return cs[run_index]
-    block = np.arange(run_index.size) // line_code.bits_per_block * cpb
-    phase = int((cs[run_index] - block).max())
+    if cpb is None or r.size == 0:
+        return cs[r]
+    block = np.arange(r.size) // line_code.bits_per_block * cpb
+    phase = int((cs[r] - block).max())
     return phase + block
 
 
@@ -144,8 +146,9 @@ def build_head(spec: FrameSpec) -> HeadModel:
     max_run = lc.max_run_units
     if max_run is None:
         max_run = max_chips
-    elif lc.max_stuffed_bits(max_body_bits(spec)):
-        # stuffing starts afresh after the sync: a body run can extend the head's last run
+    elif lc.max_stuffed_bits(1 << 16):
+        # the head is not stuffed, and stuffing starts afresh after the sync: a body run
+        # can extend the head's last run
         max_run = max(max_run + int(units[-1]), int(units.max()))
     return HeadModel(
         line_code=lc,
