@@ -1,4 +1,16 @@
-"""The reference decoder: pulse train -> decoded frames (pipeline in ``decode``)."""
+"""The reference decoder: pulse train -> decoded frames (pipeline in ``decode``).
+
+Limits (by design, not bugs):
+
+- A sync word that merely continues the preamble pattern cannot be located.
+- With fewer than 4 preamble runs the sync word's runs join the signature, so the sync
+  must then arrive without bit errors.
+- Transmitter clocks within +-10 % of ``unit_us`` are searched (``head.MAX_CLOCK_ERROR``).
+- The tracking loop's estimate wanders by about ``loop_gain`` x the edge jitter, so with
+  +-15 % edge jitter NRZ runs much longer than ~30 units can be misread; stuffing,
+  whitening or a smaller ``decoder.loop_gain`` keep long-run links decodable.
+- Frames cut off by the end of the train are not reported.
+"""
 
 from __future__ import annotations
 
@@ -233,9 +245,12 @@ def decode(spec: FrameSpec, train: PulseTrain, *,
     ``spec.unit_us`` (unit estimate from the preamble) -> for all candidates at once:
     unit refit over the head, drift tracking, classification -> per candidate: line-code
     decode, sync search with the allowed bit errors, unstuff, field parsing and check.
-    Repeats are separate frames. Frames whose check fails are included unless
-    ``include_bad`` is False (default: the spec's ``decoder.report_bad_check``); frames
-    cut off by the end of the train are left out. Random pulses never raise.
+    Repeats are separate frames, each with its own ``start_us``; the search goes on after
+    the end of every decoded frame. Frames whose check fails are included unless
+    ``include_bad`` is False (default: the spec's ``decoder.report_bad_check``); a frame
+    the check cannot vouch for (failed, or no check) with more than 20 % of its pulses out
+    of tolerance is taken for noise. Frames cut off by the end of the train are left
+    out. Random pulses never raise.
     """
     validate_train(train)
     if include_bad is None:
