@@ -8,8 +8,12 @@ from __future__ import annotations
 
 __version__ = "0.1.0"
 
+from .captures import read_capture, write_capture
 from .channel import PRESETS, ChannelSpec, apply_channel, get_preset
 from .checks import CATALOGUE, Crc, make_check
+from .codegen import TimerTarget, emit_header
+from .decode import DecodedFrame
+from .decode import decode as decode_frames  # the name 'decode' is the subpackage
 from .errors import CaptureError, CodegenError, OokframeError, SpecError, ValueRangeError
 from .frame import (
     ParsedFrame,
@@ -40,6 +44,8 @@ from .stress import NoiseResult, StressResult, run_noise, run_stress
 from .whitening import lfsr_bits, whiten
 
 __all__ = [
+    "DecodedFrame",
+    "TimerTarget",
     "StressResult",
     "NoiseResult",
     "PRESETS",
@@ -82,6 +88,10 @@ __all__ = [
     "get_preset",
     "run_noise",
     "run_stress",
+    "read_capture",
+    "write_capture",
+    "emit_header",
+    "decode_frames",
     "values_equal",
     "whiten",
 ]
