@@ -111,17 +111,37 @@ def _classify_windows(spec: FrameSpec, hm: HeadModel, dur: np.ndarray, first: np
 
 @dataclass(frozen=True)
 class _Window:
-    """Runs given to the line code for one candidate: the head prefix + measured pulses."""
+    """Runs given to the line code for one candidate: the head prefix (runs as sent, not
+    measured) + the window's measured pulses; timing looked up on demand."""
 
-    first: int  # train index of the first measured pulse
     levels: np.ndarray
     units: np.ndarray
     chip0: np.ndarray  # chip offset of every run
-    start_us: np.ndarray  # start time of every run (prefix runs extrapolated)
-    unit_us: np.ndarray  # unit of every run
-    dur_us: np.ndarray  # measured duration (NaN for the prefix and for capped runs)
-    deviation: np.ndarray  # |d/u - n| (0 for the prefix)
     n_prefix: int
+    first: int  # train index of the first measured pulse
+    at: int  # where the measured pulses start in the _Windows arrays
+    unit0_us: float
+    ws: _Windows
+    t0: np.ndarray  # start time of every pulse of the train
+    dur: np.ndarray  # durations of every pulse of the train
+
+    def start_us(self, r: int) -> float:
+        """Start time of run ``r`` (prefix runs extrapolated back with the start unit)."""
+        if r < self.n_prefix:
+            return float(self.t0[self.first] - (self.chip0[self.n_prefix] - self.chip0[r])
+                         * self.unit0_us)
+        return float(self.t0[self.first + r - self.n_prefix])
+
+    def unit_us(self, r: int) -> float:
+        return self.unit0_us if r < self.n_prefix else float(
+            self.ws.unit_us[self.at + r - self.n_prefix])
+
+    def measured(self, runs: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """Return (runs not capped, their durations, deviation of all ``runs``) for runs
+        of the measured part."""
+        k = runs - self.n_prefix
+        capped = self.ws.capped[self.at + k]
+        return runs[~capped], self.dur[self.first + k[~capped]], self.ws.deviation[self.at + k]
 
     def time_of_chip(self, chip: int, *, end: bool = False) -> tuple[float, int]:
         """Return (time in µs, run) of the start of ``chip`` (of its end with ``end``)."""
@@ -129,9 +149,9 @@ class _Window:
         r = int(np.searchsorted(self.chip0, c, side="right")) - 1
         r = min(max(r, 0), self.levels.size - 1)
         if end and chip == self.chip0[r] + self.units[r] and r >= self.n_prefix \
-                and not np.isnan(self.dur_us[r]):
-            return float(self.start_us[r] + self.dur_us[r]), r
-        return float(self.start_us[r] + (chip - self.chip0[r]) * self.unit_us[r]), r
+                and not self.ws.capped[self.at + r - self.n_prefix]:
+            return self.start_us(r) + float(self.dur[self.first + r - self.n_prefix]), r
+        return self.start_us(r) + (chip - int(self.chip0[r])) * self.unit_us(r), r
 
 
 def _window(hm: HeadModel, ws: _Windows, k: int, levels: np.ndarray, dur: np.ndarray,
@@ -139,24 +159,10 @@ def _window(hm: HeadModel, ws: _Windows, k: int, levels: np.ndarray, dur: np.nda
     """Return the runs of candidate window ``k`` with the head prefix in front."""
     first, a = int(ws.first[k]), int(ws.offset[k])
     m = int(ws.length[k])
-    unit0 = float(ws.start_unit_us[k])
-    pu = hm.prefix_units
-    units = np.concatenate((pu, ws.units[a:a + m]))
-    chip0 = np.concatenate(([0], np.cumsum(units)[:-1]))
-    pre_start = t0[first] - (int(pu.sum()) - chip0[:pu.size]) * unit0
-    d = dur[first:first + m]
-    return _Window(
-        first=first,
-        levels=np.concatenate((hm.prefix_levels, levels[first:first + m])),
-        units=units,
-        chip0=chip0,
-        start_us=np.concatenate((pre_start, t0[first:first + m])),
-        unit_us=np.concatenate((np.full(pu.size, unit0), ws.unit_us[a:a + m])),
-        dur_us=np.concatenate((np.full(pu.size, np.nan),
-                               np.where(ws.capped[a:a + m], np.nan, d))),
-        deviation=np.concatenate((np.zeros(pu.size), ws.deviation[a:a + m])),
-        n_prefix=int(pu.size),
-    )
+    units = np.concatenate((hm.prefix_units, ws.units[a:a + m]))
+    chip0 = np.cumsum(units) - units
+    return _Window(np.concatenate((hm.prefix_levels, levels[first:first + m])), units, chip0,
+                   int(hm.prefix_units.size), first, a, float(ws.start_unit_us[k]), ws, t0, dur)
 
 
 def _rank(hit: tuple[int, int, int], hm: HeadModel) -> tuple[int, int, int]:
@@ -197,19 +203,17 @@ def _frame_from(spec: FrameSpec, hm: HeadModel, w: _Window) -> tuple[DecodedFram
     start_us, _ = w.time_of_chip(c_start)
     end_us, last = w.time_of_chip(c_start + n_chips, end=True)
     # measured runs wholly inside the frame (the last one often runs on into the gap)
-    inner = np.arange(w.n_prefix, last + 1)
-    inner = inner[(w.chip0[inner] >= c_start)
-                  & (w.chip0[inner] + w.units[inner] <= c_start + n_chips)]
-    if inner.size and inner[-1] == last and np.isnan(w.dur_us[last]):
-        inner = inner[:-1]
-    dev = w.deviation[inner]
-    measured = inner[~np.isnan(w.dur_us[inner])]
-    if measured.size >= 2 and np.all(np.diff(measured) == 1):
-        unit_us = float(fit_unit(w.dur_us[measured], w.units[measured]))
+    inner = np.arange(max(w.n_prefix, int(np.searchsorted(w.chip0, c_start))), last + 1)
+    inner = inner[w.chip0[inner] + w.units[inner] <= c_start + n_chips]
+    measured, d, dev = w.measured(inner)
+    if inner.size and inner[-1] == last and (measured.size == 0 or measured[-1] != last):
+        inner, dev = inner[:-1], dev[:-1]  # the last run was capped: it is the gap
+    if measured.size >= 2 and measured[-1] - measured[0] == measured.size - 1:
+        unit_us = float(fit_unit(d, w.units[measured]))
     elif measured.size:
-        unit_us = float(w.dur_us[measured].sum() / w.units[measured].sum())
+        unit_us = float(d.sum() / w.units[measured].sum())
     else:
-        unit_us = float(w.unit_us[w.n_prefix])
+        unit_us = w.unit_us(w.n_prefix)
     frame = DecodedFrame(
         fields=parsed.fields,
         raw=parsed.raw,
