@@ -378,6 +378,50 @@ def test_best_sync_prefers_exact_then_nearest_and_respects_max_errors():
     assert best_sync(bits, invalid, lead, sync, 4, 16, 0) is None
 
 
+@pytest.mark.parametrize("line_code", [
+    {"name": "nrz", "stuff_after": 5}, {"name": "manchester"}, {"name": "diff_manchester"},
+    {"name": "biphase_mark"}, {"name": "pwm", "short_units": 1, "long_units": 3},
+    {"name": "pulse_distance"}, {"name": "4b6b"}, {"name": "3of6"}])
+def test_one_line_decode_for_all_windows_equals_one_per_window(line_code):
+    """The windows of a noisy capture decoded in one call give, for every window and
+    candidate, the bits that decoding the window alone gives."""
+    from ookframe.decode import framer
+
+    spec = spec_from_dict({
+        "frame": {"name": "bed", "unit_us": 500.0, "repeats": 2, "gap_us": 20000.0},
+        "line_code": line_code, "preamble": {"pattern": 0xAA, "count": 2},
+        "sync": {"value": 0x2DD4, "length_bits": 16},
+        "fields": [{"name": "moisture", "width_bits": 12}, {"name": "id", "width_bits": 8}],
+        "check": {"model": "CRC-8/SMBUS"}})
+    rng = np.random.default_rng(11)
+    parts = []
+    for _ in range(4):
+        tx = jitter_edges(frame.encode(spec, frame.random_values(spec, rng)), 75.0, rng)
+        parts.append(surround(tx, noise_pulses(40, 500.0, rng), noise_pulses(40, 500.0, rng),
+                              (9000.0, 9000.0))[0])
+    train = merge_runs(np.concatenate([p.levels for p in parts]),
+                       np.concatenate([p.durations_us for p in parts]))
+    hm = head_model(spec)
+    clean = drop_glitches(train.levels, train.durations_us, 150.0)
+    first, unit0 = find_candidates(clean.levels, clean.durations_us, hm.sig_levels,
+                                   hm.sig_units, 500.0, 0.35, 0.10)
+    assert first.size == 8
+    stop = np.minimum(first + 400, len(clean))
+    ws = framer._classify_windows(spec, hm, clean.durations_us, first, stop, unit0)
+    wins = [framer._window(hm, ws, k, clean.levels, clean.durations_us, clean.edges_us())
+            for k in range(first.size)]
+    for w, together in zip(wins, framer._decode_all(hm, wins), strict=True):
+        alone = hm.line_code.decode(w.levels, w.units)
+        assert len(together) == len(alone)
+        assert max(a.bits.size for a in alone) >= 60  # the whole frame
+        for t, a in zip(together, alone, strict=True):
+            n = a.bits.size - (0 if hm.phased else 1)  # a lone window's last pair is open
+            assert t.bits[:n].tolist() == a.bits[:n].tolist()
+            assert t.valid[:n].tolist() == a.valid[:n].tolist()
+            assert t.run_index[:n].tolist() == a.run_index[:n].tolist()
+        assert [f.crc_ok for f in decode(spec, train)] == [True] * 8
+
+
 # --- the whole decoder -------------------------------------------------------------------
 
 def test_examples_round_trip_with_times(example):

@@ -19,6 +19,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..frame import parse_frame
+from ..linecodes import DecodedBits
 from ..pulses import PulseTrain
 from ..spec.model import FrameSpec
 from .classify import classify, fit_unit, head_unit, track_unit
@@ -165,17 +166,64 @@ def _window(hm: HeadModel, ws: _Windows, k: int, levels: np.ndarray, dur: np.nda
                    int(hm.prefix_units.size), first, a, float(ws.start_unit_us[k]), ws, t0, dur)
 
 
+def _decode_all(hm: HeadModel, wins: list[_Window]) -> list[list[DecodedBits]]:
+    """Return the line-code candidates of every window from one ``decode`` call.
+
+    The windows' runs are laid end to end. Codes decoded per chip phase get a space of
+    1 .. chips_per_block chips before each window, so every window starts on a block
+    boundary after a space, as when decoded alone; codes read per mark get a space of the
+    longest run after a window that ends with a mark, so its last bit is complete.
+    """
+    lc = hm.line_code
+    cpb = lc.chips_per_block if hm.phased else None
+    levels: list[np.ndarray] = []
+    units: list[np.ndarray] = []
+    run_start = np.empty(len(wins), np.int64)
+    run_stop = np.empty(len(wins), np.int64)
+    space = np.zeros(1, np.uint8)
+    runs = chips = 0
+    last = 0
+    for k, w in enumerate(wins):
+        gap = 0
+        if cpb is not None and chips:
+            gap = (-chips) % cpb or (cpb if last else 0)
+        elif cpb is None and last:
+            gap = hm.cap_units
+        if gap:
+            levels.append(space)
+            units.append(np.array([gap], np.int64))
+            runs += 1
+            chips += gap
+        run_start[k] = runs
+        levels.append(w.levels)
+        units.append(w.units)
+        runs += w.levels.size
+        chips += int(w.chip0[-1] + w.units[-1])
+        run_stop[k] = runs
+        last = int(w.levels[-1])
+    out: list[list[DecodedBits]] = [[] for _ in wins]
+    for cand in lc.decode(np.concatenate(levels), np.concatenate(units)):
+        lo = np.searchsorted(cand.run_index, run_start).tolist()
+        hi = np.searchsorted(cand.run_index, run_stop).tolist()
+        for k, (a, b) in enumerate(zip(lo, hi, strict=True)):
+            out[k].append(DecodedBits(cand.bits[a:b], cand.run_index[a:b] - run_start[k],
+                                      cand.valid[a:b]))
+    return out
+
+
 def _rank(hit: tuple[int, int, int], hm: HeadModel) -> tuple[int, int, int]:
     pos, sync_errors, lead_errors = hit
     return sync_errors + lead_errors, sync_errors, abs(pos - hm.sync_bit)
 
 
-def _frame_from(spec: FrameSpec, hm: HeadModel, w: _Window) -> tuple[DecodedFrame, int] | None:
-    """Return (frame, train index of its last pulse) decoded from one window, or None."""
+def _frame_from(spec: FrameSpec, hm: HeadModel, w: _Window, cands: list[DecodedBits]
+                ) -> tuple[DecodedFrame, int] | None:
+    """Return (frame, train index of its last pulse) decoded from one window (its runs and
+    their line-code candidates), or None."""
     lc = hm.line_code
     sync = hm.sync_bits
     best = None
-    for cand in lc.decode(w.levels, w.units):
+    for cand in cands:
         hit = best_sync(cand.bits, cand.valid, hm.lead_bits, sync, hm.sync_bit,
                         hm.sync_reach_bits, spec.sync.max_errors)
         if hit is not None and (best is None or _rank(hit, hm) < _rank(best[1], hm)):
@@ -247,8 +295,8 @@ def decode(spec: FrameSpec, train: PulseTrain, *,
     Pipeline: validate (CaptureError on NaN / inf / non-positive durations or levels other
     than 0/1) -> glitch filter -> head signatures found at any clock within +-10 % of
     ``spec.unit_us`` (unit estimate from the preamble) -> for all candidates at once:
-    unit refit over the head, drift tracking, classification -> per candidate: line-code
-    decode, sync search with the allowed bit errors, unstuff, field parsing and check.
+    unit refit over the head, drift tracking, classification, line-code decode -> per
+    candidate: sync search with the allowed bit errors, unstuff, field parsing and check.
     Repeats are separate frames, each with its own ``start_us``; the search goes on after
     the end of every decoded frame. Frames whose check fails are included unless
     ``include_bad`` is False (default: the spec's ``decoder.report_bad_check``); a frame
@@ -278,10 +326,11 @@ def decode(spec: FrameSpec, train: PulseTrain, *,
     ws = _classify_windows(spec, hm, dur, first, stop, unit0)
     frames: list[DecodedFrame] = []
     done = -1
-    for k, i in enumerate(first.tolist()):
+    wins = [_window(hm, ws, k, levels, dur, t0) for k in range(first.size)]
+    for i, w, cands in zip(first.tolist(), wins, _decode_all(hm, wins), strict=True):
         if i <= done:
             continue
-        got = _frame_from(spec, hm, _window(hm, ws, k, levels, dur, t0))
+        got = _frame_from(spec, hm, w, cands)
         if got is None:
             continue
         frame, last = got

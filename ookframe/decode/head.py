@@ -45,6 +45,7 @@ class HeadModel:
     max_frame_chips: int
     cap_units: int
     break_us: float
+    phased: bool  # the code's decoder gives one candidate per chip phase (fixed blocks)
 
     @property
     def sig_levels(self) -> np.ndarray:
@@ -166,6 +167,7 @@ def build_head(spec: FrameSpec) -> HeadModel:
         max_frame_chips=int(max_chips),
         cap_units=int(max_run),
         break_us=break_threshold_us(max_run, spec.unit_us, MAX_CLOCK_ERROR),
+        phased=cpb is not None and len(lc.decode(levels, units)) > 1,
     )
 
 
