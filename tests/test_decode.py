@@ -249,7 +249,8 @@ def test_classify_rounds_to_whole_units_with_deviation():
 
 
 def test_fit_unit_is_the_least_squares_slope_of_edges():
-    """Reference: numpy.polyfit (degree 1) over (cumulative units, edge time) incl. (0, 0)."""
+    """Reference: numpy.polyfit (numpy 2.x, degree 1) over (cumulative units, edge time),
+    origin included."""
     rng = np.random.default_rng(1)
     units = rng.integers(1, 4, (5, 12))
     dur = units * 417.0 + rng.uniform(-60, 60, units.shape)
@@ -278,8 +279,9 @@ def _loop_reference(d, u0, gain, tolerance, iterations=2):
 
 
 def test_track_unit_is_the_first_order_loop_per_unit():
-    """Reference: the recurrence written as a plain loop (scipy.signal.lfilter documents
-    y[n] = b0 x[n] - a1 y[n-1], which with b0 = g, a1 = g - 1 is that loop)."""
+    """Reference: the recurrence written as a plain loop; and the filter it runs on
+    (scipy.signal.lfilter, scipy 1.17 docs: a[0] y[n] = b[0] x[n] - a[1] y[n-1], which with
+    b = [g], a = [1, g - 1] is u = u + g (x - u))."""
     rng = np.random.default_rng(2)
     n = rng.integers(1, 5, 200)
     d = n * 300.0 * np.linspace(0.97, 1.03, n.size) + rng.uniform(-40, 40, n.size)
