@@ -597,3 +597,26 @@ def test_garbage_never_raises(seed, n, name):
     a, b = sorted(rng.integers(0, len(tx) + 1, 2))
     cut = PulseTrain(np.concatenate((lv, tx.levels[a:b])), np.concatenate((du, tx.durations_us[a:b])))
     assert all(isinstance(f, DecodedFrame) for f in decode(spec, cut))
+
+
+def test_noise_right_up_to_the_first_preamble_mark():
+    """Receiver noise that runs up to the carrier start (a superregenerative receiver is
+    noisy until the carrier arrives; common practice, no source) may stretch the first
+    preamble mark through the glitch filter; the head signature must skip those runs.
+    Regression: a 158 µs noise mark + glitches before the first 500 µs mark lost the frame."""
+    from ookframe import encode
+    from ookframe.decode import decode as decode_frames
+    from ookframe.pulses import PulseTrain, concat
+    from tests.conftest import example_spec
+
+    spec, values = example_spec("hive_scale.toml")
+    frame = encode(spec, values)
+    assert frame.levels[0] == 0  # Manchester 0xAA starts with a space chip
+    body = PulseTrain(frame.levels[1:], frame.durations_us[1:])
+    rng = np.random.default_rng(3)
+    noise_us = rng.exponential(100.0, 60)
+    noise = PulseTrain((np.arange(60) % 2).astype(np.uint8), noise_us)  # ends with a mark
+    tail = PulseTrain(np.array([0, 1, 0, 1, 0], np.uint8), np.array([300.0, 158.1, 50.5, 53.0, 25.2]))
+    train = concat([noise, tail, body])
+    got = [f for f in decode_frames(spec, train) if f.crc_ok]
+    assert len(got) == spec.repeats

@@ -20,6 +20,9 @@ from .segment import break_threshold_us
 MAX_CLOCK_ERROR = 0.10
 #: fewest preamble runs for a preamble-only signature (else the sync joins it)
 MIN_SIGNATURE_RUNS = 4
+#: leading head runs left out of the signature when the preamble is long enough: noise
+#: just before the carrier starts can merge with them (common practice, no source)
+LEAD_SKIP_RUNS = 4
 #: preamble bits just before the sync that also rank sync hits
 LEAD_BITS = 16
 #: most runs in a signature (the last ones before the sync: early runs may be eaten by AGC)
@@ -86,10 +89,14 @@ def bit_chips(line_code: LineCode, cs: np.ndarray, run_index: np.ndarray, stop: 
 def _signature(levels: np.ndarray, units: np.ndarray, sync_chip: int) -> tuple[int, int]:
     cs = np.concatenate(([0], np.cumsum(units)))
     pre = np.flatnonzero(cs[1:] <= sync_chip)  # runs wholly before the sync's block
-    pre = pre[pre >= 1]  # the first run may merge with the idle level or noise
+    # the first runs may merge with the idle level or with receiver noise just before the
+    # carrier starts (a superregenerative receiver is noisy until then): skip a few when
+    # the preamble is long enough to spare them
+    skip = LEAD_SKIP_RUNS if (pre >= LEAD_SKIP_RUNS).sum() >= MIN_SIGNATURE_RUNS else 1
+    pre = pre[pre >= skip]
     if pre.size >= MIN_SIGNATURE_RUNS:
         stop = int(pre[-1]) + 1
-        return max(1, stop - MAX_SIGNATURE_RUNS), stop
+        return max(int(pre[0]), stop - MAX_SIGNATURE_RUNS), stop
     if levels.size >= 3:  # interior head runs (sync included; needs an exact sync)
         return 1, min(levels.size - 1, 1 + MAX_SIGNATURE_RUNS)
     first_mark = int(np.argmax(levels == 1))
