@@ -75,13 +75,18 @@ def _no_unknown(d: Mapping[str, Any], allowed: tuple[str, ...], path: str) -> No
             raise SpecError(f"{path}.{k}" if path else k, _suggest(k, allowed))
 
 
+def _default(path: str, default: Any) -> Any:
+    """The default of an absent key; SpecError when the key is required (no default)."""
+    if default is None:
+        raise SpecError(path, "is required")
+    return default
+
+
 def _int(d: Mapping[str, Any], key: str, path: str, default: int | None = None, *,
          lo: int | None = None, hi: int | None = None) -> int:
     p = f"{path}.{key}"
     if key not in d:
-        if default is None:
-            raise SpecError(p, "is required")
-        return default
+        return _default(p, default)
     v = d[key]
     if isinstance(v, str):
         try:
@@ -99,9 +104,7 @@ def _float(d: Mapping[str, Any], key: str, path: str, default: float | None = No
            lo: float | None = None, hi: float | None = None, lo_open: bool = False) -> float:
     p = f"{path}.{key}"
     if key not in d:
-        if default is None:
-            raise SpecError(p, "is required")
-        return default
+        return _default(p, default)
     v = d[key]
     if isinstance(v, bool) or not isinstance(v, int | float):
         raise SpecError(p, f"must be a number, got {type(v).__name__}")
