@@ -111,3 +111,41 @@ def test_every_command_has_working_help(capsys):
     for name in table:
         assert main([name, "--help"]) == 0
         assert name in capsys.readouterr().out
+
+
+def test_output_files_follow_umask_and_need_their_folder(capsys, tmp_path):
+    """Written files get the mode open() would give (0666 & ~umask), and a missing folder
+    is an error rather than created (POSIX open(2) semantics as the reference)."""
+    import os
+
+    out_csv = tmp_path / "f.csv"
+    code, _, _ = run(capsys, "encode", HIVE, "--format", "csv", "-o", str(out_csv))
+    assert code == 0
+    umask = os.umask(0)
+    os.umask(umask)
+    assert out_csv.stat().st_mode & 0o777 == 0o666 & ~umask
+    code, _, err = run(capsys, "encode", HIVE, "--format", "csv", "-o", str(tmp_path / "no" / "f.csv"))
+    assert code == exitcodes.EXISTS and "does not exist" in err
+    assert not (tmp_path / "no").exists()
+
+
+def test_off_grid_scaled_value_warns(capsys):
+    code, _, err = run(capsys, "encode", HIVE, "--set", "brood_temp_c=34.65", "--format", "bits")
+    assert code == 0 and "not a multiple of its scale" in err and "34.6 is sent" in err
+
+
+@pytest.mark.parametrize("argv", [
+    ["stress", HIVE, "--frames", "-5"],
+    ["stress", HIVE, "--seed", "-1"],
+    ["stress", HIVE, "--workers", "0"],
+    ["noise", HIVE, "--hours", "0"],
+    ["noise", HIVE, "--hours", "nan"],
+    ["noise", HIVE, "--mean-us", "0", "--hours", "1"],
+    ["vectors", HIVE, "--count", "0"],
+    ["margin", HIVE, "--resolution", "0"],
+    ["margin", HIVE, "--impairments", "bogus"],
+])
+def test_simulation_options_are_range_checked(capsys, argv):
+    code, _, err = run(capsys, *argv)
+    assert code in (exitcodes.USAGE, exitcodes.BAD_INPUT)
+    assert "internal error" not in err and ("range" in err or "allowed" in err)

@@ -33,7 +33,7 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    help="--poly is in Koopman's notation (x^W as top bit, +1 implied: 0x8810)")
     p.add_argument("--data-bits", type=int, default=DEFAULT_DATA_BITS, metavar="N",
                    help=f"data word length for the HD (default {DEFAULT_DATA_BITS})")
-    p.add_argument("--max-work", type=int, default=DEFAULT_MAX_WORK, metavar="K",
+    p.add_argument("--max-work", type=common.int_in(1, 10**15), default=DEFAULT_MAX_WORK, metavar="K",
                    help="most error-pattern combinations examined per weight; beyond, the HD "
                    f"is given as a lower bound (default {DEFAULT_MAX_WORK:_})")
     common.add_json_argument(p)

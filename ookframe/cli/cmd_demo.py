@@ -47,7 +47,7 @@ def run(args: argparse.Namespace) -> int:
         "hive_scale.h": header.text,
     }
     for n in names:
-        write_atomic(d / n, outputs[n], force=True)
+        write_atomic(d / n, outputs[n], force=True, make_parents=True)
     lay = frame_layout(spec, values)
     ok = [f for f in frames if f.crc_ok and values_equal(spec, f.fields, values)]
     out.print(f"[bold]ookframe demo[/bold]: {spec.description}")

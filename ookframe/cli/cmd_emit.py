@@ -68,7 +68,7 @@ def run(args: argparse.Namespace) -> int:
     emitted = emit_header(spec, target)  # everything is computed before anything is written
     path = Path(args.output_dir) / emitted.filename
     check_writable(path, args.force)
-    write_atomic(path, emitted.text, force=args.force)
+    write_atomic(path, emitted.text, force=args.force, make_parents=True)  # -o DIR is created
     report = {**emitted.report(), "path": str(path)}
     if args.json:
         print_json(report)

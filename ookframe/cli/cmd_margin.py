@@ -6,6 +6,7 @@ import argparse
 
 from rich.table import Table
 
+from ..errors import ValueRangeError
 from ..stress.margin import MARGIN_IMPAIRMENTS, run_margin
 from . import common, exitcodes
 from .cmd_stress import add_channel_arguments, add_run_arguments, channel_from_args
@@ -23,7 +24,7 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    "show the target at 95 %%)")
     p.add_argument("--impairments", default=",".join(MARGIN_IMPAIRMENTS),
                    help="comma-separated impairments to search")
-    p.add_argument("--resolution", type=float, default=0.02,
+    p.add_argument("--resolution", type=common.float_in(0, 1, lo_open=True, hi_open=True), default=0.02,
                    help="bracket width as a fraction of the search range (default 0.02)")
     add_channel_arguments(p, "ideal")
     add_run_arguments(p)
@@ -32,6 +33,10 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     spec, _ = common.load(args)
     names = [n.strip() for n in args.impairments.split(",") if n.strip()]
+    if not names or any(n not in MARGIN_IMPAIRMENTS for n in names):
+        bad = next((n for n in names if n not in MARGIN_IMPAIRMENTS), "")
+        raise ValueRangeError(f"--impairments: {bad!r} is not a searchable impairment; "
+                              f"allowed: {', '.join(MARGIN_IMPAIRMENTS)}")
     show = progress_enabled(args)
     r = run_margin(spec, args.target_per, channel=channel_from_args(args), impairments=names,
                    n_frames=args.frames, resolution=args.resolution, seed=args.seed,

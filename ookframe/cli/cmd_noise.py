@@ -18,10 +18,10 @@ HELP = "feed idle-receiver noise only; false frames per hour, measured and expec
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
     common.add_spec_argument(p)
-    p.add_argument("--hours", type=float, required=True, help="hours of noise to simulate")
+    p.add_argument("--hours", type=common.float_in(0, 10_000, lo_open=True), required=True, help="hours of noise to simulate")
     p.add_argument("--preset", default="budget-superregen", choices=sorted(PRESETS),
                    help="take the noise pulse mean from this preset")
-    p.add_argument("--mean-us", type=float, default=None,
+    p.add_argument("--mean-us", type=common.float_in(1, 1e7), default=None,
                    help="mean noise pulse duration in µs (overrides the preset)")
     add_run_arguments(p)
 

@@ -48,10 +48,10 @@ def channel_from_args(args: argparse.Namespace) -> ChannelSpec:
 
 def add_run_arguments(p: argparse.ArgumentParser) -> None:
     """Add --seed, --workers, --chunk-frames, --json and --progress."""
-    p.add_argument("--seed", type=int, default=0, help="random seed (default 0)")
-    p.add_argument("--workers", type=int, default=min(os.cpu_count() or 1, 8),
+    p.add_argument("--seed", type=common.SEED, default=0, help="random seed (default 0)")
+    p.add_argument("--workers", type=common.WORKERS, default=min(os.cpu_count() or 1, 8),
                    help="worker processes (default: CPU count); results do not depend on it")
-    p.add_argument("--chunk-frames", type=int, default=DEFAULT_CHUNK_FRAMES, metavar="N",
+    p.add_argument("--chunk-frames", type=common.int_in(1, 10_000_000), default=DEFAULT_CHUNK_FRAMES, metavar="N",
                    help=f"frames per work unit (default {DEFAULT_CHUNK_FRAMES}); part of the "
                    "seed: keep it to reproduce a run")
     common.add_json_argument(p)
@@ -84,7 +84,7 @@ def channel_text(ch: ChannelSpec) -> str:
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
     common.add_spec_argument(p)
-    p.add_argument("--frames", type=int, default=10000, help="transmissions to send")
+    p.add_argument("--frames", type=common.FRAMES, default=10000, help="transmissions to send")
     add_channel_arguments(p, "budget-superregen")
     add_run_arguments(p)
 

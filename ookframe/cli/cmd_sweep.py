@@ -8,6 +8,7 @@ from rich.table import Table
 
 from ..spec.load import load_spec
 from ..stress.sweep import parse_vary, plot_sweep, run_sweep
+from . import common
 from .cmd_stress import add_channel_arguments, add_run_arguments, channel_from_args, progress_bar
 from .output import check_writable, err, out, print_json
 
@@ -19,7 +20,7 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("specs", nargs="+", metavar="SPEC", help="frame spec files (TOML)")
     p.add_argument("--vary", required=True, metavar="NAME=START:STOP:COUNT",
                    help="impairment and grid, e.g. jitter_us=0:40:21 or mark_bias_us=-8,0,8")
-    p.add_argument("--frames", type=int, default=2000, help="transmissions per point")
+    p.add_argument("--frames", type=common.FRAMES, default=2000, help="transmissions per point")
     p.add_argument("--plot", metavar="FILE", help="write a plot (.png, .svg, .pdf)")
     p.add_argument("--force", action="store_true", help="overwrite an existing plot file")
     add_channel_arguments(p, "ideal")

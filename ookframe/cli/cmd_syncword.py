@@ -37,7 +37,7 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--top", type=int, default=10, metavar="K", help="words to list (default 10)")
     p.add_argument("--word", default=None, metavar="HEX",
                    help="score this word instead of searching")
-    p.add_argument("--seed", type=int, default=0,
+    p.add_argument("--seed", type=common.SEED, default=0,
                    help="seed of the hill-climbing search above the exhaustive limit")
     common.add_json_argument(p)
 

@@ -17,8 +17,8 @@ HELP = "distorted pulse trains + expected field values as a C header (.h) or JSO
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
     common.add_spec_argument(p)
-    p.add_argument("--count", type=int, default=16, help="number of vectors (default 16)")
-    p.add_argument("--seed", type=int, default=0, help="random seed (default 0)")
+    p.add_argument("--count", type=common.int_in(1, 10_000), default=16, help="number of vectors (default 16)")
+    p.add_argument("--seed", type=common.SEED, default=0, help="random seed (default 0)")
     p.add_argument("--format", choices=("c", "json"), default=None,
                    help="output format (default: from the -o extension, else json)")
     common.add_output_arguments(p)

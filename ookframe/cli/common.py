@@ -65,8 +65,68 @@ def values_from_args(spec: FrameSpec, defaults: dict[str, object],
             raise ValueRangeError(f"--set {item!r}: expected FIELD=VALUE")
         k, v = item.split("=", 1)
         values[k.strip()] = parse_value(v)
+    _warn_off_grid(spec, values)
     return values
+
+
+def _warn_off_grid(spec: FrameSpec, values: dict[str, object]) -> None:
+    """Warn (stderr) when a scaled value is not a whole number of scale steps."""
+    from ..bits import from_raw, to_raw
+    from .output import err
+
+    for f in spec.fields:
+        if f.kind != "int" or not f.is_scaled or f.name not in values:
+            continue
+        try:
+            sent = from_raw(f, to_raw(f, values[f.name]))
+        except ValueRangeError:
+            continue  # reported by the encoder
+        if float(values[f.name]) != sent:  # type: ignore[arg-type]
+            err.print(f"warning: {f.name}={values[f.name]} is not a multiple of its scale "
+                      f"{f.scale:g} (offset {f.offset:g}); {sent} is sent", markup=False)
 
 
 def load(args: argparse.Namespace) -> tuple[FrameSpec, dict[str, object]]:
     return load_spec_and_defaults(args.spec)
+
+
+def int_in(lo: int, hi: int):
+    """argparse type: an integer in lo..hi (message names the allowed range)."""
+
+    def parse(text: str) -> int:
+        try:
+            v = int(text, 0)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"{text!r} is not an integer") from None
+        if not lo <= v <= hi:
+            raise argparse.ArgumentTypeError(f"{v} is out of range; allowed {lo}..{hi}")
+        return v
+
+    return parse
+
+
+def float_in(lo: float, hi: float, *, lo_open: bool = False, hi_open: bool = False):
+    """argparse type: a finite number in [lo, hi] (ends open when asked)."""
+    import math
+
+    def parse(text: str) -> float:
+        try:
+            v = float(text)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"{text!r} is not a number") from None
+        bad_lo = v < lo or (lo_open and v == lo)
+        bad_hi = v > hi or (hi_open and v == hi)
+        if not math.isfinite(v) or bad_lo or bad_hi:
+            raise argparse.ArgumentTypeError(
+                f"{text} is out of range; allowed {'(' if lo_open else '['}{lo:g}, {hi:g}"
+                f"{')' if hi_open else ']'}")
+        return v
+
+    return parse
+
+
+#: argparse types shared by the simulation commands
+SEED = int_in(0, 2**63 - 1)
+WORKERS = int_in(1, 64)
+FRAMES = int_in(1, 100_000_000)
+FINITE = float_in(-1e12, 1e12)

@@ -32,7 +32,7 @@ def build_parser() -> tuple[argparse.ArgumentParser, dict[str, ModuleType]]:
     table: dict[str, ModuleType] = {}
     for mod in _modules():
         text = mod.HELP.replace("%", "%%")  # argparse formats help strings with %
-        p = sub.add_parser(mod.NAME, help=text, description=text)
+        p = sub.add_parser(mod.NAME, help=text, description=mod.HELP)
         mod.add_arguments(p)
         table[mod.NAME] = mod
     return parser, table

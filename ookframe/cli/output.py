@@ -16,13 +16,13 @@ from ..cautions import REGULATORY_CAUTION  # noqa: F401 - re-exported for comman
 from ..errors import OokframeError
 
 #: data goes to stdout, messages to stderr
-out = Console(highlight=False, soft_wrap=True)
-err = Console(stderr=True, highlight=False, soft_wrap=True)
+out = Console(highlight=False, soft_wrap=True, emoji=False)
+err = Console(stderr=True, highlight=False, soft_wrap=True, emoji=False)
 
 
 
 class OutputExists(OokframeError):
-    """An output file exists and --force was not given."""
+    """An output file exists and --force was not given (or its folder is missing)."""
 
 
 def _clean(o: Any) -> Any:
@@ -60,19 +60,35 @@ def check_writable(path: str | Path, force: bool) -> Path:
     return p
 
 
-def write_atomic(path: str | Path, data: str | bytes, force: bool = False) -> Path:
-    """Write a file all at once (temp file + rename) so nothing half-written is left."""
+def write_atomic(path: str | Path, data: str | bytes, force: bool = False, *,
+                 make_parents: bool = False) -> Path:
+    """Write a file all at once (temp file + rename) so nothing half-written is left.
+
+    The folder must exist unless ``make_parents``; the file gets the mode a plain
+    ``open()`` would give (umask respected; an overwritten file keeps its mode).
+    """
     p = check_writable(path, force)
-    p.parent.mkdir(parents=True, exist_ok=True)
+    if make_parents:
+        p.parent.mkdir(parents=True, exist_ok=True)
+    elif not p.parent.is_dir():
+        raise OutputExists(f"folder {p.parent} does not exist")
+    mode = p.stat().st_mode & 0o7777 if p.exists() else 0o666 & ~_umask()
     fd, tmp = tempfile.mkstemp(dir=p.parent, prefix=f".{p.name}.", suffix=".tmp")
     try:
         with os.fdopen(fd, "wb") as fh:
             fh.write(data.encode("utf-8") if isinstance(data, str) else data)
+        os.chmod(tmp, mode)
         os.replace(tmp, p)
     except BaseException:
         Path(tmp).unlink(missing_ok=True)
         raise
     return p
+
+
+def _umask() -> int:
+    current = os.umask(0)
+    os.umask(current)
+    return current
 
 
 def progress_enabled(args: Any) -> bool:

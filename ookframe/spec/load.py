@@ -456,6 +456,8 @@ def load_spec_and_defaults(path: str | Path) -> tuple[FrameSpec, dict[str, objec
         text = p.read_text(encoding="utf-8")
     except OSError as e:
         raise SpecError("", f"cannot read spec file {str(p)!r}: {e.strerror}") from None
+    except UnicodeDecodeError:
+        raise SpecError("", f"{p}: not a text (UTF-8) TOML file") from None
     try:
         doc = tomllib.loads(text)
     except tomllib.TOMLDecodeError as e:
