@@ -8,6 +8,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
+from decimal import Decimal
 from functools import lru_cache
 
 import numpy as np
@@ -237,26 +238,101 @@ def min_body_bits(spec: FrameSpec) -> int:
     return sum(f.width_bits for f in spec.fields if f.kind == "int") + spec.check.width_bits
 
 
+@dataclass(frozen=True)
+class _FieldPlan:
+    """How to read one field: kind, width, sign, on-air bit weights, decimal scale/offset."""
+
+    f: FieldSpec
+    weights: np.ndarray | None  # uint64 weight of every on-air bit (None: wider than 64)
+    scale: Decimal | None  # None when the field is unscaled
+    offset: Decimal | None
+
+
+@dataclass(frozen=True)
+class _ParsePlan:
+    """Everything ``parse_frame`` needs from a spec, worked out once per spec."""
+
+    spec: FrameSpec
+    fields: tuple[_FieldPlan, ...]
+    min_body_bits: int
+    max_body_bits: int
+    n_check_bits: int
+    fields_mask: np.ndarray | None  # whitening of the longest fields section, or None
+    check_weights: np.ndarray | None
+    check: object
+    sync_bits: np.ndarray | None  # sync bits when the check covers the sync, else None
+    check_masks: dict[int, np.ndarray]  # whitening of the check bits by fields length
+
+
+def _bit_weights(width_bits: int, bit_order: _b.BitOrder, byte_order: _b.ByteOrder
+                 ) -> np.ndarray | None:
+    """Return the uint64 weight of every on-air bit of a ``width_bits`` value, so that
+    ``bits @ weights`` equals :func:`bits.bits_to_int`; None above 64 bits."""
+    if width_bits > 64:
+        return None
+    perm = _b.order_bits(np.arange(width_bits), bit_order, byte_order)
+    return np.left_shift(np.uint64(1), (width_bits - 1 - perm).astype(np.uint64))
+
+
+def _dot_int(bits: np.ndarray, weights: np.ndarray | None, bit_order: _b.BitOrder,
+             byte_order: _b.ByteOrder) -> int:
+    if weights is None:
+        return _b.bits_to_int(bits, bit_order, byte_order)
+    return int(bits @ weights)
+
+
+#: parse plans by id(spec); each entry holds its spec, so an id is not reused while cached
+_PLANS: dict[int, _ParsePlan] = {}
+
+
+def _parse_plan(spec: FrameSpec) -> _ParsePlan:
+    """Return the parse plan of ``spec`` (built on first use; no hashing of the spec)."""
+    plan = _PLANS.get(id(spec))
+    if plan is not None and plan.spec is spec:
+        return plan
+    fields = []
+    for f in spec.fields:
+        wts = None if f.kind == "bytes" else _bit_weights(f.width_bits, spec.bit_order,
+                                                          spec.byte_order)
+        sc = (_b._dec(f.scale), _b._dec(f.offset)) if f.is_scaled else (None, None)
+        fields.append(_FieldPlan(f, wts, *sc))
+    w = spec.whitening
+    n_max = max_body_bits(spec)
+    fields_mask = None
+    if w.kind != "none" and "fields" in w.covers:
+        from .whitening import lfsr_bits
+
+        fields_mask = lfsr_bits(w, n_max)
+    n_cb = spec.check.width_bits
+    plan = _ParsePlan(
+        spec=spec, fields=tuple(fields), min_body_bits=min_body_bits(spec),
+        max_body_bits=n_max, n_check_bits=n_cb, fields_mask=fields_mask,
+        check_weights=_bit_weights(n_cb, spec.bit_order, spec.check.byte_order) if n_cb else None,
+        check=_check(spec) if n_cb else None,
+        sync_bits=sync_bits(spec) if "sync" in spec.check.covers else None,
+        check_masks={})
+    if len(_PLANS) >= 64:
+        _PLANS.clear()
+    _PLANS[id(spec)] = plan
+    return plan
+
+
 def parse_frame(spec: FrameSpec, bits_after_sync: np.ndarray) -> ParsedFrame | None:
     """Read fields and verify the check from the bits after the sync word.
 
     ``bits_after_sync`` is already unstuffed and still whitened; it may run past the end of
     the frame. Returns None when too few bits are present (truncated frame).
     """
+    p = _parse_plan(spec)
     rx = np.asarray(bits_after_sync, dtype=np.uint8)
-    w = spec.whitening
-    n_cb = spec.check.width_bits
+    n_cb = p.n_check_bits
     # de-whiten assuming the longest layout; the mask for a shorter frame is its prefix
     # when whitening starts at the fields, which is the case that needs the length field.
-    n_max = min(rx.size, max_body_bits(spec))
-    if rx.size < min_body_bits(spec):
+    if rx.size < p.min_body_bits:
         return None
-    plain = rx[:n_max].copy()
-    if w.kind != "none" and "fields" in w.covers:
-        from .whitening import lfsr_bits
-
-        plain ^= lfsr_bits(w, n_max)
-    got = read_fields(spec, plain, reserve_bits=n_cb)
+    n_max = min(rx.size, p.max_body_bits)
+    plain = rx[:n_max] ^ p.fields_mask[:n_max] if p.fields_mask is not None else rx[:n_max]
+    got = _read_fields(p, plain, n_cb)
     if got is None:
         return None
     raw, pos = got
@@ -264,11 +340,18 @@ def parse_frame(spec: FrameSpec, bits_after_sync: np.ndarray) -> ParsedFrame | N
     fb = plain[:n_fb]
     if pos + n_cb > rx.size:
         return None
-    cb = rx[pos:pos + n_cb].copy()
     if n_cb:
-        cb ^= whitening_mask(spec, n_fb, n_cb)[n_fb:]
-    ok = bool(np.array_equal(cb, check_bits(spec, fb))) if n_cb else True
-    fields = physical_values(spec, raw)
+        mask = p.check_masks.get(n_fb)
+        if mask is None:
+            mask = p.check_masks[n_fb] = whitening_mask(spec, n_fb, n_cb)[n_fb:]
+        cb = rx[pos:pos + n_cb] ^ mask
+        covered = fb if p.sync_bits is None else np.concatenate((p.sync_bits, fb))
+        value = p.check.compute(_b.pack_bits(covered))  # type: ignore[attr-defined]
+        got_value = _dot_int(cb, p.check_weights, spec.bit_order, spec.check.byte_order)
+        ok = got_value == value & ((1 << n_cb) - 1)
+    else:
+        ok = True
+    fields = _physical(p, raw)
     return ParsedFrame(fields=fields, raw=raw, payload_hex=_b.pack_bits(fb).hex(),
                        check_ok=ok, n_bits=n_fb + n_cb)
 
@@ -279,10 +362,17 @@ def read_fields(spec: FrameSpec, plain: np.ndarray, reserve_bits: int = 0
 
     None when the bits run out (``reserve_bits`` more must follow the fields).
     """
+    return _read_fields(_parse_plan(spec), np.asarray(plain, dtype=np.uint8), reserve_bits)
+
+
+def _read_fields(p: _ParsePlan, plain: np.ndarray, reserve_bits: int
+                 ) -> tuple[dict[str, object], int] | None:
+    spec = p.spec
     raw: dict[str, object] = {}
     pos = 0
     blob_len = 0
-    for f in spec.fields:
+    for fp in p.fields:
+        f = fp.f
         if f.kind == "bytes":
             n = 8 * blob_len
             if pos + n + reserve_bits > plain.size or blob_len > f.max_len_bytes:
@@ -293,15 +383,30 @@ def read_fields(spec: FrameSpec, plain: np.ndarray, reserve_bits: int = 0
             raw[f.name] = np.packbits(b).tobytes() if n else b""
             pos += n
             continue
-        if pos + f.width_bits > plain.size:
+        end = pos + f.width_bits
+        if end > plain.size:
             return None
-        u = _b.bits_to_int(plain[pos:pos + f.width_bits], spec.bit_order, spec.byte_order)
-        pos += f.width_bits
+        u = _dot_int(plain[pos:end], fp.weights, spec.bit_order, spec.byte_order)
+        pos = end
         r = _b.to_signed(u, f.width_bits) if f.signed else u
         raw[f.name] = r
         if f.role == "length":
             blob_len = r
     return raw, pos
+
+
+def _physical(p: _ParsePlan, raw: Mapping[str, object]) -> dict[str, object]:
+    """Same as :func:`physical_values`, with the plan's decimal scale and offset."""
+    out: dict[str, object] = {}
+    for fp in p.fields:
+        r = raw[fp.f.name]
+        if isinstance(r, bytes):
+            out[fp.f.name] = r.hex()
+        elif fp.scale is None:
+            out[fp.f.name] = int(r)  # type: ignore[call-overload]
+        else:
+            out[fp.f.name] = float(Decimal(int(r)) * fp.scale + fp.offset)  # type: ignore[call-overload,operator]
+    return out
 
 
 def physical_values(spec: FrameSpec, raw: Mapping[str, object]) -> dict[str, object]:
