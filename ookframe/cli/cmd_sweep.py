@@ -6,6 +6,7 @@ import argparse
 
 from rich.table import Table
 
+from ..errors import ValueRangeError
 from ..spec.load import load_spec
 from ..stress.sweep import parse_vary, plot_sweep, run_sweep
 from . import common
@@ -13,6 +14,7 @@ from .cmd_stress import add_channel_arguments, add_run_arguments, channel_from_a
 from .output import check_writable, err, out, print_json
 
 NAME = "sweep"
+PLOT_SUFFIXES = (".png", ".svg", ".pdf")
 HELP = "PER (with 95 % CI) against one impairment for one or more specs; table and plot"
 
 
@@ -31,7 +33,14 @@ def run(args: argparse.Namespace) -> int:
     name, values = parse_vary(args.vary)
     specs = [load_spec(s) for s in args.specs]
     if args.plot:
+        from pathlib import Path
+
+        if Path(args.plot).suffix.lower() not in PLOT_SUFFIXES:
+            raise ValueRangeError(f"--plot {args.plot}: the file name must end in one of "
+                                  f"{', '.join(PLOT_SUFFIXES)}")
         check_writable(args.plot, args.force)
+        if not Path(args.plot).resolve().parent.is_dir():
+            raise ValueRangeError(f"--plot {args.plot}: folder does not exist")
     ch = channel_from_args(args)
     total = args.frames * len(values) * len(specs)
     with progress_bar(args, total, "sweep") as tick:

@@ -13,6 +13,9 @@ from ..errors import ValueRangeError
 from ..spec.model import FrameSpec
 from .runner import DEFAULT_CHUNK_FRAMES, StressResult, pool_for, run_stress
 
+#: most grid points of one sweep (each point is a full stress run)
+MAX_POINTS = 200
+
 
 def parse_vary(text: str) -> tuple[str, tuple[float, ...]]:
     """Return (impairment, grid) from ``NAME=START:STOP:COUNT`` (COUNT points, both ends
@@ -28,15 +31,18 @@ def parse_vary(text: str) -> tuple[str, tuple[float, ...]]:
         if ":" in grid:
             start, stop, count = grid.split(":")
             n = int(count)
-            if n < 1:
+            if not 1 <= n <= MAX_POINTS:
                 raise ValueError
             values = tuple(float(v) for v in np.linspace(float(start), float(stop), n))
         else:
             values = tuple(float(v) for v in grid.split(","))
     except ValueError:
         raise ValueRangeError(
-            f"--vary {text!r}: the grid must be START:STOP:COUNT (COUNT >= 1) or V1,V2,..."
+            f"--vary {text!r}: the grid must be START:STOP:COUNT (COUNT 1..{MAX_POINTS}) or "
+            "V1,V2,..."
         ) from None
+    if not values or len(values) > MAX_POINTS:
+        raise ValueRangeError(f"--vary {text!r}: 1..{MAX_POINTS} values allowed")
     return name, values
 
 
