@@ -38,6 +38,8 @@ def best_sync(bits: np.ndarray, valid: np.ndarray, lead: np.ndarray, sync: np.nd
     hi = min(expected + reach, bits.size - n)
     if hi < lo:
         return None
+    if hi - lo < _SMALL_SPAN and lead.size + n <= 64:
+        return _best_sync_small(bits, valid, lead, sync, expected, lo, hi, max_errors)
     offsets = np.arange(lo, hi + 1)
     at = offsets[:, None] + np.arange(n)
     sync_err = ((bits[at] != sync) | ~valid[at]).sum(axis=1)
@@ -51,3 +53,39 @@ def best_sync(bits: np.ndarray, valid: np.ndarray, lead: np.ndarray, sync: np.nd
     lead_err = (((bits[at] != lead) | ~valid[at]) & inside).sum(axis=1)
     k = np.lexsort((np.abs(offsets - expected), sync_err, sync_err + lead_err))[0]
     return int(offsets[k]), int(sync_err[k]), int(lead_err[k])
+
+
+#: offsets up to this many are tried one by one on packed integers (a few numpy calls
+#: instead of a few dozen); wider searches use the array form above
+_SMALL_SPAN = 32
+
+
+def _as_int(bits: np.ndarray) -> int:
+    """Return the bits (first bit most significant) as one integer."""
+    return int.from_bytes(np.packbits(bits).tobytes(), "big") >> (-bits.size % 8)
+
+
+def _best_sync_small(bits: np.ndarray, valid: np.ndarray, lead: np.ndarray, sync: np.ndarray,
+                     expected: int, lo: int, hi: int, max_errors: int
+                     ) -> tuple[int, int, int] | None:
+    """:func:`best_sync` over offsets lo .. hi (both in range), on packed integers."""
+    n, n_lead = sync.size, lead.size
+    a, b = max(lo - n_lead, 0), hi + n
+    seg = _as_int(bits[a:b])
+    bad = _as_int(~valid[a:b])
+    pattern = _as_int(np.concatenate((lead, sync)))
+    sync_mask = (1 << n) - 1
+    best = None
+    best_key = None
+    for o in range(lo, hi + 1):
+        shift = b - o - n
+        # lead bits before the stream start are not counted
+        err = (((seg >> shift) ^ pattern) | (bad >> shift)) & ((1 << min(n_lead + n, o + n)) - 1)
+        sync_err = (err & sync_mask).bit_count()
+        if sync_err > max_errors:
+            continue
+        lead_err = (err >> n).bit_count()
+        key = (sync_err + lead_err, sync_err, abs(o - expected))
+        if best_key is None or key < best_key:  # first of ties: lowest offset
+            best_key, best = key, (o, sync_err, lead_err)
+    return best
