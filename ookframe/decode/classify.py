@@ -14,8 +14,14 @@ from scipy.signal import lfilter
 def classify(durations_us: np.ndarray, unit_us: float | np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Return (whole units >= 1 as int64, deviation |d/unit - units| in units) per pulse."""
     ratio = np.asarray(durations_us, dtype=np.float64) / unit_us
-    units = np.maximum(np.rint(ratio), 1.0)
-    return units.astype(np.int64), np.abs(ratio - units)
+    if np.ndim(ratio) == 0:
+        units = np.maximum(np.rint(ratio), 1.0)
+        return units.astype(np.int64), np.abs(ratio - units)
+    units = np.rint(ratio)
+    np.maximum(units, 1.0, out=units)
+    np.subtract(ratio, units, out=ratio)  # in place: no temporaries on long captures
+    np.abs(ratio, out=ratio)
+    return units.astype(np.int64), ratio
 
 
 def fit_unit(durations_us: np.ndarray, units: np.ndarray) -> np.ndarray:
@@ -62,10 +68,19 @@ def head_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarra
     estimate good enough for long runs right after the sync.
     """
     d = np.asarray(durations_us, dtype=np.float64)
+    lengths = np.asarray(lengths, dtype=np.int64)
     window, offsets = _ragged(lengths)
     n_win = offsets.size
     unit = np.array(unit0_us, dtype=np.float64, copy=True)
     t = _cumsum_within(d, window, offsets)
+    # every pulse is at least one unit, so a window's pulse i ends at unit i + 1 or later:
+    # only its first ``head_units`` pulses can lie inside the head (``t`` stays the running
+    # sum over all windows, so the fit is the same to the last bit)
+    short = np.minimum(lengths, max(head_units, 0))
+    if short.sum() < d.size:
+        window, short_offsets = _ragged(short)
+        keep = np.arange(int(short.sum())) - short_offsets[window] + offsets[window]
+        d, t, offsets = d[keep], t[keep], short_offsets
     for _ in range(iterations):
         n, _ = classify(d, unit[window])
         c = _cumsum_within(n, window, offsets).astype(np.float64)
