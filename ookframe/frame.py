@@ -278,7 +278,7 @@ def _dot_int(bits: np.ndarray, weights: np.ndarray | None, bit_order: _b.BitOrde
              byte_order: _b.ByteOrder) -> int:
     if weights is None:
         return _b.bits_to_int(bits, bit_order, byte_order)
-    return int(bits @ weights)
+    return int(np.dot(bits, weights))
 
 
 #: parse plans by id(spec); each entry holds its spec, so an id is not reused while cached
