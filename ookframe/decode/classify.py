@@ -33,11 +33,12 @@ def fit_unit(durations_us: np.ndarray, units: np.ndarray) -> np.ndarray:
     """
     d = np.asarray(durations_us, dtype=np.float64)
     n = d.shape[-1] + 1  # the origin edge (0, 0) adds nothing to the sums below
-    t = np.cumsum(d, axis=-1)
     if d.ndim == 1:  # one fit: dot products (this runs once per decoded frame)
-        c = np.cumsum(units, dtype=np.float64)
+        t = d.cumsum()
+        c = np.asarray(units).cumsum(dtype=np.float64)
         st, sc = t.sum(), c.sum()
         return np.float64((n * t.dot(c) - st * sc) / (n * c.dot(c) - sc * sc))
+    t = np.cumsum(d, axis=-1)
     c = np.cumsum(np.broadcast_to(np.asarray(units, dtype=np.float64), d.shape), axis=-1)
     st, sc = t.sum(axis=-1), c.sum(axis=-1)
     return (n * (t * c).sum(axis=-1) - st * sc) / (n * (c * c).sum(axis=-1) - sc * sc)

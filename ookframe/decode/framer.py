@@ -147,7 +147,7 @@ class _Window:
     def time_of_chip(self, chip: int, *, end: bool = False) -> tuple[float, int]:
         """Return (time in µs, run) of the start of ``chip`` (of its end with ``end``)."""
         c = chip - 1 if end else chip
-        r = int(np.searchsorted(self.chip0, c, side="right")) - 1
+        r = int(self.chip0.searchsorted(c, side="right")) - 1
         r = min(max(r, 0), self.levels.size - 1)
         if end and chip == self.chip0[r] + self.units[r] and r >= self.n_prefix \
                 and not self.ws.capped[self.at + r - self.n_prefix]:
