@@ -73,7 +73,6 @@ def frame_chips_batch(spec: FrameSpec, bits: np.ndarray) -> np.ndarray | list[np
     stuffing, else a list of 1-D arrays."""
     lc = _f._line_code(spec)
     head_n = _f.head_bits(spec).size
-    probe = np.ones(64, np.uint8)
-    if lc.stuff(probe).size == probe.size and lc.name != "pulse_distance":
+    if lc.chips_per_block is not None and lc.max_stuffed_bits(bits.shape[1]) == 0:
         return lc.encode(bits)
     return [lc.encode(np.concatenate((row[:head_n], lc.stuff(row[head_n:])))) for row in bits]

@@ -87,8 +87,8 @@ def frame_layout(spec: FrameSpec, values: _f.Values | None = None) -> Layout:
                                "bits inserted after the sync"))
     frame_us = chips.size * spec.unit_us
     mark_us = float(chips.sum()) * spec.unit_us
-    data_dependent = lc.name == "pulse_distance" or bool(lc.stuff(np.ones(64, np.uint8)).size != 64) \
-        or spec.is_variable
+    data_dependent = (lc.chips_per_block is None or lc.max_stuffed_bits(body.size) > 0
+                      or spec.is_variable)
     airtime = frame_us * spec.repeats + spec.gap_us * (spec.repeats - 1)
     return Layout(tuple(rows), frame_us, airtime, mark_us * spec.repeats, spec.repeats,
                   spec.gap_us, data_dependent)
