@@ -97,12 +97,17 @@ class BlockCode(LineCode):
         out = []
         for phase in range(n):
             m = max(chips.size - phase, 0) // n
-            blocks = chips[phase:phase + m * n].reshape(m, n)
-            values = np.packbits(blocks, axis=1).reshape(m) >> (8 - n)
+            # codeword values: chip j of every block weighs 2 ** (n - 1 - j)
+            values = np.zeros(m, np.uint8)
+            for j in range(n):
+                values |= chips[phase + j:phase + j + m * n:n] << (n - 1 - j)
             data = self._decode_table[values]
             valid = data >= 0
             data = np.where(valid, data, 0).astype(np.uint8)
+            starts = run_of_chip[phase:phase + m * n:n].copy()  # run of each block's first chip
+            if k == 1:
+                out.append(DecodedBits(data, starts, valid))
+                continue
             bits = ((data[:, None] >> self._data_shifts) & 1).reshape(-1).astype(np.uint8)
-            starts = run_of_chip[phase:phase + m * n:n]
             out.append(DecodedBits(bits, np.repeat(starts, k), np.repeat(valid, k)))
         return out

@@ -34,9 +34,11 @@ def as_runs(levels: np.ndarray, units: np.ndarray) -> tuple[np.ndarray, np.ndarr
 
 def expand_runs(levels: np.ndarray, units: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Return (chips uint8, run index int64 of every chip) for checked runs."""
-    chips = np.repeat(levels, units)
-    run_of_chip = np.repeat(np.arange(levels.size, dtype=np.int64), units)
-    return chips, run_of_chip
+    run_end = np.cumsum(units)  # one past every run's last chip
+    run_of_chip = np.zeros(int(run_end[-1]) if run_end.size else 0, np.int64)
+    run_of_chip[run_end[:-1]] = 1  # units >= 1: every later run starts on its own chip
+    np.cumsum(run_of_chip, out=run_of_chip)
+    return levels[run_of_chip], run_of_chip
 
 
 def mark_space_pairs(
