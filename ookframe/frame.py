@@ -356,6 +356,90 @@ def parse_frame(spec: FrameSpec, bits_after_sync: np.ndarray) -> ParsedFrame | N
                        check_ok=ok, n_bits=n_fb + n_cb)
 
 
+def fixed_body_bits(spec: FrameSpec) -> int | None:
+    """Return the fields + check bits when every frame of ``spec`` has the same layout of
+    integer fields of at most 64 bits (what :func:`parse_frames` reads), else None."""
+    p = _parse_plan(spec)
+    if p.min_body_bits != p.max_body_bits or any(fp.weights is None for fp in p.fields):
+        return None
+    if p.n_check_bits and p.check_weights is None:
+        return None
+    return p.min_body_bits
+
+
+@dataclass(frozen=True, eq=False)
+class ParsedFrames:
+    """Frames of one fixed layout parsed together (see :func:`parse_frames`).
+
+    raw: per field (spec order) the uint64 bit pattern read for every frame; payload:
+    (frames x bytes) uint8, the fields bytes as packed on air, de-whitened; check_ok: bool
+    per frame; n_bits: fields + check bits of every frame.
+    """
+
+    spec: FrameSpec
+    raw: tuple[np.ndarray, ...]
+    payload: np.ndarray
+    check_ok: np.ndarray
+    n_bits: int
+
+    def frames(self) -> list[ParsedFrame]:
+        """Return every frame as :func:`parse_frame` gives it."""
+        p = _parse_plan(self.spec)
+        names = [fp.f.name for fp in p.fields]
+        raws, physical = [], []
+        for fp, col in zip(p.fields, self.raw, strict=True):
+            f = fp.f
+            r = [_b.to_signed(u, f.width_bits) for u in col.tolist()] if f.signed else col.tolist()
+            raws.append(r)
+            physical.append(r if fp.scale is None else
+                            [float(Decimal(v) * fp.scale + fp.offset) for v in r])  # type: ignore[operator]
+        w = 2 * self.payload.shape[1]
+        hexes = self.payload.tobytes().hex()
+        return [ParsedFrame(fields=dict(zip(names, ph, strict=True)),
+                            raw=dict(zip(names, rw, strict=True)),
+                            payload_hex=hexes[i * w:(i + 1) * w], check_ok=ok, n_bits=self.n_bits)
+                for i, (ph, rw, ok) in enumerate(zip(zip(*physical, strict=True), zip(*raws, strict=True),
+                                                     self.check_ok.tolist(), strict=True))]
+
+
+def parse_frames(spec: FrameSpec, bodies: np.ndarray) -> ParsedFrames:
+    """Read fields and verify the check of many frames at once.
+
+    ``bodies`` is (frames x :func:`fixed_body_bits`) uint8: the bits after the sync word,
+    unstuffed and still whitened. Row ``i`` gives what ``parse_frame`` gives for it.
+    Raises ValueError when the spec has no fixed layout or the rows have the wrong width.
+    """
+    n_body = fixed_body_bits(spec)
+    rx = np.asarray(bodies, dtype=np.uint8)
+    if n_body is None or rx.ndim != 2 or rx.shape[1] != n_body:
+        raise ValueError(f"parse_frames needs a fixed layout and rows of {n_body} bits")
+    p = _parse_plan(spec)
+    plain = rx ^ p.fields_mask[:n_body] if p.fields_mask is not None else rx
+    raw = []
+    pos = 0
+    for fp in p.fields:
+        end = pos + fp.f.width_bits
+        raw.append(np.dot(plain[:, pos:end], fp.weights))
+        pos = end
+    fb = plain[:, :pos]
+    n_cb = p.n_check_bits
+    if n_cb:
+        mask = p.check_masks.get(pos)
+        if mask is None:
+            mask = p.check_masks[pos] = whitening_mask(spec, pos, n_cb)[pos:]
+        got = np.dot(rx[:, pos:pos + n_cb] ^ mask, p.check_weights).tolist()
+        covered = fb if p.sync_bits is None else np.concatenate(
+            (np.broadcast_to(p.sync_bits, (fb.shape[0], p.sync_bits.size)), fb), axis=1)
+        keep = (1 << n_cb) - 1
+        compute = p.check.compute  # type: ignore[attr-defined]
+        ok = np.array([g == compute(row.tobytes()) & keep
+                       for g, row in zip(got, np.packbits(covered, axis=1), strict=True)],
+                      dtype=bool).reshape(-1)
+    else:
+        ok = np.ones(rx.shape[0], bool)
+    return ParsedFrames(spec, tuple(raw), np.packbits(fb, axis=1), ok, n_body)
+
+
 def read_fields(spec: FrameSpec, plain: np.ndarray, reserve_bits: int = 0
                 ) -> tuple[dict[str, object], int] | None:
     """Read raw field values from un-whitened fields bits; returns (raw, bits used).

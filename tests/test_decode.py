@@ -388,6 +388,7 @@ def test_one_line_decode_for_all_windows_equals_one_per_window(line_code):
     """The windows of a noisy capture decoded in one call give, for every window and
     candidate, the bits that decoding the window alone gives."""
     from ookframe.decode import framer
+    from ookframe.decode.windows import classify_windows, lay_out, split_candidates
 
     spec = spec_from_dict({
         "frame": {"name": "bed", "unit_us": 500.0, "repeats": 2, "gap_us": 20000.0},
@@ -409,10 +410,12 @@ def test_one_line_decode_for_all_windows_equals_one_per_window(line_code):
                                    hm.sig_units, 500.0, 0.35, 0.10)
     assert first.size == 8
     stop = np.minimum(first + 400, len(clean))
-    ws = framer._classify_windows(spec, hm, clean.durations_us, first, stop, unit0)
+    ws = classify_windows(spec, hm, clean.durations_us, first, stop, unit0)
     wins = [framer._window(hm, ws, k, clean.levels, clean.durations_us, clean.edges_us())
             for k in range(first.size)]
-    for w, together in zip(wins, framer._decode_all(hm, wins), strict=True):
+    runs = lay_out(hm, ws, clean.levels)
+    per_window = split_candidates(runs, hm.line_code.decode(runs.levels, runs.units))
+    for w, together in zip(wins, per_window, strict=True):
         alone = hm.line_code.decode(w.levels, w.units)
         assert len(together) == len(alone)
         assert max(a.bits.size for a in alone) >= 60  # the whole frame

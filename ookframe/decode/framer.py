@@ -22,13 +22,15 @@ from ..frame import parse_frame
 from ..linecodes import DecodedBits
 from ..pulses import PulseTrain
 from ..spec.model import FrameSpec
-from .classify import classify, fit_unit, head_unit, track_unit
+from .bulk import BulkFrames, bulk_body_bits, bulk_frames
+from .classify import fit_unit
 from .detect import find_candidates
 from .glitch import drop_glitches
 from .head import MAX_CLOCK_ERROR, HeadModel, bit_chips, head_model
 from .segment import burst_breaks, burst_end
 from .sync import best_sync
 from .validate import validate_train
+from .windows import Windows, classify_windows, lay_out, split_candidates
 
 #: a frame the check cannot vouch for is taken for noise when more than this fraction
 #: of its pulses is out of tolerance (random pulses: typically 25-50 %; real frames hit
@@ -71,46 +73,6 @@ class DecodedFrame:
 
 
 @dataclass(frozen=True)
-class _Windows:
-    """Classified pulses of every candidate window, concatenated (ragged arrays)."""
-
-    first: np.ndarray  # train index of each window's first pulse (a signature pulse)
-    offset: np.ndarray  # where each window starts in the arrays below
-    length: np.ndarray  # pulses of each window
-    start_unit_us: np.ndarray  # unit estimate at each window's start (head fit)
-    units: np.ndarray  # whole units (capped at the longest run)
-    deviation: np.ndarray  # |d/u - n|, or how far beyond the longest run
-    unit_us: np.ndarray  # tracked unit each pulse was classified with
-    capped: np.ndarray  # True where the pulse was longer than any run of a frame
-
-
-def _classify_windows(spec: FrameSpec, hm: HeadModel, dur: np.ndarray, first: np.ndarray,
-                      stop: np.ndarray, unit0: np.ndarray) -> _Windows:
-    """Return the windows [first, stop) classified: head fit, drift tracking, units.
-
-    A window ends early at its first pulse longer than any run of a frame (included: a
-    frame's last space runs into it).
-    """
-    dec = spec.decoder
-    length = stop - first
-    offset = np.concatenate(([0], np.cumsum(length)[:-1]))
-    window = np.repeat(np.arange(first.size), length)
-    idx = np.arange(int(length.sum())) - offset[window] + first[window]
-    d = dur[idx]
-    start_unit = head_unit(d, length, unit0, hm.body_chip - int(hm.prefix_units.sum()))
-    unit = track_unit(d, length, start_unit, gain=dec.loop_gain, tolerance=dec.tolerance,
-                      max_units=hm.cap_units + 1)
-    n, dev = classify(d, unit)
-    capped = n > hm.cap_units
-    pos = idx - first[window]
-    first_cap = np.minimum.reduceat(np.where(capped, pos, length[window]), offset)
-    length = np.minimum(length, first_cap + 1)
-    dev = np.where(capped, d / unit - hm.cap_units, dev)
-    return _Windows(first, offset, length, start_unit, np.minimum(n, hm.cap_units), dev,
-                    unit, capped)
-
-
-@dataclass(frozen=True)
 class _Window:
     """Runs given to the line code for one candidate: the head prefix (runs as sent, not
     measured) + the window's measured pulses; timing looked up on demand."""
@@ -122,7 +84,7 @@ class _Window:
     first: int  # train index of the first measured pulse
     at: int  # where the measured pulses start in the _Windows arrays
     unit0_us: float
-    ws: _Windows
+    ws: Windows
     t0: np.ndarray  # start time of every pulse of the train
     dur: np.ndarray  # durations of every pulse of the train
 
@@ -155,7 +117,7 @@ class _Window:
         return self.start_us(r) + (chip - int(self.chip0[r])) * self.unit_us(r), r
 
 
-def _window(hm: HeadModel, ws: _Windows, k: int, levels: np.ndarray, dur: np.ndarray,
+def _window(hm: HeadModel, ws: Windows, k: int, levels: np.ndarray, dur: np.ndarray,
             t0: np.ndarray) -> _Window:
     """Return the runs of candidate window ``k`` with the head prefix in front."""
     first, a = int(ws.first[k]), int(ws.offset[k])
@@ -164,51 +126,6 @@ def _window(hm: HeadModel, ws: _Windows, k: int, levels: np.ndarray, dur: np.nda
     chip0 = np.cumsum(units) - units
     return _Window(np.concatenate((hm.prefix_levels, levels[first:first + m])), units, chip0,
                    int(hm.prefix_units.size), first, a, float(ws.start_unit_us[k]), ws, t0, dur)
-
-
-def _decode_all(hm: HeadModel, wins: list[_Window]) -> list[list[DecodedBits]]:
-    """Return the line-code candidates of every window from one ``decode`` call.
-
-    The windows' runs are laid end to end. Codes decoded per chip phase get a space of
-    1 .. chips_per_block chips before each window, so every window starts on a block
-    boundary after a space, as when decoded alone; codes read per mark get a space of the
-    longest run after a window that ends with a mark, so its last bit is complete.
-    """
-    lc = hm.line_code
-    cpb = lc.chips_per_block if hm.phased else None
-    levels: list[np.ndarray] = []
-    units: list[np.ndarray] = []
-    run_start = np.empty(len(wins), np.int64)
-    run_stop = np.empty(len(wins), np.int64)
-    space = np.zeros(1, np.uint8)
-    runs = chips = 0
-    last = 0
-    for k, w in enumerate(wins):
-        gap = 0
-        if cpb is not None and chips:
-            gap = (-chips) % cpb or (cpb if last else 0)
-        elif cpb is None and last:
-            gap = hm.cap_units
-        if gap:
-            levels.append(space)
-            units.append(np.array([gap], np.int64))
-            runs += 1
-            chips += gap
-        run_start[k] = runs
-        levels.append(w.levels)
-        units.append(w.units)
-        runs += w.levels.size
-        chips += int(w.chip0[-1] + w.units[-1])
-        run_stop[k] = runs
-        last = int(w.levels[-1])
-    out: list[list[DecodedBits]] = [[] for _ in wins]
-    for cand in lc.decode(np.concatenate(levels), np.concatenate(units)):
-        lo = np.searchsorted(cand.run_index, run_start).tolist()
-        hi = np.searchsorted(cand.run_index, run_stop).tolist()
-        for k, (a, b) in enumerate(zip(lo, hi, strict=True)):
-            out[k].append(DecodedBits(cand.bits[a:b], cand.run_index[a:b] - run_start[k],
-                                      cand.valid[a:b]))
-    return out
 
 
 def _rank(hit: tuple[int, int, int], hm: HeadModel) -> tuple[int, int, int]:
@@ -289,7 +206,7 @@ def _plausible(spec: FrameSpec, frame: DecodedFrame) -> bool:
 
 
 def decode(spec: FrameSpec, train: PulseTrain, *,
-           include_bad: bool | None = None) -> list[DecodedFrame]:
+           include_bad: bool | None = None, bulk: bool = True) -> list[DecodedFrame]:
     """Return every frame of ``spec`` found in ``train``, in time order.
 
     Pipeline: validate (CaptureError on NaN / inf / non-positive durations or levels other
@@ -303,6 +220,10 @@ def decode(spec: FrameSpec, train: PulseTrain, *,
     the check cannot vouch for (failed, or no check) with more than 20 % of its pulses out
     of tolerance is taken for noise. Frames cut off by the end of the train are left
     out. Random pulses never raise.
+
+    Specs of one fixed layout (block code, no stuffing, integer fields) are framed for all
+    candidates at once (``bulk``); ``bulk=False`` frames candidate by candidate, with the
+    same results (kept as the reference the bulk framer is tested against).
     """
     validate_train(train)
     if include_bad is None:
@@ -323,14 +244,25 @@ def decode(spec: FrameSpec, train: PulseTrain, *,
     reach_us = t0[first] + (hm.max_frame_chips - prefix_chips) * unit0 * (1 + MAX_CLOCK_ERROR)
     stop = np.minimum(stop, np.searchsorted(t0, reach_us, side="right") + 1)
     stop = np.maximum(np.minimum(stop, dur.size), first + 1)
-    ws = _classify_windows(spec, hm, dur, first, stop, unit0)
+    ws = classify_windows(spec, hm, dur, first, stop, unit0)
+    runs = lay_out(hm, ws, levels)
+    cands = hm.line_code.decode(runs.levels, runs.units)
+    if bulk and bulk_body_bits(spec, hm) is not None:
+        results = _bulk_results(spec, bulk_frames(spec, hm, ws, runs, cands, dur, t0))
+
+        def frame_of(k: int) -> tuple[DecodedFrame, int] | None:
+            return results[k]
+    else:
+        per_window = split_candidates(runs, cands)
+
+        def frame_of(k: int) -> tuple[DecodedFrame, int] | None:
+            return _frame_from(spec, hm, _window(hm, ws, k, levels, dur, t0), per_window[k])
     frames: list[DecodedFrame] = []
     done = -1
-    wins = [_window(hm, ws, k, levels, dur, t0) for k in range(first.size)]
-    for i, w, cands in zip(first.tolist(), wins, _decode_all(hm, wins), strict=True):
+    for k, i in enumerate(first.tolist()):
         if i <= done:
             continue
-        got = _frame_from(spec, hm, w, cands)
+        got = frame_of(k)
         if got is None:
             continue
         frame, last = got
@@ -340,3 +272,21 @@ def decode(spec: FrameSpec, train: PulseTrain, *,
         if frame.crc_ok or include_bad:
             frames.append(frame)
     return frames
+
+
+def _bulk_results(spec: FrameSpec, bf: BulkFrames) -> list[tuple[DecodedFrame, int] | None]:
+    """Return per window what ``_frame_from`` returns, from the bulk framer's arrays."""
+    out: list[tuple[DecodedFrame, int] | None] = [None] * bf.found.size
+    f = np.flatnonzero(bf.found)
+    unit = bf.unit_us[f]
+    columns = zip(f.tolist(), bf.parsed.frames(), bf.start_us[f].tolist(),
+                  bf.end_us[f].tolist(), unit.tolist(), (unit / spec.unit_us - 1.0).tolist(),
+                  bf.worst_deviation[f].tolist(), bf.pulses[f].tolist(),
+                  bf.sync_errors[f].tolist(), bf.timing_errors[f].tolist(),
+                  bf.code_errors[f].tolist(), bf.last[f].tolist(), strict=True)
+    for k, p, t_start, t_end, u, ce, worst, pulses, se, te, code, last in columns:
+        out[k] = (DecodedFrame(
+            fields=p.fields, raw=p.raw, payload_hex=p.payload_hex, crc_ok=p.check_ok,
+            start_us=t_start, end_us=t_end, unit_us=u, clock_error=ce, worst_deviation=worst,
+            pulses=pulses, sync_errors=se, timing_errors=te, code_errors=code), last)
+    return out

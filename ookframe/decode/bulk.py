@@ -1,0 +1,259 @@
+"""Framing of every candidate window at once, for specs of one fixed frame layout.
+
+Same decisions as the per-window framer (``framer._frame_from``), as array operations
+over all windows: sync search with the bit-error allowance, field parsing and check,
+frame start / end times, the unit refit and the timing statistics. It applies to block
+codes (fixed chips per block) without bit stuffing and to frames of one fixed layout of
+integer fields (:func:`bulk_body_bits`); every other spec goes through the per-window
+framer.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..frame import ParsedFrames, fixed_body_bits, parse_frames
+from ..linecodes import DecodedBits
+from ..spec.model import FrameSpec
+from .head import HeadModel
+from .windows import WindowRuns, Windows, ragged_index
+
+
+def bulk_body_bits(spec: FrameSpec, hm: HeadModel) -> int | None:
+    """Return the fields + check bits of every frame when the bulk framer applies, else None."""
+    lc = hm.line_code
+    n_body = fixed_body_bits(spec)
+    if n_body is None or lc.chips_per_block is None or lc.max_stuffed_bits(n_body):
+        return None
+    return n_body
+
+
+@dataclass(frozen=True, eq=False)
+class BulkFrames:
+    """Per candidate window: whether a frame was decoded from it and its figures.
+
+    Arrays have one entry per window (meaningless where ``found`` is False); ``row`` is the
+    window's row in ``parsed`` (-1 where nothing was found). Figures as in ``DecodedFrame``;
+    ``last`` is the train index of the frame's last measured run.
+    """
+
+    found: np.ndarray
+    row: np.ndarray
+    parsed: ParsedFrames
+    last: np.ndarray
+    start_us: np.ndarray
+    end_us: np.ndarray
+    unit_us: np.ndarray
+    worst_deviation: np.ndarray
+    pulses: np.ndarray
+    sync_errors: np.ndarray
+    timing_errors: np.ndarray
+    code_errors: np.ndarray
+
+
+@dataclass(frozen=True)
+class _Streams:
+    """The line-code candidates (one per chip phase) laid end to end, and where each
+    window's part of each candidate lies: ``lo``/``hi`` are (phases x windows)."""
+
+    bits: np.ndarray
+    valid: np.ndarray
+    run: np.ndarray
+    lo: np.ndarray
+    hi: np.ndarray
+
+
+def _streams(runs: WindowRuns, cands: list[DecodedBits]) -> _Streams:
+    base = np.cumsum([0] + [c.bits.size for c in cands])
+    lo = np.stack([np.searchsorted(c.run_index, runs.run_start) + b
+                   for c, b in zip(cands, base, strict=False)])
+    hi = np.stack([np.searchsorted(c.run_index, runs.run_stop) + b
+                   for c, b in zip(cands, base, strict=False)])
+    return _Streams(np.concatenate([c.bits for c in cands] + [np.zeros(1, np.uint8)]),
+                    np.concatenate([c.valid for c in cands] + [np.zeros(1, bool)]),
+                    np.concatenate([c.run_index for c in cands] + [np.zeros(1, np.int64)]),
+                    lo, hi)
+
+
+def _errors(st: _Streams, at: np.ndarray, pattern: np.ndarray) -> np.ndarray:
+    """Return True where the bit at stream index ``at`` differs from ``pattern`` (last
+    axis) or is invalid; indices out of the streams count as errors (callers mask them)."""
+    at = np.clip(at, 0, st.bits.size - 1)
+    return (st.bits[at] != pattern) | ~st.valid[at]
+
+
+def _find_sync(spec: FrameSpec, hm: HeadModel, st: _Streams
+               ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Return per window (found, phase, sync offset, sync errors) of the best sync hit.
+
+    As ``sync.best_sync`` per candidate, then the best candidate as in the per-window
+    framer: fewest lead + sync errors, then fewest sync errors, then the offset closest to
+    the expected one (the lowest offset of a tie), then the earliest phase.
+    """
+    sync, lead = hm.sync_bits, hm.lead_bits
+    n, nl, e, reach = sync.size, lead.size, hm.sync_bit, hm.sync_reach_bits
+    pattern = np.concatenate((lead, sync))
+    n_phase, n_win = st.lo.shape
+    length = st.hi - st.lo
+    found = np.zeros(n_win, bool)
+    phase = np.zeros(n_win, np.int64)
+    pos = np.full(n_win, e, np.int64)
+    errs = np.zeros(n_win, np.int64)
+    # a perfect hit where expected (lead bits included) cannot be beaten: the first phase
+    # with one wins
+    exact = (length >= e + n) & ~_errors(st, st.lo[..., None] + (e - nl) + np.arange(nl + n),
+                                         pattern).any(axis=-1)
+    has = exact.any(axis=0)
+    found[has] = True
+    phase[has] = exact.argmax(axis=0)[has]
+    rest = np.flatnonzero(~has)
+    if rest.size == 0:
+        return found, phase, pos, errs
+    offs = np.arange(e - reach, e + reach + 1)
+    rel = offs[:, None] + np.arange(-nl, n)  # offsets x (lead + sync) bit positions
+    err = _errors(st, st.lo[:, rest, None, None] + rel, pattern) & (rel >= 0)
+    sync_err = err[..., nl:].sum(axis=-1)
+    total = sync_err + err[..., :nl].sum(axis=-1)
+    ok = (offs >= 0) & (offs <= length[:, rest, None] - n) & (sync_err <= spec.sync.max_errors)
+    key = np.where(ok, (total * (n + 1) + sync_err) * (reach + 1) + np.abs(offs - e),
+                   np.iinfo(np.int64).max)
+    at = key.argmin(axis=-1)  # phases x rest: the first of ties is the lowest offset
+    best = np.take_along_axis(key, at[..., None], axis=-1)[..., 0]
+    ph = best.argmin(axis=0)  # the first of ties is the earliest phase
+    cols = np.arange(rest.size)
+    hit = best[ph, cols] < np.iinfo(np.int64).max
+    o = at[ph, cols]
+    found[rest] = hit
+    phase[rest] = ph
+    pos[rest] = offs[o]
+    errs[rest] = sync_err[ph, cols, o]
+    return found, phase, pos, errs
+
+
+def _starts(lengths: np.ndarray) -> np.ndarray:
+    return np.cumsum(lengths) - lengths
+
+
+def _segment_sums(values: np.ndarray, lengths: np.ndarray) -> np.ndarray:
+    """Return the float sum of every segment of ``values`` (segments laid end to end)."""
+    out = np.zeros(lengths.size)
+    nz = lengths > 0
+    if values.size:
+        out[nz] = np.add.reduceat(values, _starts(lengths)[nz])
+    return out
+
+
+def _unit_fit(d: np.ndarray, units: np.ndarray, lengths: np.ndarray) -> np.ndarray:
+    """Return per segment the least-squares unit of ``classify.fit_unit`` (NaN or inf
+    for segments of fewer than 2 runs)."""
+    t = np.cumsum(d)
+    t -= np.repeat(np.concatenate(([0.0], t))[_starts(lengths)], lengths)
+    c = np.cumsum(units, dtype=np.float64)
+    c -= np.repeat(np.concatenate(([0.0], c))[_starts(lengths)], lengths)
+    npts = lengths + 1.0
+    st, sc = _segment_sums(t, lengths), _segment_sums(c, lengths)
+    t *= c
+    c *= c
+    stc, scc = _segment_sums(t, lengths), _segment_sums(c, lengths)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return (npts * stc - st * sc) / (npts * scc - sc * sc)
+
+
+def bulk_frames(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,
+                cands: list[DecodedBits], dur: np.ndarray, t0: np.ndarray) -> BulkFrames:
+    """Return the frame decoded from every window (``bulk_body_bits`` must apply).
+
+    ``cands`` are the line-code candidates of ``runs`` (one ``decode`` call), ``dur`` and
+    ``t0`` the durations and start times of the (glitch-filtered) train.
+    """
+    lc = hm.line_code
+    n_body = bulk_body_bits(spec, hm)
+    assert n_body is not None
+    cpb, bpb = int(lc.chips_per_block), lc.bits_per_block  # type: ignore[arg-type]
+    st = _streams(runs, cands)
+    n_win = ws.first.size
+    found, phase, pos, sync_err = _find_sync(spec, hm, st)
+    win = np.arange(n_win)
+    lo = st.lo[phase, win]
+    body_at = pos + hm.sync_bits.size
+    found &= st.hi[phase, win] - lo - body_at >= n_body
+    f = np.flatnonzero(found)
+    lo, pos, body_at = lo[f], pos[f], body_at[f]
+    at = lo[:, None] + body_at[:, None] + np.arange(n_body)
+    parsed = parse_frames(spec, st.bits[at])
+    code_errors = (~st.valid[at]).sum(axis=1)
+
+    # chip offset of the frame start: block b of a candidate sits at phase + b * cpb
+    i = ragged_index(lo, pos + 1)
+    v = runs.chip0[st.run[i]] - (i - np.repeat(lo, pos + 1)) // bpb * cpb
+    rs, nr = runs.run_start[f], runs.run_stop[f] - runs.run_start[f]
+    base = runs.chip0[rs]
+    c_start = np.maximum.reduceat(v, _starts(pos + 1)) - base + pos // bpb * cpb \
+        - hm.sync_chip
+    n_chips = (hm.head_bits.size + n_body) // bpb * cpb
+    c_end = c_start + n_chips
+
+    n_pre = runs.n_prefix
+    pre_chips = int(hm.prefix_units.sum())
+    first, off, unit0 = ws.first[f], ws.offset[f], ws.start_unit_us[f]
+
+    def run_at(chip: np.ndarray) -> np.ndarray:
+        r = np.searchsorted(runs.chip0, chip + base, side="right") - 1 - rs
+        return np.clip(r, 0, nr - 1)
+
+    def measured(r: np.ndarray) -> np.ndarray:
+        return np.maximum(r - n_pre, 0)
+
+    def chip_of(r: np.ndarray) -> np.ndarray:
+        return runs.chip0[rs + r] - base
+
+    def start_time(r: np.ndarray) -> np.ndarray:
+        return np.where(r < n_pre, t0[first] - (pre_chips - chip_of(r)) * unit0,
+                        t0[first + measured(r)])
+
+    def unit_at(r: np.ndarray) -> np.ndarray:
+        return np.where(r < n_pre, unit0, ws.unit_us[off + measured(r)])
+
+    r0 = run_at(c_start)
+    start_us = start_time(r0) + (c_start - chip_of(r0)) * unit_at(r0)
+    last = run_at(c_end - 1)
+    last_capped = (last >= n_pre) & ws.capped[off + measured(last)]
+    whole = (c_end == chip_of(last) + runs.units[rs + last]) & (last >= n_pre) & ~last_capped
+    end_us = np.where(whole, start_time(last) + ws.durations_us[off + measured(last)],
+                      start_time(last) + (c_end - chip_of(last)) * unit_at(last))
+
+    # measured runs wholly inside the frame: a contiguous range [i0, i1); the last run is
+    # left out when it was capped (it is the gap after the frame)
+    i0 = np.maximum(n_pre, np.searchsorted(runs.chip0, c_start + base, side="left") - rs)
+    ends = runs.chip0 + runs.units
+    i1 = np.minimum(last + 1, np.searchsorted(ends, c_end + base, side="right") - rs)
+    i1 = i1 - ((i1 == last + 1) & last_capped)
+    cnt = np.maximum(i1 - i0, 0)
+    at = ragged_index(off + i0 - n_pre, cnt)  # the runs in the Windows arrays
+    dev = ws.deviation[at]
+    worst = np.zeros(f.size)
+    nz = cnt > 0
+    if dev.size:
+        worst[nz] = np.maximum.reduceat(dev, _starts(cnt)[nz])
+    timing = _segment_sums((dev > spec.decoder.tolerance).astype(np.float64), cnt)
+    d, units = ws.durations_us[at], ws.units[at]
+    unit = np.where(cnt >= 2, _unit_fit(d, units, cnt),
+                    np.where(cnt == 1, _segment_sums(d, cnt) / np.maximum(
+                        _segment_sums(units, cnt), 1), ws.unit_us[off]))
+
+    def full(values: np.ndarray, dtype: type) -> np.ndarray:
+        out = np.zeros(n_win, dtype)
+        out[f] = values
+        return out
+
+    row = np.full(n_win, -1, np.int64)
+    row[f] = np.arange(f.size)
+    return BulkFrames(
+        found=found, row=row, parsed=parsed,
+        last=full(first + last - n_pre, np.int64),
+        start_us=full(start_us, np.float64), end_us=full(end_us, np.float64),
+        unit_us=full(unit, np.float64), worst_deviation=full(worst, np.float64),
+        pulses=full(cnt, np.int64), sync_errors=sync_err,
+        timing_errors=full(timing, np.int64), code_errors=full(code_errors, np.int64))

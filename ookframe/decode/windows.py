@@ -1,0 +1,129 @@
+"""Candidate windows: their pulses classified together, then laid end to end as one run
+sequence so the line code decodes every window in one call (ragged arrays throughout)."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..linecodes import DecodedBits
+from ..spec.model import FrameSpec
+from .classify import classify, head_unit, track_unit
+from .head import HeadModel
+
+
+@dataclass(frozen=True)
+class Windows:
+    """Classified pulses of every candidate window, concatenated (ragged arrays)."""
+
+    first: np.ndarray  # train index of each window's first pulse (a signature pulse)
+    offset: np.ndarray  # where each window starts in the arrays below
+    length: np.ndarray  # pulses of each window
+    start_unit_us: np.ndarray  # unit estimate at each window's start (head fit)
+    units: np.ndarray  # whole units (capped at the longest run)
+    deviation: np.ndarray  # |d/u - n|, or how far beyond the longest run
+    unit_us: np.ndarray  # tracked unit each pulse was classified with
+    capped: np.ndarray  # True where the pulse was longer than any run of a frame
+    durations_us: np.ndarray  # the pulses' durations
+
+
+def classify_windows(spec: FrameSpec, hm: HeadModel, dur: np.ndarray, first: np.ndarray,
+                     stop: np.ndarray, unit0: np.ndarray) -> Windows:
+    """Return the windows [first, stop) classified: head fit, drift tracking, units.
+
+    A window ends early at its first pulse longer than any run of a frame (included: a
+    frame's last space runs into it), so only a window's last pulse can be capped.
+    """
+    dec = spec.decoder
+    length = stop - first
+    offset = np.concatenate(([0], np.cumsum(length)[:-1]))
+    window = np.repeat(np.arange(first.size), length)
+    idx = np.arange(int(length.sum())) - offset[window] + first[window]
+    d = dur[idx]
+    start_unit = head_unit(d, length, unit0, hm.body_chip - int(hm.prefix_units.sum()))
+    unit = track_unit(d, length, start_unit, gain=dec.loop_gain, tolerance=dec.tolerance,
+                      max_units=hm.cap_units + 1)
+    n, dev = classify(d, unit)
+    capped = n > hm.cap_units
+    pos = idx - first[window]
+    first_cap = np.minimum.reduceat(np.where(capped, pos, length[window]), offset)
+    length = np.minimum(length, first_cap + 1)
+    dev = np.where(capped, d / unit - hm.cap_units, dev)
+    return Windows(first, offset, length, start_unit, np.minimum(n, hm.cap_units), dev,
+                   unit, capped, d)
+
+
+@dataclass(frozen=True)
+class WindowRuns:
+    """Every window's runs (head prefix as sent + measured pulses) laid end to end.
+
+    Codes decoded per chip phase get a space of 1 .. chips_per_block chips before each
+    window, so every window starts on a block boundary after a space, as when decoded
+    alone; codes read per mark get a space of the longest run after a window that ends
+    with a mark, so its last bit is complete.
+    """
+
+    levels: np.ndarray  # uint8 per run
+    units: np.ndarray  # int64 per run
+    chip0: np.ndarray  # int64 chip offset of every run from the start of the sequence
+    run_start: np.ndarray  # first run of every window (its first head-prefix run)
+    run_stop: np.ndarray  # one past its last run
+    n_prefix: int  # head-prefix runs at the start of every window
+
+
+def ragged_index(starts: np.ndarray, lengths: np.ndarray) -> np.ndarray:
+    """Return the indices of the segments [starts, starts + lengths) laid end to end."""
+    lengths = np.asarray(lengths, dtype=np.int64)
+    begin = np.cumsum(lengths) - lengths
+    return np.arange(int(lengths.sum())) + np.repeat(np.asarray(starts) - begin, lengths)
+
+
+def lay_out(hm: HeadModel, ws: Windows, levels: np.ndarray) -> WindowRuns:
+    """Return the runs of every window of ``ws`` laid end to end (see :class:`WindowRuns`)."""
+    k = ws.first.size
+    m = ws.length.astype(np.int64)
+    n_pre = int(hm.prefix_units.size)
+    at = ragged_index(ws.offset, m)
+    meas_units = ws.units[at]
+    pulse = at - np.repeat(ws.offset, m)  # position of every pulse in its window
+    chips = int(hm.prefix_units.sum()) + np.add.reduceat(meas_units, np.cumsum(m) - m) \
+        if k else np.zeros(0, np.int64)
+    last_level = levels[ws.first + m - 1]
+    gap = np.zeros(k, np.int64)
+    if k > 1:
+        if hm.phased:
+            cpb = int(hm.line_code.chips_per_block)  # type: ignore[arg-type]
+            g = (-chips[:-1]) % cpb
+            gap[1:] = np.where(g > 0, g, np.where(last_level[:-1] == 1, cpb, 0))
+        else:
+            gap[1:] = np.where(last_level[:-1] == 1, hm.cap_units, 0)
+    has_gap = (gap > 0).astype(np.int64)
+    run_stop = np.cumsum(has_gap + n_pre + m)
+    run_start = run_stop - n_pre - m
+    total = int(run_stop[-1]) if k else 0
+    lv = np.zeros(total, np.uint8)
+    un = np.empty(total, np.int64)
+    gaps = run_start[has_gap > 0] - 1
+    un[gaps] = gap[has_gap > 0]
+    pre = run_start[:, None] + np.arange(n_pre)
+    lv[pre] = hm.prefix_levels
+    un[pre] = hm.prefix_units
+    dest = np.repeat(run_start + n_pre, m) + pulse
+    lv[dest] = levels[np.repeat(ws.first, m) + pulse]
+    un[dest] = meas_units
+    chip0 = np.cumsum(un) - un
+    return WindowRuns(lv, un, chip0, run_start, run_stop, n_pre)
+
+
+def split_candidates(runs: WindowRuns, cands: list[DecodedBits]) -> list[list[DecodedBits]]:
+    """Return per window its part of every line-code candidate of the laid-out runs (run
+    indices relative to the window's first run)."""
+    out: list[list[DecodedBits]] = [[] for _ in range(runs.run_start.size)]
+    for cand in cands:
+        lo = np.searchsorted(cand.run_index, runs.run_start).tolist()
+        hi = np.searchsorted(cand.run_index, runs.run_stop).tolist()
+        for k, (a, b) in enumerate(zip(lo, hi, strict=True)):
+            out[k].append(DecodedBits(cand.bits[a:b], cand.run_index[a:b] - runs.run_start[k],
+                                      cand.valid[a:b]))
+    return out
