@@ -48,14 +48,40 @@ class PulseTrain:
         return hash((self.levels.tobytes(), self.durations_us.tobytes()))
 
 
+def _run_starts(levels: np.ndarray) -> np.ndarray:
+    """Return the index of the first pulse of every run of equal ``levels`` (non-empty)."""
+    return np.flatnonzero(np.concatenate(([True], levels[1:] != levels[:-1])))
+
+
+def _sum_runs(x: np.ndarray, starts: np.ndarray) -> np.ndarray:
+    """Return ``np.add.reduceat(x, starts)`` bit for bit, for ``starts`` strictly
+    increasing from 0; much faster when most runs are a single element.
+
+    Single-element runs are gathered; reduceat sums only the longer runs, given as
+    (start, end) pairs, so each is summed exactly as it would be among all the runs.
+    """
+    sums = x[starts]
+    ends = np.append(starts[1:], x.size)
+    multi = np.flatnonzero(ends - starts > 1)
+    if multi.size:
+        bounds = np.stack((starts[multi], ends[multi]), axis=1).ravel()
+        if bounds[-1] == x.size:
+            bounds = bounds[:-1]  # reduceat's last run goes to the end anyway
+        sums[multi] = np.add.reduceat(x, bounds)[::2]
+    return sums
+
+
 def merge_runs(levels: np.ndarray, durations_us: np.ndarray) -> PulseTrain:
     """Return a train where adjacent pulses of equal level are merged (durations summed)."""
     levels = np.asarray(levels, dtype=np.uint8)
     durations_us = np.asarray(durations_us, dtype=np.float64)
     if levels.size == 0:
         return PulseTrain(levels, durations_us)
-    starts = np.flatnonzero(np.concatenate(([True], levels[1:] != levels[:-1])))
-    return PulseTrain(levels[starts], np.add.reduceat(durations_us, starts))
+    if levels.shape == durations_us.shape == levels.shape[:1] and (
+            levels[1:] != levels[:-1]).all():  # nothing to merge: fresh copies, as below
+        return PulseTrain(levels.copy(), durations_us.copy())
+    starts = _run_starts(levels)
+    return PulseTrain(levels[starts], _sum_runs(durations_us, starts))
 
 
 def chips_to_runs(chips: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

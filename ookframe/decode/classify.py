@@ -11,14 +11,20 @@ import numpy as np
 from scipy.signal import lfilter
 
 
+def _whole_units(ratio: np.ndarray) -> np.ndarray:
+    """Return ``np.maximum(np.rint(ratio), 1.0)`` (NaN stays NaN), without maximum's cost."""
+    units = np.rint(ratio)
+    units[units < 1.0] = 1.0
+    return units
+
+
 def classify(durations_us: np.ndarray, unit_us: float | np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Return (whole units >= 1 as int64, deviation |d/unit - units| in units) per pulse."""
     ratio = np.asarray(durations_us, dtype=np.float64) / unit_us
     if np.ndim(ratio) == 0:
         units = np.maximum(np.rint(ratio), 1.0)
         return units.astype(np.int64), np.abs(ratio - units)
-    units = np.rint(ratio)
-    np.maximum(units, 1.0, out=units)
+    units = _whole_units(ratio)
     np.subtract(ratio, units, out=ratio)  # in place: no temporaries on long captures
     np.abs(ratio, out=ratio)
     return units.astype(np.int64), ratio
@@ -44,18 +50,18 @@ def fit_unit(durations_us: np.ndarray, units: np.ndarray) -> np.ndarray:
     return (n * (t * c).sum(axis=-1) - st * sc) / (n * (c * c).sum(axis=-1) - sc * sc)
 
 
-def _ragged(lengths: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Return (window of every element, offset of every window's first element)."""
-    lengths = np.asarray(lengths, dtype=np.int64)
-    offsets = np.concatenate(([0], np.cumsum(lengths)[:-1]))
-    return np.repeat(np.arange(lengths.size), lengths), offsets
+def _offsets(lengths: np.ndarray) -> np.ndarray:
+    """Return where every window starts in the concatenated arrays."""
+    return np.concatenate(([0], np.cumsum(lengths)[:-1]))
 
 
-def _cumsum_within(x: np.ndarray, window: np.ndarray, offsets: np.ndarray) -> np.ndarray:
-    """Return the running sum of ``x`` restarted at every window."""
-    cs = np.cumsum(x)
-    base = np.concatenate(([0], cs))[offsets]
-    return cs - base[window]
+def _column_sums(x: np.ndarray) -> np.ndarray:
+    """Return the sums down the columns of a C-ordered 2-D ``x``, taken in row order as
+    ``np.bincount`` adds its weights: numpy reduces over the outer axis row by row, but
+    a single column is contiguous and would be summed pairwise, so it is accumulated."""
+    if x.shape[1] > 1:
+        return np.add.reduce(x, axis=0)
+    return np.cumsum(x, axis=0)[-1]
 
 
 def head_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarray,
@@ -70,28 +76,31 @@ def head_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarra
     """
     d = np.asarray(durations_us, dtype=np.float64)
     lengths = np.asarray(lengths, dtype=np.int64)
-    window, offsets = _ragged(lengths)
-    n_win = offsets.size
     unit = np.array(unit0_us, dtype=np.float64, copy=True)
-    t = _cumsum_within(d, window, offsets)
     # every pulse is at least one unit, so a window's pulse i ends at unit i + 1 or later:
-    # only its first ``head_units`` pulses can lie inside the head (``t`` stays the running
-    # sum over all windows, so the fit is the same to the last bit)
-    short = np.minimum(lengths, max(head_units, 0))
-    if short.sum() < d.size:
-        window, short_offsets = _ragged(short)
-        keep = np.arange(int(short.sum())) - short_offsets[window] + offsets[window]
-        d, t, offsets = d[keep], t[keep], short_offsets
+    # only its first ``head_units`` pulses can lie inside the head; they are laid out as
+    # the columns of a (pulse, window) array
+    rows = min(max(head_units, 0), int(lengths.max(initial=0)))
+    if rows == 0 or d.size == 0:
+        return unit
+    offsets = _offsets(lengths)
+    row = np.arange(rows)[:, None]
+    real = row < lengths  # the window has that pulse
+    at = np.minimum(offsets + row, d.size - 1)
+    # edge times: the running sum over all windows less its value where the window began
+    cs = np.cumsum(d)
+    t = cs[at]
+    t -= np.where(offsets > 0, cs[offsets - 1], 0.0)
+    d = d[at]
     for _ in range(iterations):
-        n, _ = classify(d, unit[window])
-        c = _cumsum_within(n, window, offsets).astype(np.float64)
-        use = c <= head_units
-        w = use.astype(np.float64)
-        npts = np.bincount(window, w, n_win) + 1.0  # + the origin edge (0, 0)
-        st = np.bincount(window, t * w, n_win)
-        sc = np.bincount(window, c * w, n_win)
-        stc = np.bincount(window, t * c * w, n_win)
-        scc = np.bincount(window, c * c * w, n_win)
+        n, _ = classify(d, unit)
+        c = np.cumsum(n, axis=0).astype(np.float64)
+        w = ((c <= head_units) & real).astype(np.float64)  # a prefix of every column
+        npts = _column_sums(w) + 1.0  # + the origin edge (0, 0)
+        st = _column_sums(t * w)
+        sc = _column_sums(c * w)
+        stc = _column_sums(t * c * w)
+        scc = _column_sums(c * c * w)
         den = npts * scc - sc * sc
         with np.errstate(divide="ignore", invalid="ignore"):
             fitted = (npts * stc - st * sc) / den
@@ -117,24 +126,44 @@ def track_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarr
     back), and no pulse counts for more than ``max_units`` units.
     """
     d = np.asarray(durations_us, dtype=np.float64)
-    window, offsets = _ragged(lengths)
-    u0 = np.asarray(unit0_us, dtype=np.float64)[window]
-    u_prev = u0.copy()
+    lengths = np.asarray(lengths, dtype=np.int64)
+    u0 = np.repeat(np.asarray(unit0_us, dtype=np.float64), lengths)
     if d.size == 0 or gain <= 0.0:
-        return u_prev
-    first = np.zeros(d.size, bool)
-    first[offsets[np.asarray(lengths) > 0]] = True
+        return u0
+    offsets = _offsets(lengths)
+    u_prev = u0
     b, a = [gain], [1.0, gain - 1.0]
     for _ in range(iterations):
         n, dev = classify(d, u_prev)
         if max_units is not None:
-            n = np.minimum(n, max_units)
-        x = np.where(dev <= tolerance, d / n, u_prev) - u0
+            np.minimum(n, max_units, out=n)
+        x = d / n
+        np.copyto(x, u_prev, where=~(dev <= tolerance))  # off pulses feed the estimate back
+        x -= u0
         y = lfilter(b, a, np.repeat(x, n))
-        end = np.cumsum(n) - 1  # chip index of each pulse's last chip
-        start = end - n + 1  # ... and of its first
-        w_start = start[offsets][window]  # first chip of the pulse's window
-        carry = np.concatenate(([0.0], y))[w_start]  # filter state when the window began
-        after = y[end] - carry * (1.0 - gain) ** (end - w_start + 1).astype(np.float64)
-        u_prev = np.where(first, u0, np.concatenate(([0.0], after[:-1])) + u0)
+        u_prev = _restart_windows(y, n, offsets, lengths, u0, gain)
     return u_prev
+
+
+def _restart_windows(y: np.ndarray, n: np.ndarray, offsets: np.ndarray, lengths: np.ndarray,
+                     u0: np.ndarray, gain: float) -> np.ndarray:
+    """Return the unit before every pulse from the loop filter's output ``y`` over the
+    chips of all windows (``n`` chips per pulse): the filter state carried over from the
+    windows before is subtracted, and each window's first pulse gets its start unit."""
+    chips_to = np.cumsum(n)  # chips up to and including each pulse
+    w_chip0 = chips_to[offsets - 1]  # chips before each window ...
+    w_chip0[offsets == 0] = 0  # ... none before the first
+    carry = y[w_chip0 - 1]  # filter state when the window began
+    carry[w_chip0 == 0] = 0.0
+    span = chips_to - np.repeat(w_chip0, lengths)  # chips since the window began
+    # (1 - gain) ** span by a table made with the same np.power: same values, no pow per pulse
+    decay = np.power(1.0 - gain, np.arange(int(span.max()) + 1, dtype=np.float64))
+    after = np.repeat(carry, lengths)
+    after *= decay[span]
+    chips_to -= 1  # the last chip of each pulse
+    np.subtract(y[chips_to], after, out=after)
+    u = np.empty_like(u0)
+    np.add(after[:-1], u0[1:], out=u[1:])
+    w_first = offsets[lengths > 0]  # w_first[0] is 0
+    u[w_first] = u0[w_first]
+    return u

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..pulses import PulseTrain, merge_runs
+from ..pulses import PulseTrain, _sum_runs, merge_runs
 
 
 def drop_glitches(levels: np.ndarray, durations_us: np.ndarray, min_us: float) -> PulseTrain:
@@ -21,7 +21,10 @@ def drop_glitches(levels: np.ndarray, durations_us: np.ndarray, min_us: float) -
     keep = np.flatnonzero(~glitch)
     if keep.size == 0:
         return PulseTrain(np.zeros(0, np.uint8), np.zeros(0))
-    idx = np.where(glitch, -1, np.arange(du.size))
-    owner = np.maximum.accumulate(idx)
-    owner[owner < 0] = keep[0]
-    return merge_runs(train.levels[owner], du)
+    # glitches take the level of the kept pulse before them, so runs can only start at a
+    # kept pulse whose level differs from the previous kept one (and at pulse 0)
+    kept_levels = train.levels[keep]
+    new_run = kept_levels[1:] != kept_levels[:-1]
+    starts = np.concatenate(([0], keep[1:][new_run]))
+    run_levels = np.concatenate((kept_levels[:1], kept_levels[1:][new_run]))
+    return PulseTrain(run_levels, _sum_runs(du, starts))
