@@ -3,7 +3,9 @@ a 16-byte-payload Manchester spec through the budget-superregen preset.
 
 Prints the figures and the ratio to the cost, measured in the same run, of drawing one
 Gaussian jitter sample per pulse of the same frames with numpy (the floor of any
-Monte Carlo run of this channel).
+Monte Carlo run of this channel). End-to-end figures: "steady" runs on a process pool
+started (and warmed with one small run) beforehand, as a long run or a sweep sees it;
+"cold" includes starting the pool, as one short ``ookframe stress`` call sees it.
 
     python bench/stress_throughput.py [--frames N] [--workers W]
 """
@@ -12,6 +14,7 @@ from __future__ import annotations
 
 import argparse
 import time
+from concurrent.futures import ProcessPoolExecutor
 
 import numpy as np
 
@@ -63,13 +66,19 @@ def main() -> None:
         print(f"  {name:13s} {t / chunk * 1e6:8.1f} µs/frame  {chunk / t:10,.0f} frames/s (1 core)")
 
     # end to end
-    run_stress(SPEC, ch, 2 * chunk, seed=0, workers=args.workers)  # warm the pool path
     t_one = best_of(lambda: run_stress(SPEC, ch, n // 4, seed=0, workers=1), 1)
-    r = run_stress(SPEC, ch, n, seed=0, workers=args.workers)
     fps_one = (n // 4) / t_one
-    print(f"end to end, 1 worker : {fps_one:10,.0f} frames/s")
-    print(f"end to end, {args.workers} workers: {r.frames_per_s:10,.0f} frames/s "
-          f"({r.frames} frames, PER {r.per:.4f}, target 20,000)")
+    print(f"end to end, 1 worker      : {fps_one:10,.0f} frames/s")
+    cold = run_stress(SPEC, ch, n, seed=0, workers=args.workers)
+    print(f"end to end, {args.workers} workers cold: {cold.frames_per_s:10,.0f} frames/s "
+          "(pool start-up included)")
+    with ProcessPoolExecutor(max_workers=args.workers) as pool:
+        run_stress(SPEC, ch, 2 * chunk * args.workers, seed=1, executor=pool)  # warm up
+        r = max((run_stress(SPEC, ch, n, seed=0, executor=pool) for _ in range(3)),
+                key=lambda x: x.frames_per_s)
+    assert r == cold  # same counts whatever runs the chunks
+    print(f"end to end, {args.workers} workers steady: {r.frames_per_s:10,.0f} frames/s "
+          f"({r.frames} frames, PER {r.per:.4f}, target 20,000, best of 3)")
 
     # baseline: the same number of jitter samples (one per received pulse) with numpy
     samples = r.pulses

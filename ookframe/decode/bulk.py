@@ -137,7 +137,7 @@ def _starts(lengths: np.ndarray) -> np.ndarray:
 
 
 def _segment_sums(values: np.ndarray, lengths: np.ndarray) -> np.ndarray:
-    """Return the float sum of every segment of ``values`` (segments laid end to end)."""
+    """Return the sum of every segment of ``values`` (segments laid end to end) as float."""
     out = np.zeros(lengths.size)
     nz = lengths > 0
     if values.size:
@@ -147,16 +147,16 @@ def _segment_sums(values: np.ndarray, lengths: np.ndarray) -> np.ndarray:
 
 def _unit_fit(d: np.ndarray, units: np.ndarray, lengths: np.ndarray) -> np.ndarray:
     """Return per segment the least-squares unit of ``classify.fit_unit`` (NaN or inf
-    for segments of fewer than 2 runs)."""
+    for segments of fewer than 2 runs). Chip counts stay integers (their sums are exact
+    either way)."""
+    start = _starts(lengths)
     t = np.cumsum(d)
-    t -= np.repeat(np.concatenate(([0.0], t))[_starts(lengths)], lengths)
-    c = np.cumsum(units, dtype=np.float64)
-    c -= np.repeat(np.concatenate(([0.0], c))[_starts(lengths)], lengths)
+    t -= np.repeat(np.concatenate(([0.0], t))[start], lengths)
+    c = np.cumsum(units)
+    c -= np.repeat(np.concatenate(([0], c))[start], lengths)
     npts = lengths + 1.0
     st, sc = _segment_sums(t, lengths), _segment_sums(c, lengths)
-    t *= c
-    c *= c
-    stc, scc = _segment_sums(t, lengths), _segment_sums(c, lengths)
+    stc, scc = _segment_sums(t * c, lengths), _segment_sums(c * c, lengths)
     with np.errstate(divide="ignore", invalid="ignore"):
         return (npts * stc - st * sc) / (npts * scc - sc * sc)
 
