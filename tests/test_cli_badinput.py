@@ -95,6 +95,8 @@ def test_check_rejects_broken_spec(capsys, tmp_path, old, new, message):
         ("", "frame: section is required"),
         ("frame = 3\n" + HIVE_TEXT[HIVE_TEXT.index("[line_code]"):], "frame: must be a table, got int"),
         ("[frame]\nname = 'x'\nunit_us = 100\n", "line_code: section is required"),
+        ("[frame]\nname = 'x'\nunit_us = 100\nline_code = 'manchester'\n",
+         "frame.line_code: line_code is a section of its own: write a [line_code] table"),
         (HIVE_TEXT + "\n[[[oops\n", "not valid TOML"),
         (HIVE_TEXT + "\n[decoder]\nglitch_fraction = 5\n", "decoder.glitch_fraction: 5 is out of range"),
         (HIVE_TEXT + "\n[decoder]\ntolerance = 0\n", "decoder.tolerance: 0 is out of range"),

@@ -355,6 +355,10 @@ def spec_and_defaults_from_dict(doc: Mapping[str, Any]) -> tuple[FrameSpec, dict
     _no_unknown(doc, TOP_KEYS, "")
     for req in ("frame", "line_code", "sync"):
         if req not in doc:
+            inner = doc.get("frame")
+            if isinstance(inner, Mapping) and req in inner:  # e.g. line_code = "nrz" in [frame]
+                raise SpecError(f"frame.{req}", f"{req} is a section of its own: write a [{req}] "
+                                "table (e.g. [line_code] with name = \"manchester\")")
             raise SpecError(req, "section is required")
     fr = _table(doc["frame"], "frame")
     _no_unknown(fr, FRAME_KEYS, "frame")
