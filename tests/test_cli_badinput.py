@@ -527,3 +527,16 @@ def test_emit_bad_timer_options(capsys, tmp_path, args, message):
     code, out, err = run_bad(capsys, "emit", HIVE, "-o", out_dir, *args)
     assert code == exitcodes.CODEGEN and message in err and out == ""
     assert not (out_dir / "hive_scale.h").exists()
+
+
+def test_demo_empty_dir_refused_and_nothing_written(capsys, tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    code, _, err = run_bad(capsys, "demo", "--dir", "")
+    assert code == exitcodes.BAD_INPUT and "--dir is empty" in err
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_crc_strength_poly_with_leading_zero_explained(capsys):
+    code, out, err = run_bad(capsys, "crc-strength", "--width", "8", "--poly", "07")
+    assert code == exitcodes.BAD_INPUT and "leading zero" in err and "0x" in err
+    assert out == ""

@@ -40,9 +40,13 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
 
 
 def _int(text: str, name: str) -> int:
+    t = text.replace("_", "")
     try:
-        return int(text.replace("_", ""), 0)
+        return int(t, 0)
     except ValueError:
+        if t.isdigit():  # "07": C would read octal, Python refuses
+            raise ValueRangeError(f"{name} {text!r} has a leading zero (C reads that as octal): "
+                                  "write it in hex (0x..) or in decimal without the zero") from None
         raise ValueRangeError(f"{name} {text!r} is not an integer (decimal, 0x.. or 0b..)") from None
 
 

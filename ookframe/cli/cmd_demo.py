@@ -8,6 +8,7 @@ from pathlib import Path
 
 from ..codegen import emit_header
 from ..demo import DEMO_SPEC, example_text
+from ..errors import ValueRangeError
 from ..frame import encode, values_equal
 from ..layout import frame_layout
 from ..spec.load import spec_and_defaults_from_dict
@@ -29,6 +30,8 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     from ..decode import decode
+    if not args.dir.strip():
+        raise ValueRangeError("--dir is empty: give a folder name (default ookframe-demo)")
     d = Path(args.dir)
     names = [DEMO_SPEC, "frame.csv", "frame.vcd", "decoded.json", "hive_scale.h"]
     clash = [n for n in names if (d / n).exists()]
