@@ -116,8 +116,8 @@ def _select(path, variables: list[VcdVar], signal: str | None) -> VcdVar:
         idents = {v.ident for v in one_bit}
         if len(idents) == 1:
             return one_bit[0]
-        raise CaptureError(f"{path}: holds {len(idents)} 1-bit signals; choose one with "
-                           f"signal=NAME (available: {listing})")
+        raise CaptureError(f"{path}: holds {len(idents)} 1-bit signals; choose one by name "
+                           f"(--signal NAME; signal=NAME in Python; available: {listing})")
     matches = [v for v in variables if v.name == signal]
     if not matches:
         matches = [v for v in variables if v.reference == signal
