@@ -33,3 +33,16 @@ def test_margin_brackets_a_boundary():
     assert rows[("clock_error_pct", -1)].limit <= -5.0
     with pytest.raises(ValueRangeError, match="at least"):
         run_margin(spec, 0.01, n_frames=10)
+
+
+def test_margin_searches_glitches_and_dropouts_on_the_default_channel():
+    """Every default impairment can be searched from the ideal channel (glitches get half
+    a unit of width there); both hurt a frame without error correction early."""
+    spec, _ = example_spec("hive_scale.toml")
+    r = run_margin(spec, 0.1, impairments=["glitch_rate_per_ms", "dropout_prob"], n_frames=60,
+                   resolution=0.05, chunk_frames=30)
+    rows = {x.impairment: x for x in r.rows}
+    for name in ("glitch_rate_per_ms", "dropout_prob"):
+        assert rows[name].status == "ok" and rows[name].first_fail is not None
+    assert rows["glitch_rate_per_ms"].at_limit.channel.glitch_width_us in (
+        0.0, 0.5 * spec.unit_us)

@@ -35,3 +35,20 @@ def test_sweep_two_designs_and_plot(tmp_path):
     out = tmp_path / "sweep.png"
     plot_sweep(res, str(out))
     assert out.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def test_glitches_varied_on_a_channel_without_glitch_width():
+    """Varying the glitch rate on the ideal channel (no width set) uses half a unit, so
+    glitches pass the decoder's 0.3-unit filter and PER rises; a width the channel sets is
+    kept."""
+    from ookframe.stress.sweep import GLITCH_WIDTH_UNITS, channel_at
+
+    spec, _ = example_spec("hive_scale.toml")
+    res = run_sweep([spec], ChannelSpec(), "glitch_rate_per_ms", [0.0, 0.5], 30, seed=2,
+                    chunk_frames=30)
+    assert [r.per for r in res.results[0]] == [0.0, 1.0]
+    assert res.results[0][1].channel.glitch_width_us == GLITCH_WIDTH_UNITS * spec.unit_us
+    assert res.results[0][0].channel.glitch_width_us == 0.0
+    kept = channel_at(spec, ChannelSpec(glitch_rate_per_ms=0.1, glitch_width_us=7.0),
+                      "glitch_rate_per_ms", 2.0)
+    assert (kept.glitch_rate_per_ms, kept.glitch_width_us) == (2.0, 7.0)

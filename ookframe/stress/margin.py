@@ -12,6 +12,7 @@ from ..channel import SIGNED, ChannelSpec
 from ..errors import ValueRangeError
 from ..spec.model import FrameSpec
 from .runner import DEFAULT_CHUNK_FRAMES, StressResult, pool_for, run_stress
+from .sweep import channel_at
 
 #: impairments searched by default
 MARGIN_IMPAIRMENTS: tuple[str, ...] = (
@@ -111,7 +112,8 @@ def run_margin(
     value whose PER upper 95 % bound stays below ``target_per``; signed impairments are
     searched in both directions. Bisection assumes PER grows with the magnitude and
     stops when the bracket is narrower than ``resolution`` * search limit; every point
-    uses the same seed (common random numbers)."""
+    uses the same seed (common random numbers). Glitches searched on a channel without a
+    glitch width get half a symbol unit (``sweep.channel_at``)."""
     if not 0 < target_per < 1:
         raise ValueRangeError(f"target PER must be in (0, 1), got {target_per}")
     base = channel or ChannelSpec()
@@ -129,7 +131,7 @@ def run_margin(
     with pool_for(executor, workers) as pool:
 
         def evaluate(name: str, value: float) -> StressResult:
-            return run_stress(spec, base.with_(**{name: value}), n, seed=seed, executor=pool,
+            return run_stress(spec, channel_at(spec, base, name, value), n, seed=seed, executor=pool,
                               chunk_frames=chunk_frames)
 
         for name in impairments:

@@ -15,6 +15,20 @@ from .runner import DEFAULT_CHUNK_FRAMES, StressResult, pool_for, run_stress
 
 #: most grid points of one sweep (each point is a full stress run)
 MAX_POINTS = 200
+#: glitch width, in symbol units, used when glitches are varied on a channel that sets no
+#: width: half a unit, wider than the decoder's default glitch filter (0.3 unit), so the
+#: glitches reach the decoder
+GLITCH_WIDTH_UNITS = 0.5
+
+
+def channel_at(spec: FrameSpec, channel: ChannelSpec, name: str, value: float) -> ChannelSpec:
+    """Return ``channel`` with impairment ``name`` set to ``value``; varying
+    ``glitch_rate_per_ms`` on a channel without ``glitch_width_us`` also sets the width to
+    ``GLITCH_WIDTH_UNITS`` of the spec's unit."""
+    changes = {name: float(value)}
+    if name == "glitch_rate_per_ms" and value > 0 and channel.glitch_width_us <= 0:
+        changes["glitch_width_us"] = GLITCH_WIDTH_UNITS * spec.unit_us
+    return channel.with_(**changes)
 
 
 def parse_vary(text: str) -> tuple[str, tuple[float, ...]]:
@@ -87,7 +101,8 @@ def run_sweep(
     progress: Callable[[int], None] | None = None,
 ) -> SweepResult:
     """Return PER of every spec at every value of ``parameter`` (same seed at each point,
-    so curves are smooth: common random numbers). Parallel as ``run_stress``."""
+    so curves are smooth: common random numbers; channel per point by :func:`channel_at`).
+    Parallel as ``run_stress``."""
     if parameter not in impairment_names():
         raise ValueRangeError(
             f"unknown impairment {parameter!r}; allowed: {', '.join(impairment_names())}"
@@ -95,7 +110,7 @@ def run_sweep(
     with pool_for(executor, workers) as pool:
         results = tuple(
             tuple(
-                run_stress(spec, channel.with_(**{parameter: float(v)}), n_frames, seed=seed,
+                run_stress(spec, channel_at(spec, channel, parameter, v), n_frames, seed=seed,
                            executor=pool, chunk_frames=chunk_frames, progress=progress)
                 for v in values
             )
