@@ -65,6 +65,11 @@ def test_weak_crc_gets_a_suggestion():
     assert r["check"]["suggestion"] is not None
     assert r["check"]["alternatives"][0]["hd"] > 2
     assert any("stronger check" in c for c in r["cautions"])
+    assert "P(undetected)" in r["check"]["suggestion"]
+    # at BER 0 nothing goes undetected by any check: the suggestion compares HD only
+    r0 = design_report(spec, with_bandwidth=False, ber=0.0)
+    assert "has HD" in r0["check"]["suggestion"]
+    assert "P(undetected)" not in r0["check"]["suggestion"]
 
 
 def test_ber_is_stated_and_used():

@@ -90,11 +90,11 @@ def design_report(spec: FrameSpec, *, ber: float = DEFAULT_BER,
         better = stronger_alternative(chosen, alts)
         if better is not None:
             hd = f"{better.hd}" if better.hd_exact else f">= {better.hd}"
+            odds = (f", P(undetected) {better.undetected_per_frame_at_ber:.2g} vs "
+                    f"{chosen.undetected_per_frame_at_ber:.2g} at BER {ber:g}" if ber > 0 else "")
             check_d["suggestion"] = (
                 f"{better.name} (same width) has HD {hd} at {n_cov} covered bits vs "
-                f"{chosen.hd} for {chosen.name}, P(undetected) "
-                f"{better.undetected_per_frame_at_ber:.2g} vs "
-                f"{chosen.undetected_per_frame_at_ber:.2g} at BER {ber:g}")
+                f"{chosen.hd} for {chosen.name}{odds}")
             cautions.append("stronger check available: " + str(check_d["suggestion"]))
     else:
         cautions.append("the frame has no check: every bit error goes undetected.")
