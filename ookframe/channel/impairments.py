@@ -35,18 +35,28 @@ class Edges:
         if len(train) == 0:
             return Edges(0, np.zeros(0), 0.0)
         ends = np.cumsum(train.durations_us)
-        return Edges(int(train.levels[0]), ends[:-1].copy(), float(ends[-1]))
+        return Edges(int(train.levels[0]), ends[:-1], float(ends[-1]))
 
     def pulse_levels(self) -> np.ndarray:
         """Return the level (uint8) of each pulse."""
-        return ((self.level0 + np.arange(self.t_us.size + 1)) & 1).astype(np.uint8)
+        levels = np.empty(self.t_us.size + 1, np.uint8)
+        levels[0::2] = self.level0 & 1
+        levels[1::2] = (self.level0 + 1) & 1
+        return levels
 
     def to_train(self) -> PulseTrain:
         """Return the pulse train (levels, durations_us) of these edges."""
         if self.end_us <= 0:
             return PulseTrain(np.zeros(0, np.uint8), np.zeros(0))
-        bounds = np.concatenate(([0.0], self.t_us, [self.end_us]))
-        return PulseTrain(self.pulse_levels(), np.diff(bounds))
+        t = self.t_us
+        durations_us = np.empty(t.size + 1)
+        if t.size:
+            durations_us[0] = t[0]
+            np.subtract(t[1:], t[:-1], out=durations_us[1:-1])
+            durations_us[-1] = self.end_us - t[-1]
+        else:
+            durations_us[0] = self.end_us
+        return PulseTrain(self.pulse_levels(), durations_us)
 
 
 def _normalise(level0: int, t_us: np.ndarray, end_us: float) -> Edges:
@@ -54,11 +64,11 @@ def _normalise(level0: int, t_us: np.ndarray, end_us: float) -> Edges:
     (0, end_us) removed (a toggle at or before 0 flips the first level instead).
     ``t_us`` must be sorted."""
     if t_us.size > 1:
-        same = t_us[1:] == t_us[:-1]
-        if same.any():
-            starts = np.flatnonzero(np.concatenate(([True], ~same)))
-            counts = np.diff(np.append(starts, t_us.size))
-            t_us = t_us[starts[(counts & 1) == 1]]
+        same = np.flatnonzero(t_us[1:] == t_us[:-1])
+        if same.size:
+            keep = np.ones(t_us.size, bool)
+            keep[_cancelled(same)] = False
+            t_us = t_us[keep]
     if t_us.size and (t_us[0] <= 0.0 or t_us[-1] >= end_us):
         before = int(np.count_nonzero(t_us <= 0.0))
         t_us = t_us[(t_us > 0.0) & (t_us < end_us)]
@@ -66,11 +76,21 @@ def _normalise(level0: int, t_us: np.ndarray, end_us: float) -> Edges:
     return Edges(level0, t_us, end_us)
 
 
-def _insert_sorted(t_us: np.ndarray, new_us: np.ndarray) -> np.ndarray:
-    """Return the sorted merge of sorted ``t_us`` and sorted ``new_us`` (O(n + k log n))."""
+def _cancelled(same: np.ndarray) -> np.ndarray:
+    """Return the indices of the toggles that cancel, given ``same`` (sorted indices ``i``
+    with ``t[i + 1] == t[i]``): of a run of equal toggles all go when the run is even,
+    all but the first when odd."""
+    first = np.flatnonzero(np.diff(same, prepend=-2) != 1)  # runs of ``same`` (by position)
+    entries = np.diff(first, append=same.size)  # run length - 1
+    return np.concatenate((same + 1, same[first[(entries & 1) == 1]]))
+
+
+def _insert_at(t_us: np.ndarray, new_us: np.ndarray, before: np.ndarray) -> np.ndarray:
+    """Return ``t_us`` with ``new_us[j]`` inserted before ``t_us[before[j]]`` (``before``
+    non-decreasing; equal ones keep the order of ``new_us``)."""
     if new_us.size == 0:
         return t_us
-    pos = np.searchsorted(t_us, new_us) + np.arange(new_us.size)
+    pos = before + np.arange(new_us.size)
     out = np.empty(t_us.size + new_us.size)
     keep = np.ones(out.size, bool)
     keep[pos] = False
@@ -79,22 +99,70 @@ def _insert_sorted(t_us: np.ndarray, new_us: np.ndarray) -> np.ndarray:
     return out
 
 
+def _insert_sorted(t_us: np.ndarray, new_us: np.ndarray) -> np.ndarray:
+    """Return the sorted merge of sorted ``t_us`` and sorted ``new_us`` (O(n + k log n))."""
+    if new_us.size == 0:
+        return t_us
+    return _insert_at(t_us, new_us, np.searchsorted(t_us, new_us))
+
+
 def _toggle_pairs(e: Edges, new_us: np.ndarray) -> Edges:
     """Return edges with extra toggles XOR-ed in (each pair flips the level between them)."""
     merged = _insert_sorted(e.t_us, np.sort(new_us))
     return _normalise(e.level0, merged, e.end_us)
 
 
-def _min_width(e: Edges, min_width_us: float) -> Edges:
-    """Return edges where no pulse is narrower than ``min_width_us`` (later edges pushed)."""
+_STEPS_US: dict[float, np.ndarray] = {}
+
+
+def _steps_us(n: int, min_width_us: float) -> np.ndarray:
+    """Return ``np.arange(1, n + 1) * min_width_us`` (read-only; cached per width)."""
+    steps = _STEPS_US.get(min_width_us)
+    if steps is None or steps.size < n:
+        if len(_STEPS_US) >= 8:
+            _STEPS_US.clear()
+        steps = np.arange(1, max(n, 1024) + 1) * min_width_us
+        steps.flags.writeable = False
+        _STEPS_US[min_width_us] = steps
+    return steps[:n]
+
+
+def _running_max_inplace(x: np.ndarray) -> np.ndarray:
+    """Set ``x[i] = x[: i + 1].max()`` in place and return ``x`` (as
+    ``np.maximum.accumulate``; cheaper when ``x`` seldom falls: only the falls are fixed,
+    a chain of them one round per link, and past 8 rounds the accumulate finishes it)."""
+    fall = np.flatnonzero(x[1:] < x[:-1])
+    if fall.size > x.size // 64:
+        return np.maximum.accumulate(x, out=x)
+    for _ in range(8):
+        if fall.size == 0:
+            return x
+        raised = fall + 1
+        x[raised] = x[fall]  # x[i] = max(x[i - 1], x[i]) where it fell (all at once)
+        raised = raised[raised < x.size - 1]
+        fall = raised[x[raised + 1] < x[raised]]  # only a raised value can fall next
+    return np.maximum.accumulate(x, out=x)
+
+
+def _min_width(e: Edges, min_width_us: float, *, own: bool = False) -> Edges:
+    """Return edges where no pulse is narrower than ``min_width_us`` (later edges pushed).
+    ``own``: ``e.t_us`` is a scratch array that may be overwritten."""
     t = e.t_us
     if t.size == 0:
         return Edges(e.level0, t, max(e.end_us, min_width_us))
-    if t[0] >= min_width_us and (t.size == 1 or np.diff(t).min() >= min_width_us):
+    if t[0] >= min_width_us and (t.size == 1 or _min_gap_us(t) >= min_width_us):
         return Edges(e.level0, t, max(e.end_us, float(t[-1]) + min_width_us))
-    step = np.arange(1, t.size + 1) * min_width_us
-    t = np.maximum.accumulate(np.maximum(t - step, 0.0)) + step
+    step = _steps_us(t.size, min_width_us)
+    t = np.subtract(t, step, out=t if own else None)
+    np.maximum(t, 0.0, out=t)
+    _running_max_inplace(t)
+    t += step
     return Edges(e.level0, t, max(e.end_us, float(t[-1]) + min_width_us))
+
+
+def _min_gap_us(t_us: np.ndarray) -> float:
+    """Return the smallest difference of neighbours of ``t_us`` (at least 2 values)."""
+    return float(np.subtract(t_us[1:], t_us[:-1]).min())
 
 
 # --- kernels on Edges (used by apply_channel without converting in between) ----------------
@@ -137,7 +205,7 @@ def _k_mark_bias(e: Edges, bias_us: float, min_width_us: float) -> Edges:
     t[1 - e.level0 :: 2] += bias_us  # toggle i ends pulse i: falling when pulse i is a mark
     last_is_mark = (e.level0 + t.size) & 1 == 1
     end = e.end_us + (bias_us if last_is_mark else 0.0)
-    return _min_width(Edges(e.level0, t, end), min_width_us)
+    return _min_width(Edges(e.level0, t, end), min_width_us, own=True)
 
 
 def _k_dropout(e: Edges, prob: float, rng: np.random.Generator) -> Edges:
@@ -160,7 +228,15 @@ def _poisson_points(
 ) -> np.ndarray:
     """Return sorted points of a Poisson process (mean spacing ``mean_us``) inside the
     disjoint, ordered intervals [start, start + length); with ``even`` each interval keeps
-    an even number of points (its last one dropped when odd).
+    an even number of points (its last one dropped when odd)."""
+    return _poisson_points_counted(starts_us, lengths_us, mean_us, rng, even=even)[0]
+
+
+def _poisson_points_counted(
+    starts_us: np.ndarray, lengths_us: np.ndarray, mean_us: float, rng: np.random.Generator,
+    *, even: bool,
+) -> tuple[np.ndarray, np.ndarray]:
+    """Return (points, number of points in each interval) of ``_poisson_points``.
 
     One process runs over the intervals laid end to end and is mapped back, so the
     points come out sorted without a sort.
@@ -168,39 +244,84 @@ def _poisson_points(
     cum = np.cumsum(lengths_us)
     total = float(cum[-1]) if cum.size else 0.0
     if total <= 0.0:
-        return np.zeros(0)
+        return np.zeros(0), np.zeros(lengths_us.size, np.int64)
     expect = total / mean_us
-    pos = np.cumsum(rng.exponential(mean_us, int(expect + 6.0 * np.sqrt(expect) + 16.0)))
+    # rng.exponential(mean_us, k) is mean_us * rng.standard_exponential(k): the same values
+    pos = rng.standard_exponential(int(expect + 6.0 * np.sqrt(expect) + 16.0))
+    pos *= mean_us
+    np.cumsum(pos, out=pos)
     while pos[-1] < total:  # rare: extend the process
         more = rng.exponential(mean_us, max(16, int(expect / 8)))
         pos = np.concatenate((pos, pos[-1] + np.cumsum(more)))
     pos = pos[: np.searchsorted(pos, total)]
-    region = np.searchsorted(cum, pos, side="right")
+    # interval r holds the points in [cum[r - 1], cum[r]) (all points lie below cum[-1])
+    counts = np.diff(np.searchsorted(pos, cum), prepend=0)
     offset = np.concatenate(([0.0], cum[:-1]))
-    pts = starts_us[region] + (pos - offset[region])
+    pts = pos - np.repeat(offset, counts)
+    pts += np.repeat(starts_us, counts)
     if even and pts.size:
-        counts = np.bincount(region, minlength=lengths_us.size)
         odd = np.flatnonzero(counts & 1)
         if odd.size:
             pts = np.delete(pts, np.cumsum(counts)[odd] - 1)
-    return pts
+            counts = counts - (counts & 1)
+    return pts, counts
 
 
 def _k_idle_noise(
     e: Edges, lead_us: float, mean_us: float, quiet_us: float, rng: np.random.Generator
 ) -> Edges:
-    t = e.t_us + lead_us
-    head = [np.array([lead_us])] if e.level0 == 1 else []
-    tail = [np.array([e.end_us + lead_us])] if (e.level0 + t.size) & 1 == 1 else []
-    t = np.concatenate((*head, t, *tail))
+    t = _shifted_between_spaces(e, lead_us)
     end = e.end_us + 2 * lead_us
-    # the train now starts and ends with a space: spaces are the even pulses
-    begin = np.concatenate(([0.0], t[1::2] + quiet_us))
-    stop = np.append(t[0::2], end)
-    length = stop - begin
-    ok = length > 0
-    noise = _poisson_points(begin[ok], length[ok], mean_us, rng, even=True)
-    return _normalise(0, _insert_sorted(t, noise), end)
+    # the train now starts and ends with a space: spaces are the even pulses, space s from
+    # toggle 2s - 1 (plus the quiet time) to toggle 2s
+    begin = np.empty(t.size // 2 + 1)
+    begin[0] = 0.0
+    np.add(t[1::2], quiet_us, out=begin[1:])
+    length = np.empty(begin.size)
+    length[:-1] = t[0::2]
+    length[-1] = end
+    length -= begin
+    ok = np.flatnonzero(length > 0)
+    noise, counts = _poisson_points_counted(begin[ok], length[ok], mean_us, rng, even=True)
+    return _normalise(0, _insert_at(t, noise, _space_positions(t, noise, 2 * ok, counts)), end)
+
+
+def _shifted_between_spaces(e: Edges, lead_us: float) -> np.ndarray:
+    """Return the toggles of ``e`` moved by ``lead_us``, with a toggle at ``lead_us``
+    first when the train starts with a mark and one at ``end_us + lead_us`` last when it
+    ends with one (so the result starts and ends with a space)."""
+    n = e.t_us.size
+    head = 1 if e.level0 == 1 else 0
+    tail = 1 if (e.level0 + n) & 1 == 1 else 0
+    t = np.empty(head + n + tail)
+    np.add(e.t_us, lead_us, out=t[head : head + n])
+    if head:
+        t[0] = lead_us
+    if tail:
+        t[-1] = e.end_us + lead_us
+    return t
+
+
+def _space_positions(
+    t_us: np.ndarray, new_us: np.ndarray, first_toggle: np.ndarray, counts: np.ndarray
+) -> np.ndarray:
+    """Return ``np.searchsorted(t_us, new_us)`` up to ties (equal values, so the same
+    merge) for sorted ``new_us`` of which ``counts[r]`` lie in the space ending at toggle
+    ``first_toggle[r]`` (points off their space, by rounding, are searched)."""
+    before = np.repeat(first_toggle, counts)
+    if before.size == 0:
+        return before
+    lo = np.full(first_toggle.size, -np.inf)
+    inside = first_toggle > 0
+    lo[inside] = t_us[first_toggle[inside] - 1]
+    hi = np.full(first_toggle.size, np.inf)
+    inside = first_toggle < t_us.size
+    hi[inside] = t_us[first_toggle[inside]]
+    off = new_us < np.repeat(lo, counts)
+    off |= new_us > np.repeat(hi, counts)
+    if off.any():
+        before[off] = np.searchsorted(t_us, new_us[off])
+    return before
 
 
 def _k_glitches(
@@ -217,17 +338,22 @@ def _k_jitter(
 ) -> Edges:
     n = e.t_us.size
     if kind == "uniform":
-        err = rng.uniform(-sigma_us, sigma_us, n)
-    else:
-        err = rng.normal(0.0, sigma_us, n)
-    return _min_width(Edges(e.level0, e.t_us + err, e.end_us), min_width_us)
+        t = rng.uniform(-sigma_us, sigma_us, n)
+    else:  # rng.normal(0.0, sigma_us, n) is 0.0 + sigma_us * z: the same values
+        t = rng.standard_normal(n)
+        t *= sigma_us
+    t += e.t_us
+    return _min_width(Edges(e.level0, t, e.end_us), min_width_us, own=True)
 
 
 def _k_quantise(e: Edges, step_us: float, rng: np.random.Generator) -> Edges:
     phase = rng.random() * step_us
-    k = np.ceil((e.t_us - phase) / step_us)
+    t = e.t_us - phase
+    t /= step_us
+    np.ceil(t, out=t)
+    t *= step_us
+    t += phase
     end_k = np.ceil((e.end_us - phase) / step_us)
-    t = phase + k * step_us
     end = max(phase + end_k * step_us, e.end_us)
     return _normalise(e.level0, t, end)
 
