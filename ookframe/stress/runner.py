@@ -98,40 +98,51 @@ class StressResult:
         return d
 
 
-def match_frames(batch: Batch, decoded: list, time_map_us: np.ndarray) -> Counts:
-    """Return the tallies of ``decoded`` frames against the sent ``batch``.
+def match_frames(batch: Batch, decoded: Sequence, time_map_us: np.ndarray) -> Counts:
+    """Return the tallies of ``decoded`` frames (objects with ``start_us``, ``crc_ok`` and
+    ``payload_hex``, such as ``DecodedFrame``) against the sent ``batch``.
 
     ``time_map_us`` holds the window bounds (n + 1 values, output times) of the
     transmissions: transmission i owns [time_map_us[i], time_map_us[i + 1]).
     """
+    if not isinstance(decoded, list | tuple):
+        decoded = list(decoded)
     n = batch.n
+    m = len(decoded)
+    start_us = np.fromiter((fr.start_us for fr in decoded), np.float64, m)
+    crc_ok = np.fromiter((bool(fr.crc_ok) for fr in decoded), bool, m)
+    window = np.searchsorted(time_map_us, start_us, side="right") - 1
+    inside = (window >= 0) & (window < n)
     got_any = np.zeros(n, bool)
+    got_any[window[inside]] = True
+    accepted = np.flatnonzero(inside & crc_ok)
+    right = _payload_right(batch, decoded, accepted, window[accepted])
     got_ok = np.zeros(n, bool)
-    false_accepts = copies_ok = stray = stray_ok = 0
-    for fr in decoded:
-        i = int(np.searchsorted(time_map_us, fr.start_us, side="right")) - 1
-        if not 0 <= i < n:
-            stray += 1
-            stray_ok += int(fr.crc_ok)
-            continue
-        got_any[i] = True
-        if fr.crc_ok:
-            if fr.payload_hex == batch.payload_hex[i]:
-                got_ok[i] = True
-                copies_ok += 1
-            else:
-                false_accepts += 1
-    ok = int(got_ok.sum())
+    got_ok[window[accepted[right]]] = True
+    copies_ok = int(np.count_nonzero(right))
+    stray = m - int(np.count_nonzero(inside))
     return Counts(
         frames=n,
-        ok=ok,
+        ok=int(got_ok.sum()),
         lost_sync=int((~got_any).sum()),
         bad_check=int((got_any & ~got_ok).sum()),
-        false_accepts=false_accepts,
+        false_accepts=accepted.size - copies_ok,
         copies_ok=copies_ok,
-        decoded=len(decoded),
+        decoded=m,
         stray_frames=stray,
-        stray_accepts=stray_ok,
+        stray_accepts=int(np.count_nonzero(crc_ok & ~inside)),
+    )
+
+
+def _payload_right(
+    batch: Batch, decoded: Sequence, frames: np.ndarray, windows: np.ndarray
+) -> np.ndarray:
+    """Return, for decoded frame ``frames[j]`` (in window ``windows[j]``), whether its
+    payload is the one sent in that window (bool array)."""
+    sent = batch.payload_hex
+    pairs = zip(frames.tolist(), windows.tolist(), strict=True)
+    return np.fromiter(
+        (decoded[k].payload_hex == sent[i] for k, i in pairs), bool, frames.size
     )
 
 
