@@ -120,3 +120,11 @@ def test_parse_frames_equals_parse_frame_row_by_row(spec):
     got = parsed.frames()
     assert got == [frame.parse_frame(spec, r) for r in rows]
     assert any(p.check_ok for p in got) and not all(p.check_ok for p in got)
+
+
+def test_bulk_framer_refuses_a_spec_it_does_not_serve():
+    from ookframe.decode.bulk import bulk_frames
+
+    spec = load_spec(EXAMPLES[[p.stem for p in EXAMPLES].index("tank_level")])
+    with pytest.raises(ValueError, match="no fixed layout"):
+        bulk_frames(spec, head_model(spec), None, None, [], np.zeros(0), np.zeros(0))

@@ -170,7 +170,8 @@ def bulk_frames(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,
     """
     lc = hm.line_code
     n_body = bulk_body_bits(spec, hm)
-    assert n_body is not None
+    if n_body is None:
+        raise ValueError(f"spec {spec.name!r} has no fixed layout for the bulk framer")
     cpb, bpb = int(lc.chips_per_block), lc.bits_per_block  # type: ignore[arg-type]
     st = _streams(runs, cands)
     n_win = ws.first.size
