@@ -317,6 +317,15 @@ def _parse_plan(spec: FrameSpec) -> _ParsePlan:
     return plan
 
 
+def _check_mask(p: _ParsePlan, n_field_bits: int) -> np.ndarray:
+    """Return (cached in the plan) the whitening of the check bits after ``n_field_bits``."""
+    mask = p.check_masks.get(n_field_bits)
+    if mask is None:
+        mask = p.check_masks[n_field_bits] = whitening_mask(
+            p.spec, n_field_bits, p.n_check_bits)[n_field_bits:]
+    return mask
+
+
 def parse_frame(spec: FrameSpec, bits_after_sync: np.ndarray) -> ParsedFrame | None:
     """Read fields and verify the check from the bits after the sync word.
 
@@ -341,10 +350,7 @@ def parse_frame(spec: FrameSpec, bits_after_sync: np.ndarray) -> ParsedFrame | N
     if pos + n_cb > rx.size:
         return None
     if n_cb:
-        mask = p.check_masks.get(n_fb)
-        if mask is None:
-            mask = p.check_masks[n_fb] = whitening_mask(spec, n_fb, n_cb)[n_fb:]
-        cb = rx[pos:pos + n_cb] ^ mask
+        cb = rx[pos:pos + n_cb] ^ _check_mask(p, n_fb)
         covered = fb if p.sync_bits is None else np.concatenate((p.sync_bits, fb))
         value = p.check.compute(_b.pack_bits(covered))  # type: ignore[attr-defined]
         got_value = _dot_int(cb, p.check_weights, spec.bit_order, spec.check.byte_order)
@@ -386,20 +392,18 @@ class ParsedFrames:
         """Return every frame as :func:`parse_frame` gives it."""
         p = _parse_plan(self.spec)
         names = [fp.f.name for fp in p.fields]
-        raws, physical = [], []
-        for fp, col in zip(p.fields, self.raw, strict=True):
-            f = fp.f
-            r = [_b.to_signed(u, f.width_bits) for u in col.tolist()] if f.signed else col.tolist()
-            raws.append(r)
-            physical.append(r if fp.scale is None else
-                            [float(Decimal(v) * fp.scale + fp.offset) for v in r])  # type: ignore[operator]
+        raws = [[_b.to_signed(u, fp.f.width_bits) for u in col.tolist()] if fp.f.signed
+                else col.tolist() for fp, col in zip(p.fields, self.raw, strict=True)]
         w = 2 * self.payload.shape[1]
         hexes = self.payload.tobytes().hex()
-        return [ParsedFrame(fields=dict(zip(names, ph, strict=True)),
-                            raw=dict(zip(names, rw, strict=True)),
-                            payload_hex=hexes[i * w:(i + 1) * w], check_ok=ok, n_bits=self.n_bits)
-                for i, (ph, rw, ok) in enumerate(zip(zip(*physical, strict=True), zip(*raws, strict=True),
-                                                     self.check_ok.tolist(), strict=True))]
+        out = []
+        for i, (values, ok) in enumerate(zip(zip(*raws, strict=True), self.check_ok.tolist(),
+                                             strict=True)):
+            raw = dict(zip(names, values, strict=True))
+            out.append(ParsedFrame(fields=_physical(p, raw), raw=raw,
+                                   payload_hex=hexes[i * w:(i + 1) * w], check_ok=ok,
+                                   n_bits=self.n_bits))
+        return out
 
 
 def parse_frames(spec: FrameSpec, bodies: np.ndarray) -> ParsedFrames:
@@ -424,10 +428,7 @@ def parse_frames(spec: FrameSpec, bodies: np.ndarray) -> ParsedFrames:
     fb = plain[:, :pos]
     n_cb = p.n_check_bits
     if n_cb:
-        mask = p.check_masks.get(pos)
-        if mask is None:
-            mask = p.check_masks[pos] = whitening_mask(spec, pos, n_cb)[pos:]
-        got = np.dot(rx[:, pos:pos + n_cb] ^ mask, p.check_weights).tolist()
+        got = np.dot(rx[:, pos:pos + n_cb] ^ _check_mask(p, pos), p.check_weights).tolist()
         covered = fb if p.sync_bits is None else np.concatenate(
             (np.broadcast_to(p.sync_bits, (fb.shape[0], p.sync_bits.size)), fb), axis=1)
         keep = (1 << n_cb) - 1

@@ -82,7 +82,7 @@ class _Window:
     chip0: np.ndarray  # chip offset of every run
     n_prefix: int
     first: int  # train index of the first measured pulse
-    at: int  # where the measured pulses start in the _Windows arrays
+    at: int  # where the measured pulses start in the Windows arrays
     unit0_us: float
     ws: Windows
     t0: np.ndarray  # start time of every pulse of the train
