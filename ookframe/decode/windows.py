@@ -39,7 +39,7 @@ def classify_windows(spec: FrameSpec, hm: HeadModel, dur: np.ndarray, first: np.
     length = stop - first
     offset = np.concatenate(([0], np.cumsum(length)[:-1]))
     window = np.repeat(np.arange(first.size), length)
-    idx = np.arange(int(length.sum())) - offset[window] + first[window]
+    idx = ragged_index(first, length)
     d = dur[idx]
     start_unit = head_unit(d, length, unit0, hm.body_chip - int(hm.prefix_units.sum()))
     unit = track_unit(d, length, start_unit, gain=dec.loop_gain, tolerance=dec.tolerance,
