@@ -243,18 +243,23 @@ def _crc_params(d: Mapping[str, Any], path: str) -> CrcParams:
     return params
 
 
-def _check(d: object) -> CheckSpec:
+def _check(d: object, frame_byte_order: str) -> CheckSpec:
+    """Return the CheckSpec of a [check] table; ``byte_order`` defaults to the frame's
+    (to "big" for no check or a width that is not a multiple of 8: byte order has no meaning
+    there)."""
     path = "check"
     d = _table(d, path)
     _no_unknown(d, CHECK_KEYS, path)
     kind = _choice(d, "kind", path, CHECK_KINDS, "crc" if ("model" in d or "poly" in d) else None)
     covers = _sections(d, path, ("sync", "fields"), ("fields",))
-    byte_order = _choice(d, "byte_order", path, ("big", "little"), "big")
     crc = _crc_params(d, path) if kind == "crc" else None
     if kind != "crc":
         for k in ("model", *CRC_KEYS):
             if k in d:
                 raise SpecError(f"{path}.{k}", f"only allowed with kind = \"crc\" (kind is {kind!r})")
+    width_bits = CheckSpec(kind=kind, crc=crc).width_bits
+    byte_order = _choice(d, "byte_order", path, ("big", "little"),
+                         frame_byte_order if width_bits and width_bits % 8 == 0 else "big")
     spec = CheckSpec(kind=kind, crc=crc, covers=covers, byte_order=byte_order)
     if byte_order == "little" and spec.width_bits % 8:
         raise SpecError(f"{path}.byte_order", f"little needs a check width that is a multiple of 8, "
@@ -412,7 +417,7 @@ def spec_and_defaults_from_dict(doc: Mapping[str, Any]) -> tuple[FrameSpec, dict
             if f.kind == "int" and f.width_bits > 8 and f.width_bits % 8:
                 raise SpecError(f"fields[{i}].width_bits", f"byte_order = \"little\" needs widths that are "
                                 f"multiples of 8 for fields wider than 8 bits; '{f.name}' is {f.width_bits}")
-    check = _check(doc["check"]) if "check" in doc else CheckSpec()
+    check = _check(doc["check"], byte_order) if "check" in doc else CheckSpec()
     spec = FrameSpec(
         name=name,
         description=_str(fr, "description", "frame"),

@@ -102,6 +102,8 @@ class CheckSpec:
 
     kind: "none", "crc" (``crc`` set), "sum8", "xor8", "fletcher16".
     The check value (``width_bits``) is sent in ``byte_order`` with the frame bit order.
+    A spec file without ``[check] byte_order`` gets the frame's ``byte_order`` (see
+    ``ookframe.spec.load``); a CheckSpec built directly defaults to "big".
     """
 
     kind: str = "none"
