@@ -210,6 +210,24 @@ def test_aloha_worked_example_and_poisson_limit():
     assert at.collisions(1000, 3, 5000.0, 10.0, 1).p_report_ok == 1.0
 
 
+def test_poisson_figure_uses_the_other_nodes_load():
+    """Exact small case, by hand: N = 2 nodes, R = 1, T = 1 ms, I = 1 s. Total offered load
+    G = N R T / I = 0.002 (throughput S = G exp(-2G), Abramson 1970); the one frame meets
+    only the other node's load G' = (N-1) R T / I = 0.001, so the Poisson figure is
+    exp(-2G') = exp(-0.002) = 0.998002 against the exact 1 - 2T/I = 0.998. With R = 2 copies
+    and N = 3 at I = 0.1 s: G = 0.06, G' = 0.04, Poisson exp(-0.08)."""
+    c = at.collisions(1000.0, 1, 0.0, 1.0, 2)
+    assert c.offered_load == pytest.approx(0.002) and c.others_load == pytest.approx(0.001)
+    assert c.p_frame_ok_poisson == pytest.approx(math.exp(-0.002), rel=1e-12)
+    assert c.p_frame_ok == pytest.approx(0.998)
+    assert c.throughput == pytest.approx(0.002 * math.exp(-0.004))
+    c = at.collisions(1000.0, 2, 9000.0, 0.1, 3)
+    assert c.offered_load == pytest.approx(0.06) and c.others_load == pytest.approx(0.04)
+    assert c.p_frame_ok_poisson == pytest.approx(math.exp(-0.08), rel=1e-12)
+    one = at.collisions(1000.0, 1, 0.0, 1.0, 1)
+    assert one.others_load == 0.0 and one.p_frame_ok_poisson == 1.0 == one.p_frame_ok
+
+
 def test_two_copies_two_nodes_by_hand():
     """By hand: R = 2 copies T = 1 ms apart by S = 10 ms, I = 100 ms, one other node. Its
     offset within T of 0 hits both copies (width 2T), within T of +-S one copy each. So
@@ -309,6 +327,24 @@ def test_cli_airtime_json(capsys):
     assert d["energy"]["energy_per_tx_uj"] == pytest.approx(4838.4)
     assert d["energy"]["battery_life_days"] == pytest.approx(2000 / 0.02688)
     assert d["bandwidth_hz"] > 0 and d["rf_bandwidth_hz"] == pytest.approx(2 * d["bandwidth_hz"])
+
+
+def test_cli_airtime_aloha_rows_agree(capsys):
+    """The printed G' is the load the Poisson figure uses: exp(-2 G') with G' = (N-1) R T / I
+    (arithmetic on Abramson's model), and G = N R T / I is printed for the throughput row."""
+    code, out, _ = _run(capsys, "airtime", HIVE, "--interval-s", "900", "--nodes", "2", "--json")
+    c = json.loads(out)["collisions"]
+    assert code == 0 and c["others_load"] == pytest.approx(c["offered_load"] / 2)
+    assert c["p_frame_ok_poisson"] == pytest.approx(math.exp(-2 * c["others_load"]), rel=1e-12)
+    code, out, _ = _run(capsys, "airtime", HIVE, "--interval-s", "900", "--nodes", "2")
+    rows = {line.split("│")[1].strip(): line.split("│")[2].strip()
+            for line in out.splitlines() if line.count("│") == 3}
+    g_other = float(rows["load of the other nodes: G' = (N-1) R T / I"])
+    assert g_other == pytest.approx(c["others_load"], rel=1e-3)
+    assert float(rows["P(one frame survives), Poisson exp(-2G')"]) == pytest.approx(
+        math.exp(-2 * g_other), abs=2e-6)
+    assert float(rows["offered load, all nodes: G = N R T / I"]) == pytest.approx(2 * g_other,
+                                                                                  rel=1e-3)
 
 
 def test_cli_airtime_table_and_errors(capsys):

@@ -9,9 +9,9 @@ interval I with independent, uniformly random phases; a frame is lost when any o
 overlaps it in time (no capture effect, the receiver always listens). A frame of length T
 meets one other node's frame with probability 2T/I (vulnerable window 2T), so it survives
 N-1 single-frame nodes with probability (1 - 2T/I)^(N-1), exact for T <= I/2. This tends
-to exp(-2G) as N grows, G being the offered load in frames per frame time (here the other
-nodes' load (N-1) T / I, which is N T / I for large N); the throughput S = G exp(-2G) peaks
-at G = 1/2 with S = 1/(2e).
+to exp(-2G') as N grows, G' = (N-1) R T / I being the load the *other* nodes offer (frames
+per frame time); the total offered load G = N R T / I (which G' approaches for large N)
+gives the channel throughput S = G exp(-2G), peaking at G = 1/2 with S = 1/(2e).
 
 Repeats: every node sends R copies spaced S = T + gap. Copies of two nodes collide together
 (their repeat patterns are the same), so the copies of one report are *not* independent.
@@ -85,7 +85,8 @@ class Collisions:
     """Pure-ALOHA odds for one report among ``n_nodes`` unsynchronised nodes.
 
     offered_load: G = N R T / I (all nodes, frames per frame time); throughput = G exp(-2G);
-    p_frame_ok: exact P(one copy survives); p_frame_ok_poisson: exp(-2 (N-1) R T / I);
+    others_load: G' = (N-1) R T / I (the other nodes' load, what one frame meets);
+    p_frame_ok: exact P(one copy survives); p_frame_ok_poisson: exp(-2 G');
     p_report_ok: exact P(at least one of the R copies survives); p_report_ok_independent:
     1 - (1 - p_frame_ok)^R (copies assumed lost independently, optimistic);
     expected_deliveries: R p_frame_ok (copies received per report).
@@ -97,6 +98,7 @@ class Collisions:
     spacing_us: float
     interval_s: float
     offered_load: float
+    others_load: float
     p_frame_ok: float
     p_frame_ok_poisson: float
     throughput: float
@@ -180,7 +182,8 @@ def aloha_p_success(frame_us: float, interval_s: float, n_nodes: int) -> float:
 
 
 def aloha_p_success_poisson(offered_load: float) -> float:
-    """Return exp(-2G), the pure-ALOHA success probability at offered load G (large N)."""
+    """Return exp(-2G), the pure-ALOHA success probability of a frame that meets a load of G
+    other frames per frame time (Poisson limit of many nodes)."""
     return math.exp(-2.0 * offered_load)
 
 
@@ -256,7 +259,7 @@ def collisions(frame_us: float, repeats: int, gap_us: float, interval_s: float,
     others = n * repeats * frame_s / interval_s
     return Collisions(n_nodes=n_nodes, frame_us=frame_us, repeats=repeats,
                       spacing_us=frame_us + gap_us, interval_s=interval_s, offered_load=load,
-                      p_frame_ok=p_copy, p_frame_ok_poisson=aloha_p_success_poisson(others),
+                      others_load=others, p_frame_ok=p_copy, p_frame_ok_poisson=aloha_p_success_poisson(others),
                       throughput=aloha_throughput(load), p_report_ok=min(1.0, p_report),
                       p_report_ok_independent=1.0 - (1.0 - p_copy) ** repeats,
                       expected_deliveries=repeats * p_copy)

@@ -149,10 +149,11 @@ def run(args: argparse.Namespace) -> int:
         _print_findings(name, found)
     out.print(_kv_table(
         f"collisions: pure ALOHA, {c.n_nodes} unsynchronised node(s) (Abramson 1970)", [
-            ("offered load G = N R T / I", f"{c.offered_load:.4g}"),
+            ("offered load, all nodes: G = N R T / I", f"{c.offered_load:.4g}"),
             ("throughput S = G exp(-2G) (max 1/(2e) = 0.184)", f"{c.throughput:.4g}"),
-            ("P(one frame survives)", f"{c.p_frame_ok:.6f}"),
-            ("P(one frame survives), Poisson exp(-2G)", f"{c.p_frame_ok_poisson:.6f}"),
+            ("load of the other nodes: G' = (N-1) R T / I", f"{c.others_load:.4g}"),
+            ("P(one frame survives), exact", f"{c.p_frame_ok:.6f}"),
+            ("P(one frame survives), Poisson exp(-2G')", f"{c.p_frame_ok_poisson:.6f}"),
             (f"P(at least one of {c.repeats} copies survives), exact", f"{c.p_report_ok:.6f}"),
             ("  same, assuming copies lost independently", f"{c.p_report_ok_independent:.6f}"),
             ("expected copies delivered per report", f"{c.expected_deliveries:.4f}"),
