@@ -295,16 +295,20 @@ def airtime_report(spec: FrameSpec, interval_s: float, rng: np.random.Generator,
                    power_mw: float | None = None, rf_bandwidth_hz: float | None = None,
                    tx_current_ma: float = TYPICAL_TX_CURRENT_MA,
                    supply_v: float = TYPICAL_SUPPLY_V,
-                   battery_mah: float | None = None) -> AirtimeReport:
+                   battery_mah: float | None = None,
+                   carrier_hz: float | None = None) -> AirtimeReport:
     """Return timing, duty cycle, region findings, collision odds and energy for a spec.
 
     Duty cycle and region rules use the upper-bound airtime (conservative); collisions and
-    energy use means over random payloads (expected values).
+    energy use means over random payloads (expected values). ``power_mw`` (e.r.p.),
+    ``rf_bandwidth_hz`` and ``carrier_hz`` feed the region rules; rules needing one that is
+    not given are reported as not assessed.
     """
     timing = tx_timing(spec, rng)
     duty = duty_cycle(timing.max_airtime_us, interval_s)
     found = {r: check_region(r, timing.max_airtime_us, interval_s, power_mw,
-                             rf_bandwidth_hz=rf_bandwidth_hz) for r in regions}
+                             rf_bandwidth_hz=rf_bandwidth_hz, carrier_hz=carrier_hz)
+             for r in regions}
     coll = collisions(timing.frame_us, spec.repeats, spec.gap_us, interval_s, n_nodes)
     en = energy(timing.mark_us, interval_s, tx_current_ma, supply_v, battery_mah)
     return AirtimeReport(timing, duty, found, coll, en, rf_bandwidth_hz)
