@@ -491,6 +491,10 @@ def test_cli_airtime_power_and_carrier(capsys):
     field = [f for f in fcc["findings"] if f["unit"] == "µV/m"]
     assert [round(f["limit"]) for f in field] == [10_997, 4_399]
     assert all(f["value"] == pytest.approx(233_809.04) and f["ok"] is False for f in field)
+    code, out, _ = _run(capsys, *base, "--power-mw", "10", "--json")  # no carrier given
+    assert json.loads(out)["regions"][0]["verdict"] is False  # above 12,500 µV/m anywhere
+    code, out, _ = _run(capsys, *base, "--power-mw", "10")
+    assert "no option met" in out
     code, out, _ = _run(capsys, *base, "--carrier-mhz", "433.92", "--json")
     fcc = json.loads(out)["regions"][0]
     assert fcc["verdict"] is None

@@ -256,7 +256,7 @@ def _fcc_carrier(u: Usage, option: str) -> Finding:
 def _fcc_field(u: Usage, paragraph: Literal["b", "e"], option: str) -> Finding:
     """Field strength at 3 m against the 15.231(b) or (e) table. Without a carrier the
     value is still compared with the highest limit at any frequency: above it, it fails."""
-    rule, clause = f"field strength at 3 m, 15.231({paragraph}) table", f"47 CFR 15.231({paragraph})"
+    rule, clause = "field strength at 3 m", f"47 CFR 15.231({paragraph})"
     value = None if u.power_mw is None else field_strength_uv_m(u.power_mw)
     if value is None:
         return _finding(rule, clause, None, None, unit="µV/m", option=option, note=_NO_POWER)

@@ -52,6 +52,8 @@ def _fmt(value: float | None, unit: str) -> str:
 
 
 def _limit(f: Finding) -> str:
+    if f.limit is None:
+        return "-"
     if f.relation == "in":
         return f"{_fmt(f.limit, f.unit)} to {_fmt(f.limit_high, f.unit)}"
     return f"{f.relation} {_fmt(f.limit, f.unit)}"
