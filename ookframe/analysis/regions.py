@@ -172,7 +172,8 @@ def _cept_433(u: Usage) -> list[Finding]:
         *band[:1],
         _finding("e.r.p.", _CEPT_BAND, 1.0, p, unit="mW", option=_OPT_1MW,
                  note=("no duty-cycle limit at 1 mW; with a modulation bandwidth above 250 kHz "
-                       "also <= -13 dBm per 10 kHz (from memory)") if p is not None
+                       "also <= -13 dBm per 10 kHz (the 250 kHz threshold from memory)")
+                 if p is not None
                  else _NO_POWER),
         *band[1:2],
     ]
