@@ -364,6 +364,31 @@ def test_3of6_max_run_from_table():
     assert lc.max_run_units == 4
 
 
+def test_4b6b_is_the_ieee_802_15_7_table():
+    """4B6B encodes each nibble with the IEEE Std 802.15.7 (2011) 4B6B encoding table
+    (RLL coding of VPPM PHY I, clause 10.5.1 as the source below cites it; the standard's
+    table number not confirmed). Table and bit order as read in the open-source
+    IEEE 802.15.7 transmitter polhenarejos/flexicom (CTTC), file
+    src/layouts/VLC/bb4b6bEnc.cc: the first of 4 input bits is the nibble's most
+    significant bit, the 6 output bits are sent in table order, leftmost first.
+    Nibble -> codeword: 0 001110, 1 001101, 2 010011, 3 010110, 4 010101, 5 100011,
+    6 100110, 7 100101, 8 011001, 9 011010, A 011100, B 110001, C 110010, D 101001,
+    E 101010, F 101100."""
+    table = {0x0: "001110", 0x1: "001101", 0x2: "010011", 0x3: "010110",
+             0x4: "010101", 0x5: "100011", 0x6: "100110", 0x7: "100101",
+             0x8: "011001", 0x9: "011010", 0xA: "011100", 0xB: "110001",
+             0xC: "110010", 0xD: "101001", 0xE: "101010", 0xF: "101100"}
+    lc = code("4b6b")
+    for nibble, word in table.items():
+        bits = np.array([(nibble >> (3 - i)) & 1 for i in range(4)], np.uint8)
+        assert "".join(map(str, lc.encode(bits).tolist())) == word, hex(nibble)
+    # a byte is two nibbles, high nibble first: 0x2B -> 010011 110001
+    byte = np.array([0, 0, 1, 0, 1, 0, 1, 1], np.uint8)
+    assert "".join(map(str, lc.encode(byte).tolist())) == "010011" "110001"
+    cand = lc.decode(*chips_to_runs(lc.encode(byte)))[0]
+    assert cand.bits.tolist() == byte.tolist() and bool(cand.valid.all())
+
+
 def test_4b6b_table_weight_and_max_run():
     """4B6B table: 16 distinct weight-3 words (DC balanced), 000111/111000 excluded;
     max_run_units equals the brute-force longest run over 2 and 3 codewords (4 units)."""
@@ -375,11 +400,13 @@ def test_4b6b_table_weight_and_max_run():
     assert lc.max_run_units == 4
 
 
-def test_4b6b_table_choice_is_optimal():
-    """No other 16 of the 18 allowed weight-3 words keeps runs shorter, and among those with
-    the same longest run ours has the fewest ordered pairs reaching it (the rule stated in
-    ookframe.linecodes.code4b6b; exhaustive search)."""
+def test_4b6b_word_set_is_the_best_by_runs():
+    """Of the 153 ways to take 16 of the 18 weight-3 words left after 000111/111000, the
+    IEEE 802.15.7 set (which drops 001011 and 110100) is the only one with the shortest
+    longest run over codeword pairs and the fewest ordered pairs reaching it (exhaustive
+    search; a property of the set, independent of the nibble assignment)."""
     allowed = [w for w in range(64) if bin(w).count("1") == 3 and w not in (0b000111, 0b111000)]
+    assert set(allowed) - set(CODEWORDS_4B6B) == {0b001011, 0b110100}
     chips = {w: [(w >> (5 - i)) & 1 for i in range(6)] for w in allowed}
 
     def score(words):

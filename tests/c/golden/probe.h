@@ -208,7 +208,7 @@ typedef char probe_assert_repeats[(PROBE_REPEATS >= 1u && PROBE_REPEATS <= 255u)
 #endif
 
 /* ---- tables -------------------------------------------------------------------------- */
-/* width=16 poly=0x1021 init=0x0000 refin=true refout=true xorout=0x0000 check=0x2189 name='CRC-16/KERMIT': 256-entry table, reflected (right-shifting) */
+/* width=16 poly=0x1021 init=0x0000 refin=true refout=true xorout=0x0000 check=0x2189 residue=0x0000 name='CRC-16/KERMIT': 256-entry table, reflected (right-shifting) */
 static const uint16_t PROBE_TABLE probe_crc_table[256] = {
     0x0000u, 0x1189u, 0x2312u, 0x329Bu, 0x4624u, 0x57ADu, 0x6536u, 0x74BFu,
     0x8C48u, 0x9DC1u, 0xAF5Au, 0xBED3u, 0xCA6Cu, 0xDBE5u, 0xE97Eu, 0xF8F7u,
