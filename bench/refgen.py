@@ -137,17 +137,6 @@ def check_value(spec: FrameSpec, data: bytes) -> int:
     raise ValueError(f"no independent model of check kind {c.kind!r}")
 
 
-def check_width(spec: FrameSpec) -> int:
-    """Return the check's width in bits (0 without a check)."""
-    c = spec.check
-    if c.kind == "none":
-        return 0
-    if c.kind == "crc":
-        assert c.crc is not None
-        return c.crc.width
-    return {"sum8": 8, "xor8": 8, "fletcher16": 16}[c.kind]
-
-
 def lfsr_mask(width: int, poly: int, seed: int, n_bits: int) -> list[int]:
     """Return ``n_bits`` of whitening mask in on-air order (groups of 8 steps reversed)."""
     n_steps = -(-n_bits // 8) * 8
@@ -161,7 +150,7 @@ def lfsr_mask(width: int, poly: int, seed: int, n_bits: int) -> list[int]:
 def body_bits(spec: FrameSpec, raw: dict[str, object]) -> list[int]:
     """Return fields + check bits as sent (whitened, not stuffed)."""
     fb = field_bits(spec, raw)
-    n_check = check_width(spec)
+    n_check = spec.check.width_bits
     cb: list[int] = []
     if n_check:
         covered = (head_bits(spec)[-spec.sync.length_bits:] if "sync" in spec.check.covers
@@ -392,7 +381,7 @@ def allowed_runs(spec: FrameSpec, body_lengths_bits: tuple[int, ...] = (8, 12),
 def _max_frame_chips(spec: FrameSpec) -> int:
     """Return a bound on any frame's chip count (8 units per bit, stuffing doubling bits)."""
     n_body = sum(8 * f.max_len_bytes if f.kind == "bytes" else f.width_bits
-                 for f in spec.fields) + check_width(spec)
+                 for f in spec.fields) + spec.check.width_bits
     return 8 * (len(head_bits(spec)) + 2 * n_body)
 
 
