@@ -309,7 +309,8 @@ def random_raw(spec: FrameSpec, rng: np.random.Generator) -> dict[str, object]:
             raw[f.name] = len(blob)
             continue
         lo = -(1 << (f.width_bits - 1)) if f.signed else 0
-        raw[f.name] = lo + int.from_bytes(rng.bytes(8), "big") % (1 << f.width_bits)
+        raw[f.name] = lo + int.from_bytes(rng.bytes(f.width_bits // 8 + 1), "big") % (
+            1 << f.width_bits)
     return raw
 
 
