@@ -79,3 +79,83 @@ def test_caution_lines_go_to_stderr(capsys, argv):
     assert code == 0
     assert "caution" not in out.lower()
     assert "caution: Airtime, power and duty-cycle figures are estimates" in err
+
+
+def test_decode_format_overrides_extension(capsys, tmp_path):
+    """A CSV capture saved as .txt decodes with --format csv; without it the extension is
+    refused (exit 4); a wrong --format is a usage error (exit 2)."""
+    cap = tmp_path / "capture.txt"
+    assert run(capsys, "encode", HIVE, "--format", "csv", "-o", str(cap))[0] == 0
+    code, _, err = run(capsys, "decode", HIVE, str(cap))
+    assert code == exitcodes.BAD_INPUT and "extension" in err
+    code, out, _ = run(capsys, "decode", HIVE, str(cap), "--format", "csv", "--json")
+    assert code == 0 and len(json.loads(out)) == 3
+    code, _, _ = run(capsys, "decode", HIVE, str(cap), "--format", "wav")
+    assert code == exitcodes.USAGE
+    # a JSON capture named .csv is read as JSON when told so
+    cap_json = tmp_path / "capture.csv"
+    assert run(capsys, "encode", HIVE, "--format", "json", "-o", str(cap_json))[0] == 0
+    code, out, _ = run(capsys, "decode", HIVE, str(cap_json), "--format", "json", "--json")
+    assert code == 0 and len(json.loads(out)) == 3
+
+
+def test_decode_format_names_match_capture_registry():
+    """--format's choices are the capture formats the readers register."""
+    from ookframe.captures import FORMATS
+    from ookframe.cli.cmd_decode import CAPTURE_FORMATS
+
+    assert set(CAPTURE_FORMATS) == set(FORMATS)
+
+
+def test_decoded_frames_table_shows_units_time_check_and_quality(capsys, tmp_path, monkeypatch):
+    """The frame table has one section per frame: number and time, check result, reception
+    figures, and one row per field with its unit from the spec (hive_scale: weight_g in g,
+    battery_v in V); the one-line `name=value, ...` form is gone. Values are the example's
+    defaults (examples/hive_scale.toml)."""
+    monkeypatch.setenv("COLUMNS", "80")
+    cap = tmp_path / "f.csv"
+    run(capsys, "encode", HIVE, "--format", "csv", "-o", str(cap))
+    code, out, _ = run(capsys, "decode", HIVE, str(cap))
+    assert code == 0
+    lines = out.splitlines()
+    assert max(len(line) for line in lines[1:]) <= 80  # the title names the (long) path
+    assert lines[1].split() == ["frame", "reception", "field", "value", "unit"]
+    assert "=" not in out
+    rows = [line.split() for line in lines]
+    assert ["#1", "at", "64.000", "ms", "clock", "+0.00", "%", "hive", "3"] in rows
+    assert any(r[-3:] == ["weight_g", "41250", "g"] for r in rows)
+    assert any(r[-3:] == ["battery_v", "3", "V"] for r in rows)
+    assert sum(r[:2] == ["check", "pass"] for r in rows) == 3
+
+
+def test_decode_json_output_is_stable(capsys, tmp_path):
+    """The documented --json keys of a decoded frame stay as they were."""
+    cap = tmp_path / "f.csv"
+    run(capsys, "encode", HIVE, "--format", "csv", "-o", str(cap))
+    frames = json.loads(run(capsys, "decode", HIVE, str(cap), "--json")[1])
+    assert set(frames[0]) == {"fields", "payload_hex", "crc_ok", "start_us", "end_us",
+                              "unit_us", "worst_deviation", "sync_errors"}
+
+
+def test_pulse_table_columns_add_up(capsys):
+    """`encode --format pulses`: index, mark/space, start µs, duration µs, units. Each start
+    is the sum of the durations before it, units = duration / unit (hive_scale: 250 µs,
+    Manchester, so every pulse inside a frame is 1 or 2 units; the 8000 µs gap of 32 units
+    merges with a frame's last space, examples/hive_scale.toml)."""
+    code, out, _ = run(capsys, "encode", HIVE, "--format", "pulses")
+    assert code == 0
+    head, body = out.splitlines()[:2], out.splitlines()[2:]
+    assert head[1].split() == ["#", "index", "level", "start_us", "duration_us", "units"]
+    t = 0.0
+    for k, line in enumerate(body):
+        idx, level, start, dur, units = line.split()
+        assert int(idx) == k and level in ("mark", "space")
+        assert float(start) == pytest.approx(t, abs=1e-3)
+        assert float(units) == pytest.approx(float(dur) / 250.0, abs=1e-3)
+        t += float(dur)
+    units = [float(line.split()[4]) for line in body]
+    assert {u for u in units if u < 32} == {1.0, 2.0}
+    gaps = [line.split()[1] for line in body if float(line.split()[4]) >= 32]
+    assert gaps == ["space", "space"]  # the two gaps between the three copies
+    levels = [line.split()[1] for line in body]
+    assert all(a != b for a, b in zip(levels, levels[1:], strict=False))
