@@ -159,3 +159,113 @@ def test_pulse_table_columns_add_up(capsys):
     assert gaps == ["space", "space"]  # the two gaps between the three copies
     levels = [line.split()[1] for line in body]
     assert all(a != b for a, b in zip(levels, levels[1:], strict=False))
+
+
+def test_per_in_json_is_the_exact_ratio_of_counts(capsys):
+    """`per` is failures / frames computed from the integer counts, so its JSON text is the
+    shortest decimal of that ratio (e.g. 4 / 10000 prints 0.0004, not 1 - 0.9996 =
+    0.00039999999999995595: IEEE 754 rounding, Python float repr)."""
+    from fractions import Fraction
+
+    code, out, _ = run(capsys, "stress", HIVE, "--frames", "300", "--workers", "1",
+                       "--preset", "edge-of-range-superregen", "--jitter-us", "40", "--json")
+    assert code == 0
+    d = json.loads(out)
+    fails = d["frames"] - d["ok"]
+    assert 0 < fails < d["frames"]  # a PER that is not 0 or 1, so rounding could show
+    assert d["per"] == float(Fraction(fails, d["frames"]))
+    assert repr(d["per"]) == repr(fails / d["frames"])
+
+
+def test_per_float_of_counts_has_no_subtraction_noise():
+    """4 failures in 10000: the ratio of counts is 0.0004 exactly as printed (IEEE 754
+    correctly rounded division), the old 1 - ok / frames is not."""
+    from ookframe.stress.runner import Counts, _result
+
+    r = _result(_hive_spec(), _ideal(), 0, Counts(frames=10000, ok=9996), 500, 0.0, 1)
+    assert json.loads(json.dumps(r.per)) == 0.0004 and repr(r.per) == "0.0004"
+    assert repr(1 - 9996 / 10000) != "0.0004"  # the noise this replaces
+
+
+def _hive_spec():
+    from ookframe import load_spec
+
+    return load_spec(HIVE)
+
+
+def _ideal():
+    from ookframe import get_preset
+
+    return get_preset("ideal")
+
+
+def test_progress_on_forces_the_bar_without_a_terminal(capsys):
+    """--progress on draws the bar on stderr even when stderr is a pipe (here: captured);
+    auto draws nothing there; the result on stdout is the same JSON either way."""
+    code, out_on, err_on = run(capsys, "stress", HIVE, "--frames", "40", "--chunk-frames", "10",
+                               "--workers", "1", "--preset", "ideal", "--progress", "on")
+    assert code == 0
+    assert "stress" in err_on and "\x1b[" in err_on  # the bar, drawn with terminal controls
+    code, out_auto, err_auto = run(capsys, "stress", HIVE, "--frames", "40", "--chunk-frames",
+                                   "10", "--workers", "1", "--preset", "ideal")
+    assert code == 0 and "\x1b[" not in err_auto
+
+
+def test_interrupted_stress_reports_partial_counts(capsys, monkeypatch):
+    """Ctrl-C after two chunks: the JSON result counts those 2 x 10 transmissions, is marked
+    interrupted, and the exit status is 130 (128 + SIGINT, POSIX shell convention)."""
+    import ookframe.stress.runner as runner
+
+    real = runner.run_chunk
+    calls = []
+
+    def chunk_then_stop(*a):
+        calls.append(1)
+        if len(calls) == 3:
+            raise KeyboardInterrupt
+        return real(*a)
+
+    monkeypatch.setattr(runner, "run_chunk", chunk_then_stop)
+    code, out, err = run(capsys, "stress", HIVE, "--frames", "100", "--chunk-frames", "10",
+                         "--workers", "1", "--preset", "ideal", "--json")
+    assert code == exitcodes.INTERRUPTED == 130
+    d = json.loads(out)
+    assert d["interrupted"] is True and d["frames"] == 20 and d["ok"] == 20
+    assert "interrupted after 20 of 100" in err
+    calls.clear()
+    code, out, _ = run(capsys, "stress", HIVE, "--frames", "100", "--chunk-frames", "10",
+                       "--workers", "1", "--preset", "ideal")
+    assert code == 130 and "INTERRUPTED" in out
+
+
+def test_sigint_to_a_pooled_stress_run_exits_130_without_traceback(tmp_path):
+    """A real SIGINT to `ookframe stress --workers 2`: the pool workers leave it to the
+    parent, which prints the partial JSON result and exits 130; no traceback anywhere."""
+    import signal
+    import subprocess
+    import sys
+    import threading
+    import time
+
+    cmd = [sys.executable, "-c", "import sys; from ookframe.cli.main import main; "
+           "sys.exit(main(sys.argv[1:]))", "stress", HIVE, "--frames", "10000000",
+           "--chunk-frames", "20", "--workers", "2", "--json", "--progress", "on"]
+    p = subprocess.Popen(cmd, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
+                         preexec_fn=lambda: signal.signal(signal.SIGINT, signal.SIG_DFL))
+    seen: list[str] = []
+    reader = threading.Thread(target=lambda: seen.extend(iter(lambda: p.stderr.read(1), "")))
+    reader.start()
+    deadline = time.monotonic() + 120
+    while "stress" not in "".join(seen) and time.monotonic() < deadline:  # the bar is up
+        time.sleep(0.2)
+    time.sleep(2)
+    p.send_signal(signal.SIGINT)
+    out = p.stdout.read()
+    p.wait(timeout=120)
+    reader.join(timeout=10)
+    err = "".join(seen)
+    assert p.returncode == 130, err
+    assert "Traceback" not in err
+    assert out.startswith("{"), (out, err[-400:])
+    d = json.loads(out)
+    assert d["interrupted"] is True and d["frames"] < 10000000, err

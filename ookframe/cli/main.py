@@ -92,7 +92,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         return _fail(args, f"{e.strerror or e}: {e.filename or ''}".rstrip(": "), exitcodes.BAD_INPUT)
     except KeyboardInterrupt:
         err.print("ookframe: interrupted")
-        return _exit(130)
+        return _exit(exitcodes.INTERRUPTED)
     except Exception as e:  # noqa: BLE001 - the one funnel for bugs
         if args.debug:
             raise
