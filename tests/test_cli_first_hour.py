@@ -269,3 +269,81 @@ def test_sigint_to_a_pooled_stress_run_exits_130_without_traceback(tmp_path):
     assert out.startswith("{"), (out, err[-400:])
     d = json.loads(out)
     assert d["interrupted"] is True and d["frames"] < 10000000, err
+
+
+def test_margin_unknown_impairment_is_a_usage_error(capsys):
+    """A misspelt --impairments name is a bad command line (exit 2, README's exit codes),
+    with a close-match suggestion."""
+    code, _, err = run(capsys, "margin", HIVE, "--impairments", "clock_error")
+    assert code == exitcodes.USAGE
+    assert "did you mean 'clock_error_pct'" in err and "Traceback" not in err
+
+
+def _printed(renderable, width: int = 80) -> list[str]:
+    from rich.console import Console
+
+    c = Console(width=width, record=True, file=open("/dev/null", "w"))  # noqa: SIM115
+    c.print(renderable)
+    return c.export_text().splitlines()
+
+
+def test_margin_table_keeps_names_and_figures_whole_at_80_columns():
+    """At 80 columns every impairment name and figure is printed whole on its row (the
+    longest name, glitch_rate_per_ms, included); only the note may wrap."""
+    from ookframe import load_spec
+    from ookframe.cli.cmd_margin import margin_table
+    from ookframe.stress.margin import run_margin
+
+    spec = load_spec(HIVE)
+    r = run_margin(spec, 0.1, impairments=["glitch_rate_per_ms", "drift_pct_per_s"],
+                   n_frames=60, resolution=0.3, seed=1, workers=1)
+    lines = _printed(margin_table(spec.name, 0.1, r))
+    assert max(len(x.rstrip()) for x in lines) <= 80
+    names = [x.split() for x in lines if x.split() and x.split()[0] in
+             ("glitch_rate_per_ms", "drift_pct_per_s")]
+    assert [(w[0], w[1]) for w in names] == [(row.impairment, f"{row.limit:.4g}")
+                                             for row in r.rows]
+    assert "…" not in "".join(lines)
+
+
+@pytest.mark.parametrize("n_bits", [16, 24])
+def test_syncword_bits_column_is_whole_at_80_columns(capsys, monkeypatch, n_bits):
+    """At 80 columns the bits column shows every bit of each word (in byte groups, wrapped
+    at group boundaries) and equals the word's hex (the binary and hex of one integer)."""
+    monkeypatch.setenv("COLUMNS", "80")
+    code, out, _ = run(capsys, "syncword", "--bits", str(n_bits), "--top", "3",
+                       "--bit-rate-bps", "2000")
+    assert code == 0 and "…" not in out
+    table = out.split("min distance:")[0].splitlines()
+    assert max(len(x.rstrip()) for x in table) <= 80
+    rows: list[list[str]] = []
+    for x in table[4:]:  # after title, blank, two header lines: a row and its wrapped bits
+        if x.split() and x.split()[0].startswith("0x"):
+            rows.append(x.split())
+        elif rows:
+            rows[-1] += x.split()
+    assert len(rows) == 3
+    for r in rows:
+        bits = "".join(g for g in r[1:] if set(g) <= {"0", "1"} and len(g) == 8)
+        assert len(bits) == n_bits and int(bits, 2) == int(r[0], 16)
+
+
+def test_psd_plot_marks_the_bandwidth_check_and_airtime_report(capsys, tmp_path):
+    """One function (analysis.spectrum.bandwidth_hz) gives the 99 % bandwidth: the PSD
+    plot's marker line, `check --json` and `airtime --json` carry the same number."""
+    from ookframe import load_spec, plots
+    from ookframe.analysis.spectrum import bandwidth_hz
+
+    spec = load_spec(HIVE)
+    import numpy as np
+
+    fig = plots.psd_figure(spec, np.random.default_rng(12345))
+    marker_khz = fig.axes[0].lines[1].get_xdata()[0]
+    b = bandwidth_hz(spec)
+    assert marker_khz * 1e3 == pytest.approx(b, rel=1e-12)
+    check = json.loads(run(capsys, "check", HIVE, "--json")[1])
+    air = json.loads(run(capsys, "airtime", HIVE, "--interval-s", "60", "--json")[1])
+    assert check["bandwidth_hz"] == pytest.approx(b, rel=1e-12)
+    assert air["bandwidth_hz"] == pytest.approx(b, rel=1e-12)
+    code, _, err = run(capsys, "plot", HIVE, "--what", "psd", "-o", str(tmp_path / "p.png"))
+    assert code == 0 and f"99 % bandwidth {b / 1e3:.1f} kHz" in err
