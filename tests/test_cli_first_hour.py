@@ -347,3 +347,71 @@ def test_psd_plot_marks_the_bandwidth_check_and_airtime_report(capsys, tmp_path)
     assert air["bandwidth_hz"] == pytest.approx(b, rel=1e-12)
     code, _, err = run(capsys, "plot", HIVE, "--what", "psd", "-o", str(tmp_path / "p.png"))
     assert code == 0 and f"99 % bandwidth {b / 1e3:.1f} kHz" in err
+
+
+README = (Path(__file__).resolve().parent.parent / "README.md").read_text(encoding="utf-8")
+
+
+def _subparsers() -> dict:
+    import argparse
+
+    from ookframe.cli.main import build_parser
+
+    parser, _ = build_parser()
+    action = next(a for a in parser._actions if isinstance(a, argparse._SubParsersAction))
+    return action.choices
+
+
+def _option(sub, dest: str):
+    return next(a for a in sub._actions if a.dest == dest)
+
+
+def test_preset_defaults_agree_with_readme():
+    """The README names each command's --preset default; the parsers use exactly those."""
+    import re
+
+    subs = _subparsers()
+    text = " ".join(README.split())
+    m = re.search(r"`stress`, `noise` and `vectors` start from `([\w-]+)`.*?`sweep` and "
+                  r"`margin` start from `([\w-]+)`", text)
+    assert m, "README states the --preset defaults"
+    for cmd in ("stress", "noise", "vectors"):
+        assert _option(subs[cmd], "preset").default == m.group(1)
+    for cmd in ("sweep", "margin"):
+        assert _option(subs[cmd], "preset").default == m.group(2)
+        assert f"default: {m.group(2)}" in subs[cmd].format_help()
+
+
+@pytest.mark.parametrize("cmd", ["stress", "sweep", "margin", "vectors"])
+def test_impairment_help_gives_meaning_unit_and_default(cmd):
+    """Each impairment option says more than its own name, names a unit or range, and shows
+    the default preset's value in brackets (values from ookframe.channel.presets)."""
+    from dataclasses import fields
+
+    from ookframe.channel import ChannelSpec, get_preset
+
+    sub = _subparsers()[cmd]
+    preset = get_preset(_option(sub, "preset").default)
+    for f in fields(ChannelSpec):
+        text = _option(sub, f.name).help % {}
+        assert text.lower().replace(" ", "_") != f.name and len(text) > len(f.name) + 10
+        assert any(u in text for u in ("µs", "%", "ms", "0..1", "gauss")), text
+        value = getattr(preset, f.name)
+        assert text.endswith(f"[{value:g}]" if f.name != "jitter_kind" else f"[{value}]")
+
+
+@pytest.mark.parametrize("cmd, default", [("stress", 10000), ("sweep", 2000)])
+def test_frames_help_states_its_default(cmd, default):
+    """--frames names its default in the help (and it is the parser's default)."""
+    opt = _option(_subparsers()[cmd], "frames")
+    assert opt.default == default and f"default {default}" in opt.help
+
+
+def test_readme_starts_with_setup_and_full_test_command_quick_subset_below():
+    """README: one paragraph, then the set-up command and the full test command (what CI
+    runs); the quick subset is named further down."""
+    body = README.split("\n", 2)[2]
+    blocks = body.split("```")
+    assert "pip install" in blocks[1] and blocks[3].strip() == "sh\npython -m pytest -q -n 2"
+    quick = 'python -m pytest -q -n 2 -m "not slow"'
+    assert quick in README and README.index(quick) > README.index(blocks[3])
