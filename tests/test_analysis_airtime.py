@@ -511,9 +511,9 @@ def test_cli_airtime_power_and_carrier(capsys):
 
 
 def test_cli_airtime_table_and_errors(capsys):
-    code, out, _ = _run(capsys, "airtime", HIVE, "--interval-s", "900", "--region", "fcc-15.231")
+    code, out, err = _run(capsys, "airtime", HIVE, "--interval-s", "900", "--region", "fcc-15.231")
     assert code == 0
     flat = " ".join(out.split())
-    assert REGULATORY_CAUTION in flat and "15.231(e)" in flat and "Abramson" in flat
+    assert REGULATORY_CAUTION in " ".join(err.split()) and "15.231(e)" in flat and "Abramson" in flat
     code, _, err = _run(capsys, "airtime", HIVE, "--interval-s", "0.1")
     assert code == exitcodes.BAD_INPUT and "interval_s must be longer" in err

@@ -14,7 +14,7 @@ from ookframe.cli.output import REGULATORY_CAUTION
 from ookframe.layout import frame_layout
 from tests.conftest import example_spec
 
-KEYS = {"airtime_us", "line_code", "sync", "check", "bandwidth_hz", "cautions"}
+KEYS = {"airtime_us", "line_code", "sync", "check", "bandwidth_hz", "cautions", "warnings"}
 
 
 def test_report_keys_and_values(example):

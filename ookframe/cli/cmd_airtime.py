@@ -11,7 +11,7 @@ from rich.table import Table
 from ..analysis import airtime as at
 from ..analysis.regions import REGIONS, Finding, met_options, verdict
 from . import common
-from .output import REGULATORY_CAUTION, out, print_json
+from .output import REGULATORY_CAUTION, err, out, print_json
 
 NAME = "airtime"
 HELP = "airtime and duty cycle at a report interval, region rules, collisions, battery energy"
@@ -188,5 +188,5 @@ def run(args: argparse.Namespace) -> int:
                         "on during marks only)", rows))
     out.print(f"energy ignores: {', '.join(e.ignores)}")
     for note in cautions:
-        out.print(f"[yellow]caution:[/yellow] {note}", highlight=False)
+        err.print(f"caution: {note}", markup=False)
     return 0

@@ -8,7 +8,7 @@ from rich.table import Table
 
 from ..layout import frame_layout
 from ..linecodes import get_line_code
-from . import common
+from . import common, exitcodes
 from .output import err, out, print_json
 
 NAME = "check"
@@ -19,6 +19,9 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     common.add_spec_argument(p)
     p.add_argument("--ber", type=float, default=1e-4,
                    help="bit-error rate for the undetected-error figure (default 1e-4)")
+    p.add_argument("--strict", action="store_true",
+                   help="treat warnings (design defects such as a sync word that a preamble "
+                   f"window imitates) as errors: exit {exitcodes.BAD_SPEC}")
     common.add_json_argument(p)
 
 
@@ -54,8 +57,11 @@ def run(args: argparse.Namespace) -> int:
     info.update(report)
     if args.json:
         print_json(info)
-        return 0
-    err.print(f"spec '{spec.name}' is valid")
+        return _verdict(args, info["warnings"])
+    n_warn = len(info["warnings"])
+    err.print(f"spec '{spec.name}' is valid" + (f", with {n_warn} warning(s)" if n_warn else ""))
+    for w in info["warnings"]:
+        err.print(f"warning: {w}", markup=False)
     t = Table(title=f"{spec.name}: {spec.line_code.name}, unit {spec.unit_us:g} µs, "
               f"{info['bit_rate_bps']:g} bit/s")
     for col in ("section", "bits", "symbol units", "duration µs", "detail"):
@@ -71,8 +77,17 @@ def run(args: argparse.Namespace) -> int:
               f"longest over all payloads {report['airtime_us'] / 1000:.2f} ms")
     out.print(_report_table(report))
     for c in report["cautions"]:
-        out.print(f"[yellow]caution:[/yellow] {c}", markup=True)
-    return 0
+        err.print(f"caution: {c}", markup=False)
+    return _verdict(args, info["warnings"])
+
+
+def _verdict(args: argparse.Namespace, warnings: list[str]) -> int:
+    """Exit code: BAD_SPEC when --strict and there are warnings (one error line), else 0."""
+    if not (args.strict and warnings):
+        return 0
+    err.print(f"ookframe check: error: --strict: {len(warnings)} warning(s), first: "
+              f"{warnings[0]}", markup=False)
+    return exitcodes.BAD_SPEC
 
 
 def _report_table(r: dict) -> Table:

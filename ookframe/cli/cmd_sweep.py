@@ -22,7 +22,8 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("specs", nargs="+", metavar="SPEC", help="frame spec files (TOML)")
     p.add_argument("--vary", required=True, metavar="NAME=START:STOP:COUNT",
                    help="impairment and grid, e.g. jitter_us=0:40:21 or mark_bias_us=-8,0,8")
-    p.add_argument("--frames", type=common.FRAMES, default=2000, help="transmissions per point")
+    p.add_argument("--frames", type=common.FRAMES, default=2000,
+                   help="transmissions per point and spec (default 2000)")
     p.add_argument("--plot", metavar="FILE", help="write a plot (.png, .svg, .pdf)")
     p.add_argument("--force", action="store_true", help="overwrite an existing plot file")
     add_channel_arguments(p, "ideal")

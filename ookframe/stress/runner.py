@@ -180,6 +180,13 @@ def chunk_plan(n_frames: int, chunk_frames: int) -> list[int]:
     return [chunk_frames] * full + ([rest] if rest else [])
 
 
+def _ignore_interrupt() -> None:
+    """Pool workers leave Ctrl-C to the parent, which stops the run and reports."""
+    import signal
+
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+
+
 @contextmanager
 def pool_for(executor: Executor | None, workers: int) -> Iterator[Executor | None]:
     """Yield ``executor``, else a process pool of ``workers`` (shut down afterwards) when
@@ -187,7 +194,7 @@ def pool_for(executor: Executor | None, workers: int) -> Iterator[Executor | Non
     if executor is not None or workers <= 1:
         yield executor
         return
-    pool = ProcessPoolExecutor(max_workers=workers)
+    pool = ProcessPoolExecutor(max_workers=workers, initializer=_ignore_interrupt)
     try:
         yield pool
     finally:
@@ -231,15 +238,33 @@ def run_stress(
     same result, whatever the executor or worker count.
     """
     t0 = time.perf_counter()
-    plan = chunk_plan(n_frames, chunk_frames)
-    seqs = np.random.SeedSequence(seed).spawn(len(plan))
-    args = [(spec, channel, n, q, gap_us, decoder) for n, q in zip(plan, seqs, strict=True)]
     c = Counts()
-    with pool_for(executor, workers) as pool:
-        for _, counts in map_unordered(run_chunk, args, pool):
-            c = c + counts  # integer sums: the order of completion does not matter
-            if progress is not None:
-                progress(counts.frames)
+    try:
+        plan = chunk_plan(n_frames, chunk_frames)
+        seqs = np.random.SeedSequence(seed).spawn(len(plan))
+        args = [(spec, channel, n, q, gap_us, decoder) for n, q in zip(plan, seqs, strict=True)]
+        with pool_for(executor, workers) as pool:
+            for _, counts in map_unordered(run_chunk, args, pool):
+                c = c + counts  # integer sums: the order of completion does not matter
+                if progress is not None:
+                    progress(counts.frames)
+    except KeyboardInterrupt:
+        raise StressInterrupted(_result(spec, channel, seed, c, chunk_frames, t0,
+                                        workers if executor is None else 0)) from None
+    return _result(spec, channel, seed, c, chunk_frames, t0, workers if executor is None else 0)
+
+
+class StressInterrupted(KeyboardInterrupt):
+    """Ctrl-C during ``run_stress``; ``partial`` holds the chunks counted until then."""
+
+    def __init__(self, partial: StressResult) -> None:
+        super().__init__("stress run interrupted")
+        self.partial = partial
+
+
+def _result(spec: FrameSpec, channel: ChannelSpec, seed: int, c: Counts, chunk_frames: int,
+            t0: float, workers: int) -> StressResult:
+    """The StressResult of the counts ``c`` (PER from integer counts: exact to the float)."""
     elapsed = time.perf_counter() - t0
     n_copies = c.frames * spec.repeats
     return StressResult(
@@ -248,7 +273,7 @@ def run_stress(
         seed=seed,
         frames=c.frames,
         ok=c.ok,
-        per=(1.0 - c.ok / c.frames) if c.frames else 0.0,
+        per=(c.frames - c.ok) / c.frames if c.frames else 0.0,
         per_ci95=clopper_pearson(c.frames - c.ok, c.frames),
         lost_sync=c.lost_sync,
         bad_check=c.bad_check,
@@ -262,5 +287,5 @@ def run_stress(
         chunk_frames=chunk_frames,
         elapsed_s=elapsed,
         frames_per_s=c.frames / elapsed if elapsed > 0 else float("inf"),
-        workers=workers if executor is None else 0,
+        workers=workers,
     )

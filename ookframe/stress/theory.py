@@ -5,7 +5,6 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from scipy.stats import norm
 
 from ..linecodes import get_line_code
 from ..spec.model import FrameSpec
@@ -20,6 +19,8 @@ def width_misread_prob(sigma_us: float, unit_us: float, margin_units: float = 0.
     """
     if sigma_us <= 0:
         return 0.0
+    from scipy.stats import norm  # slow import: only when the figure is computed
+
     return float(2.0 * norm.sf(margin_units * unit_us / (math.sqrt(2.0) * sigma_us)))
 
 
@@ -38,6 +39,8 @@ def widths_error_prob(
     """
     if n_widths <= 0 or sigma_us <= 0:
         return 0.0
+    from scipy.stats import norm  # slow import: only when the figure is computed
+
     h = margin_units * unit_us
     x = np.linspace(-10 * sigma_us, 10 * sigma_us, grid_points)
     dx = x[1] - x[0]
