@@ -41,7 +41,7 @@ NOT_COMPARED = ("elapsed_s", "frames_per_s", "workers")
 def scheduler():
     """Address of a two-process LocalCluster on 127.0.0.1 (closed after the module)."""
     cluster = distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
-                                       host="127.0.0.1", dashboard_address=None,
+                                       host="127.0.0.1", dashboard_address="127.0.0.1:0",
                                        silence_logs=50)
     try:
         yield cluster.scheduler_address
@@ -70,14 +70,16 @@ def test_run_stress_on_a_cluster_equals_the_process_pool(scheduler):
 
 
 def test_run_sweep_on_a_cluster_equals_the_process_pool(scheduler):
-    """A two-spec, three-point sweep: identical SweepResult on the cluster and in a pool."""
+    """A two-spec, three-point sweep: identical SweepResult on the cluster, in a pool (both
+    submit every point's chunks together) and in one process (point after point)."""
     specs = [load_spec(HIVE), load_spec(PROBE)]
     ch = get_preset("ideal")
     kw = dict(seed=5, chunk_frames=30)
     with cluster_executor(scheduler, timeout_s=20) as ex:
         on_cluster = run_sweep(specs, ch, "jitter_us", (0.0, 30.0, 60.0), 90, executor=ex, **kw)
     pool = run_sweep(specs, ch, "jitter_us", (0.0, 30.0, 60.0), 90, workers=2, **kw)
-    assert on_cluster == pool
+    local = run_sweep(specs, ch, "jitter_us", (0.0, 30.0, 60.0), 90, workers=1, **kw)
+    assert on_cluster == pool == local
     pers = [r.per for rows in pool.results for r in rows]
     assert min(pers) == 0.0 < max(pers)
 

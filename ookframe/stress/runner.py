@@ -241,6 +241,14 @@ def run_stress(
             if progress is not None:
                 progress(counts.frames)
     elapsed = time.perf_counter() - t0
+    return stress_result(spec, channel, seed, c, chunk_frames, elapsed,
+                         workers if executor is None else 0)
+
+
+def stress_result(spec: FrameSpec, channel: ChannelSpec, seed: int, c: Counts,
+                  chunk_frames: int, elapsed_s: float, workers: int) -> StressResult:
+    """Return the StressResult of a run's summed chunk tallies ``c``."""
+    elapsed = elapsed_s
     n_copies = c.frames * spec.repeats
     return StressResult(
         spec_name=spec.name,
@@ -262,5 +270,5 @@ def run_stress(
         chunk_frames=chunk_frames,
         elapsed_s=elapsed,
         frames_per_s=c.frames / elapsed if elapsed > 0 else float("inf"),
-        workers=workers if executor is None else 0,
+        workers=workers,
     )
