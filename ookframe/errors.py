@@ -26,3 +26,8 @@ class CaptureError(OokframeError):
 
 class CodegenError(OokframeError):
     """C code cannot be generated for this spec/target (timing does not fit, bad name...)."""
+
+
+class ClusterError(OokframeError):
+    """A Dask cluster cannot be used (extra not installed, scheduler unreachable, no worker,
+    another ookframe version on a worker)."""

@@ -228,9 +228,12 @@ def test_quantise_picks_exact_prescaler_and_reports_errors():
 
 
 def test_quantise_refusals():
-    """Durations that fit no timer period, a too coarse tick, empty prescaler lists."""
-    with pytest.raises(CodegenError, match="no prescaler fits.*repeat gap"):
-        quantise(TimerTarget(prescalers=(1,)), 250.0, [1], 20000.0, (2, 1))
+    """Chip runs that fit no timer period, a gap too long even split over 65535 periods
+    (20 s at 0.125 µs ticks on an 8-bit timer), a too coarse tick, empty prescaler lists."""
+    with pytest.raises(CodegenError, match="no prescaler fits.*1 unit"):
+        quantise(TimerTarget(prescalers=(1,)), 10000.0, [1], None, (2, 0))
+    with pytest.raises(CodegenError, match="no prescaler fits.*repeat gap.*65535 periods"):
+        quantise(TimerTarget(timer_bits=8, prescalers=(1,)), 20.0, [1], 20e6, (2, 1))
     with pytest.raises(CodegenError, match=r"worst timing error .* exceeds the tolerance 1 %"):
         quantise(TimerTarget(prescalers=(1024,)), 250.0, [1], None, (2, 0))
     assert quantise(TimerTarget(prescalers=(1024,), tolerance=0.05), 2500.0, [1], None,
@@ -256,8 +259,8 @@ def test_emit_refuses_bad_names_and_timing():
         dataclasses.replace(spec.fields[2], name="NODE"), *spec.fields[3:]))
     with pytest.raises(CodegenError, match="same C macro name"):
         build_model(renamed)
-    with pytest.raises(CodegenError, match="no prescaler fits"):
-        build_model(spec, TimerTarget(timer_bits=8, prescalers=(1, 8)))
+    with pytest.raises(CodegenError, match="no prescaler fits"):  # 250 µs = 2000 ticks > 255
+        build_model(spec, TimerTarget(timer_bits=8, prescalers=(1,)))
 
 
 # --------------------------------------------------------------------------- rendering

@@ -10,7 +10,7 @@ from rich.table import Table
 
 from ..analysis import airtime as at
 from ..analysis.regions import REGIONS, Finding, met_options, verdict
-from . import common
+from . import battery_options, common
 from .output import REGULATORY_CAUTION, err, out, print_json
 
 NAME = "airtime"
@@ -36,6 +36,7 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--supply-v", type=float, metavar="V",
                    help=f"supply voltage, V (default {at.TYPICAL_SUPPLY_V:g}, a typical figure)")
     p.add_argument("--battery-mah", type=float, metavar="C", help="battery capacity, mAh")
+    battery_options.add_battery_arguments(p)
     common.add_json_argument(p)
 
 
@@ -147,8 +148,17 @@ def run(args: argparse.Namespace) -> int:
         cautions.append(f"Energy uses typical figures ({rep.energy.tx_current_ma:g} mA at "
                         f"{rep.energy.supply_v:g} V with the carrier on): give --tx-current-ma "
                         "and --supply-v for your transmitter.")
+    budget = None
+    if battery_options.wanted(args):
+        budget, notes = battery_options.budget_from_args(
+            args, rep.duty.interval_s, rep.timing.mark_us, rep.energy.tx_current_ma,
+            rep.timing.airtime_us)
+        cautions += notes
     if args.json:
-        print_json(report_dict(spec, rep, bw, assumed, cautions))
+        doc = report_dict(spec, rep, bw, assumed, cautions)
+        if budget is not None:
+            doc["battery"] = battery_options.budget_dict(budget)
+        print_json(doc)
         return 0
     t, d, c, e = rep.timing, rep.duty, rep.collisions, rep.energy
     rows = [("frame (mean over random payloads)", f"{t.frame_us / 1000:.2f} ms"),
@@ -187,6 +197,9 @@ def run(args: argparse.Namespace) -> int:
     out.print(_kv_table(f"transmit energy ({e.tx_current_ma:g} mA at {e.supply_v:g} V, carrier "
                         "on during marks only)", rows))
     out.print(f"energy ignores: {', '.join(e.ignores)}")
+    if budget is not None:
+        out.print(battery_options.budget_table(budget))
+        out.print(f"battery budget ignores: {', '.join(budget.ignores)}")
     for note in cautions:
         err.print(f"caution: {note}", markup=False)
     return 0

@@ -51,6 +51,7 @@ class Emitted:
             "crc_impl": m.target.crc_impl if m.spec.check.kind == "crc" else None,
             "durations": t.table(),
             "max_frame_bits": m.max_frame_bits,
+            "gap_timer_periods": list(t.gap_piece_ticks()),
         }
 
 

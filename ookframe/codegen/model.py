@@ -71,6 +71,56 @@ class CField:
     unit: str
     description: str
     role: str
+    fixed: FixedPoint | None = None
+
+
+#: most decimal places of a field's scale and offset that get fixed-point helpers
+FIXED_MAX_DECIMALS = 9
+#: largest magnitude of a fixed-point value or intermediate the helpers promise (2^62)
+FIXED_LIMIT = 1 << 62
+
+
+@dataclass(frozen=True)
+class FixedPoint:
+    """Integer-only conversion of a scaled field between raw and physical values.
+
+    Physical values are integers in units of 1/``div`` of the field's unit (``div`` the
+    smallest power of ten that makes scale and offset whole in that unit):
+    physical_fixed = raw * ``scale_fixed`` + ``offset_fixed`` (exact), and
+    raw = round((physical_fixed - ``offset_fixed``) / ``scale_fixed``), nearest with ties
+    to even as ``ookframe.bits.to_raw``. ``scale_num`` / ``scale_den``: the scale as a
+    reduced fraction.
+    """
+
+    div: int
+    decimals: int
+    scale_fixed: int
+    offset_fixed: int
+    scale_num: int
+    scale_den: int
+    example_raw: int
+    example_fixed: int
+
+
+def fixed_point(scale: float, offset: float, raw_min: int, raw_max: int) -> FixedPoint | None:
+    """Return the fixed-point helper values of a field, or None when scale and offset need
+    more than FIXED_MAX_DECIMALS decimal places or the values would pass FIXED_LIMIT."""
+    from decimal import Decimal
+    from fractions import Fraction
+
+    s, o = Decimal(repr(float(scale))), Decimal(repr(float(offset)))
+    places = max(0, -int(s.as_tuple().exponent), -int(o.as_tuple().exponent))
+    if places > FIXED_MAX_DECIMALS or s == 0:
+        return None
+    div = 10 ** places
+    sf, of = int(s * div), int(o * div)
+    if max(abs(raw_min), abs(raw_max)) * abs(sf) + abs(of) >= FIXED_LIMIT:
+        return None
+    frac = Fraction(s)
+    example = raw_max // 2 if raw_max > 1 else raw_max
+    return FixedPoint(div=div, decimals=places, scale_fixed=sf, offset_fixed=of,
+                      scale_num=frac.numerator, scale_den=frac.denominator,
+                      example_raw=example, example_fixed=example * sf + of)
 
 
 @dataclass(frozen=True)
@@ -120,6 +170,7 @@ class CModel:
     ticks_max: int
     duration_consts: tuple[dict[str, object], ...]
     needs: dict[str, bool]
+    gap: dict[str, object] | None = None
 
 
 def _uint_type(bits: int) -> str:
@@ -257,7 +308,9 @@ def _fields(spec: FrameSpec) -> tuple[CField, ...]:
                          else uint_literal(f.raw_max, tbits)),
             mask_literal=uint_literal((1 << f.width_bits) - 1, tbits),
             offset_bits=pos, bit_order=spec.bit_order, scale=f.scale, offset=f.offset,
-            unit=f.unit, description=f.description, role=f.role))
+            unit=f.unit, description=f.description, role=f.role,
+            fixed=(fixed_point(f.scale, f.offset, f.raw_min, f.raw_max)
+                   if f.is_scaled and f.role == "value" else None)))
         if pos is not None:
             pos += f.width_bits
     return tuple(out)
@@ -390,6 +443,8 @@ def build_model(spec: FrameSpec, target: TimerTarget | None = None) -> CModel:
         "differential": code.differential,
         "blocks": code.bits_per_block > 1,
         "reflect": bool(check.get("reflect_out")),
+        "fixed": any(f.fixed is not None for f in fields),
+        "gap_split": has_gap and timing.gap_pieces > 1,
     }
     units_per_bit = lc.units_per_bit
     return CModel(
@@ -416,7 +471,16 @@ def build_model(spec: FrameSpec, target: TimerTarget | None = None) -> CModel:
             {"name": f"RUN_{d.units}U" if d.units else "GAP", "us": round(d.nominal_us),
              "nominal": f"{d.nominal_us:.3f}", "ticks": d.ticks, "actual": f"{d.quantised_us:.3f}"}
             for d in timing.durations),
-        needs=needs)
+        needs=needs, gap=_gap_model(timing) if has_gap else None)
+
+
+def _gap_model(timing: Timing) -> dict[str, object]:
+    """Values of the repeat gap as sent: one timer period, or ``pieces`` of them (the
+    ``short`` ones first, then ``long_count`` of ``short + 1`` ticks)."""
+    pieces = timing.gap_piece_ticks()
+    short = pieces[0]
+    return {"ticks": timing.gap_ticks, "pieces": len(pieces), "short": short,
+            "long_count": sum(1 for t in pieces if t != short)}
 
 
 def _layout_rows(spec: FrameSpec, fields: tuple[CField, ...], head_bits: int

@@ -266,6 +266,14 @@ def _result(spec: FrameSpec, channel: ChannelSpec, seed: int, c: Counts, chunk_f
             t0: float, workers: int) -> StressResult:
     """The StressResult of the counts ``c`` (PER from integer counts: exact to the float)."""
     elapsed = time.perf_counter() - t0
+    return stress_result(spec, channel, seed, c, chunk_frames, elapsed,
+                         workers if executor is None else 0)
+
+
+def stress_result(spec: FrameSpec, channel: ChannelSpec, seed: int, c: Counts,
+                  chunk_frames: int, elapsed_s: float, workers: int) -> StressResult:
+    """Return the StressResult of a run's summed chunk tallies ``c``."""
+    elapsed = elapsed_s
     n_copies = c.frames * spec.repeats
     return StressResult(
         spec_name=spec.name,
