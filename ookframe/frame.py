@@ -14,7 +14,7 @@ from functools import lru_cache
 import numpy as np
 
 from . import bits as _b
-from .errors import ValueRangeError
+from .errors import ValueRangeError, excerpt
 from .pulses import PulseTrain, chips_to_train, concat
 from .spec.model import FieldSpec, FrameSpec
 
@@ -60,7 +60,7 @@ def _blob(f: FieldSpec, value: object) -> bytes:
         try:
             value = bytes.fromhex(value)
         except ValueError:
-            raise ValueRangeError(f"field '{f.name}': {value!r} is not hex") from None
+            raise ValueRangeError(f"field '{f.name}': {excerpt(value)} is not hex") from None
     if not isinstance(value, bytes | bytearray):
         raise ValueRangeError(f"field '{f.name}': expected bytes or a hex string")
     if len(value) > f.max_len_bytes:
@@ -77,9 +77,9 @@ def raw_values(spec: FrameSpec, values: Values) -> dict[str, object]:
     if unknown:
         import difflib
 
-        close = difflib.get_close_matches(unknown[0], [f.name for f in spec.fields], n=1)
+        close = difflib.get_close_matches(str(unknown[0])[:100], [f.name for f in spec.fields], n=1)
         hint = f" (did you mean '{close[0]}'?)" if close else ""
-        raise ValueRangeError(f"unknown field '{unknown[0]}'{hint}; fields: "
+        raise ValueRangeError(f"unknown field {excerpt(unknown[0])}{hint}; fields: "
                               + ", ".join(f.name for f in spec.fields))
     raw: dict[str, object] = {}
     blob_len: int | None = None
