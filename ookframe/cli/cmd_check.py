@@ -47,11 +47,13 @@ def run(args: argparse.Namespace) -> int:
     from ..analysis.report import design_report
 
     spec, defaults = common.load(args)
+    emit_refusal = _warn_emit(spec)
     lay = frame_layout(spec)
     info = layout_dict(spec, lay)
     report = design_report(spec, ber=args.ber)
     info["airtime_for_zero_values_us"] = info.pop("airtime_us")
     info.update(report)
+    info["emit_refusal"] = emit_refusal
     if args.json:
         print_json(info)
         return 0
@@ -73,6 +75,19 @@ def run(args: argparse.Namespace) -> int:
     for c in report["cautions"]:
         out.print(f"[yellow]caution:[/yellow] {c}", markup=True)
     return 0
+
+
+def _warn_emit(spec) -> str | None:
+    """Warn on stderr when ``emit`` with its default timer would refuse ``spec``; return why."""
+    from ..codegen import TimerTarget, emit_problem
+
+    problem = emit_problem(spec)
+    if problem:
+        t = TimerTarget()
+        err.print(f"warning: 'ookframe emit' with its default timer ({t.clock_hz} Hz, "
+                  f"{t.timer_bits}-bit, prescalers {','.join(map(str, t.prescalers))}) will "
+                  f"refuse this spec: {problem}", markup=False)
+    return problem
 
 
 def _report_table(r: dict) -> Table:

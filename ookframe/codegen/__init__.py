@@ -60,6 +60,17 @@ def emit_header(spec: FrameSpec, target: TimerTarget | None = None) -> Emitted:
     return Emitted(f"{spec.name}.h", render_model(model), model)
 
 
+def emit_problem(spec: FrameSpec, target: TimerTarget | None = None) -> str | None:
+    """Return why :func:`emit_header` would refuse ``spec`` for ``target`` (default timer
+    when None), or None when it would not: the very checks ``emit`` makes, so ``check``
+    can report them."""
+    try:
+        build_model(spec, target)
+    except CodegenError as exc:
+        return str(exc)
+    return None
+
+
 def write_header(emitted: Emitted, out_dir: str | os.PathLike[str], *, force: bool = False
                  ) -> Path:
     """Write ``emitted`` into ``out_dir`` and return its path.
@@ -95,6 +106,7 @@ __all__ = [
     "Timing",
     "build_model",
     "emit_header",
+    "emit_problem",
     "schedule_from_bits",
     "tx_schedule",
     "write_header",

@@ -41,8 +41,8 @@ def name_problem(name: object, what: str, *, fold_case: bool = False) -> str | N
     if not isinstance(name, str):
         return f"{excerpt(name)} is not a valid {what}: must be a string"
     if len(name) > MAX_NAME_CHARS:
-        return (f"{excerpt(name)} is too long for a {what}: {len(name)} characters, "
-                f"allowed at most {MAX_NAME_CHARS}")
+        return (f"{excerpt(name)} is too long for a {what}; allowed at most {MAX_NAME_CHARS} "
+                "characters")
     if not _C_IDENT.match(name):
         return (f"{excerpt(name)} is not a valid {what}: letters, digits and '_', starting "
                 "with a letter")
