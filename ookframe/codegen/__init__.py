@@ -10,6 +10,7 @@ import os
 from dataclasses import dataclass
 from pathlib import Path
 
+from .._require import require, require_spec
 from ..errors import CodegenError
 from ..spec.model import FrameSpec
 from .model import CModel, build_model
@@ -56,6 +57,9 @@ class Emitted:
 
 def emit_header(spec: FrameSpec, target: TimerTarget | None = None) -> Emitted:
     """Return the generated header for ``spec`` (CodegenError when it cannot be made)."""
+    require_spec(spec, "spec")
+    if target is not None:
+        require(target, TimerTarget, "target")
     model = build_model(spec, target)
     return Emitted(f"{spec.name}.h", render_model(model), model)
 

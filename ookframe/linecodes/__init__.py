@@ -6,6 +6,7 @@ Adding a code: write a module with a ``LineCode`` subclass (``name``, ``PARAMS``
 
 from __future__ import annotations
 
+from .._require import require
 from ..errors import SpecError, excerpt
 from ..spec.model import LineCodeSpec
 from ._params import suggestion
@@ -28,6 +29,7 @@ LINE_CODES: dict[str, type[LineCode]] = {
 
 def get_line_code(spec: LineCodeSpec) -> LineCode:
     """Return the line code named by ``spec``, its parameters validated (SpecError if not)."""
+    require(spec, LineCodeSpec, "spec", "e.g. frame_spec.line_code")
     cls = LINE_CODES.get(spec.name)
     if cls is None:
         names = list(LINE_CODES)

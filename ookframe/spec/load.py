@@ -13,6 +13,7 @@ from collections.abc import Mapping
 from pathlib import Path
 from typing import Any
 
+from .._require import require, require_path
 from ..errors import QUOTE_CHARS, SpecError, excerpt
 from .model import (
     CheckSpec,
@@ -36,7 +37,7 @@ MAX_REPEATS = 255
 MAX_FIELDS = 128
 MAX_PREAMBLE_COUNT = 512
 MAX_FRAME_BITS = 4096  # preamble + sync + fields (longest) + check, before the line code
-MAX_TRANSMISSION_BITS = 65536  # MAX_FRAME_BITS x repeats
+MAX_TRANSMISSION_BITS = 16384  # frame bits x repeats
 
 TOP_KEYS = ("frame", "line_code", "preamble", "sync", "fields", "check", "whitening", "decoder")
 FRAME_KEYS = (
@@ -347,6 +348,7 @@ def spec_from_dict(doc: Mapping[str, Any]) -> FrameSpec:
 
 def spec_and_defaults_from_dict(doc: Mapping[str, Any]) -> tuple[FrameSpec, dict[str, object]]:
     """Return (FrameSpec, default field values given in the spec)."""
+    require(doc, Mapping, "doc", "give the dict tomllib.loads returns")
     from ..bits import to_raw
     from ..frame import _blob
     from ..linecodes import get_line_code
@@ -461,9 +463,7 @@ def spec_and_defaults_from_dict(doc: Mapping[str, Any]) -> tuple[FrameSpec, dict
 
 def _check_size(spec: FrameSpec) -> None:
     """Raise SpecError when the frame is longer than the documented size limits."""
-    blob = sum(8 * f.max_len_bytes for f in spec.fields if f.kind == "bytes")
-    bits = (spec.preamble.length_bits + spec.sync.length_bits + blob + spec.check.width_bits
-            + sum(f.width_bits for f in spec.fields if f.kind == "int"))
+    bits = spec.max_frame_bits
     if bits > MAX_FRAME_BITS:
         raise SpecError("frame", f"the frame is up to {bits} bits long (preamble, sync, fields, "
                         f"check); allowed at most {MAX_FRAME_BITS}")
@@ -475,6 +475,7 @@ def _check_size(spec: FrameSpec) -> None:
 
 def load_spec_and_defaults(path: str | Path) -> tuple[FrameSpec, dict[str, object]]:
     """Return (FrameSpec, defaults) from a TOML file; SpecError on any problem."""
+    require_path(path, "path")
     p = Path(path)
     try:
         text = p.read_text(encoding="utf-8")
