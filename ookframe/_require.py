@@ -28,9 +28,10 @@ _HINTS: dict[type, str] = {
 
 
 def _type_name(t: type | tuple[type, ...]) -> str:
-    if isinstance(t, tuple):
-        return " or ".join(_type_name(x) for x in t)
-    return "None" if t is type(None) else t.__name__
+    """Return 'a FrameSpec', 'an int', 'a str or PathLike' (numpy integers count as int)."""
+    names = [x.__name__ for x in (t if isinstance(t, tuple) else (t,)) if x is not np.integer]
+    text = " or ".join(names)
+    return ("an " if text[0].lower() in "aeiou" else "a ") + text
 
 
 def require(value: Any, expected: type[T] | tuple[type, ...], name: str,
@@ -41,7 +42,7 @@ def require(value: Any, expected: type[T] | tuple[type, ...], name: str,
         return value  # type: ignore[return-value]
     hint = hint or (_HINTS.get(expected, "") if isinstance(expected, type) else "")
     got = "None" if value is None else type(value).__name__
-    raise TypeError(f"{name} must be a {_type_name(expected)}, got {got}"
+    raise TypeError(f"{name} must be {_type_name(expected)}, got {got}"
                     + (f"; {hint}" if hint else ""))
 
 

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import difflib
 import math
+import sys
 import tomllib
 from collections.abc import Mapping
 from pathlib import Path
@@ -489,6 +490,9 @@ def load_spec_and_defaults(path: str | Path) -> tuple[FrameSpec, dict[str, objec
         raise SpecError("", f"{p}: not valid TOML: {e}") from None
     except RecursionError:
         raise SpecError("", f"{p}: arrays or tables nested too deeply to read") from None
+    except ValueError:  # Python's int-digits limit, hit inside tomllib
+        raise SpecError("", f"{p}: a number is too long to read (more than "
+                        f"{sys.get_int_max_str_digits():,} digits)") from None
     return spec_and_defaults_from_dict(doc)
 
 
