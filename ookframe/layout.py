@@ -7,6 +7,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from . import frame as _f
+from ._require import require_spec
 from .spec.model import FrameSpec
 
 
@@ -49,6 +50,7 @@ def zero_values(spec: FrameSpec) -> dict[str, object]:
 
 def frame_layout(spec: FrameSpec, values: _f.Values | None = None) -> Layout:
     """Return the section table and airtime for ``values`` (zeros when None)."""
+    require_spec(spec, "spec")
     values = zero_values(spec) if values is None else values
     lc = _f._line_code(spec)
     raw = _f.raw_values(spec, values)

@@ -50,6 +50,7 @@ def run(args: argparse.Namespace) -> int:
     from ..analysis.report import design_report
 
     spec, defaults = common.load(args)
+    emit_refusal = _warn_emit(spec)
     lay = frame_layout(spec)
     info = layout_dict(spec, lay)
     report = design_report(spec, ber=args.ber)
@@ -57,6 +58,7 @@ def run(args: argparse.Namespace) -> int:
     offsets = field_offsets(spec)
     info["field_offsets"] = [_offset_dict(o) for o in offsets]
     info.update(report)
+    info["emit_refusal"] = emit_refusal
     if args.json:
         print_json(info)
         return _verdict(args, info["warnings"])
@@ -91,6 +93,19 @@ def _verdict(args: argparse.Namespace, warnings: list[str]) -> int:
     err.print(f"ookframe check: error: --strict: {len(warnings)} warning(s), first: "
               f"{warnings[0]}", markup=False)
     return exitcodes.BAD_SPEC
+
+
+def _warn_emit(spec) -> str | None:
+    """Warn on stderr when ``emit`` with its default timer would refuse ``spec``; return why."""
+    from ..codegen import TimerTarget, emit_problem
+
+    problem = emit_problem(spec)
+    if problem:
+        t = TimerTarget()
+        err.print(f"warning: 'ookframe emit' with its default timer ({t.clock_hz} Hz, "
+                  f"{t.timer_bits}-bit, prescalers {','.join(map(str, t.prescalers))}) will "
+                  f"refuse this spec: {problem}", markup=False)
+    return problem
 
 
 def _report_table(r: dict) -> Table:

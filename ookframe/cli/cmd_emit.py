@@ -9,6 +9,7 @@ from rich.table import Table
 
 from ..codegen import CRC_IMPLS, DEFAULT_PRESCALERS, TimerTarget, emit_header
 from ..codegen.timing import DEFAULT_CLOCK_HZ, DEFAULT_TIMER_BITS, DEFAULT_TOLERANCE
+from ..errors import excerpt
 from . import common
 from .output import check_writable, err, out, print_json, write_atomic
 
@@ -22,7 +23,7 @@ def _prescalers(text: str) -> tuple[int, ...]:
         return tuple(int(t, 0) for t in items)
     except ValueError:
         raise argparse.ArgumentTypeError(
-            f"{text!r} is not a comma-separated list of integers, e.g. 1,8,64,256,1024") from None
+            f"{excerpt(text)} is not a comma-separated list of integers, e.g. 1,8,64,256,1024") from None
 
 
 def add_arguments(p: argparse.ArgumentParser) -> None:

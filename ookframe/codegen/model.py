@@ -18,20 +18,12 @@ from ..checks import Crc
 from ..errors import CodegenError
 from ..linecodes import get_line_code
 from ..spec.model import FrameSpec
+from ..spec.names import name_problem, same_name
 from .linecode_table import CodeTable, code_table
 from .timing import TimerTarget, Timing, quantise
 
 #: bump when the generated API changes incompatibly (checked by <PREFIX>_REQUIRE_API_VERSION)
 API_VERSION = 1
-#: words a C99 compiler (or its standard headers) reserves; names must avoid them
-C_RESERVED = frozenset(
-    "auto break case char const continue default do double else enum extern float for goto "
-    "if inline int long register restrict return short signed sizeof static struct switch "
-    "typedef union unsigned void volatile while _Bool _Complex _Imaginary bool true false "
-    "NULL main errno assert offsetof size_t uint8_t uint16_t uint32_t uint64_t int8_t int16_t "
-    "int32_t int64_t".split()
-)
-_C_IDENT = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
 #: runs merged into one tx_next pulse for codes whose words can chain without limit
 CHAIN_CAP = 8
 
@@ -251,24 +243,23 @@ def spec_hash(spec: FrameSpec) -> str:
 
 
 def check_names(spec: FrameSpec) -> None:
-    """Raise CodegenError unless every generated name is a safe, unique C identifier."""
-    name = spec.name
-    if not _C_IDENT.match(name):
-        raise CodegenError(f"frame name {name!r} is not usable as a C prefix: letters, digits "
-                           "and '_', starting with a letter")
-    if name in C_RESERVED or name.lower() in C_RESERVED:
-        raise CodegenError(f"frame name {name!r} collides with a C keyword or standard name; "
-                           "choose another frame name")
-    seen: dict[str, str] = {}
+    """Raise CodegenError unless every generated name is a safe, unique C identifier.
+
+    The rule is ``ookframe.spec.names``, the one the spec loader applies, so a loaded spec
+    never fails here; a FrameSpec built in Python may.
+    """
+    problem = name_problem(spec.name, "frame name (C prefix)", fold_case=True)
+    if problem:
+        raise CodegenError(problem)
     for f in spec.fields:
-        if not _C_IDENT.match(f.name) or f.name in C_RESERVED:
-            raise CodegenError(f"field name {f.name!r} is not usable as a C struct member "
-                               "(C keyword, standard name or leading underscore)")
-        up = f.name.upper()
-        if up in seen:
-            raise CodegenError(f"fields {seen[up]!r} and {f.name!r} give the same C macro name "
-                               f"{name.upper()}_FIELD_{up}_*; rename one")
-        seen[up] = f.name
+        problem = name_problem(f.name, "field name (C struct member)")
+        if problem:
+            raise CodegenError(problem)
+    pair = same_name([f.name for f in spec.fields])
+    if pair:
+        a, b = (spec.fields[i].name for i in pair)
+        raise CodegenError(f"fields {a!r} and {b!r} give the same C macro name "
+                           f"{spec.name.upper()}_FIELD_{b.upper()}_*; rename one")
 
 
 def _hex_bytes(bits: tuple[int, ...]) -> str:
