@@ -275,8 +275,7 @@ def _result(spec: FrameSpec, channel: ChannelSpec, seed: int, c: Counts, chunk_f
             t0: float, workers: int) -> StressResult:
     """The StressResult of the counts ``c`` (PER from integer counts: exact to the float)."""
     elapsed = time.perf_counter() - t0
-    return stress_result(spec, channel, seed, c, chunk_frames, elapsed,
-                         workers if executor is None else 0)
+    return stress_result(spec, channel, seed, c, chunk_frames, elapsed, workers)
 
 
 def stress_result(spec: FrameSpec, channel: ChannelSpec, seed: int, c: Counts,
