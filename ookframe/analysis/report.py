@@ -11,7 +11,7 @@ one engine of this package:
   noise at the spec's bit rate (:mod:`.syncword`);
 * ``check``: kind, covered data bits, HD and P(undetected frame) at ``ber``, the
   catalogue alternatives of the same width and a stronger one when it exists
-  (:mod:`.check_strength`);
+  (:mod:`ookframe.checks.strength`);
 * ``bandwidth_hz``: one-sided 99 % power bandwidth of the keyed baseband, mean removed
   (:mod:`.spectrum`); the RF signal occupies about twice that;
 * ``cautions``: the regulatory caution first, then design advice;
@@ -23,14 +23,14 @@ one engine of this package:
 from __future__ import annotations
 
 from ..cautions import REGULATORY_CAUTION
-from ..spec.model import FrameSpec
-from .check_strength import (
+from ..checks.strength import (
     DEFAULT_BER,
     alternatives,
     check_strength,
     covered_bits,
     stronger_alternative,
 )
+from ..spec.model import FrameSpec
 from .linecode_stats import frame_stats
 from .syncword import spec_sync_quality
 
