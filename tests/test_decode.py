@@ -629,3 +629,43 @@ def test_noise_right_up_to_the_first_preamble_mark():
     train = concat([noise, tail, body])
     got = [f for f in decode_frames(spec, train) if f.crc_ok]
     assert len(got) == spec.repeats
+
+
+# --- check-aided recovery ------------------------------------------------------------------
+
+def test_safe_flips_follow_the_checks_hamming_distance():
+    """HD - 2 decisions may change: CRC-16/KERMIT over hive_scale's 48 field bits has HD 4
+    (the project's syndrome search, tested against brute force in
+    tests/test_analysis_crc_strength.py), xor8 has HD 2 (any two errors in one bit column
+    cancel: arithmetic), Fletcher-16 over coldframe_vent's 48 bits HD 3 (from memory)."""
+    from ookframe.decode.framer import safe_flips
+
+    assert safe_flips(example_spec("hive_scale")[0]) == 2
+    assert safe_flips(example_spec("gate_sensor")[0]) == 0
+    assert safe_flips(example_spec("coldframe_vent")[0]) == 1
+
+
+def test_recovery_moves_the_one_misplaced_edge_back():
+    """One edge of a hive_scale frame, between a 1-unit and a 2-unit pulse (or a 2 and a
+    1), moved 0.58 of a unit past halfway towards the longer one: the hard decisions read
+    2 and 1 units (or 1 and 2), both lengths Manchester allows, so the grid repair cannot
+    see it. Of the edges where the check then fails (max_flips = 0), the recovery with one
+    edge allowed to move puts the first such edge back: check passes, corrected = 1."""
+    spec, values = example_spec("hive_scale")
+    tx = frame.frame_train(spec, values)
+    units = np.rint(tx.durations_us / spec.unit_us).astype(int)
+    tried = 0
+    for k in range(100, units.size - 1):
+        if {units[k - 1], units[k]} != {1, 2}:
+            continue
+        t = np.concatenate(([0.0], np.cumsum(tx.durations_us)))
+        t[k] += (0.58 if units[k] == 2 else -0.58) * spec.unit_us  # edge k ends pulse k - 1
+        train = PulseTrain(tx.levels, np.diff(t))
+        hard = decode(spec, train, max_flips=0)
+        tried += 1
+        if len(hard) == 1 and not hard[0].crc_ok:
+            aided = decode(spec, train, max_flips=1)
+            assert len(aided) == 1 and aided[0].crc_ok and aided[0].corrected == 1
+            assert frame.values_equal(spec, values, aided[0].fields)
+            return
+    raise AssertionError(f"no edge of {tried} made the check fail")

@@ -274,12 +274,13 @@ class GridRuns:
     units: run length of every pulse (int64); deviation: per pulse the larger distance
     of its two edges from their grid points, in units (0.5 = a coin toss);
     residual: per edge (every window has one more edge than pulses) the signed distance
-    from its grid point in units.
+    from its grid point in units; end_residual: that of every pulse's end edge.
     """
 
     units: np.ndarray
     deviation: np.ndarray
     residual: np.ndarray
+    end_residual: np.ndarray
 
 
 def _ragged_moving_sum(x: np.ndarray, lengths: np.ndarray, before: int, after: int
@@ -294,6 +295,45 @@ def _ragged_moving_sum(x: np.ndarray, lengths: np.ndarray, before: int, after: i
     lo = np.maximum(i - before, start)
     hi = np.minimum(i + after + 1, stop)
     return cs[hi] - cs[lo]
+
+
+def _allowed(n: np.ndarray, levels: np.ndarray, table: RunTable) -> np.ndarray:
+    """Return True where ``n`` is a run length the code allows at the pulse's level."""
+    ok = n >= 1
+    for lv in (0, 1):
+        m = levels == lv
+        ok[m] &= np.isin(n[m], table.allowed[lv])
+    return ok
+
+
+def _repair(c: np.ndarray, residual: np.ndarray, grid: np.ndarray, pulse_edge: np.ndarray,
+            n: np.ndarray, ok: np.ndarray, levels: np.ndarray, table: RunTable
+            ) -> tuple[np.ndarray, np.ndarray]:
+    """Return the grid points with one edge of every pulse of a disallowed length moved to
+    the grid point on its other side: the edge nearer halfway (the less sure), where that
+    leaves both pulses it bounds at allowed lengths. A jittered edge that crossed halfway
+    makes exactly such a pair of pulses (one too long, one too short)."""
+    c = c.copy()
+    bad = np.flatnonzero(~ok)
+    e0, e1 = pulse_edge[bad] - 1, pulse_edge[bad]
+    edge = np.where(np.abs(residual[e0]) >= np.abs(residual[e1]), e0, e1)
+    step = np.where(residual[edge] > 0, 1.0, -1.0)
+    # the pulses before and after the chosen edge (a window's first and last edges are
+    # not moved: they bound one pulse only)
+    p_before = np.searchsorted(pulse_edge, edge)  # pulse ending at ``edge``
+    inner = (p_before < pulse_edge.size) & (pulse_edge[np.minimum(p_before, pulse_edge.size
+                                                                  - 1)] == edge)
+    inner &= (p_before + 1 < pulse_edge.size)
+    inner[inner] &= pulse_edge[p_before[inner] + 1] - 1 == edge[inner]
+    edge, step, p_before = edge[inner], step[inner], p_before[inner]
+    n_before = n[p_before] + step.astype(np.int64)
+    n_after = n[p_before + 1] - step.astype(np.int64)
+    fits = _allowed(n_before, levels[p_before], table) & _allowed(
+        n_after, levels[p_before + 1], table)
+    edge, step = edge[fits], step[fits]
+    edge, first = np.unique(edge, return_index=True)
+    c[edge] += step[first]
+    return c, grid - c
 
 
 def _phasor_sum(x: np.ndarray, weight: np.ndarray, lengths: np.ndarray, before: int,
@@ -355,16 +395,18 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
     grid = x - phase
     c = np.rint(grid)
     residual = grid - c
-    n = np.diff(c)[np.arange(d.size) + np.repeat(e_start - p_start, lengths)].astype(np.int64)
+    start_edge = pulse_edge - 1
+    n = (c[pulse_edge] - c[start_edge]).astype(np.int64)
+    ok = _allowed(n, levels, table)
+    if not ok.all():  # move the less sure edge of a bad pulse to its other grid point
+        c, residual = _repair(c, residual, grid, pulse_edge, n, ok, levels, table)
+        n = (c[pulse_edge] - c[start_edge]).astype(np.int64)
+        ok = _allowed(n, levels, table)
     ratio = d / u_pulse
     fallback, _ = nearest_runs(ratio, levels, table)
-    ok = n >= 1
-    for lv in (0, 1):
-        m = levels == lv
-        ok[m] &= np.isin(n[m], table.allowed[lv])
     n = np.where(ok, n, fallback)
     ar = np.abs(residual)
     if capped is not None:
         ar[pulse_edge[capped]] = 0.0
     dev = np.maximum(ar[pulse_edge - 1], ar[pulse_edge])
-    return GridRuns(n, dev, residual)
+    return GridRuns(n, dev, residual, residual[pulse_edge])

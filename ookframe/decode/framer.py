@@ -14,10 +14,13 @@ Limits (by design, not bugs):
 
 from __future__ import annotations
 
+import dataclasses
+import itertools
 from dataclasses import dataclass
 
 import numpy as np
 
+from ..checks.strength import check_strength, covered_bits
 from ..linecodes import DecodedBits
 from ..pulses import PulseTrain
 from ..spec.model import FrameSpec
@@ -51,7 +54,9 @@ class DecodedFrame:
     as a fraction of one unit (0.5 would be a coin toss between two unit counts).
     pulses: measured pulses wholly inside the frame (the rates below are out of these);
     sync_errors: bit errors in the sync word; timing_errors: pulses off by more than the
-    spec's tolerance; code_errors: data bits whose chips were no valid codeword.
+    spec's tolerance (a quality flag: no pulse is rejected for it); code_errors: data bits
+    whose chips were no valid codeword; corrected: edges the check-aided recovery moved to
+    the other grid point next to them to make the check pass (0: hard decisions).
     """
 
     fields: dict[str, object]
@@ -67,6 +72,7 @@ class DecodedFrame:
     sync_errors: int
     timing_errors: int
     code_errors: int
+    corrected: int = 0
 
 
 def _plausible(spec: FrameSpec, frame: DecodedFrame) -> bool:
@@ -78,7 +84,8 @@ def _plausible(spec: FrameSpec, frame: DecodedFrame) -> bool:
 
 
 def decode(spec: FrameSpec, train: PulseTrain, *,
-           include_bad: bool | None = None) -> list[DecodedFrame]:
+           include_bad: bool | None = None, max_flips: int | None = None
+           ) -> list[DecodedFrame]:
     """Return every frame of ``spec`` found in ``train``, in time order.
 
     Pipeline: validate (CaptureError on NaN / inf / non-positive durations or levels other
@@ -95,6 +102,13 @@ def decode(spec: FrameSpec, train: PulseTrain, *,
     the check cannot vouch for (failed, or no check) with more than 20 % of its pulses out
     of tolerance is taken for noise. Frames cut off by the end of the train are left
     out. Random pulses never raise.
+
+    Check-aided recovery: for a frame whose check fails, the least reliable edges (those
+    nearest to halfway between two grid points) are moved to the other grid point, up
+    to ``max_flips`` at a time (default: the spec's ``decoder.max_flips``), and the frame
+    is taken when its check passes; never more edges than the check's Hamming distance
+    at the frame's length leaves safe (HD - 2: one more error would still be detected;
+    none for checksums of HD 2 or no check). ``corrected`` counts them.
     """
     validate_train(train)
     if include_bad is None:
@@ -104,10 +118,79 @@ def decode(spec: FrameSpec, train: PulseTrain, *,
     if len(clean) == 0:
         return []
     hm = head_model(spec)
-    frames = _decode_clean(spec, hm, clean, grid=True)
+    found, ctx = _decode_clean(spec, hm, clean, grid=True)
+    frames = [f for f, _ in found]
     if any(not f.crc_ok for f in frames) and spec.check.kind != "none":
-        frames = _second_opinion(spec, frames, _decode_clean(spec, hm, clean, grid=False))
+        flips = min(spec.decoder.max_flips if max_flips is None else max_flips,
+                    safe_flips(spec))
+        if flips > 0:
+            frames = [f if f.crc_ok else _recover(spec, hm, ctx, k, flips) or f
+                      for f, k in found]
+        if not all(f.crc_ok for f in frames):
+            other, _ = _decode_clean(spec, hm, clean, grid=False)
+            frames = _second_opinion(spec, frames, [f for f, _ in other])
     return [f for f in frames if f.crc_ok or include_bad]
+
+
+def safe_flips(spec: FrameSpec) -> int:
+    """Return the most decisions the check-aided recovery may change: the check's Hamming
+    distance at the frame's covered length less 2 (0 without a check)."""
+    if spec.check.kind == "none":
+        return 0
+    return max(0, check_strength(spec.check, covered_bits(spec)).hd - 2)
+
+
+#: least reliable edges of a frame the recovery chooses from
+RECOVERY_EDGES = 8
+
+
+@dataclass(frozen=True, eq=False)
+class _Context:
+    """What the recovery needs of one framing pass."""
+
+    ws: Windows
+    levels: np.ndarray
+    dur: np.ndarray
+    t0: np.ndarray
+
+
+def _recover(spec: FrameSpec, hm: HeadModel, ctx: _Context, k: int, max_flips: int
+             ) -> DecodedFrame | None:
+    """Return the frame of window ``k`` with up to ``max_flips`` of its least reliable
+    edges moved to the grid point on their other side, the first (fewest moves, least
+    reliable first) whose check passes; None if none does."""
+    one = ctx.ws.one(k)
+    units, lv, res = one.units, one.levels, one.end_residual
+    m = int(one.length[0])
+    j = np.arange(max(m - 1, 0))
+    step = np.where(res[j] > 0, 1, -1)
+    n1, n2 = units[j] + step, units[j + 1] - step
+    ok = ~one.capped[j] & ~one.capped[j + 1] & (n1 >= 1) & (n2 >= 1)
+    for lvl in (0, 1):
+        a = hm.runs.allowed[lvl]
+        ok &= np.where(lv[j] == lvl, np.isin(n1, a), True)
+        ok &= np.where(lv[j + 1] == lvl, np.isin(n2, a), True)
+    j = j[ok]
+    cost = 0.5 - np.abs(res[j])
+    order = np.argsort(cost, kind="stable")[:RECOVERY_EDGES]
+    edges, step = j[order], np.where(res[j[order]] > 0, 1, -1)
+    trials = sorted((c for n in range(1, max_flips + 1)
+                     for c in itertools.combinations(range(edges.size), n)),
+                    key=lambda c: (len(c), float(cost[order][list(c)].sum())))
+    for combo in trials:
+        u = units.copy()
+        for i in combo:
+            u[edges[i]] += step[i]
+            u[edges[i] + 1] -= step[i]
+        if (u < 1).any():
+            continue
+        ws1 = ctx.ws.one(k, u)
+        runs = lay_out(hm, ws1, ctx.levels)
+        got = _frame_all(spec, hm, ws1, runs, hm.line_code.decode(runs.levels, runs.units),
+                         ctx.levels, ctx.dur, ctx.t0)[0]
+        if got is not None and got[0].crc_ok:
+            return dataclasses.replace(got[0], corrected=len(combo))
+    return None
 
 
 def _second_opinion(spec: FrameSpec, frames: list[DecodedFrame], other: list[DecodedFrame]
@@ -127,14 +210,15 @@ def _second_opinion(spec: FrameSpec, frames: list[DecodedFrame], other: list[Dec
 
 
 def _decode_clean(spec: FrameSpec, hm: HeadModel, clean: PulseTrain, *,
-                  grid: bool) -> list[DecodedFrame]:
-    """Return the frames of the glitch-filtered train ``clean`` (see :func:`decode`),
-    those whose check fails included; run lengths by ``grid`` (see classify_windows)."""
+                  grid: bool) -> tuple[list[tuple[DecodedFrame, int]], _Context | None]:
+    """Return the frames of the glitch-filtered train ``clean`` (see :func:`decode`) with
+    the window each came from, those whose check fails included, and the pass's context;
+    run lengths by ``grid`` (see classify_windows)."""
     levels, dur = clean.levels, clean.durations_us
     first, unit0 = find_candidates(levels, dur, hm.sig_levels, hm.sig_units, spec.unit_us,
                                    hm.runs, MAX_CLOCK_ERROR)
     if first.size == 0:
-        return []
+        return [], None
     t0 = clean.edges_us()
     prefix_chips = int(hm.prefix_units.sum())
     stop = burst_end(first, burst_breaks(dur, hm.break_us), dur.size)
@@ -145,7 +229,7 @@ def _decode_clean(spec: FrameSpec, hm: HeadModel, clean: PulseTrain, *,
     runs = lay_out(hm, ws, levels)
     cands = hm.line_code.decode(runs.levels, runs.units)
     results = _frame_all(spec, hm, ws, runs, cands, levels, dur, t0)
-    frames: list[DecodedFrame] = []
+    frames: list[tuple[DecodedFrame, int]] = []
     done = -1
     for k, i in enumerate(first.tolist()):
         if i <= done:
@@ -157,8 +241,8 @@ def _decode_clean(spec: FrameSpec, hm: HeadModel, clean: PulseTrain, *,
         if not _plausible(spec, frame):
             continue  # noise that happened to parse: later candidates may lie inside it
         done = last
-        frames.append(frame)
-    return frames
+        frames.append((frame, k))
+    return frames, _Context(ws, levels, dur, t0)
 
 
 def _frame_all(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,

@@ -27,6 +27,17 @@ class Windows:
     durations_us: np.ndarray  # the pulses' durations
     ratio: np.ndarray  # durations / tracked unit
     levels: np.ndarray  # the pulses' levels
+    end_residual: np.ndarray  # signed offset of each pulse's end edge from its grid point
+
+    def one(self, k: int, units: np.ndarray | None = None) -> Windows:
+        """Return window ``k`` alone (with other ``units`` if given)."""
+        a, m = int(self.offset[k]), int(self.length[k])
+        cut = slice(a, a + m)
+        return Windows(self.first[k:k + 1], np.zeros(1, np.int64), self.length[k:k + 1],
+                       self.start_unit_us[k:k + 1],
+                       self.units[cut] if units is None else units, self.deviation[cut],
+                       self.unit_us[cut], self.capped[cut], self.durations_us[cut],
+                       self.ratio[cut], self.levels[cut], self.end_residual[cut])
 
 
 def classify_windows(spec: FrameSpec, hm: HeadModel, dur: np.ndarray, first: np.ndarray,
@@ -56,17 +67,20 @@ def classify_windows(spec: FrameSpec, hm: HeadModel, dur: np.ndarray, first: np.
         g = grid_runs(d, lv, length, start_unit, table, capped=capped,
                       half_window=phase_half_window(dec.loop_gain))
         n, dev = np.where(capped, table.top, g.units), g.deviation
+        end_res = g.end_residual
     else:  # duration by duration, with the tracking loop (follows a fast-drifting clock)
         unit = track_unit(d, length, start_unit, gain=dec.loop_gain, tolerance=dec.tolerance,
                           max_units=hm.cap_units + 1, levels=lv, table=table)
         ratio = d / unit
         capped = ratio > table.cap_ratio
         n, dev = nearest_runs(ratio, lv, table)
+        end_res = np.zeros(d.size)
     pos = idx - first[window]
     first_cap = np.minimum.reduceat(np.where(capped, pos, length[window]), offset)
     length = np.minimum(length, first_cap + 1)
     dev = np.where(capped, ratio - table.top, dev)
-    return Windows(first, offset, length, start_unit, n, dev, unit, capped, d, ratio, lv)
+    return Windows(first, offset, length, start_unit, n, dev, unit, capped, d, ratio, lv,
+                   end_res)
 
 
 @dataclass(frozen=True)

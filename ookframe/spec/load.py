@@ -52,7 +52,7 @@ FIELD_KEYS = (
 CRC_KEYS = ("width", "poly", "init", "refin", "refout", "xorout")
 CHECK_KEYS = ("kind", "model", "covers", "byte_order", *CRC_KEYS)
 WHITENING_KEYS = ("kind", "width", "poly", "seed", "covers")
-DECODER_KEYS = ("glitch_fraction", "tolerance", "loop_gain", "report_bad_check")
+DECODER_KEYS = ("glitch_fraction", "tolerance", "loop_gain", "report_bad_check", "max_flips")
 CHECK_KINDS = ("none", "crc", "sum8", "xor8", "fletcher16")
 
 
@@ -343,6 +343,7 @@ def _decoder(d: object) -> DecoderSpec:
         tolerance=_float(d, "tolerance", path, 0.35, lo=0.05, hi=0.49),
         loop_gain=_float(d, "loop_gain", path, 0.05, lo=0.0, hi=0.5),
         report_bad_check=_bool(d, "report_bad_check", path, True),
+        max_flips=_int(d, "max_flips", path, 2, lo=0, hi=4),
     )
 
 

@@ -156,6 +156,9 @@ class DecoderSpec:
     tolerance: float = 0.35
     loop_gain: float = 0.05
     report_bad_check: bool = True
+    #: most edges the check-aided recovery may move in a frame whose check fails (the
+    #: decoder also keeps it below the check's Hamming distance less 2)
+    max_flips: int = 2
 
 
 @dataclass(frozen=True)
