@@ -27,8 +27,8 @@ from .frame import (
 )
 from .layout import Layout, frame_layout
 from .linecodes import LINE_CODES, get_line_code
+from .plan import FramePlan, compile_plan
 from .pulses import PulseTrain
-from .spec.load import load_spec, load_spec_and_defaults, spec_from_dict
 from .spec.model import (
     CheckSpec,
     CrcParams,
@@ -40,6 +40,7 @@ from .spec.model import (
     SyncSpec,
     WhiteningSpec,
 )
+from .spec_io import load_spec, load_spec_and_defaults, spec_from_dict
 from .stress import NoiseResult, StressResult, run_noise, run_stress
 from .whitening import lfsr_bits, whiten
 
@@ -59,6 +60,7 @@ __all__ = [
     "CrcParams",
     "DecoderSpec",
     "FieldSpec",
+    "FramePlan",
     "FrameSpec",
     "Layout",
     "LINE_CODES",
@@ -71,6 +73,7 @@ __all__ = [
     "SyncSpec",
     "ValueRangeError",
     "WhiteningSpec",
+    "compile_plan",
     "encode",
     "encode_many",
     "frame_bits",

@@ -6,7 +6,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import frame as _f
+from .bits import from_raw
+from .frame import Values, check_bits, field_bits, raw_values
+from .plan import FramePlan, as_plan
 from .spec.model import FrameSpec
 
 
@@ -34,28 +36,30 @@ class Layout:
     data_dependent: bool
 
 
-def zero_values(spec: FrameSpec) -> dict[str, object]:
+def zero_values(spec: FrameSpec | FramePlan) -> dict[str, object]:
     """Values giving raw 0 (or the nearest allowed) in every field; empty bytes fields."""
     out: dict[str, object] = {}
-    for f in spec.fields:
+    for f in (spec.spec if isinstance(spec, FramePlan) else spec).fields:
         if f.role == "length":
             continue
         if f.kind == "bytes":
             out[f.name] = b""
         else:
-            out[f.name] = _f._b.from_raw(f, max(f.raw_min, min(0, f.raw_max)))
+            out[f.name] = from_raw(f, max(f.raw_min, min(0, f.raw_max)))
     return out
 
 
-def frame_layout(spec: FrameSpec, values: _f.Values | None = None) -> Layout:
+def frame_layout(spec: FrameSpec | FramePlan, values: Values | None = None) -> Layout:
     """Return the section table and airtime for ``values`` (zeros when None)."""
+    plan = as_plan(spec)
+    spec = plan.spec
     values = zero_values(spec) if values is None else values
-    lc = _f._line_code(spec)
-    raw = _f.raw_values(spec, values)
-    fb = _f.field_bits(spec, raw)
-    cb = _f.check_bits(spec, fb)
-    body = lc.stuff(np.concatenate((fb, cb)) ^ _f.whitening_mask(spec, fb.size, cb.size))
-    head = _f.head_bits(spec)
+    lc = plan.line_code
+    fb = field_bits(plan, raw_values(plan, values))
+    cb = check_bits(plan, fb)
+    plain = np.concatenate((fb, cb)) ^ plan.body_mask(fb.size)
+    body = lc.stuff(plain)
+    head = plan.head_bits
     chips = lc.encode(np.concatenate((head, body)))
     # chips of each section: encode prefixes (exact for stateful codes too)
     bounds = [spec.preamble.length_bits, spec.sync.length_bits, fb.size, cb.size]
@@ -67,7 +71,6 @@ def frame_layout(spec: FrameSpec, values: _f.Values | None = None) -> Layout:
         spec.check.crc.name if spec.check.crc and spec.check.crc.name else spec.check.kind,
     ]
     rows = []
-    plain = np.concatenate((fb, cb)) ^ _f.whitening_mask(spec, fb.size, cb.size)
     all_bits = np.concatenate((head, plain))
     def chips_upto(k: int) -> int:
         # chips of the first k bits; a partial block of a block code counts at the fixed rate

@@ -33,8 +33,8 @@ from ookframe.codegen.toolchains import (
 )
 from ookframe.errors import CodegenError
 from ookframe.frame import encode, frame_bits, random_values
-from ookframe.spec.load import spec_from_dict
 from ookframe.spec.model import FrameSpec
+from ookframe.spec_io import spec_from_dict
 from tests.c.runner import (
     bits_case,
     build_harness,

@@ -27,8 +27,8 @@ from ookframe.decode.head import head_model
 from ookframe.decode.sync import best_sync, sync_distance
 from ookframe.errors import CaptureError
 from ookframe.pulses import PulseTrain, chips_to_runs, merge_runs
-from ookframe.spec.load import spec_from_dict
 from ookframe.spec.model import FrameSpec
+from ookframe.spec_io import spec_from_dict
 from tests.conftest import example_spec as _example_spec
 
 

@@ -22,7 +22,7 @@ from ookframe.decode.bulk import bulk_body_bits
 from ookframe.decode.framer import decode
 from ookframe.decode.head import head_model
 from ookframe.pulses import PulseTrain
-from ookframe.spec.load import load_spec, spec_from_dict
+from ookframe.spec_io import load_spec, spec_from_dict
 from ookframe.stress.batch import random_batch
 
 EXAMPLES = sorted((Path(__file__).parent.parent / "ookframe" / "examples").glob("*.toml"))
@@ -104,10 +104,6 @@ def test_bulk_framer_on_noise_and_cut_frames():
 
 @pytest.mark.parametrize("spec", SPECS[:-1])
 def test_parse_frames_equals_parse_frame_row_by_row(spec):
-    if frame.fixed_body_bits(spec) is None:
-        with pytest.raises(ValueError, match="fixed layout"):
-            frame.parse_frames(spec, np.zeros((1, frame.min_body_bits(spec)), np.uint8))
-        return
     rng = np.random.default_rng(3)
     rows = []
     for i in range(60):
@@ -116,10 +112,11 @@ def test_parse_frames_equals_parse_frame_row_by_row(spec):
             body = body.copy()
             body[rng.integers(body.size)] ^= 1  # some checks fail
         rows.append(body)
-    parsed = frame.parse_frames(spec, np.array(rows))
+    parsed = frame.parse_frames(spec, np.array(rows) if frame.fixed_body_bits(spec) else rows)
     got = parsed.frames()
     assert got == [frame.parse_frame(spec, r) for r in rows]
-    assert any(p.check_ok for p in got) and not all(p.check_ok for p in got)
+    ok = [p is not None and p.check_ok for p in got]
+    assert any(ok) and not all(ok)
 
 
 def test_bulk_framer_refuses_a_spec_it_does_not_serve():

@@ -7,7 +7,7 @@ import argparse
 from rich.table import Table
 
 from ..errors import ValueRangeError
-from ..spec.load import load_spec
+from ..spec_io import load_spec
 from ..stress.sweep import parse_vary, plot_sweep, run_sweep
 from . import common
 from .cmd_stress import add_channel_arguments, add_run_arguments, channel_from_args, progress_bar

@@ -11,6 +11,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from ..errors import CodegenError
+from ..plan import FramePlan
 from ..spec.model import FrameSpec
 from .model import CModel, build_model
 from .render import render_model
@@ -54,10 +55,10 @@ class Emitted:
         }
 
 
-def emit_header(spec: FrameSpec, target: TimerTarget | None = None) -> Emitted:
+def emit_header(spec: FrameSpec | FramePlan, target: TimerTarget | None = None) -> Emitted:
     """Return the generated header for ``spec`` (CodegenError when it cannot be made)."""
     model = build_model(spec, target)
-    return Emitted(f"{spec.name}.h", render_model(model), model)
+    return Emitted(f"{model.spec.name}.h", render_model(model), model)
 
 
 def write_header(emitted: Emitted, out_dir: str | os.PathLike[str], *, force: bool = False
