@@ -243,7 +243,7 @@ class ParsedFrames:
     def frames(self) -> list[ParsedFrame | None]:
         """Return every frame as :func:`parse_frame` gives it (None where not complete)."""
         p = self.plan
-        names = [fp.name for fp in p.fields]
+        names = [fp.field.name for fp in p.fields]
         raws = []
         for fp, col in zip(p.fields, self.raw, strict=True):
             if isinstance(col, tuple):
@@ -279,11 +279,14 @@ def _rows_matrix(rows: np.ndarray | Sequence[np.ndarray], width: int
             rx = np.concatenate((rx, np.zeros((n, width - have), np.uint8)), axis=1)
         return rx[:, :width], np.full(n, min(have, width), np.int64)
     arrs = [np.asarray(r, dtype=np.uint8)[:width] for r in rows]
-    avail = np.fromiter((a.size for a in arrs), np.int64, len(arrs))
+    sizes = [a.size for a in arrs]
     rx = np.zeros((len(arrs), width), np.uint8)
-    if arrs:
-        rx[np.arange(width) < avail[:, None]] = np.concatenate(arrs)
-    return rx, avail
+    if len(arrs) <= 16:  # a few rows: copy each (cheaper than the mask below)
+        for i, a in enumerate(arrs):
+            rx[i, :a.size] = a
+    else:
+        rx[np.arange(width) < np.array(sizes)[:, None]] = np.concatenate(arrs)
+    return rx, np.array(sizes, np.int64)
 
 
 @dataclass(frozen=True, eq=False)
@@ -321,7 +324,7 @@ def _read(p: FramePlan, plain: np.ndarray, avail: np.ndarray, reserve_bits: int)
             cols = plain[:, fp.offset_bits:fp.offset_bits + fp.width_bits]
         else:
             idx = 8 * length[:, None] + fp.offset_bits + np.arange(fp.width_bits)
-            cols = np.take_along_axis(plain, idx, axis=1)
+            cols = plain[np.arange(n)[:, None], idx]
         u = np.dot(cols, fp.weights)
         raw.append(u)
         if fp is p.length_field:
@@ -350,15 +353,17 @@ def parse_frames(spec: SpecOrPlan, bodies: np.ndarray | Sequence[np.ndarray]) ->
         if p.is_fixed:
             cb = rx[:, p.min_field_bits:p.min_body_bits] ^ p.check_masks[0]
         else:
-            cb = np.take_along_axis(rx, n_fb[:, None] + np.arange(n_cb), axis=1)
-            cb ^= p.check_masks[p.blob_len(n_fb)]
+            cb = rx[np.arange(n)[:, None], n_fb[:, None] + np.arange(n_cb)]
+            cb ^= p.check_masks[(n_fb - p.min_field_bits) // 8]
         sent = np.dot(cb, p.check_weights).tolist()  # type: ignore[arg-type]
         covered = got.plain
-        if p.check_covers_sync:
-            covered = np.concatenate((np.broadcast_to(p.sync_bits, (n, p.sync_bits.size)),
-                                      covered), axis=1)
+        n_sync = p.sync_bits.size if p.check_covers_sync else 0
+        if n_sync:
+            covered = np.empty((n, n_sync + got.plain.shape[1]), np.uint8)
+            covered[:, :n_sync] = p.sync_bits
+            covered[:, n_sync:] = got.plain
         packed = np.packbits(covered, axis=1)
-        n_bytes = ((n_fb + (p.sync_bits.size if p.check_covers_sync else 0) + 7) // 8).tolist()
+        n_bytes = ((n_fb + n_sync + 7) // 8).tolist()
         keep = (1 << n_cb) - 1
         compute = p.check.compute  # type: ignore[union-attr]
         ok = np.array([ready and s == compute(row[:k].tobytes()) & keep

@@ -136,8 +136,8 @@ def bit_weights(width_bits: int, bit_order: BitOrder, byte_order: ByteOrder
     ``bits @ weights`` equals :func:`ookframe.bits.bits_to_int`; None above 64 bits."""
     if width_bits > 64:
         return None
-    perm = order_bits(np.arange(width_bits), bit_order, byte_order)
-    return _frozen(np.left_shift(np.uint64(1), (width_bits - 1 - perm).astype(np.uint64)))
+    perm = order_bits(np.arange(width_bits), bit_order, byte_order).tolist()
+    return _frozen(np.array([1 << (width_bits - 1 - k) for k in perm], dtype=np.uint64))
 
 
 def compile_plan(spec: FrameSpec) -> FramePlan:
