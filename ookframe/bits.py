@@ -109,6 +109,20 @@ def order_bits(msb_first: np.ndarray, bit_order: BitOrder, byte_order: ByteOrder
     return msb_first[..., ::-1].copy() if bit_order == "lsb" else msb_first.copy()
 
 
+def air_order(width_bits: int, bit_order: BitOrder, byte_order: ByteOrder) -> list[int]:
+    """Return, for every on-air position of a ``width_bits`` value, the index of the bit
+    (MSB first) sent there: ``order_bits(np.arange(width_bits), ...)`` as a list."""
+    idx = list(range(width_bits))
+    if width_bits % 8 == 0 and width_bits > 8:
+        groups = [idx[k:k + 8] for k in range(0, width_bits, 8)]
+        if byte_order == "little":
+            groups.reverse()
+        if bit_order == "lsb":
+            groups = [g[::-1] for g in groups]
+        return [i for g in groups for i in g]
+    return idx[::-1] if bit_order == "lsb" else idx
+
+
 def bits_to_int(bits: np.ndarray, bit_order: BitOrder = "msb", byte_order: ByteOrder = "big") -> int:
     """Inverse of :func:`int_to_bits`: the unsigned integer of on-air bits."""
     msb = order_bits(np.asarray(bits, dtype=np.uint8), bit_order, byte_order)

@@ -8,7 +8,7 @@ and gaps), raising :class:`~ookframe.errors.SpecError` with the key path, and re
 bytes fields, body lengths) and the timing. Encoder, parser, layout, code generator,
 analysis and stress runs take a plan (or a spec, compiled once at their entry).
 
-A plan is cheap to build (tens of µs) and is not cached anywhere: whoever needs one more
+A plan is cheap to build (well under a millisecond) and is not cached anywhere: whoever needs one more
 than once builds it once and passes it on.
 """
 
@@ -19,7 +19,7 @@ from decimal import Decimal
 
 import numpy as np
 
-from .bits import exact_decimal, order_bits
+from .bits import air_order, exact_decimal
 from .checks import Check, make_check
 from .errors import SpecError
 from .linecodes import LineCode, get_line_code
@@ -136,8 +136,9 @@ def bit_weights(width_bits: int, bit_order: BitOrder, byte_order: ByteOrder
     ``bits @ weights`` equals :func:`ookframe.bits.bits_to_int`; None above 64 bits."""
     if width_bits > 64:
         return None
-    perm = order_bits(np.arange(width_bits), bit_order, byte_order).tolist()
-    return _frozen(np.array([1 << (width_bits - 1 - k) for k in perm], dtype=np.uint64))
+    top = width_bits - 1
+    return _frozen(np.array([1 << (top - k) for k in air_order(width_bits, bit_order, byte_order)],
+                            dtype=np.uint64))
 
 
 def compile_plan(spec: FrameSpec) -> FramePlan:

@@ -4,10 +4,19 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from hypothesis import given
+from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from ookframe.bits import bits_to_int, from_raw, int_to_bits, to_raw, to_signed, to_unsigned
+from ookframe.bits import (
+    air_order,
+    bits_to_int,
+    from_raw,
+    int_to_bits,
+    order_bits,
+    to_raw,
+    to_signed,
+    to_unsigned,
+)
 from ookframe.errors import ValueRangeError
 from ookframe.spec.model import FieldSpec
 
@@ -55,3 +64,13 @@ def test_bits_round_trip(width, data, bit_order, byte_order):
     bits = int_to_bits(u, width, bit_order, byte_order)
     assert bits.size == width
     assert bits_to_int(bits, bit_order, byte_order) == u
+
+
+@settings(max_examples=200, deadline=None)
+@given(width=st.integers(1, 64), bit_order=st.sampled_from(["msb", "lsb"]),
+       byte_order=st.sampled_from(["big", "little"]))
+def test_air_order_is_order_bits_of_the_indices(width, bit_order, byte_order):
+    """air_order lists what order_bits does to the indices 0..width-1 (the two must agree:
+    the plan's bit weights come from one, the encoder's bits from the other)."""
+    want = order_bits(np.arange(width), bit_order, byte_order).tolist()
+    assert air_order(width, bit_order, byte_order) == want
