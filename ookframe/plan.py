@@ -8,8 +8,8 @@ and gaps), raising :class:`~ookframe.errors.SpecError` with the key path, and re
 bytes fields, body lengths) and the timing. Encoder, parser, layout, code generator,
 analysis and stress runs take a plan (or a spec, compiled once at their entry).
 
-A plan is cheap to build (well under a millisecond) and is not cached anywhere: whoever needs one more
-than once builds it once and passes it on.
+A plan is cheap to build (well under a millisecond) and is not cached anywhere: whoever
+needs one more than once builds it once and passes it on.
 """
 
 from __future__ import annotations
