@@ -24,10 +24,10 @@ import numpy as np
 
 import ookframe
 from ookframe.channel import apply_channel, get_preset
-from ookframe.spec.load import spec_from_dict
+from ookframe.spec_io import spec_from_dict
 from ookframe.stress import run_stress
 from ookframe.stress.batch import random_batch
-from ookframe.stress.runner import _reference_decoder
+from ookframe.stress.runner import reference_decoder
 
 SPEC = spec_from_dict({
     "frame": {"name": "bench16", "bit_rate_bps": 2000, "repeats": 1, "gap_us": 10000},
@@ -100,7 +100,7 @@ def main() -> None:
     t_batch = best_of(lambda: random_batch(SPEC, chunk, np.random.default_rng(1)))
     t_chan = best_of(lambda: apply_channel(batch.train, ch, np.random.default_rng(2),
                                            burst_starts_us=batch.starts_us))
-    t_dec = best_of(lambda: _reference_decoder(SPEC, rx))
+    t_dec = best_of(lambda: reference_decoder(SPEC, rx))
     print(f"spec: 16-byte Manchester, {len(batch.train) / chunk:.0f} pulses/frame sent, "
           f"{len(rx) / chunk:.0f} received (idle noise included)")
     for name, t in (("batch encode", t_batch), ("channel", t_chan), ("decode", t_dec)):

@@ -46,11 +46,16 @@ def require(value: Any, expected: type[T] | tuple[type, ...], name: str,
                     + (f"; {hint}" if hint else ""))
 
 
-def require_spec(spec: Any, name: str = "spec") -> FrameSpec:
-    """Return ``spec`` if it is a FrameSpec; TypeError naming ``name`` otherwise."""
+def require_spec(spec: Any, name: str = "spec") -> Any:
+    """Return ``spec`` if it is a FrameSpec (or a compiled FramePlan); TypeError naming
+    ``name`` otherwise."""
     if isinstance(spec, str | os.PathLike):
         raise TypeError(f"{name} must be a FrameSpec, got the path {os.fspath(spec)[:60]!r}; "
                         f"{_HINTS[FrameSpec]}")
+    from .plan import FramePlan  # here: the plan's own stages (line codes, checks) use this module
+
+    if isinstance(spec, FramePlan):
+        return spec
     return require(spec, FrameSpec, name)
 
 

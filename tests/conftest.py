@@ -14,7 +14,7 @@ EXAMPLES_DIR = Path(__file__).resolve().parent.parent / "examples"
 
 
 def example_spec(name: str) -> tuple[ookframe.FrameSpec, dict[str, object]]:
-    return ookframe.spec.load.spec_and_defaults_from_dict(tomllib.loads(example_text(name)))
+    return ookframe.spec_io.spec_and_defaults_from_dict(tomllib.loads(example_text(name)))
 
 
 @pytest.fixture(params=example_names())

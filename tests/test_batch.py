@@ -1,4 +1,4 @@
-"""Batch encoding equals the one-frame encoder row by row."""
+"""Batch encoding equals the one-frame encoder row by row (every layout)."""
 
 from __future__ import annotations
 
@@ -7,14 +7,13 @@ import pytest
 
 from ookframe import frame_bits, frame_chips
 from ookframe.batch import frame_bits_batch, frame_chips_batch, random_raw_batch, raw_row
+from ookframe.demo import example_names
 from ookframe.linecodes import LINE_CODES
-from ookframe.spec.load import spec_from_dict
+from ookframe.spec_io import spec_from_dict
 from tests.conftest import example_spec
 
-FIXED = ["hive_scale.toml", "greenhouse_probe.toml", "gate_sensor.toml", "coldframe_vent.toml"]
 
-
-@pytest.mark.parametrize("name", FIXED)
+@pytest.mark.parametrize("name", example_names())
 def test_batch_equals_single(name):
     spec, _ = example_spec(name)
     rng = np.random.default_rng(7)
@@ -23,14 +22,18 @@ def test_batch_equals_single(name):
     chips = frame_chips_batch(spec, bits)
     for i in range(40):
         values = {k: v for k, v in raw_row(spec, raws, i).items()}
-        assert bits[i].tolist() == frame_bits(spec, values).tolist()
+        assert np.asarray(bits[i]).tolist() == frame_bits(spec, values).tolist()
         assert np.asarray(chips[i]).tolist() == frame_chips(spec, values).tolist()
 
 
-def test_variable_layout_refused():
+def test_variable_layout_gives_rows_of_their_own_length():
+    """With a bytes field every frame has its own length: a list of rows, 8 bits per byte."""
     spec, _ = example_spec("tank_level.toml")
-    with pytest.raises(ValueError, match="fixed-layout"):
-        frame_bits_batch(spec, random_raw_batch(spec, 2, np.random.default_rng(0)))
+    raws = random_raw_batch(spec, 50, np.random.default_rng(0))
+    bits = frame_bits_batch(spec, raws)
+    lengths = [len(b) for b in raws["note"]]
+    assert isinstance(bits, list) and len(set(lengths)) > 1
+    assert [r.size - 8 * k for r, k in zip(bits, lengths, strict=True)] == [bits[0].size - 8 * lengths[0]] * 50
 
 
 #: every registered line code at its defaults, and NRZ with stuffing (the per-row path)

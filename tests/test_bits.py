@@ -8,7 +8,16 @@ from bitstring import BitArray, Bits
 from hypothesis import example, given, settings
 from hypothesis import strategies as st
 
-from ookframe.bits import bits_to_int, from_raw, int_to_bits, to_raw, to_signed, to_unsigned
+from ookframe.bits import (
+    air_order,
+    bits_to_int,
+    from_raw,
+    int_to_bits,
+    order_bits,
+    to_raw,
+    to_signed,
+    to_unsigned,
+)
 from ookframe.errors import ValueRangeError
 from ookframe.spec.model import FieldSpec
 
@@ -127,3 +136,13 @@ def test_bitstring_oracle_worked_example():
     assert bitstring_field(-2, 12, True, "lsb", "big") == "011111111111"
     assert bitstring_field(0x1234, 16, False, "lsb", "little") == "0010110001001000"
     assert Bits(uintle=0x1234, length=16).hex == "3412"
+
+
+@settings(max_examples=200, deadline=None)
+@given(width=st.integers(1, 64), bit_order=st.sampled_from(["msb", "lsb"]),
+       byte_order=st.sampled_from(["big", "little"]))
+def test_air_order_is_order_bits_of_the_indices(width, bit_order, byte_order):
+    """air_order lists what order_bits does to the indices 0..width-1 (the two must agree:
+    the plan's bit weights come from one, the encoder's bits from the other)."""
+    want = order_bits(np.arange(width), bit_order, byte_order).tolist()
+    assert air_order(width, bit_order, byte_order) == want

@@ -35,8 +35,8 @@ from ookframe.codegen.toolchains import (
 from ookframe.errors import CodegenError
 from ookframe.frame import encode, frame_bits, random_values
 from ookframe.linecodes import LINE_CODES, get_line_code
-from ookframe.spec.load import spec_from_dict
 from ookframe.spec.model import FrameSpec, LineCodeSpec
+from ookframe.spec_io import spec_from_dict
 from tests.c.runner import (
     bits_case,
     build_harness,

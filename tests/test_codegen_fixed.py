@@ -17,7 +17,7 @@ from ookframe.codegen import emit_header
 from ookframe.codegen.model import fixed_point
 from ookframe.codegen.toolchains import AVR_FLAGS, STRICT_FLAGS, compile_c, find_tool
 from ookframe.errors import ValueRangeError
-from ookframe.spec.load import spec_from_dict
+from ookframe.spec_io import spec_from_dict
 from tests.conftest import example_spec
 
 C_DIR = Path(__file__).resolve().parent / "c"

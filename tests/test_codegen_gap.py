@@ -18,7 +18,7 @@ from ookframe.codegen import TimerTarget, emit_header, tx_schedule
 from ookframe.codegen.timing import quantise, split_ticks
 from ookframe.errors import CodegenError
 from ookframe.frame import encode, random_values
-from ookframe.spec.load import spec_from_dict
+from ookframe.spec_io import spec_from_dict
 from tests.c.runner import build_harness
 from tests.conftest import example_spec
 from tests.test_codegen import GCC, assert_harness_matches, base_doc

@@ -22,7 +22,7 @@ import ookframe
 from ookframe.codegen import emit_header
 from ookframe.codegen.render import templates_dir
 from ookframe.demo import example_text
-from ookframe.spec.load import spec_from_dict
+from ookframe.spec_io import spec_from_dict
 import tomllib
 assert ookframe.__file__.startswith(sys.argv[1]), ookframe.__file__
 assert str(templates_dir()).startswith(sys.argv[1]), templates_dir()

@@ -27,8 +27,8 @@ from ookframe.decode.head import head_model
 from ookframe.errors import CaptureError
 from ookframe.linecodes import LINE_CODES, get_line_code
 from ookframe.pulses import PulseTrain, chips_to_runs, merge_runs
-from ookframe.spec.load import spec_from_dict
 from ookframe.spec.model import FrameSpec, LineCodeSpec
+from ookframe.spec_io import spec_from_dict
 from tests.conftest import example_spec as _example_spec
 from tests.oracle_framer import best_sync, fit_unit, sync_distance
 

@@ -25,7 +25,7 @@ from ookframe.decode.framing import array_body_bits
 from ookframe.decode.head import head_model
 from ookframe.linecodes import LINE_CODES
 from ookframe.pulses import PulseTrain
-from ookframe.spec.load import load_spec, spec_from_dict
+from ookframe.spec_io import load_spec, spec_from_dict
 from ookframe.stress.batch import random_batch
 from tests.oracle_framer import oracle_frames
 
@@ -121,10 +121,6 @@ def test_array_framer_on_noise_and_cut_frames(monkeypatch):
 
 @pytest.mark.parametrize("spec", SPECS[:-2])
 def test_parse_frames_equals_parse_frame_row_by_row(spec):
-    if frame.fixed_body_bits(spec) is None:
-        with pytest.raises(ValueError, match="fixed layout"):
-            frame.parse_frames(spec, np.zeros((1, frame.min_body_bits(spec)), np.uint8))
-        return
     rng = np.random.default_rng(3)
     rows = []
     for i in range(60):
@@ -133,7 +129,8 @@ def test_parse_frames_equals_parse_frame_row_by_row(spec):
             body = body.copy()
             body[rng.integers(body.size)] ^= 1  # some checks fail
         rows.append(body)
-    parsed = frame.parse_frames(spec, np.array(rows))
+    parsed = frame.parse_frames(spec, np.array(rows) if frame.fixed_body_bits(spec) else rows)
     got = parsed.frames()
     assert got == [frame.parse_frame(spec, r) for r in rows]
-    assert any(p.check_ok for p in got) and not all(p.check_ok for p in got)
+    ok = [p is not None and p.check_ok for p in got]
+    assert any(ok) and not all(ok)

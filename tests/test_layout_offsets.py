@@ -18,8 +18,8 @@ from ookframe.bits import to_raw
 from ookframe.cli.main import main
 from ookframe.frame import frame_bits, random_values
 from ookframe.layout import field_offsets
-from ookframe.spec.load import load_spec, spec_from_dict
 from ookframe.spec.model import CheckSpec, WhiteningSpec
+from ookframe.spec_io import load_spec, spec_from_dict
 
 EX = Path(__file__).resolve().parent.parent / "examples"
 

@@ -20,7 +20,7 @@ import pytest
 from ookframe.channel import get_preset
 from ookframe.cli.main import main
 from ookframe.errors import ClusterError
-from ookframe.spec.load import load_spec
+from ookframe.spec_io import load_spec
 from ookframe.stress.cluster import cluster_executor
 from ookframe.stress.runner import run_stress
 from ookframe.stress.sweep import run_sweep

@@ -33,9 +33,9 @@ from functools import lru_cache
 import numpy as np
 
 from ..errors import ValueRangeError
-from ..frame import head_bits
-from ..linecodes import get_line_code
+from ..plan import FramePlan, as_plan, spec_of
 from ..spec.model import FrameSpec
+from .linecode_stats import frame_stats
 from .regions import REGIONS, Finding, check_region, usage
 from .spectrum import chip_stream
 
@@ -136,26 +136,32 @@ class AirtimeReport:
     rf_bandwidth_hz: float | None
 
 
-@lru_cache(maxsize=64)
-def max_frame_us(spec: FrameSpec) -> float:
+def max_frame_us(spec: FrameSpec | FramePlan) -> float:
     """Return an upper bound in µs on one frame's duration over all payloads.
 
     From the exact worst-case chip count of :func:`.linecode_stats.frame_stats` (longest
     bytes field, stuffing and data-dependent symbol lengths included).
     """
-    from .linecode_stats import frame_stats
+    return _max_frame_us(spec_of(spec))
 
+
+@lru_cache(maxsize=64)
+def _max_frame_us(spec: FrameSpec) -> float:
     return frame_stats(spec).max_frame_chips * spec.unit_us
 
 
-def max_airtime_us(spec: FrameSpec) -> float:
+def max_airtime_us(spec: FrameSpec | FramePlan) -> float:
     """Return an upper bound in µs on one transmission (repeats + gaps) over all payloads."""
+    spec = spec_of(spec)
     return max_frame_us(spec) * spec.repeats + spec.gap_us * (spec.repeats - 1)
 
 
-def tx_timing(spec: FrameSpec, rng: np.random.Generator, n_frames: int = MEAN_FRAMES) -> TxTiming:
+def tx_timing(spec: FrameSpec | FramePlan, rng: np.random.Generator,
+              n_frames: int = MEAN_FRAMES) -> TxTiming:
     """Return mean frame, airtime and mark time over ``n_frames`` random payloads, plus bounds."""
-    chips = chip_stream(spec, rng, n_frames)
+    plan = as_plan(spec)
+    spec = plan.spec
+    chips = chip_stream(plan, rng, n_frames)
     frame_us = chips.size / n_frames * spec.unit_us
     mark_us = float(chips.sum()) / n_frames * spec.unit_us * spec.repeats
     max_f = max_frame_us(spec)
@@ -290,7 +296,7 @@ def energy(mark_us: float, interval_s: float, tx_current_ma: float, supply_v: fl
                   battery_life_days=life)
 
 
-def airtime_report(spec: FrameSpec, interval_s: float, rng: np.random.Generator, *,
+def airtime_report(spec: FrameSpec | FramePlan, interval_s: float, rng: np.random.Generator, *,
                    n_nodes: int = 1, regions: tuple[str, ...] = tuple(REGIONS),
                    power_mw: float | None = None, rf_bandwidth_hz: float | None = None,
                    tx_current_ma: float = TYPICAL_TX_CURRENT_MA,
@@ -304,6 +310,7 @@ def airtime_report(spec: FrameSpec, interval_s: float, rng: np.random.Generator,
     ``rf_bandwidth_hz`` and ``carrier_hz`` feed the region rules; rules needing one that is
     not given are reported as not assessed.
     """
+    spec = spec_of(spec)
     timing = tx_timing(spec, rng)
     duty = duty_cycle(timing.max_airtime_us, interval_s)
     found = {r: check_region(r, timing.max_airtime_us, interval_s, power_mw,
@@ -314,7 +321,7 @@ def airtime_report(spec: FrameSpec, interval_s: float, rng: np.random.Generator,
     return AirtimeReport(timing, duty, found, coll, en, rf_bandwidth_hz)
 
 
-def cautions(spec: FrameSpec) -> list[str]:
+def cautions(spec: FrameSpec | FramePlan) -> list[str]:
     """Return notes on how the airtime and bandwidth figures were estimated (shown after the
     regulatory caution, which callers print first)."""
     notes = ["Region rules are transcribed from memory and simplified: verify each clause "
@@ -328,10 +335,9 @@ def cautions(spec: FrameSpec) -> list[str]:
     return notes
 
 
-def _fixed_frame_us(spec: FrameSpec) -> float:
+def _fixed_frame_us(spec: FrameSpec | FramePlan) -> float:
     """Shortest frame in µs (empty bytes field, every body bit at its shorter symbol)."""
-    lc = get_line_code(spec.line_code)
-    n_body = sum(f.width_bits for f in spec.fields if f.kind == "int") + spec.check.width_bits
-    head = head_bits(spec)
-    return min(lc.encode(np.concatenate((head, np.full(n_body, v, np.uint8)))).size
-               for v in (0, 1)) * spec.unit_us
+    plan = as_plan(spec)
+    lc = plan.line_code
+    return min(lc.encode(np.concatenate((plan.head_bits, np.full(plan.min_body_bits, v, np.uint8)))
+                         ).size for v in (0, 1)) * plan.unit_us

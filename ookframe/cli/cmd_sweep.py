@@ -7,7 +7,7 @@ import argparse
 from rich.table import Table
 
 from ..errors import ValueRangeError
-from ..spec.load import load_spec
+from ..spec_io import load_spec
 from ..stress.sweep import parse_vary, plot_sweep, run_sweep
 from . import common
 from .cluster import executor_from_args

@@ -11,12 +11,12 @@ import dataclasses
 import hashlib
 import json
 import re
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 from .. import __version__
-from ..checks import Crc
+from ..checks import Crc, reflect
 from ..errors import CodegenError
-from ..linecodes import get_line_code
+from ..plan import FramePlan, as_plan
 from ..spec.model import FrameSpec
 from ..spec.names import name_problem, same_name
 from .linecode_table import CodeTable, code_table
@@ -127,6 +127,7 @@ class CModel:
     spec_hash32: str
     description: str
     spec: FrameSpec
+    plan: FramePlan = field(compare=False)
     target: TimerTarget
     timing: Timing
     code: CodeTable
@@ -307,7 +308,8 @@ def _fields(spec: FrameSpec) -> tuple[CField, ...]:
     return tuple(out)
 
 
-def _check_model(spec: FrameSpec, crc_impl: str) -> dict[str, object]:
+def _check_model(plan: FramePlan, crc_impl: str) -> dict[str, object]:
+    spec = plan.spec
     c = spec.check
     m: dict[str, object] = {"kind": c.kind, "width": c.width_bits, "covers_sync": "sync" in c.covers,
                             "impl": crc_impl if c.kind == "crc" else "",
@@ -316,16 +318,13 @@ def _check_model(spec: FrameSpec, crc_impl: str) -> dict[str, object]:
     if c.kind != "crc":
         m["type"] = {"none": "uint8_t", "sum8": "uint8_t", "xor8": "uint8_t",
                      "fletcher16": "uint16_t"}[c.kind]
-        from ..checks import make_check
-
-        m["check_value"] = uint_literal(make_check(c).compute(b"123456789"), 16)
+        m["check_value"] = uint_literal(plan.check.compute(b"123456789") if plan.check else 0, 16)
         return m
-    assert c.crc is not None
-    crc = Crc.from_params(c.crc)
+    crc = plan.check
+    assert isinstance(crc, Crc)
     w = crc.width
     ctype = _uint_type(w)
     tbits = _type_bits(ctype)
-    from ..checks import reflect
 
     m.update({
         "name": crc.name or "custom",
@@ -370,18 +369,19 @@ def _whitening_model(spec: FrameSpec) -> dict[str, object]:
             "W": "(unsigned)" if tbits <= 16 else ""}
 
 
-def build_model(spec: FrameSpec, target: TimerTarget | None = None) -> CModel:
+def build_model(spec: FrameSpec | FramePlan, target: TimerTarget | None = None) -> CModel:
     """Return the validated model of ``spec``'s header for ``target`` (CodegenError if not)."""
+    plan = as_plan(spec)
+    spec = plan.spec
     target = target or TimerTarget()
     check_names(spec)
-    code = code_table(spec)
-    lc = get_line_code(spec.line_code)
+    code = code_table(plan)
+    lc = plan.line_code
     fields = _fields(spec)
-    head_bits = spec.preamble.length_bits + spec.sync.length_bits
-    fixed_bits = head_bits + sum(f.width_bits for f in spec.fields if f.kind == "int") \
-        + spec.check.width_bits
+    head_bits = plan.head_bits.size
+    fixed_bits = head_bits + plan.min_body_bits
     bytes_field = next((f for f in fields if f.kind == "bytes"), None)
-    max_frame_bits = fixed_bits + (8 * bytes_field.max_len_bytes if bytes_field else 0)
+    max_frame_bits = head_bits + plan.max_body_bits
     # merging: how many runs can chain into one pulse, and how long it can get
     trailer_single = code.trailer is not None and len(code.trailer.runs_units) == 1
     has_gap = spec.repeats > 1
@@ -416,7 +416,7 @@ def build_model(spec: FrameSpec, target: TimerTarget | None = None) -> CModel:
     timing_rows = tuple(
         (d.name, f"{d.nominal_us:.3f}", str(d.ticks), f"{d.quantised_us:.3f}",
          f"{100 * d.error:+.3f}") for d in timing.durations)
-    check = _check_model(spec, target.crc_impl)
+    check = _check_model(plan, target.crc_impl)
     white = _whitening_model(spec)
     pieces_all = [p for f in fields for p in f.pieces] + list(check["pieces"])  # type: ignore
     pre_pieces = tuple(split_pieces(pre.pattern_bits, "msb")) if pre.count else ()
@@ -441,7 +441,7 @@ def build_model(spec: FrameSpec, target: TimerTarget | None = None) -> CModel:
     return CModel(
         prefix=spec.name, PREFIX=spec.name.upper(), version=__version__, api_version=API_VERSION,
         spec_hash=h, spec_hash32=f"0x{h[:8].upper()}u", description=spec.description,
-        spec=spec, target=target, timing=timing, code=code, fields=fields,
+        spec=spec, plan=plan, target=target, timing=timing, code=code, fields=fields,
         head_bits=head_bits, fixed_bits=fixed_bits, max_frame_bits=max_frame_bits,
         variable=bytes_field is not None, bytes_field=bytes_field,
         preamble_pieces=pre_pieces, sync_pieces=sync_pieces,

@@ -15,7 +15,6 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..frame import frame_bits
-from ..linecodes import get_line_code
 from ..pulses import PulseTrain, merge_runs
 from .model import CModel
 
@@ -39,7 +38,7 @@ class Schedule:
 
 def line_bits(model: CModel, bits: np.ndarray) -> np.ndarray:
     """Return the frame bits as line coded: head unchanged, body through the code's stuffing."""
-    lc = get_line_code(model.spec.line_code)
+    lc = model.plan.line_code
     h = model.head_bits
     return np.concatenate((bits[:h], lc.stuff(bits[h:]))).astype(np.uint8)
 
@@ -105,4 +104,4 @@ def schedule_from_bits(model: CModel, bits: np.ndarray) -> Schedule:
 
 def tx_schedule(model: CModel, values: Mapping[str, object]) -> Schedule:
     """Return the schedule tx_next yields for one transmission of ``values``."""
-    return schedule_from_bits(model, frame_bits(model.spec, values))
+    return schedule_from_bits(model, frame_bits(model.plan, values))

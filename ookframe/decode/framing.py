@@ -15,7 +15,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..frame import ParsedFrame, fixed_body_bits, parse_frame, parse_frames
+from ..frame import ParsedFrame, fixed_body_bits, parse_frames
 from ..linecodes import DecodedBits
 from ..spec.model import FrameSpec
 from .head import HeadModel
@@ -181,18 +181,19 @@ def _bodies(spec: FrameSpec, hm: HeadModel, st: _Streams, lo: np.ndarray, hi: np
     parsed: list[ParsedFrame] = []
     n_air = np.zeros(lo.size, np.int64)
     code = np.zeros(lo.size, np.int64)
-    for i, (a, b) in enumerate(zip((lo + body_at).tolist(), hi.tolist(), strict=True)):
-        body = lc.unstuff(st.bits[a:b])
-        p = parse_frame(spec, body)
+    starts, stops = (lo + body_at).tolist(), hi.tolist()
+    bodies = [lc.unstuff(st.bits[a:b]) for a, b in zip(starts, stops, strict=True)]
+    rows = parse_frames(spec, bodies).frames() if bodies else []
+    for i, p in enumerate(rows):
         if p is None:
             continue
-        n = lc.stuff(body[:p.n_bits]).size
-        if n > b - a:
+        n = lc.stuff(bodies[i][:p.n_bits]).size
+        if n > stops[i] - starts[i]:
             continue  # the stuffed frame runs past the window: cut off
         ok[i] = True
         parsed.append(p)
         n_air[i] = n
-        code[i] = int((~st.valid[a:a + n]).sum())
+        code[i] = int((~st.valid[starts[i]:starts[i] + n]).sum())
     return ok, parsed, n_air, code
 
 

@@ -1,4 +1,5 @@
-"""Frame spec model: small frozen dataclasses, validated by ``ookframe.spec.load``.
+"""Frame spec model: small frozen dataclasses, parsed by ``ookframe.spec.load`` and
+validated by ``ookframe.plan.compile_plan``.
 
 Frame on air (before line coding), in order::
 

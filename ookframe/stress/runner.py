@@ -23,6 +23,7 @@ import numpy as np
 
 from .._require import require, require_int, require_spec
 from ..channel import ChannelSpec, apply_channel, channel_time_map_us
+from ..plan import FramePlan, as_plan
 from ..pulses import PulseTrain
 from ..spec.model import FrameSpec
 from .batch import Batch, random_batch
@@ -150,14 +151,15 @@ def _payload_right(
     )
 
 
-def _reference_decoder(spec: FrameSpec, train: PulseTrain) -> list:
+def reference_decoder(spec: FrameSpec, train: PulseTrain) -> list:
+    """The reference decoder as stress runs call it (frames with a bad check included)."""
     from ..decode import decode
 
     return decode(spec, train, include_bad=True)
 
 
 def run_chunk(
-    spec: FrameSpec,
+    spec: FrameSpec | FramePlan,
     channel: ChannelSpec,
     n: int,
     seed_seq: np.random.SeedSequence,
@@ -165,10 +167,11 @@ def run_chunk(
     decoder: Decoder | None = None,
 ) -> Counts:
     """Return the tallies of one chunk: ``n`` random transmissions, one batch."""
+    plan = as_plan(spec)
     rng = np.random.default_rng(seed_seq)
-    batch = random_batch(spec, n, rng, gap_us=gap_us)
+    batch = random_batch(plan, n, rng, gap_us=gap_us)
     rx = apply_channel(batch.train, channel, rng, burst_starts_us=batch.starts_us)
-    decoded = (decoder or _reference_decoder)(spec, rx)
+    decoded = (decoder or reference_decoder)(plan.spec, rx)
     half = batch.gap_us / 2
     bounds = np.append(batch.starts_us - half, batch.ends_us[-1] + half)
     bounds = channel_time_map_us(bounds, channel, batch.starts_us)
@@ -219,7 +222,7 @@ def map_unordered(
 
 
 def run_stress(
-    spec: FrameSpec,
+    spec: FrameSpec | FramePlan,
     channel: ChannelSpec,
     n_frames: int,
     *,
@@ -246,12 +249,14 @@ def run_stress(
     require(channel, ChannelSpec, "channel", "e.g. ookframe.get_preset('ideal')")
     require_int(n_frames, "n_frames")
     t0 = time.perf_counter()
+    if isinstance(spec, FramePlan):
+        spec = spec.spec  # chunks get the spec (small to send) and compile it once each
     chunk_frames = min(chunk_frames, max(1, CHUNK_BITS // (spec.max_frame_bits * spec.repeats)))
     c = Counts()
     try:
-        plan = chunk_plan(n_frames, chunk_frames)
-        seqs = np.random.SeedSequence(seed).spawn(len(plan))
-        args = [(spec, channel, n, q, gap_us, decoder) for n, q in zip(plan, seqs, strict=True)]
+        sizes = chunk_plan(n_frames, chunk_frames)
+        seqs = np.random.SeedSequence(seed).spawn(len(sizes))
+        args = [(spec, channel, n, q, gap_us, decoder) for n, q in zip(sizes, seqs, strict=True)]
         with pool_for(executor, workers) as pool:
             for _, counts in map_unordered(run_chunk, args, pool):
                 c = c + counts  # integer sums: the order of completion does not matter

@@ -11,6 +11,7 @@ import numpy as np
 
 from ..channel import ChannelSpec, impairment_names
 from ..errors import ValueRangeError
+from ..plan import FramePlan, spec_of
 from ..spec.model import FrameSpec
 from .runner import (
     DEFAULT_CHUNK_FRAMES,
@@ -32,13 +33,13 @@ MAX_POINTS = 200
 GLITCH_WIDTH_UNITS = 0.5
 
 
-def channel_at(spec: FrameSpec, channel: ChannelSpec, name: str, value: float) -> ChannelSpec:
+def channel_at(spec: FrameSpec | FramePlan, channel: ChannelSpec, name: str, value: float) -> ChannelSpec:
     """Return ``channel`` with impairment ``name`` set to ``value``; varying
     ``glitch_rate_per_ms`` on a channel without ``glitch_width_us`` also sets the width to
     ``GLITCH_WIDTH_UNITS`` of the spec's unit."""
     changes = {name: float(value)}
     if name == "glitch_rate_per_ms" and value > 0 and channel.glitch_width_us <= 0:
-        changes["glitch_width_us"] = GLITCH_WIDTH_UNITS * spec.unit_us
+        changes["glitch_width_us"] = GLITCH_WIDTH_UNITS * spec_of(spec).unit_us
     return channel.with_(**changes)
 
 
@@ -99,7 +100,7 @@ class SweepResult:
 
 
 def run_sweep(
-    specs: Sequence[FrameSpec],
+    specs: Sequence[FrameSpec | FramePlan],
     channel: ChannelSpec,
     parameter: str,
     values: Sequence[float],
@@ -119,6 +120,7 @@ def run_sweep(
         raise ValueRangeError(
             f"unknown impairment {parameter!r}; allowed: {', '.join(impairment_names())}"
         )
+    specs = [spec_of(s) for s in specs]
     with pool_for(executor, workers) as pool:
         if pool is None:
             results = tuple(
