@@ -112,6 +112,8 @@ SCALES = [(1.0, 0.0), (0.1, 0.0), (0.5, -40.0), (0.25, 2.4), (2.0, 0.0), (-0.1, 
          data=None)
 @example(width=16, signed=True, bit_order="msb", byte_order="little", scale=(1.0, 0.0),
          data=None)
+@example(width=54, signed=False, bit_order="msb", byte_order="big", scale=(0.1, 0.0),
+         data=None)
 def test_field_packing_against_bitstring(width, signed, bit_order, byte_order, scale, data):
     """Field packing (sign, scale/offset, bit order, byte order, odd widths 1..64) against
     bitstring's own two's-complement and little-endian interpretations (PyPI bitstring):
@@ -119,6 +121,10 @@ def test_field_packing_against_bitstring(width, signed, bit_order, byte_order, s
     our bits back to the raw value."""
     f = FieldSpec("x", width, signed=signed and width > 1, scale=scale[0], offset=scale[1])
     raw = f.raw_min if data is None else data.draw(st.integers(f.raw_min, f.raw_max))
+    if f.is_scaled and abs(raw) >= 1 << 52:
+        # a scaled physical value is a float: beyond 2**52 raw steps it cannot hold every
+        # step (IEEE 754 double, 53-bit significand), so the round trip is not exact there
+        raw = raw >> (abs(raw).bit_length() - 52)
     assert to_raw(f, from_raw(f, raw)) == raw
     bits = int_to_bits(to_unsigned(raw, width), width, bit_order, byte_order)
     text = "".join(map(str, bits.tolist()))

@@ -41,6 +41,7 @@ def frame_dicts(frames) -> list[dict]:
             "unit_us": f.unit_us,
             "worst_deviation": f.worst_deviation,
             "sync_errors": f.sync_errors,
+            "corrected": f.corrected,
         }
         for f in frames
     ]
@@ -65,8 +66,9 @@ def run(args: argparse.Namespace) -> int:
 
 def frames_table(spec, frames, title: str) -> Table:
     """A table of decoded frames, one section each: the frame's number, time and check
-    result, its reception figures (clock error, worst pulse deviation, sync-word bit
-    errors) and one row per field with value and unit."""
+    result, its reception figures (clock error, worst edge deviation, sync-word bit
+    errors, edges moved by the check-aided recovery) and one row per field with value and
+    unit."""
     t = Table(title=title, title_justify="left", box=box.SIMPLE_HEAD, show_edge=False)
     for head in ("frame", "reception", "field", "value", "unit"):
         t.add_column(head, justify="right" if head == "value" else "left",
@@ -77,6 +79,8 @@ def frames_table(spec, frames, title: str) -> Table:
         clock = f"{100 * fr.clock_error:+.2f}".replace("-0.00", "+0.00")
         mid = [f"clock {clock} %", f"worst dev {100 * fr.worst_deviation:.0f} %",
                f"sync errors {fr.sync_errors}"]
+        if fr.corrected:
+            mid.append(f"corrected {fr.corrected} edge(s)")
         rows = [(escape(f.name), escape(_value_text(fr.fields.get(f.name))),
                  escape(f.unit or ("hex" if f.kind == "bytes" else ""))) for f in spec.fields]
         n = max(len(left), len(mid), len(rows))
