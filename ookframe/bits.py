@@ -10,7 +10,7 @@ from decimal import ROUND_HALF_EVEN, Decimal
 
 import numpy as np
 
-from .errors import ValueRangeError
+from .errors import ValueRangeError, excerpt
 from .spec.model import BitOrder, ByteOrder, FieldSpec
 
 
@@ -31,20 +31,20 @@ def to_raw(f: FieldSpec, value: object) -> int:
         v = Decimal(value.strip()) if isinstance(value, str) else (
             Decimal(value) if isinstance(value, int) else _dec(value))
     except ArithmeticError:
-        raise ValueRangeError(f"field '{f.name}': {value!r} is not a number") from None
+        raise ValueRangeError(f"field '{f.name}': {excerpt(value)} is not a number") from None
     if not v.is_finite():
-        raise ValueRangeError(f"field '{f.name}': {value!r} is not a finite number")
+        raise ValueRangeError(f"field '{f.name}': {excerpt(value)} is not a finite number")
     if f.is_scaled:
         v = (v - _dec(f.offset)) / _dec(f.scale)
     raw = int(v.to_integral_value(rounding=ROUND_HALF_EVEN))
     if f.role == "value" and not f.is_scaled and raw != v:
-        raise ValueRangeError(f"field '{f.name}': {value!r} is not an integer")
+        raise ValueRangeError(f"field '{f.name}': {excerpt(value)} is not an integer")
     if not f.raw_min <= raw <= f.raw_max:
         lo, hi = from_raw(f, f.raw_min), from_raw(f, f.raw_max)
         if f.scale < 0:
             lo, hi = hi, lo
         raise ValueRangeError(
-            f"field '{f.name}': {value!r} does not fit {f.width_bits} "
+            f"field '{f.name}': {excerpt(value)} does not fit {f.width_bits} "
             f"{'signed' if f.signed else 'unsigned'} bits; allowed {lo}..{hi}"
         )
     return raw

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import reprlib
+
 
 class OokframeError(Exception):
     """Base class of every error ookframe raises on purpose."""
@@ -26,3 +28,43 @@ class CaptureError(OokframeError):
 
 class CodegenError(OokframeError):
     """C code cannot be generated for this spec/target (timing does not fit, bad name...)."""
+
+
+class ClusterError(OokframeError):
+    """A Dask cluster cannot be used (extra not installed, scheduler unreachable, no worker,
+    another ookframe version on a worker)."""
+
+
+#: longest quotation of user input in an error message (characters, before "...")
+QUOTE_CHARS = 40
+
+
+class _ShortRepr(reprlib.Repr):
+    """reprlib with integers of any size (Python refuses str() beyond 4,300 digits)."""
+
+    def repr_int(self, x: int, level: int) -> str:
+        if x.bit_length() <= 128:
+            return repr(x)
+        return f"<an integer of about {int(x.bit_length() * 0.30103) + 1:,} digits>"
+
+    def repr_str(self, x: str, level: int) -> str:
+        if len(x) <= self.maxstring:
+            return repr(x)
+        return f"{repr(x[:self.maxstring])}... ({len(x):,} characters)"
+
+
+_SHORT = _ShortRepr()
+_SHORT.maxstring = _SHORT.maxother = QUOTE_CHARS
+_SHORT.maxlist = _SHORT.maxtuple = _SHORT.maxdict = _SHORT.maxset = 6
+_SHORT.maxlevel = 3
+
+
+def excerpt(value: object) -> str:
+    """Return a short ``repr`` of ``value`` for quoting user input in an error message.
+
+    Strings longer than ``QUOTE_CHARS`` are cut (``'abc'... (10,485,760 characters)``),
+    containers show their first few items and huge integers their digit count, so a 10 MB
+    line or a 5,000-digit number never comes back whole. Every message that quotes input
+    uses this helper.
+    """
+    return _SHORT.repr(value)

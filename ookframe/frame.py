@@ -14,7 +14,8 @@ from functools import lru_cache
 import numpy as np
 
 from . import bits as _b
-from .errors import ValueRangeError
+from ._require import require_rng, require_spec, require_values
+from .errors import ValueRangeError, excerpt
 from .pulses import PulseTrain, chips_to_train, concat
 from .spec.model import FieldSpec, FrameSpec
 
@@ -60,7 +61,7 @@ def _blob(f: FieldSpec, value: object) -> bytes:
         try:
             value = bytes.fromhex(value)
         except ValueError:
-            raise ValueRangeError(f"field '{f.name}': {value!r} is not hex") from None
+            raise ValueRangeError(f"field '{f.name}': {excerpt(value)} is not hex") from None
     if not isinstance(value, bytes | bytearray):
         raise ValueRangeError(f"field '{f.name}': expected bytes or a hex string")
     if len(value) > f.max_len_bytes:
@@ -77,9 +78,9 @@ def raw_values(spec: FrameSpec, values: Values) -> dict[str, object]:
     if unknown:
         import difflib
 
-        close = difflib.get_close_matches(unknown[0], [f.name for f in spec.fields], n=1)
+        close = difflib.get_close_matches(str(unknown[0])[:100], [f.name for f in spec.fields], n=1)
         hint = f" (did you mean '{close[0]}'?)" if close else ""
-        raise ValueRangeError(f"unknown field '{unknown[0]}'{hint}; fields: "
+        raise ValueRangeError(f"unknown field {excerpt(unknown[0])}{hint}; fields: "
                               + ", ".join(f.name for f in spec.fields))
     raw: dict[str, object] = {}
     blob_len: int | None = None
@@ -170,11 +171,15 @@ def body_bits(spec: FrameSpec, values: Values) -> np.ndarray:
 
 def frame_bits(spec: FrameSpec, values: Values) -> np.ndarray:
     """Return the complete on-air bit stream of one frame before line coding (no stuffing)."""
+    require_spec(spec, "spec")
+    require_values(values, "values")
     return np.concatenate((head_bits(spec), body_bits(spec, values)))
 
 
 def frame_chips(spec: FrameSpec, values: Values) -> np.ndarray:
     """Return the chips of one frame (bit stuffing after the sync, then line code)."""
+    require_spec(spec, "spec")
+    require_values(values, "values")
     lc = _line_code(spec)
     bits = np.concatenate((head_bits(spec), lc.stuff(body_bits(spec, values))))
     return lc.encode(bits)
@@ -187,17 +192,22 @@ def frame_train(spec: FrameSpec, values: Values) -> PulseTrain:
 
 def encode(spec: FrameSpec, values: Values) -> PulseTrain:
     """Return the pulse train of one whole transmission: ``repeats`` frames, ``gap_us`` apart."""
+    require_spec(spec, "spec")
+    require_values(values, "values")
     one = frame_train(spec, values)
     return concat([one] * spec.repeats, spec.gap_us)
 
 
 def encode_many(spec: FrameSpec, values_list: Sequence[Values]) -> list[PulseTrain]:
     """Return one transmission per entry of ``values_list``."""
+    require_spec(spec, "spec")
     return [encode(spec, v) for v in values_list]
 
 
 def random_values(spec: FrameSpec, rng: np.random.Generator) -> dict[str, object]:
     """Return valid random field values (physical) for every settable field."""
+    require_spec(spec, "spec")
+    require_rng(rng, "rng")
     out: dict[str, object] = {}
     for f in spec.fields:
         if f.role == "length":
@@ -217,6 +227,9 @@ def random_values(spec: FrameSpec, rng: np.random.Generator) -> dict[str, object
 
 def values_equal(spec: FrameSpec, a: Values, b: Values) -> bool:
     """True when two value sets give the same raw fields (length field derived)."""
+    require_spec(spec, "spec")
+    require_values(a, "a")
+    require_values(b, "b")
     try:
         return raw_values(spec, _settable(spec, a)) == raw_values(spec, _settable(spec, b))
     except ValueRangeError:
@@ -332,6 +345,7 @@ def parse_frame(spec: FrameSpec, bits_after_sync: np.ndarray) -> ParsedFrame | N
     ``bits_after_sync`` is already unstuffed and still whitened; it may run past the end of
     the frame. Returns None when too few bits are present (truncated frame).
     """
+    require_spec(spec, "spec")
     p = _parse_plan(spec)
     rx = np.asarray(bits_after_sync, dtype=np.uint8)
     n_cb = p.n_check_bits

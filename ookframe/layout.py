@@ -7,6 +7,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from . import frame as _f
+from ._require import require_spec
 from .spec.model import FrameSpec
 
 
@@ -49,6 +50,7 @@ def zero_values(spec: FrameSpec) -> dict[str, object]:
 
 def frame_layout(spec: FrameSpec, values: _f.Values | None = None) -> Layout:
     """Return the section table and airtime for ``values`` (zeros when None)."""
+    require_spec(spec, "spec")
     values = zero_values(spec) if values is None else values
     lc = _f._line_code(spec)
     raw = _f.raw_values(spec, values)
@@ -92,3 +94,47 @@ def frame_layout(spec: FrameSpec, values: _f.Values | None = None) -> Layout:
     airtime = frame_us * spec.repeats + spec.gap_us * (spec.repeats - 1)
     return Layout(tuple(rows), frame_us, airtime, mark_us * spec.repeats, spec.repeats,
                   spec.gap_us, data_dependent)
+
+
+@dataclass(frozen=True)
+class FieldOffset:
+    """Where one field sits in the frame's bits (before line coding and bit stuffing;
+    whitening does not move bits).
+
+    ``offset_bits``: first bit from the start of the fields section; ``frame_offset_bits``:
+    from the first preamble bit. After a bytes field both vary with its length: the
+    values are for an empty bytes field and ``max_*`` for the longest. ``width_bits`` is
+    the field's width (a bytes field: 0 .. ``max_width_bits``).
+    """
+
+    name: str
+    offset_bits: int
+    frame_offset_bits: int
+    width_bits: int
+    max_offset_bits: int
+    max_frame_offset_bits: int
+    max_width_bits: int
+    unit: str = ""
+    section: str = "fields"
+
+    @property
+    def varies(self) -> bool:
+        """Whether the offset or width depends on a bytes field's length."""
+        return (self.offset_bits != self.max_offset_bits
+                or self.width_bits != self.max_width_bits)
+
+
+def field_offsets(spec: FrameSpec) -> tuple[FieldOffset, ...]:
+    """Return each field's bit offset (from the fields section and from the frame start)
+    and width, in spec order, followed by the check (section ``"check"``) when there is one."""
+    head = spec.preamble.length_bits + spec.sync.length_bits
+    lo = hi = 0
+    out = []
+    for f in spec.fields:
+        w_lo, w_hi = (0, 8 * f.max_len_bytes) if f.kind == "bytes" else (f.width_bits,) * 2
+        out.append(FieldOffset(f.name, lo, head + lo, w_lo, hi, head + hi, w_hi, f.unit))
+        lo, hi = lo + w_lo, hi + w_hi
+    w = spec.check.width_bits if spec.check.kind != "none" else 0
+    if w:
+        out.append(FieldOffset("check", lo, head + lo, w, hi, head + hi, w, "", "check"))
+    return tuple(out)

@@ -25,6 +25,7 @@ from functools import lru_cache
 
 import numpy as np
 
+from ._require import require, require_int
 from .errors import SpecError
 from .spec.model import WhiteningSpec
 
@@ -81,6 +82,8 @@ def lfsr_bits(spec: WhiteningSpec, n_bits: int) -> np.ndarray:
 
     kind "none" gives zeros. The mask of n bits is the prefix of any longer mask.
     """
+    require(spec, WhiteningSpec, "spec")
+    require_int(n_bits, "n_bits")
     if n_bits < 0:
         raise ValueError(f"n_bits must be >= 0, got {n_bits}")
     if spec.kind == "none":
@@ -92,6 +95,7 @@ def lfsr_bits(spec: WhiteningSpec, n_bits: int) -> np.ndarray:
 
 def whiten(bits: np.ndarray, spec: WhiteningSpec) -> np.ndarray:
     """Return ``bits`` XOR the mask along the last axis (1-D, or 2-D frames x bits)."""
+    require(spec, WhiteningSpec, "spec")
     b = np.asarray(bits, dtype=np.uint8)
     if b.ndim < 1:
         raise ValueError("bits must be at least 1-D")

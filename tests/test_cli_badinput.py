@@ -540,3 +540,407 @@ def test_crc_strength_poly_with_leading_zero_explained(capsys):
     code, out, err = run_bad(capsys, "crc-strength", "--width", "8", "--poly", "07")
     assert code == exitcodes.BAD_INPUT and "leading zero" in err and "0x" in err
     assert out == ""
+
+
+# ---------------------------------------------------------------- input shapes that once gave exit 70
+
+def _one_short_line(err: str, limit: int = 400) -> None:
+    """The error is one line and quotes no input whole."""
+    assert err.count(": error: ") == 1 and len(err) < limit, err[:500]
+
+
+@pytest.mark.parametrize(
+    ("extra", "message"),
+    [
+        ("zzz = " + "[" * 1000 + "]" * 1000, "nested too deeply"),
+        ("zzz = " + "{a=" * 1000 + "1" + "}" * 1000, "nested too deeply"),
+    ],
+    ids=["array", "inline-table"],
+)
+def test_deep_toml_is_a_spec_error(capsys, tmp_path, extra, message):
+    """Deep TOML nesting makes tomllib (Python 3.11 standard library) recurse past the
+    interpreter's limit; that is the user's input, so exit 3, not 70. Common practice, no
+    source."""
+    spec = spec_with(tmp_path, "repeats = 3", "repeats = 3\n" + extra)
+    code, _, err = run_bad(capsys, "check", spec)
+    assert code == exitcodes.BAD_SPEC and message in err
+    _one_short_line(err)
+
+
+@pytest.mark.parametrize(
+    ("old", "new", "message"),
+    [
+        ("repeats = 3", 'repeats = "3"', "frame.repeats: must be an integer, got str '3'"),
+        ("width_bits = 12", 'width_bits = "12"', "width_bits: must be an integer, got str"),
+        ("count = 4", 'count = "4"', "preamble.count: must be an integer, got str"),
+        ("signed = true", 'signed = "yes"', "signed: must be true or false, got 'yes'"),
+        ("scale = 0.1", 'scale = "0.1"', "scale: must be a number, got str '0.1'"),
+    ],
+)
+def test_every_key_is_typed_the_same_way(capsys, tmp_path, old, new, message):
+    """A quoted number is refused for every key, as a quoted boolean is (TOML 1.0.0 has
+    typed integers, floats and booleans; a string is not one of them)."""
+    code, _, err = run_bad(capsys, "check", spec_with(tmp_path, old, new))
+    assert code == exitcodes.BAD_SPEC and message in err
+
+
+LONG = "a" * 100_000
+
+
+@pytest.mark.parametrize(
+    ("old", "new", "message"),
+    [
+        ('name = "hive_scale"', f'name = "{LONG}"', "allowed at most 64 characters"),
+        ('name = "hive_scale"', f'name = "{"n" * 300}"', "allowed at most 64 characters"),
+        ('name = "manchester"', f'name = "{LONG}"', "unknown line code"),
+        ('convention = "ieee"', f'convention = "{LONG}"', "must be one of"),
+        ('model = "CRC-16/KERMIT"', f'model = "{LONG}"', "unknown CRC model"),
+        ("repeats = 3", f"{LONG} = 3", "unknown key"),
+        ("repeats = 3", "repeats = " + "9" * 5000, "a number is too long to read"),
+        ("repeats = 3", "repeats = " + "9" * 400, "out of range"),
+        ("gap_us = 8000", "gap_us = 1" + "0" * 400, "is too large"),
+        ("value = 0x2DD4", "value = 0x" + "F" * 5000, "out of range"),
+    ],
+    ids=["frame-name", "frame-name-300", "line-code", "param", "crc", "key", "int5000",
+         "int400", "float", "hex"],
+)
+def test_spec_messages_quote_a_short_excerpt(capsys, tmp_path, old, new, message):
+    """A 100,000-character string or a 5,000-digit number is quoted as a short excerpt
+    (Python's int-to-text limit of 4,300 digits, Python 3.11 documentation "Integer string
+    conversion length limitation", must not turn into exit 70 either)."""
+    code, _, err = run_bad(capsys, "check", spec_with(tmp_path, old, new))
+    assert code == exitcodes.BAD_SPEC and message in err
+    _one_short_line(err)
+
+
+def _fields_text(n: int, width: int) -> str:
+    return "".join(f'[[fields]]\nname = "f{k}"\nwidth_bits = {width}\n\n' for k in range(n))
+
+
+def _with_fields(tmp_path: Path, n: int, width: int, repeats: int = 3) -> Path:
+    i, j = HIVE_TEXT.index("[[fields]]"), HIVE_TEXT.index("[check]")
+    p = tmp_path / "sized.toml"
+    p.write_text((HIVE_TEXT[:i] + _fields_text(n, width) + HIVE_TEXT[j:])
+                 .replace("repeats = 3", f"repeats = {repeats}"))
+    return p
+
+
+@pytest.mark.parametrize(
+    ("n", "width", "repeats", "message"),
+    [
+        (5000, 8, 3, "fields: 5000 fields; allowed at most 128"),
+        (129, 1, 3, "fields: 129 fields; allowed at most 128"),
+        (128, 32, 1, "allowed at most 4096"),
+        (100, 8, 30, "frame.repeats: 30 repeats of a 864-bit frame are 25920 bits; allowed at "
+         "most 16384"),
+    ],
+)
+def test_spec_size_limits_fail_fast(capsys, tmp_path, n, width, repeats, message):
+    """The documented size limits (README, "Spec reference") refuse huge frames before any
+    analysis runs, for check and stress alike. Common practice, no source."""
+    import time
+
+    spec = _with_fields(tmp_path, n, width, repeats)
+    for argv in (["check", spec], ["stress", spec, "--frames", "50", "--workers", "1"]):
+        t0 = time.perf_counter()
+        code, _, err = run_bad(capsys, *argv)
+        assert code == exitcodes.BAD_SPEC and message in err
+        assert time.perf_counter() - t0 < 10
+
+
+def test_preamble_count_limit(capsys, tmp_path):
+    code, _, err = run_bad(capsys, "check", spec_with(tmp_path, "count = 4", "count = 513"))
+    assert code == exitcodes.BAD_SPEC and "preamble.count: 513 is out of range; allowed 0..512" in err
+
+
+def test_spec_at_the_size_limit_is_accepted(capsys, tmp_path):
+    """128 fields and a frame just under 4096 bits is valid (the limits are inclusive)."""
+    spec = _with_fields(tmp_path, 128, 31, 1)  # 3968 + 32 + 16 + 16 = 4032 bits
+    assert main(["check", str(spec), "--json"]) == 0
+    capsys.readouterr()
+
+
+# ---------------------------------------------------------------- check and emit agree
+
+RESERVED_NAMES = ["main", "uint8_t", "errno", "size_t", "__x", "_", "NULL", "INT8_MAX",
+                  "static", "lambda"]
+
+
+@pytest.mark.parametrize("name", RESERVED_NAMES)
+@pytest.mark.parametrize("where", ["frame", "field"])
+def test_check_refuses_names_emit_refuses(capsys, tmp_path, name, where):
+    """C99 6.4.1 (keywords), 7.1.3 (identifiers with a leading underscore are reserved),
+    7.18 (stdint.h types and macros); the standard names main and errno: common practice, no
+    source. check (exit 3) and emit's own rule (CodegenError) refuse the same names."""
+    import dataclasses
+
+    import ookframe
+    from ookframe.codegen.model import check_names
+
+    old = 'name = "hive_scale"' if where == "frame" else 'name = "hive"'
+    code, _, err = run_bad(capsys, "check", spec_with(tmp_path, old, f'name = "{name}"'))
+    assert code == exitcodes.BAD_SPEC and repr(name) in err
+    spec, _ = ookframe.load_spec_and_defaults(HIVE)
+    if where == "frame":
+        bad = dataclasses.replace(spec, name=name)
+    else:
+        bad = dataclasses.replace(spec, fields=(dataclasses.replace(spec.fields[0], name=name),
+                                                *spec.fields[1:]))
+    with pytest.raises(ookframe.CodegenError):
+        check_names(bad)
+
+
+def test_field_names_equal_in_upper_case_are_refused(capsys, tmp_path):
+    """Field names appear upper-cased in C macro names, so 'hive' and 'HIVE' collide."""
+    code, _, err = run_bad(capsys, "check", spec_with(tmp_path, 'name = "weight_g"',
+                                                      'name = "HIVE"'))
+    assert code == exitcodes.BAD_SPEC and "duplicate field name 'HIVE'" in err
+
+
+def test_check_warns_when_emit_would_refuse_the_gap(capsys, tmp_path):
+    """A 9 s gap needs 70,312.5 ticks of 128 µs (8 MHz / 1024) on a 16-bit timer, which holds
+    at most 65,535 (arithmetic). check passes with a warning that names emit and gives emit's
+    own reason; emit then refuses with that reason."""
+    spec = spec_with(tmp_path, "gap_us = 8000", "gap_us = 9000000")
+    assert main(["check", str(spec)]) == 0
+    err = " ".join(capsys.readouterr().err.split())
+    assert "warning: 'ookframe emit' with its default timer" in err
+    reason = err.split("will refuse this spec: ", 1)[1]
+    assert "repeat gap" in reason
+    assert main(["check", str(spec), "--json"]) == 0
+    import json
+
+    assert "repeat gap" in json.loads(capsys.readouterr().out)["emit_refusal"]
+    code, _, err = run_bad(capsys, "emit", spec, "-o", tmp_path / "c")
+    assert code == exitcodes.CODEGEN and reason[:80] in err
+
+
+def test_check_has_no_emit_warning_for_the_examples(capsys):
+    for name in ("hive_scale", "gate_sensor", "tank_level"):
+        assert main(["check", str(EXAMPLES / f"{name}.toml"), "--json"]) == 0
+        cap = capsys.readouterr()
+        assert "ookframe emit" not in cap.err
+
+
+def test_emit_onto_a_plain_file(capsys, tmp_path):
+    """-o names a folder; a plain file there is reported as such (not "File exists")."""
+    f = tmp_path / "plain"
+    f.write_text("keep\n")
+    for target in (f, f / "sub"):
+        code, _, err = run_bad(capsys, "emit", HIVE, "-o", target)
+        assert code == exitcodes.EXISTS and f"{f} is a file, not a folder" in err
+        assert "File exists" not in err
+    assert f.read_text() == "keep\n"
+
+
+# ---------------------------------------------------------------- captures
+
+VCD_HEAD = ("$timescale {ts} $end\n$scope module m $end\n$var wire {size} ! a $end\n"
+            "$upscope $end\n$enddefinitions $end\n")
+
+
+def _vcd(body: str, ts: str = "1 ns", size: str = "1") -> bytes:
+    return (VCD_HEAD.format(ts=ts, size=size) + body).encode()
+
+
+BAD_SHAPES = [
+    ("deep.json", b'{"levels":' + b"[" * 100_000 + b"]" * 100_000 + b',"durations_us":[]}',
+     "nested too deeply"),
+    ("bigint.json", b'{"levels":[0,1],"durations_us":[100,1180591620717411303424]}',
+     "durations_us[1] is 1.18059e+21, longer than the 1e+12 µs allowed"),
+    ("huge.json", b'{"levels":[0,1],"durations_us":[100,1' + b"0" * 400 + b"]}",
+     "durations_us[1] <an integer of about 401 digits> is longer than"),
+    ("digits.json", b'{"levels":[0,1],"durations_us":[100,' + b"1" * 5000 + b"]}",
+     "a number is too long to read"),
+    ("twod.json", b'{"levels":[[0,1],[1,0]],"durations_us":[[1,2],[3,4]]}',
+     "levels[0] is [0, 1], must be 0 or 1"),
+    ("ragged.json", b'{"levels":[0,1],"durations_us":[[1,2],3]}',
+     "durations_us[0] is [1, 2], must be a number"),
+    ("ragged2.json", b'{"levels":[[0],1],"durations_us":[1,3]}', "levels[0] is [0]"),
+    ("bool.json", b'{"levels":[true,0],"durations_us":[1,3]}', "levels[0] is True"),
+    ("big.csv", b"level,duration_us\n0,250\n1,1e300\n",
+     "big.csv:3: duration_us is 1e+300, longer than the 1e+12 µs allowed"),
+    ("bigl.csv", b"level,duration_us\n" + b"0,250\n1,500\n" * 1000 + b"1,1e300\n",
+     "bigl.csv:2002: duration_us is 1e+300"),
+    ("stamp.vcd", _vcd("#0\n0!\n#100\n1!\n#18446744073709551616\n0!\n"),
+     "timestamp '#18446744073709551616' is above 2^63 - 1"),
+    ("scale.vcd", _vcd("#0\n0!\n#100\n1!\n#200\n", ts="1" + "0" * 400 + " ns"),
+     "expected a magnitude 1..1000"),
+    ("digits.vcd", _vcd("#0\n0!\n#" + "1" * 5000 + "\n0!\n"), "is above 2^63 - 1"),
+    ("size.vcd", _vcd("#0\n0!\n", size="1" * 5000), "malformed $var"),
+    ("scale5000.vcd", _vcd("#0\n0!\n", ts="1" * 5000 + " ns"), "$timescale"),
+    ("long.vcd", _vcd("#0\n0!\n#100\n1!\n#9223372036854775807\n", ts="1000 s"),
+     "longer than the 1e+12 µs allowed"),
+    ("hdr.csv", b"x" * 10_000_000 + b"\n0,1\n", "(10,000,000 characters)"),
+    ("stamp10m.vcd", _vcd("#0\n0!\n#" + "9" * 10_000_000 + "\n"), "(10,000,001 characters)"),
+    ("row.csv", b"level,duration_us\n0,250," + b"7" * 1_000_000 + b"\n", "expected 2 values"),
+]
+
+
+@pytest.mark.parametrize(("name", "data", "message"), BAD_SHAPES, ids=[c[0] for c in BAD_SHAPES])
+def test_decode_rejects_bad_shapes(capfd, tmp_path, name, data, message):
+    """Each input shape once ended in exit 70 or echoed the input whole; now exit 4 with a
+    one-line message and no numpy warning on stderr. RFC 8259 (JSON), IEEE 1364-2005 clause
+    18 (VCD timestamps are unsigned integers; $timescale magnitudes 1, 10, 100)."""
+    cap = tmp_path / name
+    cap.write_bytes(data)
+    code = main(["decode", str(HIVE), str(cap)])
+    got = capfd.readouterr()
+    err = " ".join(got.err.split())
+    assert code == exitcodes.BAD_INPUT, err[:300]
+    assert message in err and got.out == ""
+    assert "Warning" not in err and "Traceback" not in err
+    _one_short_line(err)
+
+
+def test_vcd_with_many_signals_lists_a_few(capsys, tmp_path):
+    vars_ = "".join(f"$var wire 1 s{i} sig{i} $end\n" for i in range(20_000))
+    cap = tmp_path / "many.vcd"
+    cap.write_text("$timescale 1 ns $end\n$scope module m $end\n" + vars_
+                   + "$upscope $end\n$enddefinitions $end\n#0\n")
+    code, _, err = run_bad(capsys, "decode", HIVE, cap)
+    assert code == exitcodes.BAD_INPUT and "(20000 in all)" in err
+    _one_short_line(err)
+
+
+def test_capture_with_a_huge_pulse_inside_a_frame(capfd, tmp_path):
+    """A real transmission with one 1e300 µs pulse: exit 4 naming the line, not exit 70 and
+    no numpy RuntimeWarning leaking to stderr."""
+    enc = tmp_path / "enc.csv"
+    assert main(["encode", str(HIVE), "--format", "csv", "-o", str(enc)]) == 0
+    lines = enc.read_text().splitlines()
+    lines.insert(len(lines) // 2, "1,1e300")
+    enc.write_text("\n".join(lines) + "\n")
+    capfd.readouterr()
+    code = main(["decode", str(HIVE), str(enc)])
+    err = capfd.readouterr().err
+    assert code == exitcodes.BAD_INPUT and "longer than the 1e+12 µs allowed" in err
+    assert "RuntimeWarning" not in err
+
+
+# ---------------------------------------------------------------- lenient parsing, decided
+
+def _hive_capture(tmp_path: Path, fmt: str) -> Path:
+    p = tmp_path / f"hive.{fmt}"
+    assert main(["encode", str(HIVE), "--format", fmt, "-o", str(p)]) == 0
+    return p
+
+
+def test_csv_level_written_as_float_is_read_by_value(tmp_path, capsys):
+    """README: a CSV level is any number equal to 0 or 1, so `1.0` reads as 1 and decodes the
+    same frames; `2.0` or `0.5` are refused. Project decision, common practice, no source."""
+    import ookframe
+
+    p = _hive_capture(tmp_path, "csv")
+    capsys.readouterr()
+    floaty = tmp_path / "floaty.csv"
+    text = p.read_text().splitlines()
+    floaty.write_text("\n".join([text[0]] + [r.replace("1,", "1.0,", 1) if r.startswith("1,")
+                                             else r for r in text[1:]]) + "\n")
+    assert ookframe.read_capture(floaty) == ookframe.read_capture(p)
+    for bad in ("2.0", "0.5", "nan"):
+        q = tmp_path / "bad.csv"
+        q.write_text(f"level,duration_us\n0,250\n{bad},500\n")
+        with pytest.raises(ookframe.CaptureError, match=r"bad.csv:3: level .* must be 0 or 1"):
+            ookframe.read_capture(q)
+
+
+@pytest.mark.parametrize(
+    ("version", "ok"),
+    [("1", True), ("1.0", True), ("1e0", True), ("true", False), ('"1"', False), ("2", False)],
+)
+def test_json_version_is_read_by_value(tmp_path, version, ok):
+    """RFC 8259 section 6: JSON numbers have no int/float distinction, so 1.0 is version 1;
+    `true` is not a number (section 3) and is refused, as are strings."""
+    import ookframe
+
+    p = tmp_path / "v.json"
+    p.write_text(f'{{"version":{version},"levels":[0,1.0],"durations_us":[100,200.5]}}')
+    if ok:
+        train = ookframe.read_capture(p)
+        assert train.levels.tolist() == [0, 1] and train.durations_us.tolist() == [100, 200.5]
+    else:
+        with pytest.raises(ookframe.CaptureError, match="this reader knows version 1"):
+            ookframe.read_capture(p)
+
+
+def test_json_duplicate_keys_are_refused(tmp_path):
+    """RFC 8259 section 4: names within an object SHOULD be unique; with duplicates the
+    behaviour is unpredictable, so ookframe refuses them instead of keeping the last."""
+    import ookframe
+
+    p = tmp_path / "dup.json"
+    p.write_text('{"levels":[0,1],"durations_us":[1,2],"levels":[1,0]}')
+    with pytest.raises(ookframe.CaptureError, match="key 'levels' is given twice"):
+        ookframe.read_capture(p)
+
+
+@pytest.mark.parametrize(
+    ("timescale", "tick_us"),
+    [("7 ps", 7e-6), ("1000 ns", 1.0), ("1000ns", 1.0), ("100 us", 100.0), ("1 s", 1e6)],
+)
+def test_vcd_nonstandard_magnitudes_read_exactly(tmp_path, timescale, tick_us):
+    """IEEE 1364-2005 clause 18.2.3.6 allows magnitudes 1, 10 and 100; ookframe also reads
+    1..1000 (README), scaling durations exactly: 250 ticks of 7 ps are 0.00175 µs."""
+    import ookframe
+
+    p = tmp_path / "m.vcd"
+    p.write_bytes(_vcd("#0\n1!\n#250\n0!\n#1000\n", ts=timescale))
+    train = ookframe.read_capture(p)
+    assert train.levels.tolist() == [1, 0]
+    assert train.durations_us.tolist() == pytest.approx([250 * tick_us, 750 * tick_us],
+                                                         rel=1e-12)
+
+
+@pytest.mark.parametrize("timescale", ["1001 ns", "0 ns", "10000 ps"])
+def test_vcd_magnitudes_outside_the_range_are_refused(tmp_path, timescale):
+    import ookframe
+
+    p = tmp_path / "m.vcd"
+    p.write_bytes(_vcd("#0\n1!\n#250\n", ts=timescale))
+    with pytest.raises(ookframe.CaptureError, match=r"expected a magnitude 1..1000"):
+        ookframe.read_capture(p)
+
+
+# ---------------------------------------------------------------- Python API argument types
+
+def test_api_type_errors_name_the_parameter(tmp_path):
+    """Public functions check their arguments at the entry (STYLE: "public functions
+    validate inputs once"; common practice, no source)."""
+    import numpy as np
+
+    import ookframe
+
+    spec, values = ookframe.load_spec_and_defaults(HIVE)
+    train = ookframe.encode(spec, values)
+    rng = np.random.default_rng(1)
+    ideal = ookframe.get_preset("ideal")
+    cases = [
+        (lambda: ookframe.encode(spec, [1, 2]), "values must be a Mapping, got list"),
+        (lambda: ookframe.encode(str(HIVE), values), "spec must be a FrameSpec, got the path"),
+        (lambda: ookframe.encode(HIVE, values), "spec must be a FrameSpec, got the path"),
+        (lambda: ookframe.frame_bits({}, values), "spec must be a FrameSpec, got dict"),
+        (lambda: ookframe.apply_channel(train, None, rng), "channel must be a ChannelSpec, got None"),
+        (lambda: ookframe.apply_channel([1, 2], ideal, rng), "train must be a PulseTrain, got list"),
+        (lambda: ookframe.apply_channel(train, ideal, 7), "rng must be a Generator, got int"),
+        (lambda: ookframe.random_values(spec, None), "rng must be a Generator, got None"),
+        (lambda: ookframe.run_stress(spec, None, 10), "channel must be a ChannelSpec"),
+        (lambda: ookframe.run_stress(spec, ideal, 2.5), "n_frames must be an int, got float"),
+        (lambda: ookframe.run_noise("x.toml", 1.0), "spec must be a FrameSpec"),
+        (lambda: ookframe.emit_header(str(HIVE)), "spec must be a FrameSpec"),
+        (lambda: ookframe.emit_header(spec, 8), "target must be a TimerTarget, got int"),
+        (lambda: ookframe.write_capture(tmp_path / "x.csv", [1]), "train must be a PulseTrain"),
+        (lambda: ookframe.read_capture(None), "path must be a str or PathLike, got None"),
+        (lambda: ookframe.load_spec(3), "path must be a str or PathLike, got int"),
+        (lambda: ookframe.spec_from_dict([1]), "doc must be a Mapping, got list"),
+        (lambda: ookframe.frame_layout(None), "spec must be a FrameSpec, got None"),
+        (lambda: ookframe.get_line_code("nrz"), "spec must be a LineCodeSpec, got str"),
+        (lambda: ookframe.make_check("crc"), "spec must be a CheckSpec, got str"),
+        (lambda: ookframe.lfsr_bits(spec.whitening, 2.0), "n_bits must be an int, got float"),
+        (lambda: ookframe.get_preset(None), "name must be a str, got None"),
+    ]
+    for call, message in cases:
+        with pytest.raises(TypeError) as info:
+            call()
+        assert message in str(info.value), (message, str(info.value))
+    assert not (tmp_path / "x.csv").exists()

@@ -11,6 +11,7 @@ import os
 from pathlib import Path
 from types import ModuleType
 
+from .._require import require_path, require_train
 from ..errors import CaptureError
 from ..pulses import PulseTrain
 from . import csv_format, json_format, vcd_format
@@ -45,6 +46,7 @@ def read_capture(
     ``signal`` (VCD only) names the 1-bit signal to read; ``xz`` (VCD only) says what an
     ``x``/``z`` value means: ``"space"`` (carrier off) or ``"error"``.
     """
+    require_path(path, "path")
     name = capture_format(path, fmt)
     if name != "vcd" and signal is not None:
         raise CaptureError(f"{path}: --signal applies to VCD captures only, not {name}")
@@ -57,6 +59,8 @@ def write_capture(
     path: str | os.PathLike[str], train: PulseTrain, fmt: str | None = None, **options: object
 ) -> None:
     """Write ``train`` to ``path`` in ``fmt`` (default: from the extension); atomic replace."""
+    require_path(path, "path")
+    require_train(train, "train")
     FORMATS[capture_format(path, fmt)].write(path, train, **options)
 
 

@@ -10,10 +10,15 @@ import numpy as np
 
 from ..errors import CaptureError
 
+#: longest pulse a capture may hold (µs): 10^12 µs is about 11.6 days; a longer one is a
+#: corrupt capture, and would overflow the decoder's whole-unit arithmetic
+MAX_DURATION_US = 1e12
+
 
 def bad_duration(durations_us: np.ndarray) -> int | None:
-    """Return the index of the first duration that is NaN, infinite or <= 0, else None."""
-    bad = ~(np.isfinite(durations_us) & (durations_us > 0))
+    """Return the index of the first duration that is NaN, infinite, <= 0 or above
+    ``MAX_DURATION_US``, else None."""
+    bad = ~((durations_us > 0) & (durations_us <= MAX_DURATION_US))  # NaN fails both
     return int(np.argmax(bad)) if bad.any() else None
 
 
@@ -29,6 +34,8 @@ def describe_duration(value: float) -> str:
         return "is NaN"
     if np.isinf(value):
         return "is infinite"
+    if value > MAX_DURATION_US:
+        return f"is {value:g}, longer than the {MAX_DURATION_US:g} µs allowed"
     return f"is {value:g}, must be > 0"
 
 

@@ -1,7 +1,9 @@
 """CSV captures: a header line ``level,duration_us`` then one ``level,duration_us`` per pulse.
 
-Blank lines and lines starting with ``#`` are ignored. Levels are 0 or 1; durations are
-finite and > 0 (µs). Errors name the file and the line number.
+Blank lines and lines starting with ``#`` are ignored. A level is a number equal to 0 or 1
+(``1``, ``1.0`` and ``1e0`` are all read as 1); durations are numbers in µs, > 0 and at
+most ``MAX_DURATION_US``. Errors name the file and the line number and quote at most a
+short excerpt of the line.
 """
 
 from __future__ import annotations
@@ -11,7 +13,7 @@ import warnings
 
 import numpy as np
 
-from ..errors import CaptureError
+from ..errors import CaptureError, excerpt
 from ..pulses import PulseTrain
 from ._common import (
     bad_duration,
@@ -31,6 +33,14 @@ def _is_skipped(line: str) -> bool:
     return not s or s.startswith("#")
 
 
+def _number(cell: str) -> float | None:
+    """Return the number written in ``cell`` (as numpy's text reader reads it), or None."""
+    try:
+        return float(cell)
+    except ValueError:
+        return None
+
+
 def _scan_for_error(path: str | os.PathLike[str], lines: list[str]) -> None:
     """Raise CaptureError for the first invalid line (slow path, only on bad input)."""
     for lineno, line in enumerate(lines, 1):
@@ -39,15 +49,14 @@ def _scan_for_error(path: str | os.PathLike[str], lines: list[str]) -> None:
         cells = [c.strip() for c in line.split(",")]
         if len(cells) != 2:
             raise CaptureError(f"{path}:{lineno}: expected 2 values 'level,duration_us', "
-                               f"got {len(cells)}: {line.strip()!r}")
-        if cells[0] not in ("0", "1"):
-            raise CaptureError(f"{path}:{lineno}: level {cells[0]!r} must be 0 or 1")
-        try:
-            d = float(cells[1])
-        except ValueError:
+                               f"got {len(cells)}: {excerpt(line.strip())}")
+        if _number(cells[0]) not in (0.0, 1.0):
+            raise CaptureError(f"{path}:{lineno}: level {excerpt(cells[0])} must be 0 or 1")
+        d = _number(cells[1])
+        if d is None:
             raise CaptureError(
-                f"{path}:{lineno}: duration_us {cells[1]!r} is not a number") from None
-        if not (np.isfinite(d) and d > 0):
+                f"{path}:{lineno}: duration_us {excerpt(cells[1])} is not a number")
+        if bad_duration(np.array([d])) is not None:
             raise CaptureError(f"{path}:{lineno}: duration_us {describe_duration(d)}")
     raise CaptureError(f"{path}: cannot parse as '{HEADER}' CSV")
 
@@ -64,7 +73,7 @@ def read(path: str | os.PathLike[str]) -> PulseTrain:
     lines = text.splitlines()
     header = lines[0].strip().replace(" ", "").lstrip("\ufeff") if lines else ""
     if header != HEADER:
-        raise CaptureError(f"{path}:1: expected header {HEADER!r}, got {header!r}")
+        raise CaptureError(f"{path}:1: expected header {HEADER!r}, got {excerpt(header)}")
     body = [ln for ln in lines[1:] if not _is_skipped(ln)]
     if not body:
         return PulseTrain(np.zeros(0, np.uint8), np.zeros(0))

@@ -4,7 +4,10 @@ Reading streams the file line by line (memory grows with the selected signal's c
 not with the file), honours ``$timescale`` and selects a 1-bit variable by name: its full
 dotted path (``top.radio.tx``), its reference name when unique (``tx``) or with its bit
 index (``data[0]``). When ``signal`` is None the file must hold exactly one 1-bit
-signal. Non-standard ``$timescale`` magnitudes (e.g. ``3 ns``) are accepted.
+signal. IEEE 1364 allows ``$timescale`` magnitudes 1, 10 and 100; any whole magnitude
+1..1000 is accepted and read exactly (``7 ps``, ``1000 ns`` = 1 µs), others are refused.
+Timestamps are whole numbers up to 2^63 - 1; a pulse longer than ``MAX_DURATION_US`` is
+refused. Error messages quote at most a short excerpt of the file.
 
 x and z: values before the signal's first 0/1 (power-up "unknown") are skipped and the
 train starts at the first 0/1 change. After that, ``xz="space"`` (default) reads x/z as
@@ -25,9 +28,14 @@ from fractions import Fraction
 import numpy as np
 
 from .. import __version__ as version
-from ..errors import CaptureError
+from ..errors import CaptureError, excerpt
 from ..pulses import PulseTrain, merge_runs
-from ._common import check_train_for_write, write_text_atomic
+from ._common import (
+    bad_duration,
+    check_train_for_write,
+    describe_duration,
+    write_text_atomic,
+)
 
 NAME = "vcd"
 EXTENSIONS = (".vcd",)
@@ -38,6 +46,8 @@ _UNITS_US: dict[str, Fraction] = {
     "s": Fraction(10**6), "ms": Fraction(10**3), "us": Fraction(1),
     "ns": Fraction(1, 10**3), "ps": Fraction(1, 10**6), "fs": Fraction(1, 10**9),
 }
+MAX_MAGNITUDE = 1000
+MAX_TIME = 2**63 - 1
 _SCALAR_VALUES = {"0": 0, "1": 1, "x": 2, "X": 2, "z": 2, "Z": 2}
 
 
@@ -71,9 +81,11 @@ def _parse_timescale(path, words: list[str], lineno: int) -> Fraction:
     text = "".join(words)
     digits = text.rstrip("abcdefghijklmnopqrstuvwxyz")
     unit = text[len(digits):]
-    if not digits.isdigit() or int(digits) < 1 or unit not in _UNITS_US:
-        raise CaptureError(f"{path}:{lineno}: $timescale {' '.join(words)!r} not understood; "
-                           "expected a magnitude (1, 10, 100) and a unit s|ms|us|ns|ps|fs")
+    if not digits.isdigit() or len(digits) > 4 or not 1 <= int(digits) <= MAX_MAGNITUDE \
+            or unit not in _UNITS_US:
+        raise CaptureError(f"{path}:{lineno}: $timescale {excerpt(' '.join(words))} not "
+                           f"understood; expected a magnitude 1..{MAX_MAGNITUDE} (standard: 1, "
+                           "10, 100) and a unit s|ms|us|ns|ps|fs")
     return int(digits) * _UNITS_US[unit]
 
 
@@ -96,22 +108,23 @@ def _read_header(path, toks) -> tuple[Fraction | None, list[VcdVar], int]:
                 scopes.pop()
         elif tok == "$var":
             words = _until_end(path, toks, tok, lineno)
-            if len(words) < 4 or not words[1].isdigit():
-                raise CaptureError(f"{path}:{lineno}: malformed $var {' '.join(words)!r}; "
-                                   "expected 'type size identifier reference [index]'")
+            if len(words) < 4 or not words[1].isdigit() or len(words[1]) > 9:
+                raise CaptureError(f"{path}:{lineno}: malformed $var {excerpt(' '.join(words))}"
+                                   "; expected 'type size identifier reference [index]' with a "
+                                   "size of at most 9 digits")
             ref = words[3] + "".join(words[4:])
             variables.append(VcdVar(".".join([*scopes, ref]), ref, words[2], int(words[1]),
                                     words[0]))
         elif tok.startswith("$"):
             _until_end(path, toks, tok, lineno)
         else:
-            raise CaptureError(f"{path}:{lineno}: unexpected {tok!r} in the VCD header")
+            raise CaptureError(f"{path}:{lineno}: unexpected {excerpt(tok)} in the VCD header")
     raise CaptureError(f"{path}: no $enddefinitions; not a VCD file or truncated header")
 
 
 def _select(path, variables: list[VcdVar], signal: str | None) -> VcdVar:
     one_bit = [v for v in variables if v.size == 1]
-    listing = ", ".join(sorted({v.name for v in one_bit})) or "none"
+    listing = _listing(sorted({v.name for v in one_bit}))
     if signal is None:
         idents = {v.ident for v in one_bit}
         if len(idents) == 1:
@@ -123,15 +136,24 @@ def _select(path, variables: list[VcdVar], signal: str | None) -> VcdVar:
         matches = [v for v in variables if v.reference == signal
                    or v.reference.split("[")[0] == signal]
     if len({v.ident for v in matches}) > 1:
-        names = ", ".join(sorted(v.name for v in matches))
-        raise CaptureError(f"{path}: signal {signal!r} is ambiguous ({names}); use the full name")
+        names = _listing(sorted(v.name for v in matches))
+        raise CaptureError(f"{path}: signal {excerpt(signal)} is ambiguous ({names}); use the "
+                           "full name")
     if not matches:
-        raise CaptureError(f"{path}: no signal named {signal!r}; available 1-bit signals: "
-                           f"{listing}")
+        raise CaptureError(f"{path}: no signal named {excerpt(signal)}; available 1-bit "
+                           f"signals: {listing}")
     if matches[0].size != 1:
-        raise CaptureError(f"{path}: signal {signal!r} is {matches[0].size} bits wide; only "
+        raise CaptureError(f"{path}: signal {excerpt(signal)} is {matches[0].size} bits wide; only "
                            f"1-bit signals can be read as a pulse train (available: {listing})")
     return matches[0]
+
+
+def _listing(names: list[str], most: int = 8) -> str:
+    """Return up to ``most`` names (each cut short) for a message, and how many in all."""
+    if not names:
+        return "none"
+    shown = ", ".join(n if len(n) <= 40 else excerpt(n) for n in names[:most])
+    return shown if len(names) <= most else f"{shown}, ... ({len(names)} in all)"
 
 
 def list_signals(path: str | os.PathLike[str]) -> list[VcdVar]:
@@ -166,10 +188,13 @@ def read(path: str | os.PathLike[str], *, signal: str | None = None,
         for lineno, tok in toks:
             head = tok[0]
             if head == "#":
-                try:
-                    t = int(tok[1:])
-                except ValueError:
-                    raise CaptureError(f"{path}:{lineno}: bad timestamp {tok!r}") from None
+                digits = tok[1:]
+                if not digits.isdigit() or not digits.isascii():
+                    raise CaptureError(f"{path}:{lineno}: bad timestamp {excerpt(tok)}")
+                if len(digits) > 19 or int(digits) > MAX_TIME:
+                    raise CaptureError(f"{path}:{lineno}: timestamp {excerpt(tok)} is above "
+                                       "2^63 - 1 time units")
+                t = int(digits)
                 if t < now:
                     raise CaptureError(f"{path}:{lineno}: time goes backwards ({t} after {now})")
                 now = last_time = t
@@ -184,12 +209,13 @@ def read(path: str | os.PathLike[str], *, signal: str | None = None,
                 try:
                     ident = next(toks)[1]
                 except StopIteration:
-                    raise CaptureError(f"{path}:{lineno}: value {tok!r} has no identifier") \
+                    raise CaptureError(f"{path}:{lineno}: value {excerpt(tok)} has no identifier") \
                         from None
                 if ident == target:
                     bits = tok[1:].lstrip("0") or "0"
                     if head in "rRsS" or len(bits) != 1 or bits not in _SCALAR_VALUES:
-                        raise CaptureError(f"{path}:{lineno}: value {tok!r} for a 1-bit signal")
+                        raise CaptureError(f"{path}:{lineno}: value {excerpt(tok)} for a 1-bit "
+                                           "signal")
                     v = _SCALAR_VALUES[bits]
                     if v == 2:
                         xz_lines[len(values)] = lineno
@@ -200,7 +226,7 @@ def read(path: str | os.PathLike[str], *, signal: str | None = None,
             elif tok in ("$dumpvars", "$dumpall", "$dumpon", "$dumpoff", "$end"):
                 continue
             else:
-                raise CaptureError(f"{path}:{lineno}: unexpected {tok!r} in the VCD body")
+                raise CaptureError(f"{path}:{lineno}: unexpected {excerpt(tok)} in the VCD body")
     return _to_train(path, times, values, xz_lines, last_time, timescale, xz)
 
 
@@ -223,6 +249,11 @@ def _to_train(path, times: list[int], values: list[int], xz_lines: dict[int, int
     keep = ticks > 0
     num, den = timescale.numerator, timescale.denominator
     durations_us = ticks[keep].astype(np.float64) * num / den
+    i = bad_duration(durations_us)
+    if i is not None:
+        raise CaptureError(f"{path}: pulse {i} (from #{int(t[keep][i])}) "
+                           f"{describe_duration(float(durations_us[i]))} at $timescale "
+                           f"{float(timescale):g} µs")
     return merge_runs(v[keep], durations_us)
 
 

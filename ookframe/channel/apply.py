@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from .._require import require, require_rng, require_train
 from ..pulses import PulseTrain
 from .impairments import (
     Edges,
@@ -47,6 +48,9 @@ def apply_channel(
     ``channel.min_width_us`` is widened to it (pushing the next edge); with quantisation
     a pulse shrunk to nothing vanishes and its neighbours merge.
     """
+    require_train(train, "train")
+    require(channel, ChannelSpec, "channel", "e.g. ookframe.get_preset('ideal')")
+    require_rng(rng, "rng")
     if len(train) == 0:
         return train
     c = channel

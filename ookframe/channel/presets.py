@@ -6,6 +6,7 @@ source; use a preset as a starting point and measure your own hardware.
 
 from __future__ import annotations
 
+from .._require import require
 from ..errors import ValueRangeError
 from .model import ChannelSpec
 
@@ -55,6 +56,7 @@ PRESETS: dict[str, ChannelSpec] = {
 
 def get_preset(name: str) -> ChannelSpec:
     """Return the preset ``ChannelSpec`` called ``name``."""
+    require(name, str, "name")
     try:
         return PRESETS[name]
     except KeyError:

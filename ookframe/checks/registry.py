@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 
+from .._require import require
 from ..errors import SpecError
 from ..spec.model import CheckSpec
 from .base import Check
@@ -29,6 +30,7 @@ CHECKS: dict[str, Callable[[CheckSpec], Check]] = {
 
 def make_check(spec: CheckSpec) -> Check:
     """Return the Check object for ``spec`` (SpecError for an unknown kind)."""
+    require(spec, CheckSpec, "spec")
     try:
         factory = CHECKS[spec.kind]
     except KeyError:

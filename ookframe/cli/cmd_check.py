@@ -6,7 +6,7 @@ import argparse
 
 from rich.table import Table
 
-from ..layout import frame_layout
+from ..layout import field_offsets, frame_layout
 from ..linecodes import get_line_code
 from . import common, exitcodes
 from .output import err, out, print_json
@@ -50,11 +50,15 @@ def run(args: argparse.Namespace) -> int:
     from ..analysis.report import design_report
 
     spec, defaults = common.load(args)
+    emit_refusal = _warn_emit(spec)
     lay = frame_layout(spec)
     info = layout_dict(spec, lay)
     report = design_report(spec, ber=args.ber)
     info["airtime_for_zero_values_us"] = info.pop("airtime_us")
+    offsets = field_offsets(spec)
+    info["field_offsets"] = [_offset_dict(o) for o in offsets]
     info.update(report)
+    info["emit_refusal"] = emit_refusal
     if args.json:
         print_json(info)
         return _verdict(args, info["warnings"])
@@ -71,6 +75,7 @@ def run(args: argparse.Namespace) -> int:
     t.add_row("frame", str(sum(r.bits for r in lay.rows)), str(round(lay.frame_us / spec.unit_us)),
               f"{lay.frame_us:.1f}", "")
     out.print(t)
+    out.print(_offsets_table(spec, offsets))
     note = " (for all-zero field values)" if lay.data_dependent else ""
     out.print(f"airtime of one transmission: {lay.airtime_us / 1000:.2f} ms = {lay.repeats} x "
               f"{lay.frame_us / 1000:.2f} ms + {lay.repeats - 1} gap(s) of {lay.gap_us / 1000:.2f} ms{note}; "
@@ -88,6 +93,19 @@ def _verdict(args: argparse.Namespace, warnings: list[str]) -> int:
     err.print(f"ookframe check: error: --strict: {len(warnings)} warning(s), first: "
               f"{warnings[0]}", markup=False)
     return exitcodes.BAD_SPEC
+
+
+def _warn_emit(spec) -> str | None:
+    """Warn on stderr when ``emit`` with its default timer would refuse ``spec``; return why."""
+    from ..codegen import TimerTarget, emit_problem
+
+    problem = emit_problem(spec)
+    if problem:
+        t = TimerTarget()
+        err.print(f"warning: 'ookframe emit' with its default timer ({t.clock_hz} Hz, "
+                  f"{t.timer_bits}-bit, prescalers {','.join(map(str, t.prescalers))}) will "
+                  f"refuse this spec: {problem}", markup=False)
+    return problem
 
 
 def _report_table(r: dict) -> Table:
@@ -112,4 +130,29 @@ def _report_table(r: dict) -> Table:
     t.add_row("P(undetected) per frame", f"{ck['undetected_per_frame_at_ber']:.3g}", f"at BER {ck['ber']:g}")
     if r["bandwidth_hz"] is not None:
         t.add_row("99 % bandwidth", f"{r['bandwidth_hz'] / 1000:.2f} kHz", "one-sided baseband, ideal keying")
+    return t
+
+
+def _offset_dict(o) -> dict:
+    return {"name": o.name, "section": o.section, "offset_bits": o.offset_bits,
+            "frame_offset_bits": o.frame_offset_bits, "width_bits": o.width_bits,
+            "max_offset_bits": o.max_offset_bits,
+            "max_frame_offset_bits": o.max_frame_offset_bits,
+            "max_width_bits": o.max_width_bits, "varies": o.varies}
+
+
+def _offsets_table(spec, offsets) -> Table:
+    """Each field's bit offset from the fields section and from the frame start, and width
+    (ranges after a bytes field; bits before line coding and stuffing)."""
+    def span(a: int, b: int) -> str:
+        return str(a) if a == b else f"{a}..{b}"
+
+    t = Table(title=f"field offsets (bits before line coding, {spec.bit_order.upper()} first)")
+    for col in ("field", "from fields start", "from frame start", "width bits", "unit"):
+        t.add_column(col, justify="left" if col in ("field", "unit") else "right")
+    for o in offsets:
+        t.add_row(o.name if o.section == "fields" else f"({o.section})",
+                  span(o.offset_bits, o.max_offset_bits),
+                  span(o.frame_offset_bits, o.max_frame_offset_bits),
+                  span(o.width_bits, o.max_width_bits), o.unit)
     return t

@@ -12,7 +12,7 @@ from ..analysis.crc_strength import (
     crc_strength,
     koopman_to_normal,
 )
-from ..errors import ValueRangeError
+from ..errors import ValueRangeError, excerpt
 from . import common
 from .output import out, print_json
 
@@ -45,9 +45,9 @@ def _int(text: str, name: str) -> int:
         return int(t, 0)
     except ValueError:
         if t.isdigit():  # "07": C would read octal, Python refuses
-            raise ValueRangeError(f"{name} {text!r} has a leading zero (C reads that as octal): "
+            raise ValueRangeError(f"{name} {excerpt(text)} has a leading zero (C reads that as octal): "
                                   "write it in hex (0x..) or in decimal without the zero") from None
-        raise ValueRangeError(f"{name} {text!r} is not an integer (decimal, 0x.. or 0b..)") from None
+        raise ValueRangeError(f"{name} {excerpt(text)} is not an integer (decimal, 0x.. or 0b..)") from None
 
 
 def run(args: argparse.Namespace) -> int:

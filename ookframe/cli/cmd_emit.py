@@ -9,6 +9,7 @@ from rich.table import Table
 
 from ..codegen import CRC_IMPLS, DEFAULT_PRESCALERS, TimerTarget, emit_header
 from ..codegen.timing import DEFAULT_CLOCK_HZ, DEFAULT_TIMER_BITS, DEFAULT_TOLERANCE
+from ..errors import excerpt
 from . import common
 from .output import check_writable, err, out, print_json, write_atomic
 
@@ -22,7 +23,7 @@ def _prescalers(text: str) -> tuple[int, ...]:
         return tuple(int(t, 0) for t in items)
     except ValueError:
         raise argparse.ArgumentTypeError(
-            f"{text!r} is not a comma-separated list of integers, e.g. 1,8,64,256,1024") from None
+            f"{excerpt(text)} is not a comma-separated list of integers, e.g. 1,8,64,256,1024") from None
 
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
@@ -77,5 +78,10 @@ def run(args: argparse.Namespace) -> int:
         out.print(f"pulse type {report['ticks_type']}, longest pulse {report['max_pulse_ticks']} "
                   f"ticks; frame up to {report['max_frame_bits']} bits"
                   + (f"; CRC code {report['crc_impl']}" if report["crc_impl"] else ""))
+        periods = report["gap_timer_periods"]
+        if len(periods) > 1:
+            out.print(f"repeat gap longer than one {report['timer_bits']}-bit timer period: sent "
+                      f"as {len(periods)} periods of {min(periods)}..{max(periods)} ticks "
+                      f"({sum(periods)} ticks in all)")
     err.print(f"wrote {path}")
     return 0

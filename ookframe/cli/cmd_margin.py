@@ -11,6 +11,7 @@ from rich.table import Table
 
 from ..stress.margin import MARGIN_IMPAIRMENTS, run_margin
 from . import common, exitcodes
+from .cluster import executor_from_args
 from .cmd_stress import add_channel_arguments, add_run_arguments, channel_from_args
 from .output import err, out, print_json, progress_enabled
 
@@ -50,10 +51,12 @@ def run(args: argparse.Namespace) -> int:
     spec, _ = common.load(args)
     names = args.impairments
     show = progress_enabled(args)
-    r = run_margin(spec, args.target_per, channel=channel_from_args(args), impairments=names,
-                   n_frames=args.frames, resolution=args.resolution, seed=args.seed,
-                   workers=args.workers, chunk_frames=args.chunk_frames,
-                   progress=(lambda n: err.print(f"searching {n} ...")) if show else None)
+    with executor_from_args(args) as ex:
+        r = run_margin(spec, args.target_per, channel=channel_from_args(args),
+                       impairments=names, n_frames=args.frames, resolution=args.resolution,
+                       seed=args.seed, executor=ex, workers=args.workers,
+                       chunk_frames=args.chunk_frames,
+                       progress=(lambda n: err.print(f"searching {n} ...")) if show else None)
     failed = any(row.status == "fails-at-zero" for row in r.rows)
     if args.json:
         print_json(r.to_dict())

@@ -18,6 +18,7 @@ from ..channel import PRESETS, ChannelSpec, get_preset
 from ..stress import run_stress
 from ..stress.runner import DEFAULT_CHUNK_FRAMES
 from . import common, exitcodes
+from .cluster import add_scheduler_arguments, executor_from_args, workers_text
 from .output import err, out, print_json, progress_enabled
 
 NAME = "stress"
@@ -71,10 +72,11 @@ def channel_from_args(args: argparse.Namespace) -> ChannelSpec:
 
 
 def add_run_arguments(p: argparse.ArgumentParser) -> None:
-    """Add --seed, --workers, --chunk-frames, --json and --progress."""
+    """Add --seed, --workers, --scheduler, --chunk-frames, --json and --progress."""
     p.add_argument("--seed", type=common.SEED, default=0, help="random seed (default 0)")
     p.add_argument("--workers", type=common.WORKERS, default=min(os.cpu_count() or 1, 8),
                    help="worker processes (default: CPU count); results do not depend on it")
+    add_scheduler_arguments(p)
     p.add_argument("--chunk-frames", type=common.int_in(1, 10_000_000), default=DEFAULT_CHUNK_FRAMES, metavar="N",
                    help=f"frames per work unit (default {DEFAULT_CHUNK_FRAMES}); part of the "
                    "seed: keep it to reproduce a run")
@@ -124,9 +126,9 @@ def run(args: argparse.Namespace) -> int:
     spec, _ = common.load(args)
     ch = channel_from_args(args)
     try:
-        with progress_bar(args, args.frames, "stress") as tick:
-            r = run_stress(spec, ch, args.frames, seed=args.seed, workers=args.workers,
-                           chunk_frames=args.chunk_frames, progress=tick)
+        with executor_from_args(args) as ex, progress_bar(args, args.frames, "stress") as tick:
+            r = run_stress(spec, ch, args.frames, seed=args.seed, executor=ex,
+                           workers=args.workers, chunk_frames=args.chunk_frames, progress=tick)
     except StressInterrupted as stop:  # Ctrl-C: report what was counted, exit 130
         _report(args, spec, ch, stop.partial, interrupted=True)
         err.print(f"ookframe stress: interrupted after {stop.partial.frames} of {args.frames} "
@@ -155,5 +157,5 @@ def _report(args: argparse.Namespace, spec, ch: ChannelSpec, r, *, interrupted: 
     t.add_row("failed check / wrong", str(r.bad_check))
     t.add_row("false accepts (check ok, fields wrong)", str(r.false_accepts))
     t.add_row("frames outside any transmission", f"{r.stray_frames} ({r.stray_accepts} passing)")
-    t.add_row("throughput", f"{r.frames_per_s:,.0f} frames/s ({args.workers} workers)")
+    t.add_row("throughput", f"{r.frames_per_s:,.0f} frames/s ({workers_text(args)})")
     out.print(t)

@@ -10,6 +10,7 @@ from ..errors import ValueRangeError
 from ..spec.load import load_spec
 from ..stress.sweep import parse_vary, plot_sweep, run_sweep
 from . import common
+from .cluster import executor_from_args
 from .cmd_stress import add_channel_arguments, add_run_arguments, channel_from_args, progress_bar
 from .output import check_writable, err, out, print_json
 
@@ -44,8 +45,8 @@ def run(args: argparse.Namespace) -> int:
             raise ValueRangeError(f"--plot {args.plot}: folder does not exist")
     ch = channel_from_args(args)
     total = args.frames * len(values) * len(specs)
-    with progress_bar(args, total, "sweep") as tick:
-        res = run_sweep(specs, ch, name, values, args.frames, seed=args.seed,
+    with executor_from_args(args) as ex, progress_bar(args, total, "sweep") as tick:
+        res = run_sweep(specs, ch, name, values, args.frames, seed=args.seed, executor=ex,
                         workers=args.workers, chunk_frames=args.chunk_frames, progress=tick)
     if args.plot:
         plot_sweep(res, args.plot)

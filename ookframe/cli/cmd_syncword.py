@@ -13,7 +13,7 @@ from ..analysis.syncword import (
     search_sync_words,
     sync_quality,
 )
-from ..errors import ValueRangeError
+from ..errors import ValueRangeError, excerpt
 from . import common
 from .output import out, print_json
 
@@ -53,12 +53,12 @@ def parse_pattern(text: str) -> list[int]:
         try:
             value = int(digits, 16)
         except ValueError:
-            raise ValueRangeError(f"--preamble {text!r}: bad hex digits") from None
+            raise ValueRangeError(f"--preamble {excerpt(text)}: bad hex digits") from None
         n = 4 * len(digits)
         return [(value >> (n - 1 - i)) & 1 for i in range(n)]
     if set(t) <= {"0", "1"}:
         return [int(c) for c in t]
-    raise ValueRangeError(f"--preamble {text!r}: give 0/1 digits, 0x-hex or 'none'")
+    raise ValueRangeError(f"--preamble {excerpt(text)}: give 0/1 digits, 0x-hex or 'none'")
 
 
 def bit_groups(word: int, n_bits: int, group: int = 8) -> str:
@@ -73,7 +73,7 @@ def run(args: argparse.Namespace) -> int:
         try:
             word = int(args.word, 16)
         except ValueError:
-            raise ValueRangeError(f"--word {args.word!r} is not hex") from None
+            raise ValueRangeError(f"--word {excerpt(args.word)} is not hex") from None
         found = [sync_quality(word, args.bits, pre, max_errors=args.max_errors,
                               bit_rate_bps=args.bit_rate_bps)]
     else:

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import argparse
 
-from ..errors import ValueRangeError
+from ..errors import ValueRangeError, excerpt
 from ..frame import values_from_payload
 from ..spec.load import load_spec_and_defaults
 from ..spec.model import FrameSpec
@@ -57,12 +57,12 @@ def values_from_args(spec: FrameSpec, defaults: dict[str, object],
         try:
             payload = bytes.fromhex(args.payload.replace(" ", ""))
         except ValueError:
-            raise ValueRangeError(f"--payload {args.payload!r} is not hex") from None
+            raise ValueRangeError(f"--payload {excerpt(args.payload)} is not hex") from None
         return values_from_payload(spec, payload)
     values = dict(defaults)
     for item in args.sets:
         if "=" not in item:
-            raise ValueRangeError(f"--set {item!r}: expected FIELD=VALUE")
+            raise ValueRangeError(f"--set {excerpt(item)}: expected FIELD=VALUE")
         k, v = item.split("=", 1)
         values[k.strip()] = parse_value(v)
     _warn_off_grid(spec, values)
@@ -97,9 +97,9 @@ def int_in(lo: int, hi: int):
         try:
             v = int(text, 0)
         except ValueError:
-            raise argparse.ArgumentTypeError(f"{text!r} is not an integer") from None
+            raise argparse.ArgumentTypeError(f"{excerpt(text)} is not an integer") from None
         if not lo <= v <= hi:
-            raise argparse.ArgumentTypeError(f"{v} is out of range; allowed {lo}..{hi}")
+            raise argparse.ArgumentTypeError(f"{excerpt(v)} is out of range; allowed {lo}..{hi}")
         return v
 
     return parse
@@ -113,12 +113,12 @@ def float_in(lo: float, hi: float, *, lo_open: bool = False, hi_open: bool = Fal
         try:
             v = float(text)
         except ValueError:
-            raise argparse.ArgumentTypeError(f"{text!r} is not a number") from None
+            raise argparse.ArgumentTypeError(f"{excerpt(text)} is not a number") from None
         bad_lo = v < lo or (lo_open and v == lo)
         bad_hi = v > hi or (hi_open and v == hi)
         if not math.isfinite(v) or bad_lo or bad_hi:
             raise argparse.ArgumentTypeError(
-                f"{text} is out of range; allowed {'(' if lo_open else '['}{lo:g}, {hi:g}"
+                f"{excerpt(text)} is out of range; allowed {'(' if lo_open else '['}{lo:g}, {hi:g}"
                 f"{')' if hi_open else ']'}")
         return v
 

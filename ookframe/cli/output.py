@@ -69,7 +69,7 @@ def write_atomic(path: str | Path, data: str | bytes, force: bool = False, *,
     """
     p = check_writable(path, force)
     if make_parents:
-        p.parent.mkdir(parents=True, exist_ok=True)
+        _make_folder(p.parent)
     elif not p.parent.is_dir():
         raise OutputExists(f"folder {p.parent} does not exist")
     mode = p.stat().st_mode & 0o7777 if p.exists() else 0o666 & ~_umask()
@@ -83,6 +83,17 @@ def write_atomic(path: str | Path, data: str | bytes, force: bool = False, *,
         Path(tmp).unlink(missing_ok=True)
         raise
     return p
+
+
+def _make_folder(folder: Path) -> None:
+    """Create ``folder`` and its parents; OutputExists naming the part that is a file."""
+    for part in (folder, *folder.parents):
+        if part.exists():
+            if not part.is_dir():
+                raise OutputExists(f"{part} is a file, not a folder; give a folder to write "
+                                   "into (it is created if missing)")
+            break
+    folder.mkdir(parents=True, exist_ok=True)
 
 
 def _umask() -> int:

@@ -10,6 +10,7 @@ import os
 from dataclasses import dataclass
 from pathlib import Path
 
+from .._require import require, require_spec
 from ..errors import CodegenError
 from ..spec.model import FrameSpec
 from .model import CModel, build_model
@@ -51,13 +52,28 @@ class Emitted:
             "crc_impl": m.target.crc_impl if m.spec.check.kind == "crc" else None,
             "durations": t.table(),
             "max_frame_bits": m.max_frame_bits,
+            "gap_timer_periods": list(t.gap_piece_ticks()),
         }
 
 
 def emit_header(spec: FrameSpec, target: TimerTarget | None = None) -> Emitted:
     """Return the generated header for ``spec`` (CodegenError when it cannot be made)."""
+    require_spec(spec, "spec")
+    if target is not None:
+        require(target, TimerTarget, "target")
     model = build_model(spec, target)
     return Emitted(f"{spec.name}.h", render_model(model), model)
+
+
+def emit_problem(spec: FrameSpec, target: TimerTarget | None = None) -> str | None:
+    """Return why :func:`emit_header` would refuse ``spec`` for ``target`` (default timer
+    when None), or None when it would not: the very checks ``emit`` makes, so ``check``
+    can report them."""
+    try:
+        build_model(spec, target)
+    except CodegenError as exc:
+        return str(exc)
+    return None
 
 
 def write_header(emitted: Emitted, out_dir: str | os.PathLike[str], *, force: bool = False
@@ -95,6 +111,7 @@ __all__ = [
     "Timing",
     "build_model",
     "emit_header",
+    "emit_problem",
     "schedule_from_bits",
     "tx_schedule",
     "write_header",

@@ -18,20 +18,12 @@ from ..checks import Crc
 from ..errors import CodegenError
 from ..linecodes import get_line_code
 from ..spec.model import FrameSpec
+from ..spec.names import name_problem, same_name
 from .linecode_table import CodeTable, code_table
 from .timing import TimerTarget, Timing, quantise
 
 #: bump when the generated API changes incompatibly (checked by <PREFIX>_REQUIRE_API_VERSION)
 API_VERSION = 1
-#: words a C99 compiler (or its standard headers) reserves; names must avoid them
-C_RESERVED = frozenset(
-    "auto break case char const continue default do double else enum extern float for goto "
-    "if inline int long register restrict return short signed sizeof static struct switch "
-    "typedef union unsigned void volatile while _Bool _Complex _Imaginary bool true false "
-    "NULL main errno assert offsetof size_t uint8_t uint16_t uint32_t uint64_t int8_t int16_t "
-    "int32_t int64_t".split()
-)
-_C_IDENT = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
 #: runs merged into one tx_next pulse for codes whose words can chain without limit
 CHAIN_CAP = 8
 
@@ -71,6 +63,56 @@ class CField:
     unit: str
     description: str
     role: str
+    fixed: FixedPoint | None = None
+
+
+#: most decimal places of a field's scale and offset that get fixed-point helpers
+FIXED_MAX_DECIMALS = 9
+#: largest magnitude of a fixed-point value or intermediate the helpers promise (2^62)
+FIXED_LIMIT = 1 << 62
+
+
+@dataclass(frozen=True)
+class FixedPoint:
+    """Integer-only conversion of a scaled field between raw and physical values.
+
+    Physical values are integers in units of 1/``div`` of the field's unit (``div`` the
+    smallest power of ten that makes scale and offset whole in that unit):
+    physical_fixed = raw * ``scale_fixed`` + ``offset_fixed`` (exact), and
+    raw = round((physical_fixed - ``offset_fixed``) / ``scale_fixed``), nearest with ties
+    to even as ``ookframe.bits.to_raw``. ``scale_num`` / ``scale_den``: the scale as a
+    reduced fraction.
+    """
+
+    div: int
+    decimals: int
+    scale_fixed: int
+    offset_fixed: int
+    scale_num: int
+    scale_den: int
+    example_raw: int
+    example_fixed: int
+
+
+def fixed_point(scale: float, offset: float, raw_min: int, raw_max: int) -> FixedPoint | None:
+    """Return the fixed-point helper values of a field, or None when scale and offset need
+    more than FIXED_MAX_DECIMALS decimal places or the values would pass FIXED_LIMIT."""
+    from decimal import Decimal
+    from fractions import Fraction
+
+    s, o = Decimal(repr(float(scale))), Decimal(repr(float(offset)))
+    places = max(0, -int(s.as_tuple().exponent), -int(o.as_tuple().exponent))
+    if places > FIXED_MAX_DECIMALS or s == 0:
+        return None
+    div = 10 ** places
+    sf, of = int(s * div), int(o * div)
+    if max(abs(raw_min), abs(raw_max)) * abs(sf) + abs(of) >= FIXED_LIMIT:
+        return None
+    frac = Fraction(s)
+    example = raw_max // 2 if raw_max > 1 else raw_max
+    return FixedPoint(div=div, decimals=places, scale_fixed=sf, offset_fixed=of,
+                      scale_num=frac.numerator, scale_den=frac.denominator,
+                      example_raw=example, example_fixed=example * sf + of)
 
 
 @dataclass(frozen=True)
@@ -120,6 +162,7 @@ class CModel:
     ticks_max: int
     duration_consts: tuple[dict[str, object], ...]
     needs: dict[str, bool]
+    gap: dict[str, object] | None = None
 
 
 def _uint_type(bits: int) -> str:
@@ -200,24 +243,23 @@ def spec_hash(spec: FrameSpec) -> str:
 
 
 def check_names(spec: FrameSpec) -> None:
-    """Raise CodegenError unless every generated name is a safe, unique C identifier."""
-    name = spec.name
-    if not _C_IDENT.match(name):
-        raise CodegenError(f"frame name {name!r} is not usable as a C prefix: letters, digits "
-                           "and '_', starting with a letter")
-    if name in C_RESERVED or name.lower() in C_RESERVED:
-        raise CodegenError(f"frame name {name!r} collides with a C keyword or standard name; "
-                           "choose another frame name")
-    seen: dict[str, str] = {}
+    """Raise CodegenError unless every generated name is a safe, unique C identifier.
+
+    The rule is ``ookframe.spec.names``, the one the spec loader applies, so a loaded spec
+    never fails here; a FrameSpec built in Python may.
+    """
+    problem = name_problem(spec.name, "frame name (C prefix)", fold_case=True)
+    if problem:
+        raise CodegenError(problem)
     for f in spec.fields:
-        if not _C_IDENT.match(f.name) or f.name in C_RESERVED:
-            raise CodegenError(f"field name {f.name!r} is not usable as a C struct member "
-                               "(C keyword, standard name or leading underscore)")
-        up = f.name.upper()
-        if up in seen:
-            raise CodegenError(f"fields {seen[up]!r} and {f.name!r} give the same C macro name "
-                               f"{name.upper()}_FIELD_{up}_*; rename one")
-        seen[up] = f.name
+        problem = name_problem(f.name, "field name (C struct member)")
+        if problem:
+            raise CodegenError(problem)
+    pair = same_name([f.name for f in spec.fields])
+    if pair:
+        a, b = (spec.fields[i].name for i in pair)
+        raise CodegenError(f"fields {a!r} and {b!r} give the same C macro name "
+                           f"{spec.name.upper()}_FIELD_{b.upper()}_*; rename one")
 
 
 def _hex_bytes(bits: tuple[int, ...]) -> str:
@@ -257,7 +299,9 @@ def _fields(spec: FrameSpec) -> tuple[CField, ...]:
                          else uint_literal(f.raw_max, tbits)),
             mask_literal=uint_literal((1 << f.width_bits) - 1, tbits),
             offset_bits=pos, bit_order=spec.bit_order, scale=f.scale, offset=f.offset,
-            unit=f.unit, description=f.description, role=f.role))
+            unit=f.unit, description=f.description, role=f.role,
+            fixed=(fixed_point(f.scale, f.offset, f.raw_min, f.raw_max)
+                   if f.is_scaled and f.role == "value" else None)))
         if pos is not None:
             pos += f.width_bits
     return tuple(out)
@@ -390,6 +434,8 @@ def build_model(spec: FrameSpec, target: TimerTarget | None = None) -> CModel:
         "differential": code.differential,
         "blocks": code.bits_per_block > 1,
         "reflect": bool(check.get("reflect_out")),
+        "fixed": any(f.fixed is not None for f in fields),
+        "gap_split": has_gap and timing.gap_pieces > 1,
     }
     units_per_bit = lc.units_per_bit
     return CModel(
@@ -416,7 +462,16 @@ def build_model(spec: FrameSpec, target: TimerTarget | None = None) -> CModel:
             {"name": f"RUN_{d.units}U" if d.units else "GAP", "us": round(d.nominal_us),
              "nominal": f"{d.nominal_us:.3f}", "ticks": d.ticks, "actual": f"{d.quantised_us:.3f}"}
             for d in timing.durations),
-        needs=needs)
+        needs=needs, gap=_gap_model(timing) if has_gap else None)
+
+
+def _gap_model(timing: Timing) -> dict[str, object]:
+    """Values of the repeat gap as sent: one timer period, or ``pieces`` of them (the
+    ``short`` ones first, then ``long_count`` of ``short + 1`` ticks)."""
+    pieces = timing.gap_piece_ticks()
+    short = pieces[0]
+    return {"ticks": timing.gap_ticks, "pieces": len(pieces), "short": short,
+            "long_count": sum(1 for t in pieces if t != short)}
 
 
 def _layout_rows(spec: FrameSpec, fields: tuple[CField, ...], head_bits: int

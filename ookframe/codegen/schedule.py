@@ -54,10 +54,12 @@ def _elements(model: CModel, bits: np.ndarray) -> tuple[list[int], list[int], li
     ticks: list[int] = []
     nominal: list[float] = []
     for rep in range(spec.repeats):
-        if rep:
-            levels.append(0)
-            ticks.append(timing.gap_ticks)
-            nominal.append(spec.gap_us)
+        if rep:  # the gap, split over several timer periods when one cannot hold it
+            pieces = timing.gap_piece_ticks()
+            for t in pieces:
+                levels.append(0)
+                ticks.append(t)
+                nominal.append(spec.gap_us * t / timing.gap_ticks)
         state = 0
         words = [code.words[int(v)] for v in values]
         if code.trailer is not None:

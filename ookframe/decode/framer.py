@@ -233,9 +233,35 @@ def decode(spec: FrameSpec, train: PulseTrain, *,
     if len(clean) == 0:
         return []
     hm = head_model(spec)
+    frames = _decode_clean(spec, hm, clean, bulk, grid=True)
+    if any(not f.crc_ok for f in frames) and spec.check.kind != "none":
+        frames = _second_opinion(spec, frames, _decode_clean(spec, hm, clean, bulk, grid=False))
+    return [f for f in frames if f.crc_ok or include_bad]
+
+
+def _second_opinion(spec: FrameSpec, frames: list[DecodedFrame], other: list[DecodedFrame]
+                    ) -> list[DecodedFrame]:
+    """Return ``frames`` with every frame whose check failed replaced by a frame of
+    ``other`` (decoded duration by duration) at the same start whose check passes."""
+    good = [f for f in other if f.crc_ok]
+    starts = np.array([f.start_us for f in good])
+    out = []
+    for f in frames:
+        if not f.crc_ok and starts.size:
+            k = int(np.abs(starts - f.start_us).argmin())
+            if abs(starts[k] - f.start_us) < 2 * spec.unit_us:
+                f = good[k]
+        out.append(f)
+    return out
+
+
+def _decode_clean(spec: FrameSpec, hm: HeadModel, clean: PulseTrain, bulk: bool, *,
+                  grid: bool) -> list[DecodedFrame]:
+    """Return the frames of the glitch-filtered train ``clean`` (see :func:`decode`),
+    those whose check fails included; run lengths by ``grid`` (see classify_windows)."""
     levels, dur = clean.levels, clean.durations_us
     first, unit0 = find_candidates(levels, dur, hm.sig_levels, hm.sig_units, spec.unit_us,
-                                   dec.tolerance, MAX_CLOCK_ERROR)
+                                   hm.runs, MAX_CLOCK_ERROR)
     if first.size == 0:
         return []
     t0 = clean.edges_us()
@@ -244,7 +270,7 @@ def decode(spec: FrameSpec, train: PulseTrain, *,
     reach_us = t0[first] + (hm.max_frame_chips - prefix_chips) * unit0 * (1 + MAX_CLOCK_ERROR)
     stop = np.minimum(stop, np.searchsorted(t0, reach_us, side="right") + 1)
     stop = np.maximum(np.minimum(stop, dur.size), first + 1)
-    ws = classify_windows(spec, hm, dur, first, stop, unit0)
+    ws = classify_windows(spec, hm, dur, first, stop, unit0, levels, grid=grid)
     runs = lay_out(hm, ws, levels)
     cands = hm.line_code.decode(runs.levels, runs.units)
     if bulk and bulk_body_bits(spec, hm) is not None:
@@ -269,8 +295,7 @@ def decode(spec: FrameSpec, train: PulseTrain, *,
         if not _plausible(spec, frame):
             continue  # noise that happened to parse: later candidates may lie inside it
         done = last
-        if frame.crc_ok or include_bad:
-            frames.append(frame)
+        frames.append(frame)
     return frames
 
 

@@ -13,6 +13,7 @@ from ..frame import max_body_bits
 from ..linecodes import LineCode, get_line_code
 from ..pulses import chips_to_runs
 from ..spec.model import FrameSpec
+from .classify import RunTable, run_table
 from .segment import break_threshold_us
 
 #: largest transmitter clock error searched for (fraction); twice the +-5 % of cheap RC
@@ -49,6 +50,7 @@ class HeadModel:
     cap_units: int
     break_us: float
     phased: bool  # the code's decoder gives one candidate per chip phase (fixed blocks)
+    runs: RunTable  # allowed run lengths per level (head runs included), decision thresholds
 
     @property
     def sig_levels(self) -> np.ndarray:
@@ -158,6 +160,13 @@ def build_head(spec: FrameSpec) -> HeadModel:
         # the head is not stuffed, and stuffing starts afresh after the sync: a body run
         # can extend the head's last run
         max_run = max(max_run + int(units[-1]), int(units.max()))
+    allowed = []
+    for lv in (0, 1):
+        own = lc.run_lengths(lv)
+        if own is None or lc.max_stuffed_bits(1 << 16):
+            allowed.append(tuple(range(1, int(max_run) + 1)))
+        else:
+            allowed.append(tuple(sorted(set(own) | set(units[levels == lv].tolist()))))
     return HeadModel(
         line_code=lc,
         head_bits=head,
@@ -175,6 +184,7 @@ def build_head(spec: FrameSpec) -> HeadModel:
         cap_units=int(max_run),
         break_us=break_threshold_us(max_run, spec.unit_us, MAX_CLOCK_ERROR),
         phased=cpb is not None and len(lc.decode(levels, units)) > 1,
+        runs=run_table(allowed[0], allowed[1]),
     )
 
 

@@ -9,7 +9,7 @@ import numpy as np
 
 from ..linecodes import DecodedBits
 from ..spec.model import FrameSpec
-from .classify import classify, head_unit, track_unit
+from .classify import grid_runs, head_unit, nearest_runs, phase_half_window, track_unit
 from .head import HeadModel
 
 
@@ -26,11 +26,16 @@ class Windows:
     unit_us: np.ndarray  # tracked unit each pulse was classified with
     capped: np.ndarray  # True where the pulse was longer than any run of a frame
     durations_us: np.ndarray  # the pulses' durations
+    ratio: np.ndarray  # durations / tracked unit
+    levels: np.ndarray  # the pulses' levels
 
 
 def classify_windows(spec: FrameSpec, hm: HeadModel, dur: np.ndarray, first: np.ndarray,
-                     stop: np.ndarray, unit0: np.ndarray) -> Windows:
-    """Return the windows [first, stop) classified: head fit, drift tracking, units.
+                     stop: np.ndarray, unit0: np.ndarray, levels: np.ndarray, *,
+                     grid: bool = True) -> Windows:
+    """Return the windows [first, stop) classified: head fit, then run lengths from the
+    edges' places on the chip grid (``grid``, :func:`classify.grid_runs`) or from each
+    duration with the drift-tracking loop (nearest allowed length).
 
     A window ends early at its first pulse longer than any run of a frame (included: a
     frame's last space runs into it), so only a window's last pulse can be capped.
@@ -41,17 +46,28 @@ def classify_windows(spec: FrameSpec, hm: HeadModel, dur: np.ndarray, first: np.
     window = np.repeat(np.arange(first.size), length)
     idx = ragged_index(first, length)
     d = dur[idx]
-    start_unit = head_unit(d, length, unit0, hm.body_chip - int(hm.prefix_units.sum()))
-    unit = track_unit(d, length, start_unit, gain=dec.loop_gain, tolerance=dec.tolerance,
-                      max_units=hm.cap_units + 1)
-    n, dev = classify(d, unit)
-    capped = n > hm.cap_units
+    lv = levels[idx]
+    table = hm.runs
+    start_unit = head_unit(d, length, unit0, hm.body_chip - int(hm.prefix_units.sum()),
+                           levels=lv, table=table)
+    if grid:
+        unit = np.repeat(start_unit, length)
+        ratio = d / unit
+        capped = ratio > table.cap_ratio
+        g = grid_runs(d, lv, length, start_unit, table, capped=capped,
+                      half_window=phase_half_window(dec.loop_gain))
+        n, dev = np.where(capped, table.top, g.units), g.deviation
+    else:  # duration by duration, with the tracking loop (follows a fast-drifting clock)
+        unit = track_unit(d, length, start_unit, gain=dec.loop_gain, tolerance=dec.tolerance,
+                          max_units=hm.cap_units + 1, levels=lv, table=table)
+        ratio = d / unit
+        capped = ratio > table.cap_ratio
+        n, dev = nearest_runs(ratio, lv, table)
     pos = idx - first[window]
     first_cap = np.minimum.reduceat(np.where(capped, pos, length[window]), offset)
     length = np.minimum(length, first_cap + 1)
-    dev = np.where(capped, d / unit - hm.cap_units, dev)
-    return Windows(first, offset, length, start_unit, np.minimum(n, hm.cap_units), dev,
-                   unit, capped, d)
+    dev = np.where(capped, ratio - table.top, dev)
+    return Windows(first, offset, length, start_unit, n, dev, unit, capped, d, ratio, lv)
 
 
 @dataclass(frozen=True)

@@ -6,7 +6,8 @@ Adding a code: write a module with a ``LineCode`` subclass (``name``, ``PARAMS``
 
 from __future__ import annotations
 
-from ..errors import SpecError
+from .._require import require
+from ..errors import SpecError, excerpt
 from ..spec.model import LineCodeSpec
 from ._params import suggestion
 from .base import DecodedBits, LineCode
@@ -28,11 +29,12 @@ LINE_CODES: dict[str, type[LineCode]] = {
 
 def get_line_code(spec: LineCodeSpec) -> LineCode:
     """Return the line code named by ``spec``, its parameters validated (SpecError if not)."""
+    require(spec, LineCodeSpec, "spec", "e.g. frame_spec.line_code")
     cls = LINE_CODES.get(spec.name)
     if cls is None:
         names = list(LINE_CODES)
-        raise SpecError("line_code.name", f"unknown line code {spec.name!r}; allowed: "
-                        f"{', '.join(names)}{suggestion(str(spec.name), names)}")
+        raise SpecError("line_code.name", f"unknown line code {excerpt(spec.name)}; allowed: "
+                        f"{', '.join(names)}{suggestion(str(spec.name)[:100], names)}")
     return cls(spec)
 
 

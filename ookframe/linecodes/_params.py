@@ -5,7 +5,7 @@ from __future__ import annotations
 import difflib
 from collections.abc import Mapping
 
-from ..errors import SpecError
+from ..errors import QUOTE_CHARS, SpecError, excerpt
 from ..spec.model import LineCodeSpec
 
 
@@ -26,26 +26,27 @@ class ParamReader:
         names = list(defaults)
         for key, _ in spec.params:
             if key not in defaults:
+                key = key if len(key) <= QUOTE_CHARS else excerpt(key)
                 shown = ", ".join(names) if names else "none"
                 raise SpecError(
                     f"line_code.{key}",
-                    f"unknown parameter for {spec.name}; allowed: {shown}{suggestion(key, names)}",
+                    f"unknown parameter for {spec.name}; allowed: {shown}{suggestion(key[:100], names)}",
                 )
 
     def integer(self, key: str, lo: int, hi: int) -> int:
         """Return the integer parameter ``key`` (its default when absent), checked in lo..hi."""
         value = self._values[key]
         if isinstance(value, bool) or not isinstance(value, int) or not lo <= value <= hi:
-            raise SpecError(f"line_code.{key}", f"must be an integer in {lo}..{hi}, got {value!r}")
+            raise SpecError(f"line_code.{key}", f"must be an integer in {lo}..{hi}, got {excerpt(value)}")
         return value
 
     def choice(self, key: str, allowed: tuple[str, ...]) -> str:
         """Return the string parameter ``key`` (its default when absent), one of ``allowed``."""
         value = self._values[key]
         if value not in allowed:
-            hint = suggestion(value, allowed) if isinstance(value, str) else ""
+            hint = suggestion(value[:100], allowed) if isinstance(value, str) else ""
             raise SpecError(
                 f"line_code.{key}",
-                f"must be one of {', '.join(map(repr, allowed))}, got {value!r}{hint}",
+                f"must be one of {', '.join(map(repr, allowed))}, got {excerpt(value)}{hint}",
             )
         return str(value)

@@ -7,15 +7,15 @@ and what is allowed; unknown keys get a close-match suggestion.
 from __future__ import annotations
 
 import difflib
-import keyword
 import math
-import re
+import sys
 import tomllib
 from collections.abc import Mapping
 from pathlib import Path
 from typing import Any
 
-from ..errors import SpecError
+from .._require import require, require_path
+from ..errors import QUOTE_CHARS, SpecError, excerpt
 from .model import (
     CheckSpec,
     CrcParams,
@@ -27,19 +27,18 @@ from .model import (
     SyncSpec,
     WhiteningSpec,
 )
-
-C_KEYWORDS = frozenset(
-    "auto break case char const continue default do double else enum extern float for goto "
-    "if inline int long register restrict return short signed sizeof static struct switch "
-    "typedef union unsigned void volatile while _Bool _Complex _Imaginary bool true false "
-    "NULL".split()
-)
-_IDENT = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*$")
+from .names import name_problem, same_name
 
 #: timing limits of the links this tool targets (bit rates ~0.3-10 kbit/s are usual)
 MIN_UNIT_US = 1.0
 MAX_UNIT_US = 1_000_000.0
 MAX_REPEATS = 255
+#: size limits (documented in README, "Spec reference"): frames for cheap OOK links are
+#: tens of bytes; these keep every analysis fast and bounded in memory
+MAX_FIELDS = 128
+MAX_PREAMBLE_COUNT = 512
+MAX_FRAME_BITS = 4096  # preamble + sync + fields (longest) + check, before the line code
+MAX_TRANSMISSION_BITS = 16384  # frame bits x repeats
 
 TOP_KEYS = ("frame", "line_code", "preamble", "sync", "fields", "check", "whitening", "decoder")
 FRAME_KEYS = (
@@ -58,7 +57,7 @@ CHECK_KINDS = ("none", "crc", "sum8", "xor8", "fletcher16")
 
 
 def _suggest(key: str, allowed: tuple[str, ...] | list[str]) -> str:
-    close = difflib.get_close_matches(key, list(allowed), n=1)
+    close = difflib.get_close_matches(key[:100], list(allowed), n=1)
     hint = f" (did you mean '{close[0]}'?)" if close else ""
     return f"unknown key{hint}; allowed: {', '.join(allowed)}"
 
@@ -72,7 +71,8 @@ def _table(d: object, path: str) -> Mapping[str, Any]:
 def _no_unknown(d: Mapping[str, Any], allowed: tuple[str, ...], path: str) -> None:
     for k in d:
         if k not in allowed:
-            raise SpecError(f"{path}.{k}" if path else k, _suggest(k, allowed))
+            key = k if len(k) <= QUOTE_CHARS else excerpt(k)
+            raise SpecError(f"{path}.{key}" if path else key, _suggest(k, allowed))
 
 
 def _default(path: str, default: Any) -> Any:
@@ -88,15 +88,12 @@ def _int(d: Mapping[str, Any], key: str, path: str, default: int | None = None, 
     if key not in d:
         return _default(p, default)
     v = d[key]
-    if isinstance(v, str):
-        try:
-            v = int(v.replace("_", ""), 0)
-        except ValueError:
-            raise SpecError(p, f"must be an integer (decimal, 0x.. or 0b..), got '{d[key]}'") from None
     if isinstance(v, bool) or not isinstance(v, int):
-        raise SpecError(p, f"must be an integer, got {type(v).__name__}")
+        raise SpecError(p, f"must be an integer, got {type(v).__name__} {excerpt(v)} "
+                        "(write e.g. 3, 0x2D or 0b101, without quotes)")
     if lo is not None and v < lo or hi is not None and v > hi:
-        raise SpecError(p, f"{v} is out of range; allowed {lo}..{hi}")
+        allowed = f"{lo}..{hi}" if hi is not None else f">= {lo}"
+        raise SpecError(p, f"{excerpt(v)} is out of range; allowed {allowed}")
     return v
 
 
@@ -107,8 +104,11 @@ def _float(d: Mapping[str, Any], key: str, path: str, default: float | None = No
         return _default(p, default)
     v = d[key]
     if isinstance(v, bool) or not isinstance(v, int | float):
-        raise SpecError(p, f"must be a number, got {type(v).__name__}")
-    v = float(v)
+        raise SpecError(p, f"must be a number, got {type(v).__name__} {excerpt(v)}")
+    try:
+        v = float(v)
+    except OverflowError:
+        raise SpecError(p, f"{excerpt(v)} is too large") from None
     if not math.isfinite(v):
         raise SpecError(p, "must be finite")
     if lo is not None and (v < lo or (lo_open and v == lo)):
@@ -122,7 +122,7 @@ def _float(d: Mapping[str, Any], key: str, path: str, default: float | None = No
 def _bool(d: Mapping[str, Any], key: str, path: str, default: bool) -> bool:
     v = d.get(key, default)
     if not isinstance(v, bool):
-        raise SpecError(f"{path}.{key}", f"must be true or false, got {v!r}")
+        raise SpecError(f"{path}.{key}", f"must be true or false, got {excerpt(v)}")
     return v
 
 
@@ -135,26 +135,24 @@ def _choice(d: Mapping[str, Any], key: str, path: str, allowed: tuple[str, ...],
         return default
     v = d[key]
     if not isinstance(v, str) or v.lower() not in allowed:
-        close = difflib.get_close_matches(str(v).lower(), list(allowed), n=1)
+        close = difflib.get_close_matches(str(v)[:100].lower(), list(allowed), n=1)
         hint = f" (did you mean '{close[0]}'?)" if close else ""
-        raise SpecError(p, f"{v!r} is not allowed{hint}; allowed: {', '.join(allowed)}")
+        raise SpecError(p, f"{excerpt(v)} is not allowed{hint}; allowed: {', '.join(allowed)}")
     return v.lower()
 
 
 def _str(d: Mapping[str, Any], key: str, path: str, default: str = "") -> str:
     v = d.get(key, default)
     if not isinstance(v, str):
-        raise SpecError(f"{path}.{key}", f"must be a string, got {type(v).__name__}")
+        raise SpecError(f"{path}.{key}", f"must be a string, got {type(v).__name__} {excerpt(v)}")
     return v
 
 
-def _identifier(name: object, path: str, what: str) -> str:
-    if not isinstance(name, str) or not _IDENT.match(name):
-        raise SpecError(path, f"{name!r} is not a valid {what}: letters, digits and '_', "
-                        "not starting with a digit")
-    if name in C_KEYWORDS or keyword.iskeyword(name):
-        raise SpecError(path, f"{name!r} is a C or Python keyword; choose another {what}")
-    return name
+def _identifier(name: object, path: str, what: str, *, fold_case: bool = False) -> str:
+    problem = name_problem(name, what, fold_case=fold_case)
+    if problem:
+        raise SpecError(path, problem)
+    return name  # type: ignore[return-value] - name_problem checked it is a str
 
 
 def _sections(d: Mapping[str, Any], path: str, allowed: tuple[str, ...],
@@ -167,9 +165,10 @@ def _sections(d: Mapping[str, Any], path: str, allowed: tuple[str, ...],
     out = []
     for i, s in enumerate(v):
         if s not in allowed:
-            raise SpecError(f"{path}.covers[{i}]", f"{s!r} is not allowed; allowed: {', '.join(allowed)}")
+            raise SpecError(f"{path}.covers[{i}]", f"{excerpt(s)} is not allowed; allowed: "
+                            f"{', '.join(allowed)}")
         if s in out:
-            raise SpecError(f"{path}.covers[{i}]", f"{s!r} is listed twice")
+            raise SpecError(f"{path}.covers[{i}]", f"{excerpt(s)} is listed twice")
         out.append(s)
     return tuple(sorted(out, key=allowed.index))
 
@@ -224,9 +223,9 @@ def _crc_params(d: Mapping[str, Any], path: str) -> CrcParams:
 
             if isinstance(e, SpecError) and "ambiguous" in e.message:
                 raise SpecError(f"{path}.model", e.message) from None
-            close = difflib.get_close_matches(model.upper(), list(CATALOGUE), n=3)
+            close = difflib.get_close_matches(model[:100].upper(), list(CATALOGUE), n=3)
             hint = f"; close matches: {', '.join(close)}" if close else ""
-            raise SpecError(f"{path}.model", f"unknown CRC model {model!r}{hint}") from None
+            raise SpecError(f"{path}.model", f"unknown CRC model {excerpt(model)}{hint}") from None
     width = _int(d, "width", path, lo=3, hi=64)
     top = (1 << width) - 1
     params = CrcParams(
@@ -243,18 +242,23 @@ def _crc_params(d: Mapping[str, Any], path: str) -> CrcParams:
     return params
 
 
-def _check(d: object) -> CheckSpec:
+def _check(d: object, frame_byte_order: str) -> CheckSpec:
+    """Return the CheckSpec of a [check] table; ``byte_order`` defaults to the frame's
+    (to "big" for no check or a width that is not a multiple of 8: byte order has no meaning
+    there)."""
     path = "check"
     d = _table(d, path)
     _no_unknown(d, CHECK_KEYS, path)
     kind = _choice(d, "kind", path, CHECK_KINDS, "crc" if ("model" in d or "poly" in d) else None)
     covers = _sections(d, path, ("sync", "fields"), ("fields",))
-    byte_order = _choice(d, "byte_order", path, ("big", "little"), "big")
     crc = _crc_params(d, path) if kind == "crc" else None
     if kind != "crc":
         for k in ("model", *CRC_KEYS):
             if k in d:
                 raise SpecError(f"{path}.{k}", f"only allowed with kind = \"crc\" (kind is {kind!r})")
+    width_bits = CheckSpec(kind=kind, crc=crc).width_bits
+    byte_order = _choice(d, "byte_order", path, ("big", "little"),
+                         frame_byte_order if width_bits and width_bits % 8 == 0 else "big")
     spec = CheckSpec(kind=kind, crc=crc, covers=covers, byte_order=byte_order)
     if byte_order == "little" and spec.width_bits % 8:
         raise SpecError(f"{path}.byte_order", f"little needs a check width that is a multiple of 8, "
@@ -297,8 +301,11 @@ def _line_code(d: object) -> LineCodeSpec:
 
         raise SpecError(f"{path}.name", f"is required; allowed: {', '.join(LINE_CODES)}")
     name = d["name"]
+    if not isinstance(name, str):
+        raise SpecError(f"{path}.name", f"must be a string, got {type(name).__name__} "
+                        f"{excerpt(name)}")
     params = tuple(sorted((k, v) for k, v in d.items() if k != "name"))
-    spec = LineCodeSpec(name=str(name).lower(), params=params)
+    spec = LineCodeSpec(name=name.lower(), params=params)
     get_line_code(spec)  # validates name and params
     return spec
 
@@ -308,10 +315,10 @@ def _preamble(d: object) -> PreambleSpec:
     d = _table(d, path)
     _no_unknown(d, ("pattern", "pattern_bits", "count"), path)
     bits = _int(d, "pattern_bits", path, 8, lo=1, hi=64)
-    pattern = _int(d, "pattern", path, 0b10101010 & ((1 << bits) - 1), lo=0)
+    pattern = _int(d, "pattern", path, 0b10101010 & ((1 << bits) - 1), lo=0, hi=2**64 - 1)
     if pattern >> bits:
         raise SpecError(f"{path}.pattern", f"0x{pattern:X} is wider than pattern_bits = {bits}")
-    count = _int(d, "count", path, 2, lo=0, hi=1024)
+    count = _int(d, "count", path, 2, lo=0, hi=MAX_PREAMBLE_COUNT)
     return PreambleSpec(pattern=pattern, pattern_bits=bits, count=count)
 
 
@@ -320,7 +327,7 @@ def _sync(d: object) -> SyncSpec:
     d = _table(d, path)
     _no_unknown(d, ("value", "length_bits", "max_errors"), path)
     length = _int(d, "length_bits", path, lo=4, hi=64)
-    value = _int(d, "value", path, lo=0)
+    value = _int(d, "value", path, lo=0, hi=2**64 - 1)
     if value >> length:
         raise SpecError(f"{path}.value", f"0x{value:X} is wider than length_bits = {length}")
     max_errors = _int(d, "max_errors", path, 0, lo=0, hi=max(0, (length - 1) // 4))
@@ -347,6 +354,7 @@ def spec_from_dict(doc: Mapping[str, Any]) -> FrameSpec:
 
 def spec_and_defaults_from_dict(doc: Mapping[str, Any]) -> tuple[FrameSpec, dict[str, object]]:
     """Return (FrameSpec, default field values given in the spec)."""
+    require(doc, Mapping, "doc", "give the dict tomllib.loads returns")
     from ..bits import to_raw
     from ..frame import _blob
     from ..linecodes import get_line_code
@@ -364,7 +372,7 @@ def spec_and_defaults_from_dict(doc: Mapping[str, Any]) -> tuple[FrameSpec, dict
     _no_unknown(fr, FRAME_KEYS, "frame")
     if "name" not in fr:
         raise SpecError("frame.name", "is required (a C identifier, used as the prefix of generated C)")
-    name = _identifier(fr["name"], "frame.name", "frame name (C identifier)")
+    name = _identifier(fr["name"], "frame.name", "frame name (C prefix)", fold_case=True)
     line_code = _line_code(doc["line_code"])
     lc = get_line_code(line_code)
     if ("bit_rate_bps" in fr) == ("unit_us" in fr):
@@ -380,13 +388,18 @@ def spec_and_defaults_from_dict(doc: Mapping[str, Any]) -> tuple[FrameSpec, dict
     raw_fields = doc.get("fields")
     if not isinstance(raw_fields, list) or not raw_fields:
         raise SpecError("fields", "at least one field is required ([[fields]] tables)")
+    if len(raw_fields) > MAX_FIELDS:
+        raise SpecError("fields", f"{len(raw_fields)} fields; allowed at most {MAX_FIELDS}")
     fields: list[FieldSpec] = []
     defaults_in: list[tuple[int, object]] = []
     for i, fd in enumerate(raw_fields):
         f, default = _field(fd, i)
-        if any(g.name == f.name for g in fields):
-            raise SpecError(f"fields[{i}].name", f"duplicate field name {f.name!r}")
         fields.append(f)
+        pair = same_name([g.name for g in fields])
+        if pair:
+            first = fields[pair[0]].name
+            why = "" if first == f.name else f" (same as {first!r} in upper-case C macro names)"
+            raise SpecError(f"fields[{i}].name", f"duplicate field name {f.name!r}{why}")
         if default is not None:
             defaults_in.append((i, default))
     lengths = [i for i, f in enumerate(fields) if f.role == "length"]
@@ -412,7 +425,7 @@ def spec_and_defaults_from_dict(doc: Mapping[str, Any]) -> tuple[FrameSpec, dict
             if f.kind == "int" and f.width_bits > 8 and f.width_bits % 8:
                 raise SpecError(f"fields[{i}].width_bits", f"byte_order = \"little\" needs widths that are "
                                 f"multiples of 8 for fields wider than 8 bits; '{f.name}' is {f.width_bits}")
-    check = _check(doc["check"]) if "check" in doc else CheckSpec()
+    check = _check(doc["check"], byte_order) if "check" in doc else CheckSpec()
     spec = FrameSpec(
         name=name,
         description=_str(fr, "description", "frame"),
@@ -437,6 +450,7 @@ def spec_and_defaults_from_dict(doc: Mapping[str, Any]) -> tuple[FrameSpec, dict
             if n % bpb:
                 raise SpecError("line_code.name", f"{line_code.name} codes {bpb} bits per block; "
                                 f"{what} is {n} bits, not a multiple of {bpb}")
+    _check_size(spec)
     if spec.repeats > 1 and spec.gap_us <= 0:
         raise SpecError("frame.gap_us", "must be > 0 when repeats > 1, or repeats run together")
     defaults: dict[str, object] = {}
@@ -453,8 +467,21 @@ def spec_and_defaults_from_dict(doc: Mapping[str, Any]) -> tuple[FrameSpec, dict
     return spec, defaults
 
 
+def _check_size(spec: FrameSpec) -> None:
+    """Raise SpecError when the frame is longer than the documented size limits."""
+    bits = spec.max_frame_bits
+    if bits > MAX_FRAME_BITS:
+        raise SpecError("frame", f"the frame is up to {bits} bits long (preamble, sync, fields, "
+                        f"check); allowed at most {MAX_FRAME_BITS}")
+    if bits * spec.repeats > MAX_TRANSMISSION_BITS:
+        raise SpecError("frame.repeats", f"{spec.repeats} repeats of a {bits}-bit frame are "
+                        f"{bits * spec.repeats} bits; allowed at most {MAX_TRANSMISSION_BITS} "
+                        "bits a transmission")
+
+
 def load_spec_and_defaults(path: str | Path) -> tuple[FrameSpec, dict[str, object]]:
     """Return (FrameSpec, defaults) from a TOML file; SpecError on any problem."""
+    require_path(path, "path")
     p = Path(path)
     try:
         text = p.read_text(encoding="utf-8")
@@ -466,6 +493,11 @@ def load_spec_and_defaults(path: str | Path) -> tuple[FrameSpec, dict[str, objec
         doc = tomllib.loads(text)
     except tomllib.TOMLDecodeError as e:
         raise SpecError("", f"{p}: not valid TOML: {e}") from None
+    except RecursionError:
+        raise SpecError("", f"{p}: arrays or tables nested too deeply to read") from None
+    except ValueError:  # Python's int-digits limit, hit inside tomllib
+        raise SpecError("", f"{p}: a number is too long to read (more than "
+                        f"{sys.get_int_max_str_digits():,} digits)") from None
     return spec_and_defaults_from_dict(doc)
 
 

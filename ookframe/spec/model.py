@@ -102,6 +102,8 @@ class CheckSpec:
 
     kind: "none", "crc" (``crc`` set), "sum8", "xor8", "fletcher16".
     The check value (``width_bits``) is sent in ``byte_order`` with the frame bit order.
+    A spec file without ``[check] byte_order`` gets the frame's ``byte_order`` (see
+    ``ookframe.spec.load``); a CheckSpec built directly defaults to "big".
     """
 
     kind: str = "none"
@@ -188,3 +190,11 @@ class FrameSpec:
     @property
     def is_variable(self) -> bool:
         return any(f.kind == "bytes" for f in self.fields)
+
+    @property
+    def max_frame_bits(self) -> int:
+        """Bits of the longest frame before line coding and stuffing (preamble to check)."""
+        blob = sum(8 * f.max_len_bytes for f in self.fields if f.kind == "bytes")
+        return (self.preamble.length_bits + self.sync.length_bits + blob
+                + sum(f.width_bits for f in self.fields if f.kind == "int")
+                + self.check.width_bits)

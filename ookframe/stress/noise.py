@@ -9,6 +9,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .._require import require, require_spec
 from ..channel import idle_noise_train
 from ..spec.model import FrameSpec
 from .runner import Decoder, _reference_decoder, map_unordered, pool_for
@@ -74,6 +75,8 @@ def run_noise(
     Deterministic per ``seed`` (chunks of ``chunk_s`` seconds seeded by SeedSequence
     spawning), whatever the executor; ``progress(s)`` gets seconds of noise done.
     """
+    require_spec(spec, "spec")
+    require(hours, (int, float), "hours")
     if hours <= 0 or chunk_s <= 0:
         raise ValueError("hours and chunk_s must be > 0")
     total_s = hours * 3600.0

@@ -21,6 +21,7 @@ from typing import TypeVar
 
 import numpy as np
 
+from .._require import require, require_int, require_spec
 from ..channel import ChannelSpec, apply_channel, channel_time_map_us
 from ..pulses import PulseTrain
 from ..spec.model import FrameSpec
@@ -28,6 +29,9 @@ from .batch import Batch, random_batch
 from .stats import clopper_pearson
 
 DEFAULT_CHUNK_FRAMES = 500
+#: most transmission bits in one chunk: long frames get fewer frames per chunk, so the
+#: memory of a chunk stays bounded (about 100 MB); the example specs are below it
+CHUNK_BITS = 2**18
 
 T = TypeVar("T")
 Decoder = Callable[[FrameSpec, PulseTrain], list]
@@ -235,9 +239,14 @@ def run_stress(
     Dask distributed); else a process pool of ``workers`` when ``workers > 1``, else
     in-process. ``gap_us``: idle time between transmissions (default ``spec.gap_us``).
     ``progress(k)`` is called as chunks of ``k`` transmissions finish. Same arguments ->
-    same result, whatever the executor or worker count.
+    same result, whatever the executor or worker count. A chunk holds at most
+    ``CHUNK_BITS`` transmission bits (fewer than ``chunk_frames`` frames for long frames).
     """
+    require_spec(spec, "spec")
+    require(channel, ChannelSpec, "channel", "e.g. ookframe.get_preset('ideal')")
+    require_int(n_frames, "n_frames")
     t0 = time.perf_counter()
+    chunk_frames = min(chunk_frames, max(1, CHUNK_BITS // (spec.max_frame_bits * spec.repeats)))
     c = Counts()
     try:
         plan = chunk_plan(n_frames, chunk_frames)
@@ -266,6 +275,13 @@ def _result(spec: FrameSpec, channel: ChannelSpec, seed: int, c: Counts, chunk_f
             t0: float, workers: int) -> StressResult:
     """The StressResult of the counts ``c`` (PER from integer counts: exact to the float)."""
     elapsed = time.perf_counter() - t0
+    return stress_result(spec, channel, seed, c, chunk_frames, elapsed, workers)
+
+
+def stress_result(spec: FrameSpec, channel: ChannelSpec, seed: int, c: Counts,
+                  chunk_frames: int, elapsed_s: float, workers: int) -> StressResult:
+    """Return the StressResult of a run's summed chunk tallies ``c``."""
+    elapsed = elapsed_s
     n_copies = c.frames * spec.repeats
     return StressResult(
         spec_name=spec.name,
