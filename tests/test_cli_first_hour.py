@@ -239,8 +239,9 @@ def test_interrupted_stress_reports_partial_counts(capsys, monkeypatch):
 
 
 def test_sigint_to_a_pooled_stress_run_exits_130_without_traceback(tmp_path):
-    """A real SIGINT to `ookframe stress --workers 2`: the pool workers leave it to the
-    parent, which prints the partial JSON result and exits 130; no traceback anywhere."""
+    """A real SIGINT to `ookframe stress --workers 2` (while chunks are still being
+    submitted): the pool workers leave it to the parent, which stops between completions,
+    prints the partial JSON result and exits 130 within the timeout; no traceback."""
     import signal
     import subprocess
     import sys
@@ -260,8 +261,12 @@ def test_sigint_to_a_pooled_stress_run_exits_130_without_traceback(tmp_path):
         time.sleep(0.2)
     time.sleep(2)
     p.send_signal(signal.SIGINT)
+    try:
+        p.wait(timeout=120)  # a lock left held inside concurrent.futures would hang here
+    except subprocess.TimeoutExpired:
+        p.kill()
+        raise
     out = p.stdout.read()
-    p.wait(timeout=120)
     reader.join(timeout=10)
     err = "".join(seen)
     assert p.returncode == 130, err
