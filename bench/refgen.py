@@ -207,10 +207,10 @@ def _weight3_words() -> list[int]:
     return sorted(sum(1 << (5 - i) for i in c) for c in combinations(range(6), 3))
 
 
-#: 4B6B: the weight-3 words without 000111, 111000, 001011 and 110100, ascending
-#: (the selection rule stated for ookframe's 4B6B code).
-WORDS_4B6B = tuple(w for w in _weight3_words() if w not in (0b000111, 0b111000, 0b001011,
-                                                              0b110100))
+#: 4B6B of IEEE 802.15.7 (clause 10.5.1), nibble 0..F, written out here from the standard's
+#: table (the same source tests/test_linecodes.py names), not read from ookframe.
+WORDS_4B6B = (0b001110, 0b001101, 0b010011, 0b010110, 0b010101, 0b100011, 0b100110, 0b100101,
+              0b011001, 0b011010, 0b011100, 0b110001, 0b110010, 0b101001, 0b101010, 0b101100)
 #: 3-out-of-6 of EN 13757-4 (wireless M-Bus mode T), nibble 0..F; from memory.
 WORDS_3OF6 = (0b010110, 0b001101, 0b001110, 0b001011, 0b011100, 0b011001, 0b011010, 0b010011,
               0b101100, 0b100101, 0b100110, 0b100011, 0b110100, 0b110001, 0b110010, 0b101001)

@@ -94,7 +94,7 @@ def test_allowed_runs_from_the_code_definitions() -> None:
     """Allowed run lengths per level: Manchester 1 or 2 units; PWM 1:3 short or long for
     both levels; pulse distance 1/1/3 marks of 1, spaces of 1 or 3; 3-out-of-6 words of
     weight 3 run 1..4 across word boundaries (common practice, no source). Stuffed NRZ
-    after 5: spaces 1..5, marks up to 6, since the count starts after the sync word and
+    after 3: runs 1..3, and marks up to 4, since the count starts after the sync word and
     coldframe_vent's sync 0xD391 ends in a 1 (README: stuffing after the sync word)."""
     runs = {n.removesuffix(".toml"): refgen.allowed_runs(example_spec(n)[0])
             for n in example_names()}
@@ -102,7 +102,7 @@ def test_allowed_runs_from_the_code_definitions() -> None:
     assert runs["greenhouse_probe"] == refgen.AllowedRuns((1, 3), (1, 3))
     assert runs["gate_sensor"] == refgen.AllowedRuns((1, 3), (1,))
     assert runs["tank_level"] == refgen.AllowedRuns((1, 2, 3, 4), (1, 2, 3, 4))
-    assert runs["coldframe_vent"] == refgen.AllowedRuns((1, 2, 3, 4, 5), (1, 2, 3, 4, 5, 6))
+    assert runs["coldframe_vent"] == refgen.AllowedRuns((1, 2, 3), (1, 2, 3, 4))
 
 
 def test_allowed_runs_unbounded_nrz() -> None:

@@ -20,17 +20,17 @@ from ookframe import frame
 from ookframe.bits import from_raw
 from ookframe.checks import CATALOGUE
 from ookframe.decode import DecodedFrame, decode, validate_train
-from ookframe.decode.classify import classify, fit_unit, head_unit, track_unit
+from ookframe.decode.classify import classify, head_unit, track_unit
 from ookframe.decode.detect import find_candidates
 from ookframe.decode.glitch import drop_glitches
 from ookframe.decode.head import head_model
-from ookframe.decode.sync import best_sync, sync_distance
 from ookframe.errors import CaptureError
 from ookframe.linecodes import LINE_CODES, get_line_code
 from ookframe.pulses import PulseTrain, chips_to_runs, merge_runs
 from ookframe.spec.load import spec_from_dict
 from ookframe.spec.model import FrameSpec, LineCodeSpec
 from tests.conftest import example_spec as _example_spec
+from tests.oracle_framer import best_sync, fit_unit, sync_distance
 
 
 def example_spec(name: str) -> tuple[FrameSpec, dict]:
@@ -393,8 +393,8 @@ def test_best_sync_prefers_exact_then_nearest_and_respects_max_errors():
 def test_one_line_decode_for_all_windows_equals_one_per_window(line_code):
     """The windows of a noisy capture decoded in one call give, for every window and
     candidate, the bits that decoding the window alone gives."""
-    from ookframe.decode import framer
-    from ookframe.decode.windows import classify_windows, lay_out, split_candidates
+    from ookframe.decode.windows import classify_windows, lay_out
+    from tests.oracle_framer import _window, split_candidates
 
     spec = spec_from_dict({
         "frame": {"name": "bed", "unit_us": 500.0, "repeats": 2, "gap_us": 20000.0},
@@ -417,7 +417,7 @@ def test_one_line_decode_for_all_windows_equals_one_per_window(line_code):
     assert first.size >= 8  # a periodic preamble may add a second candidate per frame
     stop = np.minimum(first + 400, len(clean))
     ws = classify_windows(spec, hm, clean.durations_us, first, stop, unit0, clean.levels)
-    wins = [framer._window(hm, ws, k, clean.levels, clean.durations_us, clean.edges_us())
+    wins = [_window(hm, ws, k, clean.levels, clean.durations_us, clean.edges_us())
             for k in range(first.size)]
     runs = lay_out(hm, ws, clean.levels)
     per_window = split_candidates(runs, hm.line_code.decode(runs.levels, runs.units))

@@ -117,26 +117,6 @@ def classify(durations_us: np.ndarray, unit_us: float | np.ndarray) -> tuple[np.
     return units.astype(np.int64), ratio
 
 
-def fit_unit(durations_us: np.ndarray, units: np.ndarray) -> np.ndarray:
-    """Return the least-squares unit in µs (slope of edge time over edge chip count).
-
-    ``durations_us`` is (..., k) measured runs, ``units`` their lengths in units (k,) or
-    (..., k); every edge (k + 1 of them, the first at time 0) weighs the same, so the
-    jitter of single edges averages out much better than in total time / total units.
-    """
-    d = np.asarray(durations_us, dtype=np.float64)
-    n = d.shape[-1] + 1  # the origin edge (0, 0) adds nothing to the sums below
-    if d.ndim == 1:  # one fit: dot products (this runs once per decoded frame)
-        t = d.cumsum()
-        c = np.asarray(units).cumsum(dtype=np.float64)
-        st, sc = t.sum(), c.sum()
-        return np.float64((n * t.dot(c) - st * sc) / (n * c.dot(c) - sc * sc))
-    t = np.cumsum(d, axis=-1)
-    c = np.cumsum(np.broadcast_to(np.asarray(units, dtype=np.float64), d.shape), axis=-1)
-    st, sc = t.sum(axis=-1), c.sum(axis=-1)
-    return (n * (t * c).sum(axis=-1) - st * sc) / (n * (c * c).sum(axis=-1) - sc * sc)
-
-
 def _offsets(lengths: np.ndarray) -> np.ndarray:
     """Return where every window starts in the concatenated arrays."""
     return np.concatenate(([0], np.cumsum(lengths)[:-1]))
@@ -158,7 +138,8 @@ def head_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarra
 
     Each window starts at its first signature pulse; its pulses wholly inside the first
     ``head_units`` units (classified with the current estimate, starting from
-    ``unit0_us``) are least-squares fitted like :func:`fit_unit`, ``iterations`` times.
+    ``unit0_us``) give the least-squares slope of edge time over chip count (every edge
+    weighs the same), ``iterations`` times.
     The longer baseline (preamble + sync rather than the signature alone) makes the
     estimate good enough for long runs right after the sync.
     """

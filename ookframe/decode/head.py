@@ -70,24 +70,6 @@ class HeadModel:
         return self.units[:self.sig_start]
 
 
-def bit_chips(line_code: LineCode, cs: np.ndarray, run_index: np.ndarray, stop: int) -> np.ndarray:
-    """Return the chip offset of the first chip of the code block of bits 0 .. stop-1.
-
-    ``cs`` is the chip offset of every run given to ``decode``, ``run_index`` the run of
-    each bit of one candidate. Fixed-length codes: block b sits at ``phase + b *
-    chips_per_block``; a block's first chip lies in its run, so the phase is at least
-    ``cs[run] - b * chips_per_block`` for every block, and the first block starts on the
-    window's first run boundary at or after it. Other codes start every bit on a run.
-    """
-    r = run_index[:stop]
-    cpb = line_code.chips_per_block
-    if cpb is None or r.size == 0:
-        return cs[r]
-    block = np.arange(r.size) // line_code.bits_per_block * cpb
-    phase = int((cs[r] - block).max())
-    return phase + block
-
-
 def _signature(levels: np.ndarray, units: np.ndarray, sync_chip: int) -> tuple[int, int]:
     cs = np.concatenate(([0], np.cumsum(units)))
     pre = np.flatnonzero(cs[1:] <= sync_chip)  # runs wholly before the sync's block

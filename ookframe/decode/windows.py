@@ -7,7 +7,6 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..linecodes import DecodedBits
 from ..spec.model import FrameSpec
 from .classify import grid_runs, head_unit, nearest_runs, phase_half_window, track_unit
 from .head import HeadModel
@@ -132,14 +131,3 @@ def lay_out(hm: HeadModel, ws: Windows, levels: np.ndarray) -> WindowRuns:
     return WindowRuns(lv, un, chip0, run_start, run_stop, n_pre)
 
 
-def split_candidates(runs: WindowRuns, cands: list[DecodedBits]) -> list[list[DecodedBits]]:
-    """Return per window its part of every line-code candidate of the laid-out runs (run
-    indices relative to the window's first run)."""
-    out: list[list[DecodedBits]] = [[] for _ in range(runs.run_start.size)]
-    for cand in cands:
-        lo = np.searchsorted(cand.run_index, runs.run_start).tolist()
-        hi = np.searchsorted(cand.run_index, runs.run_stop).tolist()
-        for k, (a, b) in enumerate(zip(lo, hi, strict=True)):
-            out[k].append(DecodedBits(cand.bits[a:b], cand.run_index[a:b] - runs.run_start[k],
-                                      cand.valid[a:b]))
-    return out
