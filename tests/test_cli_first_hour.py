@@ -239,8 +239,9 @@ def test_interrupted_stress_reports_partial_counts(capsys, monkeypatch):
 
 
 def test_sigint_to_a_pooled_stress_run_exits_130_without_traceback(tmp_path):
-    """A real SIGINT to `ookframe stress --workers 2`: the pool workers leave it to the
-    parent, which prints the partial JSON result and exits 130; no traceback anywhere."""
+    """A real SIGINT to `ookframe stress --workers 2` (while chunks are still being
+    submitted): the pool workers leave it to the parent, which stops between completions,
+    prints the partial JSON result and exits 130 within the timeout; no traceback."""
     import signal
     import subprocess
     import sys
@@ -260,8 +261,12 @@ def test_sigint_to_a_pooled_stress_run_exits_130_without_traceback(tmp_path):
         time.sleep(0.2)
     time.sleep(2)
     p.send_signal(signal.SIGINT)
+    try:
+        p.wait(timeout=120)  # a lock left held inside concurrent.futures would hang here
+    except subprocess.TimeoutExpired:
+        p.kill()
+        raise
     out = p.stdout.read()
-    p.wait(timeout=120)
     reader.join(timeout=10)
     err = "".join(seen)
     assert p.returncode == 130, err
@@ -415,3 +420,16 @@ def test_readme_starts_with_setup_and_full_test_command_quick_subset_below():
     assert "pip install" in blocks[1] and blocks[3].strip() == "sh\npython -m pytest -q -n 2"
     quick = 'python -m pytest -q -n 2 -m "not slow"'
     assert quick in README and README.index(quick) > README.index(blocks[3])
+
+
+def test_strict_also_fails_on_emit_refusal(capsys, tmp_path):
+    """A 1.1 µs unit is 8.8 ticks of the default 8 MHz timer: 9 ticks is 2.3 % off, above
+    emit's 1 % tolerance (arithmetic). check warns and exits 0; --strict exits 3."""
+    text = (EXAMPLES / "hive_scale.toml").read_text().replace("bit_rate_bps = 2000",
+                                                               "unit_us = 1.1")
+    spec = tmp_path / "fast.toml"
+    spec.write_text(text)
+    code, _, err = run(capsys, "check", str(spec))
+    assert code == 0 and "will refuse this spec" in err and "with 1 warning(s)" in err
+    code, _, err = run(capsys, "check", str(spec), "--strict")
+    assert code == exitcodes.BAD_SPEC and "emit would refuse it" in err.splitlines()[-1]

@@ -39,12 +39,12 @@ def test_version_imports_no_numeric_library():
 
 
 @pytest.mark.parametrize("argv", [["--help"], ["stress", "--help"], ["check", "--help"]])
-def test_help_imports_neither_scipy_nor_matplotlib(argv):
-    """Building every command's parser must not import scipy or matplotlib (they load
-    only when a command computes with them)."""
+def test_help_imports_no_scipy_matplotlib_or_jinja2(argv):
+    """Building every command's parser must not import scipy, matplotlib or jinja2 (they
+    load only when a command computes, plots or renders C with them)."""
     out, mods = _loaded(argv)
     assert "usage: ookframe" in out
-    assert not mods & set(HEAVY)
+    assert not mods & {*HEAVY, "jinja2"}
 
 
 def test_public_api_loads_on_first_use():

@@ -21,7 +21,8 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    help="bit-error rate for the undetected-error figure (default 1e-4)")
     p.add_argument("--strict", action="store_true",
                    help="treat warnings (design defects such as a sync word that a preamble "
-                   f"window imitates) as errors: exit {exitcodes.BAD_SPEC}")
+                   "window imitates, or a spec emit would refuse) as errors: exit "
+                   f"{exitcodes.BAD_SPEC}")
     common.add_json_argument(p)
 
 
@@ -59,10 +60,13 @@ def run(args: argparse.Namespace) -> int:
     info["field_offsets"] = [_offset_dict(o) for o in offsets]
     info.update(report)
     info["emit_refusal"] = emit_refusal
+    # --strict fails on every warning printed: design defects and emit's refusal
+    strict = [*info["warnings"], *([f"emit would refuse it: {emit_refusal}"] if emit_refusal
+                                   else [])]
     if args.json:
         print_json(info)
-        return _verdict(args, info["warnings"])
-    n_warn = len(info["warnings"])
+        return _verdict(args, strict)
+    n_warn = len(strict)
     err.print(f"spec '{spec.name}' is valid" + (f", with {n_warn} warning(s)" if n_warn else ""))
     for w in info["warnings"]:
         err.print(f"warning: {w}", markup=False)
@@ -83,7 +87,7 @@ def run(args: argparse.Namespace) -> int:
     out.print(_report_table(report))
     for c in report["cautions"]:
         err.print(f"caution: {c}", markup=False)
-    return _verdict(args, info["warnings"])
+    return _verdict(args, strict)
 
 
 def _verdict(args: argparse.Namespace, warnings: list[str]) -> int:

@@ -12,9 +12,11 @@ before it to half a gap after it).
 
 from __future__ import annotations
 
+import signal
+import threading
 import time
 from collections.abc import Callable, Iterator, Sequence
-from concurrent.futures import Executor, ProcessPoolExecutor, as_completed
+from concurrent.futures import FIRST_COMPLETED, Executor, ProcessPoolExecutor, wait
 from contextlib import contextmanager
 from dataclasses import dataclass, field, fields
 from typing import TypeVar
@@ -189,8 +191,6 @@ def chunk_plan(n_frames: int, chunk_frames: int) -> list[int]:
 
 def _ignore_interrupt() -> None:
     """Pool workers leave Ctrl-C to the parent, which stops the run and reports."""
-    import signal
-
     signal.signal(signal.SIGINT, signal.SIG_IGN)
 
 
@@ -211,14 +211,44 @@ def pool_for(executor: Executor | None, workers: int) -> Iterator[Executor | Non
 def map_unordered(
     fn: Callable[..., T], arg_tuples: Sequence[tuple], pool: Executor | None
 ) -> Iterator[tuple[int, T]]:
-    """Yield (index, fn(*args)) for every argument tuple, in completion order."""
+    """Yield (index, fn(*args)) for every argument tuple, in completion order.
+
+    With a pool, Ctrl-C is held back while futures are submitted and waited on and raised
+    as KeyboardInterrupt between completions: raised inside ``concurrent.futures`` it can
+    leave a future's lock held, and the pool's shutdown then waits forever.
+    """
     if pool is None:
         for k, a in enumerate(arg_tuples):
             yield k, fn(*a)
         return
-    futures = {pool.submit(fn, *a): k for k, a in enumerate(arg_tuples)}
-    for fut in as_completed(futures):
-        yield futures[fut], fut.result()
+    with _interrupt_as_flag() as stop:
+        futures = {}
+        for k, a in enumerate(arg_tuples):
+            if stop.is_set():
+                break
+            futures[pool.submit(fn, *a)] = k
+        pending = set(futures)
+        while pending and not stop.is_set():
+            done, pending = wait(pending, timeout=0.2, return_when=FIRST_COMPLETED)
+            for fut in done:
+                yield futures[fut], fut.result()
+    if stop.is_set():
+        raise KeyboardInterrupt
+
+
+@contextmanager
+def _interrupt_as_flag() -> Iterator[threading.Event]:
+    """Yield an Event that SIGINT sets instead of raising (main thread only; elsewhere
+    signals are not delivered to the thread anyway)."""
+    stop = threading.Event()
+    if threading.current_thread() is not threading.main_thread():
+        yield stop
+        return
+    previous = signal.signal(signal.SIGINT, lambda *_: stop.set())
+    try:
+        yield stop
+    finally:
+        signal.signal(signal.SIGINT, previous)
 
 
 def run_stress(
