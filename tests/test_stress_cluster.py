@@ -154,3 +154,15 @@ def test_bad_timeout_and_address_are_refused():
     with pytest.raises(ClusterError, match="scheduler address"):
         with cluster_executor("  "):
             pass
+
+
+@pytest.mark.parametrize("address, match", [
+    ("foo", "expected"), ("tcp://", "expected"), ("tcp://127.0.0.1:99999", "expected"),
+    ("http://127.0.0.1:80", "scheme 'http' not supported"), ("x" * 500, "expected"),
+])
+def test_malformed_address_is_refused_at_once(address, match, capsys):
+    """A malformed address is refused before any connection attempt (exit 4, one short
+    line, the input cut to 80 characters)."""
+    assert main(["stress", HIVE, "--frames", "10", "--scheduler", address]) == 4
+    err = capsys.readouterr().err.strip()
+    assert match in err and len(err.splitlines()) == 1 and len(err) < 250
