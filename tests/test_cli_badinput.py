@@ -698,21 +698,27 @@ def test_field_names_equal_in_upper_case_are_refused(capsys, tmp_path):
     assert code == exitcodes.BAD_SPEC and "duplicate field name 'HIVE'" in err
 
 
-def test_check_warns_when_emit_would_refuse_the_timing(capsys, tmp_path):
-    """A unit of 1.0625 µs is 8.5 ticks of 8 MHz: the nearest whole tick count is 5.9 % off
-    (arithmetic), above emit's default 1 % tolerance. check passes with a warning that
-    names emit and gives emit's own reason; emit then refuses with that reason. (A long
-    gap is no longer refused: emit splits it over several timer periods.)"""
-    spec = spec_with(tmp_path, "bit_rate_bps = 2000", "unit_us = 1.0625")
+def test_check_warns_when_emit_would_refuse_the_gap(capsys, tmp_path):
+    """A 0.01 µs gap is under one tick at every prescaler (0.08 ticks of 0.125 µs at 8 MHz /
+    1; arithmetic). check passes with a warning that names emit and gives emit's own reason;
+    emit then refuses with that reason. A 9 s gap, longer than one 16-bit timer period at any
+    prescaler (70,312.5 ticks of 128 µs at 8 MHz / 1024 > 65,535), is split over several
+    periods instead: no warning, and emit writes the header."""
+    long_gap = spec_with(tmp_path, "gap_us = 8000", "gap_us = 9000000", name="long.toml")
+    assert main(["check", str(long_gap)]) == 0
+    assert "ookframe emit" not in capsys.readouterr().err
+    assert main(["emit", str(long_gap), "-o", str(tmp_path / "long")]) == 0
+    assert "sent as" in capsys.readouterr().out
+    spec = spec_with(tmp_path, "gap_us = 8000", "gap_us = 0.01")
     assert main(["check", str(spec)]) == 0
     err = " ".join(capsys.readouterr().err.split())
     assert "warning: 'ookframe emit' with its default timer" in err
     reason = err.split("will refuse this spec: ", 1)[1]
-    assert "exceeds the tolerance 1 %" in reason
+    assert "repeat gap" in reason
     assert main(["check", str(spec), "--json"]) == 0
     import json
 
-    assert "exceeds the tolerance" in json.loads(capsys.readouterr().out)["emit_refusal"]
+    assert "repeat gap" in json.loads(capsys.readouterr().out)["emit_refusal"]
     code, _, err = run_bad(capsys, "emit", spec, "-o", tmp_path / "c")
     assert code == exitcodes.CODEGEN and reason[:80] in err
 

@@ -67,7 +67,7 @@ def test_same_seed_same_result_and_any_worker_count():
     """Chunks are seeded by SeedSequence.spawn: 1 worker, a process pool of 2 and a thread
     pool of 3 give identical results; another seed gives different ones."""
     spec = manchester_spec()
-    ch = get_preset("budget-superregen").with_(jitter_us=40.0)
+    ch = get_preset("budget-superregen").with_(dropout_prob=0.005)  # lost marks: some fail
     kw = dict(seed=11, chunk_frames=40)
     one = run_stress(spec, ch, 200, workers=1, **kw)
     again = run_stress(spec, ch, 200, workers=1, **kw)

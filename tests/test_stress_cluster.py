@@ -33,6 +33,8 @@ else:
 EX = Path(__file__).resolve().parent.parent / "examples"
 HIVE = str(EX / "hive_scale.toml")
 PROBE = str(EX / "greenhouse_probe.toml")
+#: sweep grid: no loss, then marks lost with these probabilities (some frames fail)
+GRID = (0.0, 0.02, 0.05)
 #: result keys that depend on the wall clock or on where the run ran
 NOT_COMPARED = ("elapsed_s", "frames_per_s", "workers")
 
@@ -59,7 +61,7 @@ def test_run_stress_on_a_cluster_equals_the_process_pool(scheduler):
     """Same seed and chunk size: the cluster, a process pool of 2 and one process give
     equal StressResults (every count and interval), and the channel did cause errors."""
     spec = load_spec(HIVE)
-    ch = get_preset("budget-superregen").with_(jitter_us=35.0)
+    ch = get_preset("budget-superregen").with_(dropout_prob=0.05)  # lost marks: some fail
     kw = dict(seed=21, chunk_frames=40)
     with cluster_executor(scheduler, timeout_s=20) as ex:
         on_cluster = run_stress(spec, ch, 240, executor=ex, **kw)
@@ -76,9 +78,9 @@ def test_run_sweep_on_a_cluster_equals_the_process_pool(scheduler):
     ch = get_preset("ideal")
     kw = dict(seed=5, chunk_frames=30)
     with cluster_executor(scheduler, timeout_s=20) as ex:
-        on_cluster = run_sweep(specs, ch, "jitter_us", (0.0, 30.0, 60.0), 90, executor=ex, **kw)
-    pool = run_sweep(specs, ch, "jitter_us", (0.0, 30.0, 60.0), 90, workers=2, **kw)
-    local = run_sweep(specs, ch, "jitter_us", (0.0, 30.0, 60.0), 90, workers=1, **kw)
+        on_cluster = run_sweep(specs, ch, "dropout_prob", GRID, 90, executor=ex, **kw)
+    pool = run_sweep(specs, ch, "dropout_prob", GRID, 90, workers=2, **kw)
+    local = run_sweep(specs, ch, "dropout_prob", GRID, 90, workers=1, **kw)
     assert on_cluster == pool == local
     pers = [r.per for rows in pool.results for r in rows]
     assert min(pers) == 0.0 < max(pers)
@@ -96,11 +98,11 @@ def _drop(d: dict) -> dict:
 def test_cli_scheduler_matches_workers(scheduler, capsys):
     """``stress`` and ``sweep --scheduler ADDRESS`` print the same JSON as ``--workers 2``;
     the table names the scheduler."""
-    common = ["--frames", "120", "--chunk-frames", "40", "--seed", "3", "--jitter-us", "30"]
+    common = ["--frames", "120", "--chunk-frames", "40", "--seed", "3", "--dropout-prob", "0.05"]
     a = _json(capsys, "stress", HIVE, *common, "--json", "--scheduler", scheduler)
     b = _json(capsys, "stress", HIVE, *common, "--json", "--workers", "2")
     assert _drop(a) == _drop(b) and 0 < a["ok"] < a["frames"]
-    sweep = ["sweep", HIVE, "--vary", "jitter_us=0:50:2", "--frames", "60", "--json"]
+    sweep = ["sweep", HIVE, "--vary", "dropout_prob=0:0.05:2", "--frames", "60", "--json"]
     assert (_json(capsys, *sweep, "--scheduler", scheduler)
             == _json(capsys, *sweep, "--workers", "2"))
     assert main(["stress", HIVE, "--frames", "40", "--scheduler", scheduler,
@@ -154,3 +156,15 @@ def test_bad_timeout_and_address_are_refused():
     with pytest.raises(ClusterError, match="scheduler address"):
         with cluster_executor("  "):
             pass
+
+
+@pytest.mark.parametrize("address, match", [
+    ("foo", "expected"), ("tcp://", "expected"), ("tcp://127.0.0.1:99999", "expected"),
+    ("http://127.0.0.1:80", "scheme 'http' not supported"), ("x" * 500, "expected"),
+])
+def test_malformed_address_is_refused_at_once(address, match, capsys):
+    """A malformed address is refused before any connection attempt (exit 4, one short
+    line, the input cut to 80 characters)."""
+    assert main(["stress", HIVE, "--frames", "10", "--scheduler", address]) == 4
+    err = capsys.readouterr().err.strip()
+    assert match in err and len(err.splitlines()) == 1 and len(err) < 250

@@ -62,9 +62,9 @@ def test_pooled_sweep_equals_point_by_point():
 
     a, _ = example_spec("hive_scale.toml")
     ch = ChannelSpec()
-    pooled = run_sweep([a], ch, "jitter_us", [0.0, 40.0, 80.0], 90, seed=4, workers=2,
+    pooled = run_sweep([a], ch, "dropout_prob", [0.0, 0.02, 0.05], 90, seed=4, workers=2,
                        chunk_frames=25)
-    alone = [run_stress(a, channel_at(a, ch, "jitter_us", v), 90, seed=4, chunk_frames=25)
-             for v in (0.0, 40.0, 80.0)]
+    alone = [run_stress(a, channel_at(a, ch, "dropout_prob", v), 90, seed=4, chunk_frames=25)
+             for v in (0.0, 0.02, 0.05)]
     assert list(pooled.results[0]) == alone
     assert 0 < sum(r.ok for r in alone) < 270

@@ -198,9 +198,13 @@ def _candidates(target: TimerTarget, wanted: list[tuple[str, int, Fraction]],
             ticks = _round_half_up(nominal / tick)
             limit = top * MAX_GAP_PIECES if split_gap and units == 0 else top
             if not 1 <= ticks <= limit:
-                held = (f"the {target.timer_bits}-bit timer holds 1..{top}" if limit == top else
-                        f"split over at most {MAX_GAP_PIECES} periods of the "
-                        f"{target.timer_bits}-bit timer it holds 1..{limit}")
+                if ticks < 1:
+                    held = "a pulse needs at least 1 tick"
+                elif limit == top:
+                    held = f"the {target.timer_bits}-bit timer holds 1..{top}"
+                else:
+                    held = (f"split over at most {MAX_GAP_PIECES} periods of the "
+                            f"{target.timer_bits}-bit timer it holds 1..{limit}")
                 bad = (f"prescaler {p}: {name} ({float(nominal):g} µs) is {float(nominal / tick):.1f} "
                        f"ticks; {held}")
                 break

@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import logging
 import math
+import re
 from collections.abc import Iterator
 from concurrent.futures import Executor
 from contextlib import contextmanager
@@ -22,6 +23,24 @@ from ..errors import ClusterError
 DEFAULT_CONNECT_TIMEOUT_S = 10.0
 
 _INSTALL_HINT = 'install the extra: pip install "ookframe[dask]"'
+#: scheduler addresses accepted: [scheme://]host:port (IPv6 hosts in brackets)
+_ADDRESS = re.compile(r"^(?:(?P<scheme>[a-z]+)://)?(?P<host>\[[0-9A-Fa-f:.]+\]|[^\s:/\[\]]+)"
+                      r":(?P<port>\d{1,5})$")
+SCHEMES = ("tcp", "tls", "ws", "wss")
+
+
+def check_address(address: str) -> str:
+    """Return ``address`` stripped, or raise ClusterError naming the expected form."""
+    text = address.strip() if isinstance(address, str) else ""
+    m = _ADDRESS.match(text)
+    shown = text if len(text) <= 80 else text[:77] + "..."
+    if not m or not 1 <= int(m["port"]) <= 65535:
+        raise ClusterError(f"--scheduler {shown!r}: expected [SCHEME://]HOST:PORT, e.g. "
+                           "tcp://10.0.0.5:8786")
+    if m["scheme"] and m["scheme"] not in SCHEMES:
+        raise ClusterError(f"--scheduler {shown!r}: scheme {m['scheme']!r} not supported; "
+                           f"allowed: {', '.join(SCHEMES)}")
+    return text
 
 
 def _worker_version() -> str:
@@ -48,6 +67,7 @@ def cluster_executor(address: str,
     """
     if not isinstance(address, str) or not address.strip():
         raise ClusterError("--scheduler: give the scheduler address, e.g. tcp://host:8786")
+    address = check_address(address)
     if not (math.isfinite(timeout_s) and timeout_s > 0):
         raise ClusterError(f"scheduler timeout must be a positive number of seconds, "
                            f"got {timeout_s}")
@@ -58,7 +78,6 @@ def cluster_executor(address: str,
                            f"{_INSTALL_HINT}") from None
     from .. import __version__
 
-    address = address.strip()
     quiet = _Quiet()
     with quiet:
         try:
