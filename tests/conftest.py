@@ -9,7 +9,7 @@ import pytest
 
 import ookframe
 from ookframe.demo import example_names, example_text
-from ookframe.spec.load import spec_and_defaults_from_dict
+from ookframe.spec_io import spec_and_defaults_from_dict
 
 EXAMPLES_DIR = Path(__file__).resolve().parent.parent / "examples"
 

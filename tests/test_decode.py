@@ -669,3 +669,20 @@ def test_recovery_moves_the_one_misplaced_edge_back():
             assert frame.values_equal(spec, values, aided[0].fields)
             return
     raise AssertionError(f"no edge of {tried} made the check fail")
+
+
+def test_diagnose_names_the_stage_that_failed():
+    """A whole transmission passes every stage; its first 40 pulses (preamble + sync start)
+    stop after the preamble; four stray pulses find no preamble."""
+    from ookframe.decode import diagnose
+
+    spec, values = example_spec("hive_scale")
+    tx = frame.encode(spec, values)
+    whole = diagnose(spec, tx)
+    assert (whole.heads, whole.synced, whole.check_ok) == (3, 3, 3)
+    assert whole.head_units_us == (250.0, 250.0, 250.0) and whole.stage == "frames found"
+    cut = diagnose(spec, PulseTrain(tx.levels[:40], tx.durations_us[:40]))
+    assert (cut.heads, cut.synced) == (1, 0) and "no sync word" in cut.stage
+    stray = diagnose(spec, PulseTrain(np.array([1, 0, 1, 0], np.uint8),
+                                      np.array([300.0, 300.0, 300.0, 20000.0])))
+    assert stray.heads == 0 and "no preamble" in stray.stage

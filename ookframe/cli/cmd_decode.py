@@ -57,7 +57,15 @@ def run(args: argparse.Namespace) -> int:
         print_json(frame_dicts(frames))
         return 0
     if not frames:
-        err.print(f"no frames of '{spec.name}' found in {args.capture} ({len(train)} pulses)")
+        from ..decode import diagnose
+
+        r = diagnose(spec, train)
+        units = ", ".join(f"{u:g}" for u in r.head_units_us) or "-"
+        err.print(f"no frames of '{spec.name}' found in {args.capture}: {r.stage}. "
+                  f"{r.pulses} pulses ({r.after_glitch_filter} after the glitch filter), "
+                  f"{r.bursts} burst(s), {r.heads} preamble(s) (unit measured {units} µs; "
+                  f"spec {r.unit_us:g} µs), {r.synced} with a sync word, {r.check_ok} "
+                  "with a passing check")
         return 0
     out.print(frames_table(spec, frames, f"{len(frames)} frame(s) of '{spec.name}' in "
                            f"{args.capture}"))

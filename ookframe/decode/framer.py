@@ -265,3 +265,54 @@ def _frame_all(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,
             start_us=t_start, end_us=t_end, unit_us=u, clock_error=ce, worst_deviation=worst,
             pulses=pulses, sync_errors=se, timing_errors=te, code_errors=code), last)
     return out
+
+
+@dataclass(frozen=True)
+class DecodeReport:
+    """How far the decoder got in a pulse train (for "no frames found" messages).
+
+    pulses / after_glitch_filter: pulses in the train and left after the glitch filter;
+    bursts: stretches between pulses too long to lie inside a frame; heads: places where
+    the preamble's signature matched (``head_units_us``: the unit measured there, at most
+    the first 5); synced: of those, windows where the sync word was found and the fields
+    could be read; check_ok: frames whose check passed; unit_us: the spec's unit.
+    """
+
+    pulses: int
+    after_glitch_filter: int
+    bursts: int
+    heads: int
+    head_units_us: tuple[float, ...]
+    synced: int
+    check_ok: int
+    unit_us: float
+
+    @property
+    def stage(self) -> str:
+        """The first stage nothing passed, in words."""
+        if self.after_glitch_filter == 0:
+            return "every pulse was shorter than the glitch filter"
+        if self.heads == 0:
+            return "no preamble found (no run of pulses matched its signature)"
+        if self.synced == 0:
+            return "preamble found but no sync word after it"
+        if self.check_ok == 0:
+            return "frames found but every check failed"
+        return "frames found"
+
+
+def diagnose(spec: FrameSpec, train: PulseTrain) -> DecodeReport:
+    """Return how far :func:`decode` gets in ``train`` (stage by stage counts)."""
+    validate_train(train)
+    clean = drop_glitches(train.levels, train.durations_us,
+                          spec.decoder.glitch_fraction * spec.unit_us)
+    hm = head_model(spec)
+    n = len(clean)
+    bursts = int(burst_breaks(clean.durations_us, hm.break_us).size) + 1 if n else 0
+    first, unit0 = (find_candidates(clean.levels, clean.durations_us, hm.sig_levels,
+                                    hm.sig_units, spec.unit_us, hm.runs, MAX_CLOCK_ERROR)
+                    if n else (np.zeros(0, np.int64), np.zeros(0)))
+    found, _ = _decode_clean(spec, hm, clean, grid=True) if first.size else ([], None)
+    return DecodeReport(len(train), n, bursts, int(first.size),
+                        tuple(round(float(u), 3) for u in unit0[:5]), len(found),
+                        sum(f.crc_ok for f, _ in found), float(spec.unit_us))
