@@ -43,8 +43,9 @@ def nearest_runs(ratio: np.ndarray, levels: np.ndarray, table: RunTable
                  ) -> tuple[np.ndarray, np.ndarray]:
     """Return (nearest allowed run length as int64, |ratio - length|) per pulse.
 
-    ``ratio`` is duration / unit; ``levels`` the pulses' levels. Pulses beyond the
-    longest run get the longest run (callers cap them with ``table.cap_ratio``).
+    ``ratio`` is duration / unit; ``levels`` the pulses' levels. Pulses longer than
+    ``table.cap_ratio`` (no run of a frame: a gap) keep their whole number of units, so
+    chip counts over a gap stay right.
     """
     r = np.asarray(ratio, dtype=np.float64)
     if table.same:
@@ -57,6 +58,9 @@ def nearest_runs(ratio: np.ndarray, levels: np.ndarray, table: RunTable
             m = levels == lv
             a = table.allowed[lv]
             units[m] = a[np.searchsorted(table.mids[lv], r[m])]
+    beyond = r > table.cap_ratio
+    if beyond.any():
+        units[beyond] = np.rint(r[beyond]).astype(np.int64)
     return units, np.abs(r - units)
 
 

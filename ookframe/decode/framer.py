@@ -108,7 +108,10 @@ def decode(spec: FrameSpec, train: PulseTrain, *,
     to ``max_flips`` at a time (default: the spec's ``decoder.max_flips``), and the frame
     is taken when its check passes; never more edges than the check's Hamming distance
     at the frame's length leaves safe (HD - 2: one more error would still be detected;
-    none for checksums of HD 2 or no check). ``corrected`` counts them.
+    none for checksums of HD 2 or no check). Only edges at least 0.3 unit off their grid
+    point are candidates, and at most 2**w / 4096 candidates are tried for a w-bit check,
+    so the false-accept probability it adds to a failed frame stays below 2**-12 (checks
+    narrower than 13 bits get none). ``corrected`` counts the edges moved.
     """
     validate_train(train)
     if include_bad is None:
@@ -142,6 +145,14 @@ def safe_flips(spec: FrameSpec) -> int:
 
 #: least reliable edges of a frame the recovery chooses from
 RECOVERY_EDGES = 8
+#: an edge is a candidate only this far (units) or further from its grid point: a frame
+#: whose edges all sit on the grid (a clean channel, a wrong sync hit on noise) is not
+#: "corrected" into a false accept
+RECOVERY_MIN_OFFSET = 0.3
+#: bound on the false-accept probability the recovery adds to one failed frame: every
+#: candidate tried passes a w-bit check by chance with probability 2**-w, so at most
+#: 2**w * this many candidates are tried (none for checks narrower than 13 bits)
+RECOVERY_FALSE_ACCEPT = 2.0 ** -12
 
 
 @dataclass(frozen=True, eq=False)
@@ -170,6 +181,7 @@ def _recover(spec: FrameSpec, hm: HeadModel, ctx: _Context, k: int, max_flips: i
         a = hm.runs.allowed[lvl]
         ok &= np.where(lv[j] == lvl, np.isin(n1, a), True)
         ok &= np.where(lv[j + 1] == lvl, np.isin(n2, a), True)
+    ok &= np.abs(res[j]) >= RECOVERY_MIN_OFFSET
     j = j[ok]
     cost = 0.5 - np.abs(res[j])
     order = np.argsort(cost, kind="stable")[:RECOVERY_EDGES]
@@ -177,7 +189,8 @@ def _recover(spec: FrameSpec, hm: HeadModel, ctx: _Context, k: int, max_flips: i
     trials = sorted((c for n in range(1, max_flips + 1)
                      for c in itertools.combinations(range(edges.size), n)),
                     key=lambda c: (len(c), float(cost[order][list(c)].sum())))
-    for combo in trials:
+    budget = int(2.0 ** spec.check.width_bits * RECOVERY_FALSE_ACCEPT)
+    for combo in trials[:budget]:
         u = units.copy()
         for i in combo:
             u[edges[i]] += step[i]
