@@ -728,7 +728,7 @@ def test_emit_onto_a_plain_file(capsys, tmp_path):
     f.write_text("keep\n")
     for target in (f, f / "sub"):
         code, _, err = run_bad(capsys, "emit", HIVE, "-o", target)
-        assert code == exitcodes.EXISTS and f"{f} is a file, not a folder" in err
+        assert code == exitcodes.BAD_INPUT and f"{f} is a file, not a folder" in err
         assert "File exists" not in err
     assert f.read_text() == "keep\n"
 

@@ -89,8 +89,8 @@ def _int(d: Mapping[str, Any], key: str, path: str, default: int | None = None, 
         return _default(p, default)
     v = d[key]
     if isinstance(v, bool) or not isinstance(v, int):
-        raise SpecError(p, f"must be an integer, got {type(v).__name__} {excerpt(v)} "
-                        "(write e.g. 3, 0x2D or 0b101, without quotes)")
+        hint = " (write it without quotes: 3, 0x2D, 0b101)" if isinstance(v, str) else ""
+        raise SpecError(p, f"must be an integer, got {type(v).__name__} {excerpt(v)}{hint}")
     if lo is not None and v < lo or hi is not None and v > hi:
         allowed = f"{lo}..{hi}" if hi is not None else f">= {lo}"
         raise SpecError(p, f"{excerpt(v)} is out of range; allowed {allowed}")
