@@ -430,6 +430,7 @@ def test_vectors_refuses_existing_output(capsys, tmp_path):
         (["--interval-s", "0"], "interval_s must be longer than one transmission (0.184 s)"),
         (["--interval-s", "-5"], "interval_s must be longer"),
         (["--interval-s", "nan"], "got nan"),
+        (["--interval-s", "inf"], "got inf"),
         (["--interval-s", "0.1"], "got 0.1"),
         (["--interval-s", "60", "--nodes", "0"], "nodes must be an integer >= 1, got 0"),
         (["--interval-s", "60", "--nodes", "-2"], "nodes must be an integer >= 1"),
