@@ -646,7 +646,7 @@ def test_spec_size_limits_fail_fast(capsys, tmp_path, n, width, repeats, message
         t0 = time.perf_counter()
         code, _, err = run_bad(capsys, *argv)
         assert code == exitcodes.BAD_SPEC and message in err
-        assert time.perf_counter() - t0 < 10
+        assert time.perf_counter() - t0 < 20  # was over a minute before the limits
 
 
 def test_preamble_count_limit(capsys, tmp_path):
