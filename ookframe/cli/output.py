@@ -86,11 +86,12 @@ def write_atomic(path: str | Path, data: str | bytes, force: bool = False, *,
 
 
 def _make_folder(folder: Path) -> None:
-    """Create ``folder`` and its parents; an error (bad input) naming the part that is a file."""
+    """Create ``folder`` and its parents; OutputExists naming the part that is a file (an
+    existing path in the way of the output, README exit 6)."""
     for part in (folder, *folder.parents):
         if part.exists():
             if not part.is_dir():
-                raise OokframeError(f"{part} is a file, not a folder; give a folder to write "
+                raise OutputExists(f"{part} is a file, not a folder; give a folder to write "
                                    "into (it is created if missing)")
             break
     folder.mkdir(parents=True, exist_ok=True)
