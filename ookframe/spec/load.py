@@ -8,14 +8,14 @@ from __future__ import annotations
 
 import difflib
 import math
+import os
 import sys
 import tomllib
 from collections.abc import Mapping
 from pathlib import Path
 from typing import Any
 
-from .._require import require, require_path
-from ..errors import QUOTE_CHARS, SpecError, excerpt
+from ..errors import QUOTE_CHARS, SpecError, excerpt, require
 from .model import (
     CheckSpec,
     CrcParams,
@@ -476,7 +476,7 @@ def _check_size(spec: FrameSpec) -> None:
 
 def load_spec_and_defaults(path: str | Path) -> tuple[FrameSpec, dict[str, object]]:
     """Return (FrameSpec, defaults) from a TOML file; SpecError on any problem."""
-    require_path(path, "path")
+    require(path, (str, os.PathLike), "path")
     p = Path(path)
     try:
         text = p.read_text(encoding="utf-8")
