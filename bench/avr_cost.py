@@ -20,7 +20,7 @@ sys.path.insert(0, str(ROOT))
 
 from ookframe.codegen import TimerTarget, emit_header  # noqa: E402
 from ookframe.demo import example_names, example_text  # noqa: E402
-from ookframe.spec.load import spec_and_defaults_from_dict  # noqa: E402
+from ookframe.spec_io import spec_and_defaults_from_dict  # noqa: E402
 from tests.c import avr_run  # noqa: E402
 
 

@@ -13,7 +13,7 @@ import time
 
 import numpy as np
 
-from ookframe.analysis.crc_strength import crc_strength, syndromes
+from ookframe.checks.crc_strength import crc_strength, syndromes
 
 DATA_BITS = 1024
 POLYS = [  # (name, width, normal poly)

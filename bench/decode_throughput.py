@@ -20,7 +20,7 @@ import numpy as np
 from ookframe.decode import decode
 from ookframe.frame import encode, random_values
 from ookframe.pulses import PulseTrain, merge_runs
-from ookframe.spec.load import load_spec
+from ookframe.spec_io import load_spec
 
 SPEC = Path(__file__).resolve().parent.parent / "examples" / "hive_scale.toml"
 

@@ -6,92 +6,83 @@ This module is the public API; everything else may change between versions.
 
 from __future__ import annotations
 
+from importlib import import_module
+from typing import Any
+
 __version__ = "0.1.0"
 
-from .captures import read_capture, write_capture
-from .channel import PRESETS, ChannelSpec, apply_channel, get_preset
-from .checks import CATALOGUE, Crc, make_check
-from .codegen import TimerTarget, emit_header
-from .decode import DecodedFrame
-from .decode import decode as decode_frames  # the name 'decode' is the subpackage
-from .errors import CaptureError, CodegenError, OokframeError, SpecError, ValueRangeError
-from .frame import (
-    ParsedFrame,
-    encode,
-    encode_many,
-    frame_bits,
-    frame_chips,
-    parse_frame,
-    random_values,
-    values_equal,
-)
-from .layout import Layout, frame_layout
-from .linecodes import LINE_CODES, get_line_code
-from .pulses import PulseTrain
-from .spec.load import load_spec, load_spec_and_defaults, spec_from_dict
-from .spec.model import (
-    CheckSpec,
-    CrcParams,
-    DecoderSpec,
-    FieldSpec,
-    FrameSpec,
-    LineCodeSpec,
-    PreambleSpec,
-    SyncSpec,
-    WhiteningSpec,
-)
-from .stress import NoiseResult, StressResult, run_noise, run_stress
-from .whitening import lfsr_bits, whiten
+#: public name -> (module, attribute); imported on first use so that `ookframe --version`
+#: and `import ookframe` stay fast (scipy, jinja2 and the decoder load only when needed)
+_LAZY: dict[str, tuple[str, str]] = {
+    "read_capture": (".captures", "read_capture"),
+    "write_capture": (".captures", "write_capture"),
+    "PRESETS": (".channel", "PRESETS"),
+    "ChannelSpec": (".channel", "ChannelSpec"),
+    "apply_channel": (".channel", "apply_channel"),
+    "get_preset": (".channel", "get_preset"),
+    "CATALOGUE": (".checks", "CATALOGUE"),
+    "Crc": (".checks", "Crc"),
+    "make_check": (".checks", "make_check"),
+    "TimerTarget": (".codegen", "TimerTarget"),
+    "emit_header": (".codegen", "emit_header"),
+    "DecodedFrame": (".decode", "DecodedFrame"),
+    "decode_frames": (".decode", "decode"),
+    "CaptureError": (".errors", "CaptureError"),
+    "CodegenError": (".errors", "CodegenError"),
+    "OokframeError": (".errors", "OokframeError"),
+    "SpecError": (".errors", "SpecError"),
+    "ValueRangeError": (".errors", "ValueRangeError"),
+    "ParsedFrame": (".frame", "ParsedFrame"),
+    "encode": (".frame", "encode"),
+    "encode_many": (".frame", "encode_many"),
+    "frame_bits": (".frame", "frame_bits"),
+    "frame_chips": (".frame", "frame_chips"),
+    "parse_frame": (".frame", "parse_frame"),
+    "random_values": (".frame", "random_values"),
+    "values_equal": (".frame", "values_equal"),
+    "Layout": (".layout", "Layout"),
+    "frame_layout": (".layout", "frame_layout"),
+    "LINE_CODES": (".linecodes", "LINE_CODES"),
+    "get_line_code": (".linecodes", "get_line_code"),
+    "PulseTrain": (".pulses", "PulseTrain"),
+    "load_spec": (".spec_io", "load_spec"),
+    "load_spec_and_defaults": (".spec_io", "load_spec_and_defaults"),
+    "spec_from_dict": (".spec_io", "spec_from_dict"),
+    "FramePlan": (".plan", "FramePlan"),
+    "compile_plan": (".plan", "compile_plan"),
+    "CheckSpec": (".spec.model", "CheckSpec"),
+    "CrcParams": (".spec.model", "CrcParams"),
+    "DecoderSpec": (".spec.model", "DecoderSpec"),
+    "FieldSpec": (".spec.model", "FieldSpec"),
+    "FrameSpec": (".spec.model", "FrameSpec"),
+    "LineCodeSpec": (".spec.model", "LineCodeSpec"),
+    "PreambleSpec": (".spec.model", "PreambleSpec"),
+    "SyncSpec": (".spec.model", "SyncSpec"),
+    "WhiteningSpec": (".spec.model", "WhiteningSpec"),
+    "NoiseResult": (".stress", "NoiseResult"),
+    "StressResult": (".stress", "StressResult"),
+    "run_noise": (".stress", "run_noise"),
+    "run_stress": (".stress", "run_stress"),
+    "lfsr_bits": (".whitening", "lfsr_bits"),
+    "whiten": (".whitening", "whiten"),
+}
 
-__all__ = [
-    "DecodedFrame",
-    "TimerTarget",
-    "StressResult",
-    "NoiseResult",
-    "PRESETS",
-    "ChannelSpec",
-    "__version__",
-    "CATALOGUE",
-    "CaptureError",
-    "Crc",
-    "CheckSpec",
-    "CodegenError",
-    "CrcParams",
-    "DecoderSpec",
-    "FieldSpec",
-    "FrameSpec",
-    "Layout",
-    "LINE_CODES",
-    "LineCodeSpec",
-    "OokframeError",
-    "ParsedFrame",
-    "PreambleSpec",
-    "PulseTrain",
-    "SpecError",
-    "SyncSpec",
-    "ValueRangeError",
-    "WhiteningSpec",
-    "encode",
-    "encode_many",
-    "frame_bits",
-    "frame_chips",
-    "frame_layout",
-    "get_line_code",
-    "lfsr_bits",
-    "load_spec",
-    "make_check",
-    "load_spec_and_defaults",
-    "parse_frame",
-    "random_values",
-    "spec_from_dict",
-    "apply_channel",
-    "get_preset",
-    "run_noise",
-    "run_stress",
-    "read_capture",
-    "write_capture",
-    "emit_header",
-    "decode_frames",
-    "values_equal",
-    "whiten",
-]
+__all__ = ["__version__", *_LAZY]
+
+
+def __getattr__(name: str) -> Any:
+    """Import a public name on first use (PEP 562) and cache it in the module."""
+    if name not in _LAZY:  # a subpackage, e.g. ookframe.stress (as when all were eager)
+        from importlib.util import find_spec
+
+        if name.startswith("_") or find_spec(f"{__name__}.{name}") is None:
+            raise AttributeError(f"module 'ookframe' has no attribute {name!r}")
+        return import_module(f".{name}", __name__)
+    module, attr = _LAZY[name]
+    value = getattr(import_module(module, __name__), attr)
+    globals()[name] = value
+    return value
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(_LAZY))

@@ -23,11 +23,16 @@ TRAIN_HINT = "build one with ookframe.PulseTrain(levels, durations_us) or ookfra
 RNG_HINT = "make one with numpy.random.default_rng(seed)"
 
 
-def require_spec(spec: Any, name: str = "spec") -> FrameSpec:
-    """Return ``spec`` if it is a FrameSpec; TypeError naming ``name`` otherwise."""
+def require_spec(spec: Any, name: str = "spec") -> Any:
+    """Return ``spec`` if it is a FrameSpec (or a compiled FramePlan); TypeError naming
+    ``name`` otherwise."""
     if isinstance(spec, str | os.PathLike):
         raise TypeError(f"{name} must be a FrameSpec, got the path {os.fspath(spec)[:60]!r}; "
                         f"{SPEC_HINT}")
+    from .plan import FramePlan  # here: the plan's own stages (line codes, checks) use this module
+
+    if isinstance(spec, FramePlan):
+        return spec
     return require(spec, FrameSpec, name, SPEC_HINT)
 
 

@@ -14,7 +14,8 @@ from .errors import ValueRangeError, excerpt
 from .spec.model import BitOrder, ByteOrder, FieldSpec
 
 
-def _dec(x: float) -> Decimal:
+def exact_decimal(x: float) -> Decimal:
+    """Return the decimal written by ``repr(x)`` (0.1 -> Decimal("0.1"), not its binary value)."""
     return Decimal(repr(float(x)))
 
 
@@ -29,13 +30,13 @@ def to_raw(f: FieldSpec, value: object) -> int:
         raise ValueRangeError(f"field '{f.name}': expected a number, got {type(value).__name__}")
     try:
         v = Decimal(value.strip()) if isinstance(value, str) else (
-            Decimal(value) if isinstance(value, int) else _dec(value))
+            Decimal(value) if isinstance(value, int) else exact_decimal(value))
     except ArithmeticError:
         raise ValueRangeError(f"field '{f.name}': {excerpt(value)} is not a number") from None
     if not v.is_finite():
         raise ValueRangeError(f"field '{f.name}': {excerpt(value)} is not a finite number")
     if f.is_scaled:
-        v = (v - _dec(f.offset)) / _dec(f.scale)
+        v = (v - exact_decimal(f.offset)) / exact_decimal(f.scale)
     raw = int(v.to_integral_value(rounding=ROUND_HALF_EVEN))
     if f.role == "value" and not f.is_scaled and raw != v:
         raise ValueRangeError(f"field '{f.name}': {excerpt(value)} is not an integer")
@@ -50,11 +51,28 @@ def to_raw(f: FieldSpec, value: object) -> int:
     return raw
 
 
+def to_blob(f: FieldSpec, value: object) -> bytes:
+    """Return the bytes sent for ``value`` (bytes or a hex string) of bytes field ``f``.
+
+    Raises ValueRangeError when the value is not bytes/hex or longer than ``max_len_bytes``.
+    """
+    if isinstance(value, str):
+        try:
+            value = bytes.fromhex(value)
+        except ValueError:
+            raise ValueRangeError(f"field '{f.name}': {excerpt(value)} is not hex") from None
+    if not isinstance(value, bytes | bytearray):
+        raise ValueRangeError(f"field '{f.name}': expected bytes or a hex string")
+    if len(value) > f.max_len_bytes:
+        raise ValueRangeError(f"field '{f.name}': {len(value)} bytes; allowed 0..{f.max_len_bytes}")
+    return bytes(value)
+
+
 def from_raw(f: FieldSpec, raw: int) -> int | float:
     """Return the physical value of raw integer ``raw`` (int when the field is unscaled)."""
     if not f.is_scaled:
         return int(raw)
-    return float(Decimal(int(raw)) * _dec(f.scale) + _dec(f.offset))
+    return float(Decimal(int(raw)) * exact_decimal(f.scale) + exact_decimal(f.offset))
 
 
 def to_unsigned(raw: int, width_bits: int) -> int:
@@ -89,6 +107,20 @@ def order_bits(msb_first: np.ndarray, bit_order: BitOrder, byte_order: ByteOrder
             b = b[..., ::-1]
         return b.reshape(msb_first.shape).copy()
     return msb_first[..., ::-1].copy() if bit_order == "lsb" else msb_first.copy()
+
+
+def air_order(width_bits: int, bit_order: BitOrder, byte_order: ByteOrder) -> list[int]:
+    """Return, for every on-air position of a ``width_bits`` value, the index of the bit
+    (MSB first) sent there: ``order_bits(np.arange(width_bits), ...)`` as a list."""
+    idx = list(range(width_bits))
+    if width_bits % 8 == 0 and width_bits > 8:
+        groups = [idx[k:k + 8] for k in range(0, width_bits, 8)]
+        if byte_order == "little":
+            groups.reverse()
+        if bit_order == "lsb":
+            groups = [g[::-1] for g in groups]
+        return [i for g in groups for i in g]
+    return idx[::-1] if bit_order == "lsb" else idx
 
 
 def bits_to_int(bits: np.ndarray, bit_order: BitOrder = "msb", byte_order: ByteOrder = "big") -> int:

@@ -31,6 +31,10 @@ class CodegenError(OokframeError):
     """C code cannot be generated for this spec/target (timing does not fit, bad name...)."""
 
 
+class ClusterError(OokframeError):
+    """A Dask cluster cannot be used (extra not installed, scheduler unreachable, no worker,
+    another ookframe version on a worker)."""
+
 
 #: longest quotation of user input in an error message (characters, before "...")
 QUOTE_CHARS = 40

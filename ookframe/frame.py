@@ -1,25 +1,31 @@
 """Frames: field values -> on-air bits -> chips -> pulse train, and received bits -> fields.
 
 See :mod:`ookframe.spec.model` for the frame layout and the order of check, whitening and
-bit stuffing.
+bit stuffing. There is one encoder and one parser, both array-wide: the one-frame
+functions here are :mod:`ookframe.batch` with n = 1 and :func:`parse_frames` with one row.
+Every function takes a :class:`~ookframe.plan.FramePlan` or a FrameSpec (compiled on
+entry); callers that run many frames compile the plan once and pass it.
 """
 
 from __future__ import annotations
 
+import difflib
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from decimal import Decimal
-from functools import lru_cache
 
 import numpy as np
 
-from . import bits as _b
+from . import batch as _batch
 from ._require import require_rng, require_spec, require_values
+from .bits import from_raw, to_blob, to_raw, to_signed, to_unsigned
 from .errors import ValueRangeError, excerpt
+from .plan import FramePlan, as_plan, spec_of
 from .pulses import PulseTrain, chips_to_train, concat
-from .spec.model import FieldSpec, FrameSpec
+from .spec.model import FrameSpec
 
 Values = Mapping[str, object]
+SpecOrPlan = FrameSpec | FramePlan
 
 
 @dataclass(frozen=True)
@@ -33,63 +39,35 @@ class ParsedFrame:
     n_bits: int
 
 
-@lru_cache(maxsize=64)
-def _line_code(spec: FrameSpec):
-    from .linecodes import get_line_code
-
-    return get_line_code(spec.line_code)
-
-
-@lru_cache(maxsize=64)
-def _check(spec: FrameSpec):
-    from .checks import make_check
-
-    return make_check(spec.check)
-
-
-def head_bits(spec: FrameSpec) -> np.ndarray:
+def head_bits(spec: SpecOrPlan) -> np.ndarray:
     """Preamble + sync bits (constant part of every frame)."""
-    return np.array(spec.preamble.bits() + spec.sync.bits(), dtype=np.uint8)
+    return as_plan(spec).head_bits.copy()
 
 
-def sync_bits(spec: FrameSpec) -> np.ndarray:
-    return np.array(spec.sync.bits(), dtype=np.uint8)
+def sync_bits(spec: SpecOrPlan) -> np.ndarray:
+    return as_plan(spec).sync_bits.copy()
 
 
-def _blob(f: FieldSpec, value: object) -> bytes:
-    if isinstance(value, str):
-        try:
-            value = bytes.fromhex(value)
-        except ValueError:
-            raise ValueRangeError(f"field '{f.name}': {excerpt(value)} is not hex") from None
-    if not isinstance(value, bytes | bytearray):
-        raise ValueRangeError(f"field '{f.name}': expected bytes or a hex string")
-    if len(value) > f.max_len_bytes:
-        raise ValueRangeError(f"field '{f.name}': {len(value)} bytes; allowed 0..{f.max_len_bytes}")
-    return bytes(value)
-
-
-def raw_values(spec: FrameSpec, values: Values) -> dict[str, object]:
+def raw_values(spec: SpecOrPlan, values: Values) -> dict[str, object]:
     """Return raw values (ints, bytes) for every field; the length field is derived.
 
     Raises ValueRangeError naming a missing, unknown or out-of-range field.
     """
-    unknown = [k for k in values if k not in {f.name for f in spec.fields}]
+    fields = spec_of(spec).fields
+    unknown = [k for k in values if k not in {f.name for f in fields}]
     if unknown:
-        import difflib
-
-        close = difflib.get_close_matches(str(unknown[0])[:100], [f.name for f in spec.fields], n=1)
+        close = difflib.get_close_matches(str(unknown[0])[:100], [f.name for f in fields], n=1)
         hint = f" (did you mean '{close[0]}'?)" if close else ""
         raise ValueRangeError(f"unknown field {excerpt(unknown[0])}{hint}; fields: "
-                              + ", ".join(f.name for f in spec.fields))
+                              + ", ".join(f.name for f in fields))
     raw: dict[str, object] = {}
     blob_len: int | None = None
-    for f in spec.fields:
+    for f in fields:
         if f.kind == "bytes":
-            b = _blob(f, values.get(f.name, b""))
+            b = to_blob(f, values.get(f.name, b""))
             raw[f.name] = b
             blob_len = len(b)
-    for f in spec.fields:
+    for f in fields:
         if f.kind == "bytes":
             continue
         if f.role == "length":
@@ -101,7 +79,7 @@ def raw_values(spec: FrameSpec, values: Values) -> dict[str, object]:
             continue
         if f.name not in values:
             raise ValueRangeError(f"field '{f.name}' has no value (set it or give a default)")
-        raw[f.name] = _b.to_raw(f, values[f.name])
+        raw[f.name] = to_raw(f, values[f.name])
     return raw
 
 
@@ -112,104 +90,101 @@ def to_int_or_none(v: object) -> int | None:
         return None
 
 
-def field_bits(spec: FrameSpec, raw: Mapping[str, object]) -> np.ndarray:
-    """On-air bits of the fields section (un-whitened)."""
-    parts = []
-    for f in spec.fields:
-        r = raw[f.name]
-        if f.kind == "bytes":
-            assert isinstance(r, bytes)
-            if r:
-                b = np.unpackbits(np.frombuffer(r, dtype=np.uint8))
-                if spec.bit_order == "lsb":
-                    b = b.reshape(-1, 8)[:, ::-1].ravel()
-                parts.append(b)
+def raws_batch(spec: SpecOrPlan, raws: Sequence[Mapping[str, object]]) -> dict[str, object]:
+    """Return the batch form (:data:`ookframe.batch.Raws`) of per-frame raw value dicts."""
+    plan = as_plan(spec)
+    out: dict[str, object] = {}
+    for fp in plan.fields:
+        col = [r[fp.name] for r in raws]
+        if fp.width_bits is None:
+            out[fp.name] = col
         else:
-            assert isinstance(r, int)
-            parts.append(_b.int_to_bits(_b.to_unsigned(r, f.width_bits), f.width_bits,
-                                        spec.bit_order, spec.byte_order))
-    return np.concatenate(parts) if parts else np.zeros(0, np.uint8)
+            out[fp.name] = np.array([to_unsigned(int(v), fp.width_bits) for v in col],  # type: ignore[call-overload]
+                                    dtype=np.uint64)
+    return out
 
 
-def check_bits(spec: FrameSpec, fbits: np.ndarray) -> np.ndarray:
+def _encoded(spec: SpecOrPlan, values_list: Sequence[Values]) -> _batch.EncodedBits:
+    plan = as_plan(spec)
+    return _batch.encode_bits(plan, raws_batch(plan, [raw_values(plan, v) for v in values_list]))
+
+
+def field_bits(spec: SpecOrPlan, raw: Mapping[str, object]) -> np.ndarray:
+    """On-air bits of the fields section (un-whitened)."""
+    plan = as_plan(spec)
+    fb, n_fb = _batch.field_bits_batch(plan, raws_batch(plan, [raw]))
+    return fb[0, :int(n_fb[0])]
+
+
+def check_bits(spec: SpecOrPlan, fbits: np.ndarray) -> np.ndarray:
     """On-air bits of the check over the covered sections (sync and/or fields)."""
-    if spec.check.kind == "none":
-        return np.zeros(0, np.uint8)
-    covered = []
-    if "sync" in spec.check.covers:
-        covered.append(sync_bits(spec))
-    if "fields" in spec.check.covers:
-        covered.append(fbits)
-    value = _check(spec).compute(_b.pack_bits(np.concatenate(covered)))
-    w = spec.check.width_bits
-    return _b.int_to_bits(value, w, spec.bit_order, spec.check.byte_order)
+    fb = np.asarray(fbits, dtype=np.uint8)
+    return _batch.check_bits_batch(spec, fb[None, :], np.array([fb.size]))[0]
 
 
-def whitening_mask(spec: FrameSpec, n_field_bits: int, n_check_bits: int) -> np.ndarray:
-    """XOR mask over fields + check (zeros where whitening does not cover)."""
-    n = n_field_bits + n_check_bits
-    if spec.whitening.kind == "none":
-        return np.zeros(n, np.uint8)
-    from .whitening import lfsr_bits
-
-    w = spec.whitening
-    start = 0 if "fields" in w.covers else n_field_bits
-    stop = n if "check" in w.covers else n_field_bits
-    mask = np.zeros(n, np.uint8)
-    mask[start:stop] = lfsr_bits(w, stop - start)
-    return mask
+def whitening_mask(spec: SpecOrPlan, n_field_bits: int, n_check_bits: int) -> np.ndarray:
+    """XOR mask over fields + check (zeros where whitening does not cover) of a frame with
+    ``n_field_bits`` fields bits; ``n_check_bits`` (at most the check width) of the check."""
+    plan = as_plan(spec)
+    return np.concatenate((plan.fields_mask[:n_field_bits],
+                           plan.check_mask(n_field_bits)[:n_check_bits]))
 
 
-def body_bits(spec: FrameSpec, values: Values) -> np.ndarray:
+def body_bits(spec: SpecOrPlan, values: Values) -> np.ndarray:
     """Fields + check bits as sent (whitened, not stuffed)."""
-    raw = raw_values(spec, values)
-    fb = field_bits(spec, raw)
-    cb = check_bits(spec, fb)
-    body = np.concatenate((fb, cb))
-    return body ^ whitening_mask(spec, fb.size, cb.size)
+    enc = _encoded(spec, [values])
+    return enc.body[0, :int(enc.n_body_bits[0])]
 
 
-def frame_bits(spec: FrameSpec, values: Values) -> np.ndarray:
+def frame_bits(spec: SpecOrPlan, values: Values) -> np.ndarray:
     """Return the complete on-air bit stream of one frame before line coding (no stuffing)."""
     require_spec(spec, "spec")
     require_values(values, "values")
-    return np.concatenate((head_bits(spec), body_bits(spec, values)))
+    plan = as_plan(spec)
+    return np.asarray(_batch.frame_bits_of(plan, _encoded(plan, [values]))[0])
 
 
-def frame_chips(spec: FrameSpec, values: Values) -> np.ndarray:
+def frame_chips(spec: SpecOrPlan, values: Values) -> np.ndarray:
     """Return the chips of one frame (bit stuffing after the sync, then line code)."""
     require_spec(spec, "spec")
     require_values(values, "values")
-    lc = _line_code(spec)
-    bits = np.concatenate((head_bits(spec), lc.stuff(body_bits(spec, values))))
-    return lc.encode(bits)
+    return frame_chips_many(spec, [values])[0]
 
 
-def frame_train(spec: FrameSpec, values: Values) -> PulseTrain:
+def frame_chips_many(spec: SpecOrPlan, values_list: Sequence[Values]) -> list[np.ndarray]:
+    """Return the chips of one frame per entry of ``values_list``."""
+    plan = as_plan(spec)
+    bits = _batch.frame_bits_of(plan, _encoded(plan, values_list))
+    return [np.asarray(c) for c in _batch.frame_chips_batch(plan, bits)]
+
+
+def frame_train(spec: SpecOrPlan, values: Values) -> PulseTrain:
     """Pulse train of one frame (no repeats)."""
-    return chips_to_train(frame_chips(spec, values), spec.unit_us)
+    plan = as_plan(spec)
+    return chips_to_train(frame_chips(plan, values), plan.unit_us)
 
 
-def encode(spec: FrameSpec, values: Values) -> PulseTrain:
+def encode(spec: SpecOrPlan, values: Values) -> PulseTrain:
     """Return the pulse train of one whole transmission: ``repeats`` frames, ``gap_us`` apart."""
     require_spec(spec, "spec")
     require_values(values, "values")
-    one = frame_train(spec, values)
-    return concat([one] * spec.repeats, spec.gap_us)
+    return encode_many(spec, [values])[0]
 
 
-def encode_many(spec: FrameSpec, values_list: Sequence[Values]) -> list[PulseTrain]:
+def encode_many(spec: SpecOrPlan, values_list: Sequence[Values]) -> list[PulseTrain]:
     """Return one transmission per entry of ``values_list``."""
     require_spec(spec, "spec")
-    return [encode(spec, v) for v in values_list]
+    plan = as_plan(spec)
+    return [concat([chips_to_train(c, plan.unit_us)] * plan.repeats, plan.gap_us)
+            for c in frame_chips_many(plan, values_list)]
 
 
-def random_values(spec: FrameSpec, rng: np.random.Generator) -> dict[str, object]:
+def random_values(spec: SpecOrPlan, rng: np.random.Generator) -> dict[str, object]:
     """Return valid random field values (physical) for every settable field."""
     require_spec(spec, "spec")
     require_rng(rng, "rng")
     out: dict[str, object] = {}
-    for f in spec.fields:
+    for f in spec_of(spec).fields:
         if f.role == "length":
             continue
         if f.kind == "bytes":
@@ -221,11 +196,11 @@ def random_values(spec: FrameSpec, rng: np.random.Generator) -> dict[str, object
             else:  # 64-bit: combine two 32-bit draws
                 hi, lo = (int(x) for x in rng.integers(0, 1 << 32, 2, dtype=np.uint64))
                 raw = f.raw_min + ((hi << 32) | lo)
-            out[f.name] = _b.from_raw(f, raw)
+            out[f.name] = from_raw(f, raw)
     return out
 
 
-def values_equal(spec: FrameSpec, a: Values, b: Values) -> bool:
+def values_equal(spec: SpecOrPlan, a: Values, b: Values) -> bool:
     """True when two value sets give the same raw fields (length field derived)."""
     require_spec(spec, "spec")
     require_values(a, "a")
@@ -236,297 +211,248 @@ def values_equal(spec: FrameSpec, a: Values, b: Values) -> bool:
         return False
 
 
-def _settable(spec: FrameSpec, v: Values) -> dict[str, object]:
-    return {f.name: v[f.name] for f in spec.fields if f.role != "length" and f.name in v}
+def _settable(spec: SpecOrPlan, v: Values) -> dict[str, object]:
+    return {f.name: v[f.name] for f in spec_of(spec).fields if f.role != "length" and f.name in v}
 
 
-def max_body_bits(spec: FrameSpec) -> int:
+def max_body_bits(spec: SpecOrPlan) -> int:
     """Longest fields + check section in bits (before stuffing)."""
-    n = sum(f.width_bits if f.kind == "int" else 8 * f.max_len_bytes for f in spec.fields)
-    return n + spec.check.width_bits
+    return as_plan(spec).max_body_bits
 
 
-def min_body_bits(spec: FrameSpec) -> int:
+def min_body_bits(spec: SpecOrPlan) -> int:
     """Shortest fields + check section in bits (bytes field empty)."""
-    return sum(f.width_bits for f in spec.fields if f.kind == "int") + spec.check.width_bits
+    return as_plan(spec).min_body_bits
 
 
-@dataclass(frozen=True)
-class _FieldPlan:
-    """How to read one field: kind, width, sign, on-air bit weights, decimal scale/offset."""
-
-    f: FieldSpec
-    weights: np.ndarray | None  # uint64 weight of every on-air bit (None: wider than 64)
-    scale: Decimal | None  # None when the field is unscaled
-    offset: Decimal | None
+def fixed_body_bits(spec: SpecOrPlan) -> int | None:
+    """Return the fields + check bits when every frame of ``spec`` has the same layout of
+    integer fields of at most 64 bits, else None."""
+    return as_plan(spec).fixed_body_bits
 
 
-@dataclass(frozen=True)
-class _ParsePlan:
-    """Everything ``parse_frame`` needs from a spec, worked out once per spec."""
+@dataclass(frozen=True, eq=False)
+class ParsedFrames:
+    """Frames parsed together (see :func:`parse_frames`), one entry per row given.
 
-    spec: FrameSpec
-    fields: tuple[_FieldPlan, ...]
-    min_body_bits: int
-    max_body_bits: int
-    n_check_bits: int
-    fields_mask: np.ndarray | None  # whitening of the longest fields section, or None
-    check_weights: np.ndarray | None
-    check: object
-    sync_bits: np.ndarray | None  # sync bits when the check covers the sync, else None
-    check_masks: dict[int, np.ndarray]  # whitening of the check bits by fields length
+    raw: per field (spec order) the uint64 bit pattern read for every frame, or for the
+    bytes field a tuple of bytes; payload: (frames x bytes) uint8, the fields bytes as
+    packed on air, de-whitened (zero after a shorter frame's own bytes); check_ok: bool
+    per frame; n_bits: fields + check bits per frame (int64); complete: False where the
+    row ran out of bits or held an impossible length (no frame: ``parse_frame`` gives None).
+    """
 
+    plan: FramePlan
+    raw: tuple[np.ndarray | tuple[bytes, ...], ...]
+    payload: np.ndarray
+    check_ok: np.ndarray
+    n_bits: np.ndarray
+    complete: np.ndarray
 
-def _bit_weights(width_bits: int, bit_order: _b.BitOrder, byte_order: _b.ByteOrder
-                 ) -> np.ndarray | None:
-    """Return the uint64 weight of every on-air bit of a ``width_bits`` value, so that
-    ``bits @ weights`` equals :func:`bits.bits_to_int`; None above 64 bits."""
-    if width_bits > 64:
-        return None
-    perm = _b.order_bits(np.arange(width_bits), bit_order, byte_order)
-    return np.left_shift(np.uint64(1), (width_bits - 1 - perm).astype(np.uint64))
+    @property
+    def spec(self) -> FrameSpec:
+        return self.plan.spec
 
-
-def _dot_int(bits: np.ndarray, weights: np.ndarray | None, bit_order: _b.BitOrder,
-             byte_order: _b.ByteOrder) -> int:
-    if weights is None:
-        return _b.bits_to_int(bits, bit_order, byte_order)
-    return int(np.dot(bits, weights))
-
-
-#: parse plans by id(spec); each entry holds its spec, so an id is not reused while cached
-_PLANS: dict[int, _ParsePlan] = {}
-
-
-def _parse_plan(spec: FrameSpec) -> _ParsePlan:
-    """Return the parse plan of ``spec`` (built on first use; no hashing of the spec)."""
-    plan = _PLANS.get(id(spec))
-    if plan is not None and plan.spec is spec:
-        return plan
-    fields = []
-    for f in spec.fields:
-        wts = None if f.kind == "bytes" else _bit_weights(f.width_bits, spec.bit_order,
-                                                          spec.byte_order)
-        sc = (_b._dec(f.scale), _b._dec(f.offset)) if f.is_scaled else (None, None)
-        fields.append(_FieldPlan(f, wts, *sc))
-    w = spec.whitening
-    n_max = max_body_bits(spec)
-    fields_mask = None
-    if w.kind != "none" and "fields" in w.covers:
-        from .whitening import lfsr_bits
-
-        fields_mask = lfsr_bits(w, n_max)
-    n_cb = spec.check.width_bits
-    plan = _ParsePlan(
-        spec=spec, fields=tuple(fields), min_body_bits=min_body_bits(spec),
-        max_body_bits=n_max, n_check_bits=n_cb, fields_mask=fields_mask,
-        check_weights=_bit_weights(n_cb, spec.bit_order, spec.check.byte_order) if n_cb else None,
-        check=_check(spec) if n_cb else None,
-        sync_bits=sync_bits(spec) if "sync" in spec.check.covers else None,
-        check_masks={})
-    if len(_PLANS) >= 64:
-        _PLANS.clear()
-    _PLANS[id(spec)] = plan
-    return plan
+    def frames(self) -> list[ParsedFrame | None]:
+        """Return every frame as :func:`parse_frame` gives it (None where not complete)."""
+        p = self.plan
+        names = [fp.field.name for fp in p.fields]
+        raws = []
+        for fp, col in zip(p.fields, self.raw, strict=True):
+            if isinstance(col, tuple):
+                raws.append(col)
+            elif fp.field.signed:
+                raws.append([to_signed(u, fp.field.width_bits) for u in col.tolist()])
+            else:
+                raws.append(col.tolist())
+        w = 2 * self.payload.shape[1]
+        hexes = self.payload.tobytes().hex()
+        n_fb = self.n_bits - p.n_check_bits
+        out: list[ParsedFrame | None] = []
+        rows = zip(zip(*raws, strict=True), self.check_ok.tolist(), self.complete.tolist(),
+                   n_fb.tolist(), strict=True)
+        for i, (values, ok, complete, k) in enumerate(rows):
+            if not complete:
+                out.append(None)
+                continue
+            raw = dict(zip(names, values, strict=True))
+            out.append(ParsedFrame(fields=_physical(p, raw), raw=raw,
+                                   payload_hex=hexes[i * w:i * w + 2 * ((k + 7) // 8)],
+                                   check_ok=ok, n_bits=k + p.n_check_bits))
+        return out
 
 
-def _check_mask(p: _ParsePlan, n_field_bits: int) -> np.ndarray:
-    """Return (cached in the plan) the whitening of the check bits after ``n_field_bits``."""
-    mask = p.check_masks.get(n_field_bits)
-    if mask is None:
-        mask = p.check_masks[n_field_bits] = whitening_mask(
-            p.spec, n_field_bits, p.n_check_bits)[n_field_bits:]
-    return mask
+def _rows_matrix(rows: np.ndarray | Sequence[np.ndarray], width: int
+                 ) -> tuple[np.ndarray, np.ndarray]:
+    """Return (rows as an n x ``width`` uint8 matrix, cut or zero-padded; bits per row)."""
+    if isinstance(rows, np.ndarray) and rows.ndim == 2:
+        rx = rows.astype(np.uint8, copy=False)
+        n, have = rx.shape
+        if have < width:
+            rx = np.concatenate((rx, np.zeros((n, width - have), np.uint8)), axis=1)
+        return rx[:, :width], np.full(n, min(have, width), np.int64)
+    arrs = [np.asarray(r, dtype=np.uint8)[:width] for r in rows]
+    sizes = [a.size for a in arrs]
+    rx = np.zeros((len(arrs), width), np.uint8)
+    if len(arrs) <= 16:  # a few rows: copy each (cheaper than the mask below)
+        for i, a in enumerate(arrs):
+            rx[i, :a.size] = a
+    else:
+        rx[np.arange(width) < np.array(sizes)[:, None]] = np.concatenate(arrs)
+    return rx, np.array(sizes, np.int64)
 
 
-def parse_frame(spec: FrameSpec, bits_after_sync: np.ndarray) -> ParsedFrame | None:
+@dataclass(frozen=True, eq=False)
+class _Fields:
+    raw: list[np.ndarray | tuple[bytes, ...]]
+    n_field_bits: np.ndarray
+    readable: np.ndarray
+    plain: np.ndarray  # (n x max fields bits) fields bits, zero after each row's own
+
+
+def _read(p: FramePlan, plain: np.ndarray, avail: np.ndarray, reserve_bits: int) -> _Fields:
+    """Read every field of un-whitened (n x max fields bits) rows with ``avail`` bits each;
+    a row is readable when its fields and ``reserve_bits`` more fit and its length is allowed."""
+    n = plain.shape[0]
+    raw: list[np.ndarray | tuple[bytes, ...]] = []
+    blob = p.bytes_field
+    if blob is None:
+        for fp in p.fields:
+            raw.append(np.dot(plain[:, fp.offset_bits:fp.offset_bits + fp.width_bits],  # type: ignore[operator]
+                              fp.weights))
+        n_fb = np.full(n, p.min_field_bits, np.int64)
+        return _Fields(raw, n_fb, avail >= p.min_field_bits + reserve_bits, plain)
+    m = blob.field.max_len_bytes
+    length = np.zeros(n, np.int64)
+    for fp in p.fields:
+        if fp.width_bits is None:
+            bits = plain[:, fp.offset_bits:fp.offset_bits + 8 * m]
+            if p.spec.bit_order == "lsb":
+                bits = bits.reshape(n, m, 8)[:, :, ::-1].reshape(n, 8 * m)
+            packed = np.packbits(bits, axis=1)
+            raw.append(tuple(row[:k].tobytes() for row, k in zip(packed, length.tolist(),
+                                                                  strict=True)))
+            continue
+        if fp.offset_bits < blob.offset_bits:
+            cols = plain[:, fp.offset_bits:fp.offset_bits + fp.width_bits]
+        else:
+            idx = 8 * length[:, None] + fp.offset_bits + np.arange(fp.width_bits)
+            cols = plain[np.arange(n)[:, None], idx]
+        u = np.dot(cols, fp.weights)
+        raw.append(u)
+        if fp is p.length_field:
+            length = np.where(u <= np.uint64(m), u, np.uint64(0)).astype(np.int64)
+            allowed = u <= np.uint64(m)
+    n_fb = p.min_field_bits + 8 * length
+    readable = allowed & (avail >= n_fb + reserve_bits)
+    return _Fields(raw, n_fb, readable, plain * (np.arange(plain.shape[1]) < n_fb[:, None]))
+
+
+def parse_frames(spec: SpecOrPlan, bodies: np.ndarray | Sequence[np.ndarray]) -> ParsedFrames:
+    """Read fields and verify the check of many frames at once.
+
+    ``bodies``: the bits after the sync word of every frame, unstuffed and still whitened,
+    as a 2-D uint8 array (frames x bits) or a sequence of 1-D rows; a row may run past
+    the end of its frame. Entry ``i`` of the result is what ``parse_frame`` gives for row i.
+    """
+    p = as_plan(spec)
+    rx, avail = _rows_matrix(bodies, p.max_body_bits)
+    n_cb = p.n_check_bits
+    plain = rx[:, :p.max_field_bits] ^ p.fields_mask
+    got = _read(p, plain, avail, n_cb)
+    n_fb = got.n_field_bits
+    n = rx.shape[0]
+    if n_cb:
+        if p.is_fixed:
+            cb = rx[:, p.min_field_bits:p.min_body_bits] ^ p.check_masks[0]
+        else:
+            cb = rx[np.arange(n)[:, None], n_fb[:, None] + np.arange(n_cb)]
+            cb ^= p.check_masks[(n_fb - p.min_field_bits) // 8]
+        sent = np.dot(cb, p.check_weights).tolist()  # type: ignore[arg-type]
+        covered = got.plain
+        n_sync = p.sync_bits.size if p.check_covers_sync else 0
+        if n_sync:
+            covered = np.empty((n, n_sync + got.plain.shape[1]), np.uint8)
+            covered[:, :n_sync] = p.sync_bits
+            covered[:, n_sync:] = got.plain
+        packed = np.packbits(covered, axis=1)
+        n_bytes = ((n_fb + n_sync + 7) // 8).tolist()
+        keep = (1 << n_cb) - 1
+        compute = p.check.compute  # type: ignore[union-attr]
+        ok = np.array([ready and s == compute(row[:k].tobytes()) & keep
+                       for s, row, k, ready in zip(sent, packed, n_bytes, got.readable.tolist(),
+                                                   strict=True)], dtype=bool).reshape(-1)
+    else:
+        ok = got.readable.copy()
+    return ParsedFrames(p, tuple(got.raw), np.packbits(got.plain, axis=1), ok, n_fb + n_cb,
+                        got.readable)
+
+
+def parse_frame(spec: SpecOrPlan, bits_after_sync: np.ndarray) -> ParsedFrame | None:
     """Read fields and verify the check from the bits after the sync word.
 
     ``bits_after_sync`` is already unstuffed and still whitened; it may run past the end of
     the frame. Returns None when too few bits are present (truncated frame).
     """
     require_spec(spec, "spec")
-    p = _parse_plan(spec)
-    rx = np.asarray(bits_after_sync, dtype=np.uint8)
-    n_cb = p.n_check_bits
-    # de-whiten assuming the longest layout; the mask for a shorter frame is its prefix
-    # when whitening starts at the fields, which is the case that needs the length field.
-    if rx.size < p.min_body_bits:
-        return None
-    n_max = min(rx.size, p.max_body_bits)
-    plain = rx[:n_max] ^ p.fields_mask[:n_max] if p.fields_mask is not None else rx[:n_max]
-    got = _read_fields(p, plain, n_cb)
-    if got is None:
-        return None
-    raw, pos = got
-    n_fb = pos
-    fb = plain[:n_fb]
-    if pos + n_cb > rx.size:
-        return None
-    if n_cb:
-        cb = rx[pos:pos + n_cb] ^ _check_mask(p, n_fb)
-        covered = fb if p.sync_bits is None else np.concatenate((p.sync_bits, fb))
-        value = p.check.compute(_b.pack_bits(covered))  # type: ignore[attr-defined]
-        got_value = _dot_int(cb, p.check_weights, spec.bit_order, spec.check.byte_order)
-        ok = got_value == value & ((1 << n_cb) - 1)
-    else:
-        ok = True
-    fields = _physical(p, raw)
-    return ParsedFrame(fields=fields, raw=raw, payload_hex=_b.pack_bits(fb).hex(),
-                       check_ok=ok, n_bits=n_fb + n_cb)
+    return parse_frames(spec, [np.asarray(bits_after_sync, dtype=np.uint8)]).frames()[0]
 
 
-def fixed_body_bits(spec: FrameSpec) -> int | None:
-    """Return the fields + check bits when every frame of ``spec`` has the same layout of
-    integer fields of at most 64 bits (what :func:`parse_frames` reads), else None."""
-    p = _parse_plan(spec)
-    if p.min_body_bits != p.max_body_bits or any(fp.weights is None for fp in p.fields):
-        return None
-    if p.n_check_bits and p.check_weights is None:
-        return None
-    return p.min_body_bits
-
-
-@dataclass(frozen=True, eq=False)
-class ParsedFrames:
-    """Frames of one fixed layout parsed together (see :func:`parse_frames`).
-
-    raw: per field (spec order) the uint64 bit pattern read for every frame; payload:
-    (frames x bytes) uint8, the fields bytes as packed on air, de-whitened; check_ok: bool
-    per frame; n_bits: fields + check bits of every frame.
-    """
-
-    spec: FrameSpec
-    raw: tuple[np.ndarray, ...]
-    payload: np.ndarray
-    check_ok: np.ndarray
-    n_bits: int
-
-    def frames(self) -> list[ParsedFrame]:
-        """Return every frame as :func:`parse_frame` gives it."""
-        p = _parse_plan(self.spec)
-        names = [fp.f.name for fp in p.fields]
-        raws = [[_b.to_signed(u, fp.f.width_bits) for u in col.tolist()] if fp.f.signed
-                else col.tolist() for fp, col in zip(p.fields, self.raw, strict=True)]
-        w = 2 * self.payload.shape[1]
-        hexes = self.payload.tobytes().hex()
-        out = []
-        for i, (values, ok) in enumerate(zip(zip(*raws, strict=True), self.check_ok.tolist(),
-                                             strict=True)):
-            raw = dict(zip(names, values, strict=True))
-            out.append(ParsedFrame(fields=_physical(p, raw), raw=raw,
-                                   payload_hex=hexes[i * w:(i + 1) * w], check_ok=ok,
-                                   n_bits=self.n_bits))
-        return out
-
-
-def parse_frames(spec: FrameSpec, bodies: np.ndarray) -> ParsedFrames:
-    """Read fields and verify the check of many frames at once.
-
-    ``bodies`` is (frames x :func:`fixed_body_bits`) uint8: the bits after the sync word,
-    unstuffed and still whitened. Row ``i`` gives what ``parse_frame`` gives for it.
-    Raises ValueError when the spec has no fixed layout or the rows have the wrong width.
-    """
-    n_body = fixed_body_bits(spec)
-    rx = np.asarray(bodies, dtype=np.uint8)
-    if n_body is None or rx.ndim != 2 or rx.shape[1] != n_body:
-        raise ValueError(f"parse_frames needs a fixed layout and rows of {n_body} bits")
-    p = _parse_plan(spec)
-    plain = rx ^ p.fields_mask[:n_body] if p.fields_mask is not None else rx
-    raw = []
-    pos = 0
-    for fp in p.fields:
-        end = pos + fp.f.width_bits
-        raw.append(np.dot(plain[:, pos:end], fp.weights))
-        pos = end
-    fb = plain[:, :pos]
-    n_cb = p.n_check_bits
-    if n_cb:
-        got = np.dot(rx[:, pos:pos + n_cb] ^ _check_mask(p, pos), p.check_weights).tolist()
-        covered = fb if p.sync_bits is None else np.concatenate(
-            (np.broadcast_to(p.sync_bits, (fb.shape[0], p.sync_bits.size)), fb), axis=1)
-        keep = (1 << n_cb) - 1
-        compute = p.check.compute  # type: ignore[attr-defined]
-        ok = np.array([g == compute(row.tobytes()) & keep
-                       for g, row in zip(got, np.packbits(covered, axis=1), strict=True)],
-                      dtype=bool).reshape(-1)
-    else:
-        ok = np.ones(rx.shape[0], bool)
-    return ParsedFrames(spec, tuple(raw), np.packbits(fb, axis=1), ok, n_body)
-
-
-def read_fields(spec: FrameSpec, plain: np.ndarray, reserve_bits: int = 0
+def read_fields(spec: SpecOrPlan, plain: np.ndarray, reserve_bits: int = 0
                 ) -> tuple[dict[str, object], int] | None:
     """Read raw field values from un-whitened fields bits; returns (raw, bits used).
 
     None when the bits run out (``reserve_bits`` more must follow the fields).
     """
-    return _read_fields(_parse_plan(spec), np.asarray(plain, dtype=np.uint8), reserve_bits)
-
-
-def _read_fields(p: _ParsePlan, plain: np.ndarray, reserve_bits: int
-                 ) -> tuple[dict[str, object], int] | None:
-    spec = p.spec
+    p = as_plan(spec)
+    rx, avail = _rows_matrix([np.asarray(plain, dtype=np.uint8)], p.max_field_bits)
+    got = _read(p, rx, avail, reserve_bits)
+    if not got.readable[0]:
+        return None
     raw: dict[str, object] = {}
-    pos = 0
-    blob_len = 0
-    for fp in p.fields:
-        f = fp.f
-        if f.kind == "bytes":
-            n = 8 * blob_len
-            if pos + n + reserve_bits > plain.size or blob_len > f.max_len_bytes:
-                return None
-            b = plain[pos:pos + n]
-            if spec.bit_order == "lsb" and n:
-                b = b.reshape(-1, 8)[:, ::-1].ravel()
-            raw[f.name] = np.packbits(b).tobytes() if n else b""
-            pos += n
-            continue
-        end = pos + f.width_bits
-        if end > plain.size:
-            return None
-        u = _dot_int(plain[pos:end], fp.weights, spec.bit_order, spec.byte_order)
-        pos = end
-        r = _b.to_signed(u, f.width_bits) if f.signed else u
-        raw[f.name] = r
-        if f.role == "length":
-            blob_len = r
-    return raw, pos
+    for fp, col in zip(p.fields, got.raw, strict=True):
+        if isinstance(col, tuple):
+            raw[fp.name] = col[0]
+        else:
+            u = int(col[0])
+            raw[fp.name] = to_signed(u, fp.field.width_bits) if fp.field.signed else u
+    return raw, int(got.n_field_bits[0])
 
 
-def _physical(p: _ParsePlan, raw: Mapping[str, object]) -> dict[str, object]:
+def _physical(p: FramePlan, raw: Mapping[str, object]) -> dict[str, object]:
     """Same as :func:`physical_values`, with the plan's decimal scale and offset."""
     out: dict[str, object] = {}
     for fp in p.fields:
-        r = raw[fp.f.name]
+        r = raw[fp.name]
         if isinstance(r, bytes):
-            out[fp.f.name] = r.hex()
+            out[fp.name] = r.hex()
         elif fp.scale is None:
-            out[fp.f.name] = int(r)  # type: ignore[call-overload]
+            out[fp.name] = int(r)  # type: ignore[call-overload]
         else:
-            out[fp.f.name] = float(Decimal(int(r)) * fp.scale + fp.offset)  # type: ignore[call-overload,operator]
+            out[fp.name] = float(Decimal(int(r)) * fp.scale + fp.offset)  # type: ignore[call-overload,operator]
     return out
 
 
-def physical_values(spec: FrameSpec, raw: Mapping[str, object]) -> dict[str, object]:
+def physical_values(spec: SpecOrPlan, raw: Mapping[str, object]) -> dict[str, object]:
     """Physical values (bytes fields as hex strings) from raw values."""
     return {f.name: (raw[f.name].hex() if isinstance(raw[f.name], bytes)  # type: ignore[union-attr]
-                     else _b.from_raw(f, raw[f.name]))  # type: ignore[arg-type]
-            for f in spec.fields}
+                     else from_raw(f, raw[f.name]))  # type: ignore[arg-type]
+            for f in spec_of(spec).fields}
 
 
-def values_from_payload(spec: FrameSpec, payload: bytes) -> dict[str, object]:
+def values_from_payload(spec: SpecOrPlan, payload: bytes) -> dict[str, object]:
     """Field values from the raw fields bytes (as packed on air before whitening).
 
     Raises ValueRangeError when the payload is too short or has bytes left over.
     """
+    p = as_plan(spec)
     plain = np.unpackbits(np.frombuffer(payload, dtype=np.uint8))
-    got = read_fields(spec, plain)
+    got = read_fields(p, plain)
     if got is None:
         raise ValueRangeError(f"payload of {len(payload)} bytes is too short for the fields of "
-                              f"'{spec.name}' (at least {(min_body_bits(spec) - spec.check.width_bits + 7) // 8})")
+                              f"'{p.spec.name}' (at least {(p.min_field_bits + 7) // 8})")
     raw, pos = got
     if (pos + 7) // 8 != len(payload):
         raise ValueRangeError(f"payload has {len(payload)} bytes; the fields use {(pos + 7) // 8}")
-    values = physical_values(spec, raw)
-    return {f.name: values[f.name] for f in spec.fields if f.role != "length"}
+    values = physical_values(p, raw)
+    return {f.name: values[f.name] for f in p.spec.fields if f.role != "length"}

@@ -6,8 +6,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import frame as _f
 from ._require import require_spec
+from .bits import from_raw
+from .frame import Values, check_bits, field_bits, raw_values
+from .plan import FramePlan, as_plan, spec_of
 from .spec.model import FrameSpec
 
 
@@ -35,29 +37,31 @@ class Layout:
     data_dependent: bool
 
 
-def zero_values(spec: FrameSpec) -> dict[str, object]:
+def zero_values(spec: FrameSpec | FramePlan) -> dict[str, object]:
     """Values giving raw 0 (or the nearest allowed) in every field; empty bytes fields."""
     out: dict[str, object] = {}
-    for f in spec.fields:
+    for f in (spec.spec if isinstance(spec, FramePlan) else spec).fields:
         if f.role == "length":
             continue
         if f.kind == "bytes":
             out[f.name] = b""
         else:
-            out[f.name] = _f._b.from_raw(f, max(f.raw_min, min(0, f.raw_max)))
+            out[f.name] = from_raw(f, max(f.raw_min, min(0, f.raw_max)))
     return out
 
 
-def frame_layout(spec: FrameSpec, values: _f.Values | None = None) -> Layout:
+def frame_layout(spec: FrameSpec | FramePlan, values: Values | None = None) -> Layout:
     """Return the section table and airtime for ``values`` (zeros when None)."""
     require_spec(spec, "spec")
+    plan = as_plan(spec)
+    spec = plan.spec
     values = zero_values(spec) if values is None else values
-    lc = _f._line_code(spec)
-    raw = _f.raw_values(spec, values)
-    fb = _f.field_bits(spec, raw)
-    cb = _f.check_bits(spec, fb)
-    body = lc.stuff(np.concatenate((fb, cb)) ^ _f.whitening_mask(spec, fb.size, cb.size))
-    head = _f.head_bits(spec)
+    lc = plan.line_code
+    fb = field_bits(plan, raw_values(plan, values))
+    cb = check_bits(plan, fb)
+    plain = np.concatenate((fb, cb)) ^ plan.body_mask(fb.size)
+    body = lc.stuff(plain)
+    head = plan.head_bits
     chips = lc.encode(np.concatenate((head, body)))
     # chips of each section: encode prefixes (exact for stateful codes too)
     bounds = [spec.preamble.length_bits, spec.sync.length_bits, fb.size, cb.size]
@@ -69,7 +73,6 @@ def frame_layout(spec: FrameSpec, values: _f.Values | None = None) -> Layout:
         spec.check.crc.name if spec.check.crc and spec.check.crc.name else spec.check.kind,
     ]
     rows = []
-    plain = np.concatenate((fb, cb)) ^ _f.whitening_mask(spec, fb.size, cb.size)
     all_bits = np.concatenate((head, plain))
     def chips_upto(k: int) -> int:
         # chips of the first k bits; a partial block of a block code counts at the fixed rate
@@ -94,3 +97,48 @@ def frame_layout(spec: FrameSpec, values: _f.Values | None = None) -> Layout:
     airtime = frame_us * spec.repeats + spec.gap_us * (spec.repeats - 1)
     return Layout(tuple(rows), frame_us, airtime, mark_us * spec.repeats, spec.repeats,
                   spec.gap_us, data_dependent)
+
+
+@dataclass(frozen=True)
+class FieldOffset:
+    """Where one field sits in the frame's bits (before line coding and bit stuffing;
+    whitening does not move bits).
+
+    ``offset_bits``: first bit from the start of the fields section; ``frame_offset_bits``:
+    from the first preamble bit. After a bytes field both vary with its length: the
+    values are for an empty bytes field and ``max_*`` for the longest. ``width_bits`` is
+    the field's width (a bytes field: 0 .. ``max_width_bits``).
+    """
+
+    name: str
+    offset_bits: int
+    frame_offset_bits: int
+    width_bits: int
+    max_offset_bits: int
+    max_frame_offset_bits: int
+    max_width_bits: int
+    unit: str = ""
+    section: str = "fields"
+
+    @property
+    def varies(self) -> bool:
+        """Whether the offset or width depends on a bytes field's length."""
+        return (self.offset_bits != self.max_offset_bits
+                or self.width_bits != self.max_width_bits)
+
+
+def field_offsets(spec: FrameSpec | FramePlan) -> tuple[FieldOffset, ...]:
+    """Return each field's bit offset (from the fields section and from the frame start)
+    and width, in spec order, followed by the check (section ``"check"``) when there is one."""
+    spec = spec_of(spec)
+    head = spec.preamble.length_bits + spec.sync.length_bits
+    lo = hi = 0
+    out = []
+    for f in spec.fields:
+        w_lo, w_hi = (0, 8 * f.max_len_bytes) if f.kind == "bytes" else (f.width_bits,) * 2
+        out.append(FieldOffset(f.name, lo, head + lo, w_lo, hi, head + hi, w_hi, f.unit))
+        lo, hi = lo + w_lo, hi + w_hi
+    w = spec.check.width_bits if spec.check.kind != "none" else 0
+    if w:
+        out.append(FieldOffset("check", lo, head + lo, w, hi, head + hi, w, "", "check"))
+    return tuple(out)

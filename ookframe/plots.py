@@ -12,8 +12,8 @@ from collections.abc import Mapping
 import numpy as np
 from matplotlib.figure import Figure
 
-from .frame import body_bits, field_bits, frame_chips, head_bits, raw_values
-from .linecodes import get_line_code
+from .frame import body_bits, field_bits, frame_chips, raw_values
+from .plan import FramePlan, as_plan
 from .spec.model import FrameSpec
 
 _COLOURS = {"preamble": "tab:blue", "sync": "tab:orange", "fields": "tab:green",
@@ -25,14 +25,14 @@ ZOOM_BODY_BITS = 24
 class _OnAir:
     """On-air bits of one frame (after stuffing) and how many chips any prefix of them takes."""
 
-    def __init__(self, spec: FrameSpec, values: Mapping[str, object]) -> None:
-        self.lc = get_line_code(spec.line_code)
-        body = body_bits(spec, values)
-        n_fields = field_bits(spec, raw_values(spec, values)).size
+    def __init__(self, plan: FramePlan, values: Mapping[str, object]) -> None:
+        self.lc = plan.line_code
+        body = body_bits(plan, values)
+        n_fields = field_bits(plan, raw_values(plan, values)).size
         stuffed = self.lc.stuff(body)
-        self.n_head = spec.preamble.length_bits + spec.sync.length_bits
+        self.n_head = plan.head_bits.size
         self.n_fields = self.lc.stuff(body[:n_fields]).size if n_fields else 0
-        self.bits = np.concatenate((head_bits(spec), stuffed))
+        self.bits = np.concatenate((plan.head_bits, stuffed))
         self.n_chips = self.lc.encode(self.bits).size
         self._lead = self.lc.encode(np.zeros(0, np.uint8)).size  # e.g. an appended stop mark
 
@@ -45,13 +45,16 @@ class _OnAir:
         return self.lc.encode(self.bits[:n_bits]).size - self._lead
 
 
-def section_spans_us(spec: FrameSpec, values: Mapping[str, object]) -> list[tuple[str, float, float]]:
+def section_spans_us(spec: FrameSpec | FramePlan, values: Mapping[str, object]
+                     ) -> list[tuple[str, float, float]]:
     """Return (section, start_us, stop_us) of preamble, sync, fields and check on air.
 
     Bit stuffing is counted with the section whose bits caused it; a stop mark the line code
     appends belongs to the last section. Empty sections are left out.
     """
-    air = _OnAir(spec, values)
+    plan = as_plan(spec)
+    spec = plan.spec
+    air = _OnAir(plan, values)
     stops = [spec.preamble.length_bits, air.n_head, air.n_head + air.n_fields]
     edges = [0] + [air.chips_before(b) for b in stops] + [air.n_chips]
     return [(name, a * spec.unit_us, b * spec.unit_us)
@@ -79,13 +82,15 @@ def _draw_levels(ax, chips: np.ndarray, unit_us: float, spans, stop_us: float) -
     ax.set_xlabel("time (µs)")
 
 
-def timing_figure(spec: FrameSpec, values: Mapping[str, object]) -> Figure:
+def timing_figure(spec: FrameSpec | FramePlan, values: Mapping[str, object]) -> Figure:
     """Return a two-panel timing diagram: the whole first frame, and its start (preamble,
     sync and the first body bits) chip by chip; levels against µs, sections shaded."""
-    chips = frame_chips(spec, values)
-    spans = section_spans_us(spec, values)
+    plan = as_plan(spec)
+    spec = plan.spec
+    chips = frame_chips(plan, values)
+    spans = section_spans_us(plan, values)
     frame_us = chips.size * spec.unit_us
-    air = _OnAir(spec, values)
+    air = _OnAir(plan, values)
     zoom_us = air.chips_before(air.n_head + ZOOM_BODY_BITS) * spec.unit_us
     fig = Figure(figsize=(11, 5.5), layout="constrained")
     top, bottom = fig.subplots(2, 1)
@@ -98,10 +103,14 @@ def timing_figure(spec: FrameSpec, values: Mapping[str, object]) -> Figure:
 
 
 def psd_figure(spec: FrameSpec, rng: np.random.Generator) -> Figure:
-    """Return the baseband PSD (dB relative to its peak against kHz) with the 99 % bandwidth."""
-    from .analysis.spectrum import baseband_psd, occupied_bandwidth_hz
+    """Return the baseband PSD (dB relative to its peak against kHz) with the 99 % bandwidth.
 
-    b99_hz = occupied_bandwidth_hz(spec, rng)
+    ``rng`` draws the payloads of the plotted curve; the marked bandwidth is
+    ``bandwidth_hz(spec)``, the figure ``check`` and ``airtime`` report.
+    """
+    from .analysis.spectrum import bandwidth_hz, baseband_psd
+
+    b99_hz = bandwidth_hz(spec)
     f_hz, psd = baseband_psd(spec, rng, max_freq_hz=max(1.5 * b99_hz, 4e6 / spec.unit_us))
     db = 10.0 * np.log10(np.maximum(psd / psd.max(), 1e-12))
     fig = Figure(figsize=(10, 4.5), layout="constrained")

@@ -53,7 +53,7 @@ def _run_starts(levels: np.ndarray) -> np.ndarray:
     return np.flatnonzero(np.concatenate(([True], levels[1:] != levels[:-1])))
 
 
-def _sum_runs(x: np.ndarray, starts: np.ndarray) -> np.ndarray:
+def sum_runs(x: np.ndarray, starts: np.ndarray) -> np.ndarray:
     """Return ``np.add.reduceat(x, starts)`` bit for bit, for ``starts`` strictly
     increasing from 0; much faster when most runs are a single element.
 
@@ -71,6 +71,9 @@ def _sum_runs(x: np.ndarray, starts: np.ndarray) -> np.ndarray:
     return sums
 
 
+_sum_runs = sum_runs  # the old private name, still imported by ookframe.decode.glitch
+
+
 def merge_runs(levels: np.ndarray, durations_us: np.ndarray) -> PulseTrain:
     """Return a train where adjacent pulses of equal level are merged (durations summed)."""
     levels = np.asarray(levels, dtype=np.uint8)
@@ -81,7 +84,7 @@ def merge_runs(levels: np.ndarray, durations_us: np.ndarray) -> PulseTrain:
             levels[1:] != levels[:-1]).all():  # nothing to merge: fresh copies, as below
         return PulseTrain(levels.copy(), durations_us.copy())
     starts = _run_starts(levels)
-    return PulseTrain(levels[starts], _sum_runs(durations_us, starts))
+    return PulseTrain(levels[starts], sum_runs(durations_us, starts))
 
 
 def chips_to_runs(chips: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

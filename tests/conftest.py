@@ -9,12 +9,13 @@ import pytest
 
 import ookframe
 from ookframe.demo import example_names, example_text
+from ookframe.spec_io import spec_and_defaults_from_dict
 
 EXAMPLES_DIR = Path(__file__).resolve().parent.parent / "examples"
 
 
 def example_spec(name: str) -> tuple[ookframe.FrameSpec, dict[str, object]]:
-    return ookframe.spec.load.spec_and_defaults_from_dict(tomllib.loads(example_text(name)))
+    return spec_and_defaults_from_dict(tomllib.loads(example_text(name)))
 
 
 @pytest.fixture(params=example_names())

@@ -14,7 +14,16 @@ from hypothesis import strategies as st
 from scipy.optimize import minimize_scalar
 
 from ookframe.analysis import airtime as at
-from ookframe.analysis.regions import REGIONS, check_region, verdict, worst_hour_on_time_s
+from ookframe.analysis.regions import (
+    REGIONS,
+    check_region,
+    fcc_15_231_bandwidth_limit_hz,
+    fcc_15_231_field_limit_uv_m,
+    field_strength_uv_m,
+    met_options,
+    verdict,
+    worst_hour_on_time_s,
+)
 from ookframe.cli import exitcodes
 from ookframe.cli.main import main
 from ookframe.cli.output import REGULATORY_CAUTION
@@ -113,16 +122,136 @@ def test_cept_power_options_and_verdict():
     """ERC/REC 70-03 Annex 1 (from memory): 10 mW at <= 10 % duty, or 1 mW with no duty
     limit, or 434.04-434.79 MHz at 10 mW with a <= 25 kHz channel. Exactly 10 mW and exactly
     1 mW pass; 50 % duty passes only through the 1 mW option or the narrow sub-band."""
+    sub = 434.5e6  # inside the 434.04-434.79 MHz sub-band
     f = check_region("cept-433", 500_000, 1.0, 10.0)  # 50 % duty
     assert _by_rule(f, "e.r.p.", "433.05-434.79 MHz: 10 mW").ok is True
     assert _by_rule(f, "duty cycle (worst 1 h)").ok is False
     assert verdict(f) is None  # sub-band option still open: bandwidth not given
-    assert verdict(check_region("cept-433", 500_000, 1.0, 10.0, rf_bandwidth_hz=25_000)) is True
-    assert verdict(check_region("cept-433", 500_000, 1.0, 10.0, rf_bandwidth_hz=25_001)) is False
-    assert verdict(check_region("cept-433", 500_000, 1.0, 1.0, rf_bandwidth_hz=1e6)) is True
-    assert verdict(check_region("cept-433", 500_000, 1.0, 10.01, rf_bandwidth_hz=1.0)) is False
+    assert verdict(check_region("cept-433", 500_000, 1.0, 10.0, rf_bandwidth_hz=25_000,
+                                carrier_hz=sub)) is True
+    assert verdict(check_region("cept-433", 500_000, 1.0, 10.0, rf_bandwidth_hz=25_001,
+                                carrier_hz=sub)) is False
+    assert verdict(check_region("cept-433", 500_000, 1.0, 1.0, rf_bandwidth_hz=200e3)) is True
+    assert verdict(check_region("cept-433", 500_000, 1.0, 10.01, rf_bandwidth_hz=1.0,
+                                carrier_hz=sub)) is False
     assert verdict(check_region("cept-433", 1000, 100.0)) is None  # no power: not assessed
     assert all(x.ok is None for x in check_region("cept-433", 1000, 100.0) if x.unit == "mW")
+
+
+def test_cept_sub_band_needs_its_carrier():
+    """ERC/REC 70-03 Annex 1 (from memory): the 100 % duty option is the 434.04-434.79 MHz
+    sub-band only; 433.92 MHz lies in 433.05-434.79 MHz but not in the sub-band, so 50 %
+    duty at 10 mW in a 25 kHz channel meets no option there; without a carrier the sub-band
+    is not assessed. A carrier outside 433.05-434.79 MHz fails every option."""
+    kw = {"rf_bandwidth_hz": 25_000.0}
+    f = check_region("cept-433", 500_000, 1.0, 10.0, carrier_hz=433.92e6, **kw)
+    assert _by_rule(f, "carrier frequency", "434.04-434.79 MHz").ok is False
+    assert _by_rule(f, "carrier frequency", "433.05-434.79 MHz: 10 mW").ok is True
+    assert verdict(f) is False
+    assert verdict(check_region("cept-433", 500_000, 1.0, 10.0, carrier_hz=434.04e6, **kw)) is True
+    assert _by_rule(check_region("cept-433", 500_000, 1.0, 10.0, **kw), "carrier frequency").ok is None
+    assert verdict(check_region("cept-433", 1000, 100.0, 1.0, carrier_hz=868.3e6, **kw)) is False
+
+
+def test_cept_1mw_wideband_power_density():
+    """ERC/REC 70-03 Annex 1, 433.05-434.79 MHz, 1 mW row: -13 dBm/10 kHz power density
+    (the figure as reproduced in a copy of the Recommendation, hobbydocbox.com transcript
+    of ERC/REC 70-03; its application above 250 kHz modulation bandwidth from memory). Above
+    250 kHz it needs the spectrum: not assessed; at or below it does not apply."""
+    wide = check_region("cept-433", 500_000, 1.0, 1.0, rf_bandwidth_hz=300e3)
+    pd = _by_rule(wide, "power density (bandwidth > 250 kHz)")
+    assert pd.limit == -13.0 and pd.unit == "dBm/10 kHz" and pd.ok is None
+    assert verdict(wide) is None
+    narrow = check_region("cept-433", 500_000, 1.0, 1.0, rf_bandwidth_hz=250e3)
+    assert not [x for x in narrow if x.rule.startswith("power density")]
+    assert "-13 dBm per 10 kHz" in _by_rule(narrow, "e.r.p.", "433.05-434.79 MHz: 1 mW").note
+
+
+def test_fcc_15_231_field_strength_table():
+    """47 CFR 15.231(b) and (e) fundamental limits at 3 m (from memory): 40.66-40.70 MHz
+    2,250 / 1,000 µV/m; 70-130 MHz 1,250 / 500; 130-174 MHz linear 1,250-3,750 / 500-1,500;
+    174-260 MHz 3,750 / 1,500; 260-470 MHz linear 3,750-12,500 / 1,500-5,000 (the rule's
+    footnote: 41.6667 F - 7083.3333 for (b)); above 470 MHz 12,500 / 5,000. By hand:
+    433.92 MHz gives 10,996.67 / 4,398.67 µV/m, 315 MHz 6,041.67 / 2,416.67, 150 MHz
+    1,250 + 2,500 x 20/44 = 2,386.36 (footnote 56.82 F - 6136 = 2,387)."""
+    lim = fcc_15_231_field_limit_uv_m
+    assert lim(433.92e6) == pytest.approx(41.6667 * 433.92 - 7083.3333, abs=0.05)
+    assert lim(433.92e6) == pytest.approx(10_996.667, abs=1e-3)
+    assert lim(433.92e6, "e") == pytest.approx(4_398.667, abs=1e-3)
+    assert lim(315e6) == pytest.approx(6_041.667, abs=1e-3)
+    assert lim(315e6, "e") == pytest.approx(2_416.667, abs=1e-3)
+    assert lim(150e6) == pytest.approx(2_386.364, abs=1e-3)
+    assert lim(150e6) == pytest.approx(56.82 * 150 - 6136, abs=1.0)
+    assert (lim(260e6), lim(470e6), lim(915e6)) == (3750.0, 12_500.0, 12_500.0)
+    assert (lim(260e6, "e"), lim(470e6, "e"), lim(915e6, "e")) == (1500.0, 5000.0, 5000.0)
+    assert (lim(40.68e6), lim(40.68e6, "e"), lim(100e6), lim(200e6, "e")) == (
+        2250.0, 1000.0, 1250.0, 1500.0)
+    assert lim(50e6) is None and lim(27.1e6, "e") is None
+
+
+def test_erp_to_field_strength_at_3m():
+    """Free-space far field (common practice, no source): E = sqrt(30 EIRP) / d with
+    EIRP = 1.64 e.r.p. By hand: 10 mW e.r.p. -> sqrt(30 x 0.0164) / 3 = 0.233809 V/m =
+    233,809 µV/m, 26 dB above the 10,997 µV/m of 15.231(b) at 433.92 MHz; the e.r.p. giving
+    exactly that limit is (0.01099667 x 3)^2 / 49.2 W = 22.12 µW."""
+    assert field_strength_uv_m(10.0) == pytest.approx(233_809.04, abs=0.01)
+    e_limit = fcc_15_231_field_limit_uv_m(433.92e6)
+    p_mw = (e_limit * 1e-6 * 3.0) ** 2 / (30 * 1.64) * 1e3
+    assert p_mw == pytest.approx(0.022120, abs=1e-6)
+    assert field_strength_uv_m(p_mw) == pytest.approx(e_limit)
+    assert 20 * math.log10(field_strength_uv_m(10.0) / e_limit) == pytest.approx(26.56, abs=0.01)
+
+
+def test_fcc_15_231_power_is_assessed():
+    """47 CFR 15.231(b)/(e) (from memory): 10 mW e.r.p. at 433.92 MHz is far above both
+    field-strength limits, so no option is met; without --power-mw the field strength is
+    not assessed (verdict None, as for CEPT), unless it is above the highest limit of the
+    table at any frequency (12,500 / 5,000 µV/m): 10 mW then fails without a carrier too.
+    10 µW (7,394 µV/m) meets (b) but not (e), so only 15.231(a) is met, and it carries the
+    security/safety condition of (a)(3)."""
+    kw = {"rf_bandwidth_hz": 60e3, "carrier_hz": 433.92e6}
+    f = check_region("fcc-15.231", 184_000, 900.0, 10.0, **kw)
+    fields = [x for x in f if x.unit == "µV/m"]
+    assert len(fields) == 2 and all(x.ok is False for x in fields)
+    assert verdict(f) is False and met_options(f) == []
+    none = check_region("fcc-15.231", 184_000, 900.0, **kw)
+    assert all(x.ok is None for x in none if x.unit == "µV/m") and verdict(none) is None
+    assert verdict(check_region("fcc-15.231", 184_000, 900.0, 10.0)) is False  # any carrier
+    no_carrier = check_region("fcc-15.231", 184_000, 900.0, 0.01)
+    assert [x.ok for x in no_carrier if x.unit == "µV/m"] == [None, False]  # 7,394 > 5,000
+    low = check_region("fcc-15.231", 184_000, 900.0, 0.01, **kw)  # 7,394 µV/m
+    assert verdict(low) is True
+    (option, conditions), = met_options(low)
+    assert option.startswith("15.231(a)") and "security or safety" in conditions[0]
+    assert "security or safety" in option
+    a3 = _by_rule(low, "periodic transmissions, total per hour")
+    assert "only" in a3.note and "security or safety" in a3.condition
+
+
+def test_fcc_15_231_c_bandwidth():
+    """47 CFR 15.231(c) (from memory): emission bandwidth <= 0.25 % of the centre frequency
+    above 70 and below 900 MHz, 0.5 % above 900 MHz. 433.92 MHz: 1,084,800 Hz passes,
+    1,084,801 fails; 915 MHz: 4.575 MHz. Without a bandwidth it is not assessed."""
+    def bw_rule(bw, carrier):
+        return _by_rule(check_region("fcc-15.231", 184_000, 900.0, rf_bandwidth_hz=bw,
+                                     carrier_hz=carrier), "emission bandwidth")
+    assert fcc_15_231_bandwidth_limit_hz(433.92e6) == pytest.approx(1_084_800.0)
+    assert fcc_15_231_bandwidth_limit_hz(915e6) == pytest.approx(4_575_000.0)
+    assert bw_rule(1_084_800.0, 433.92e6).ok is True
+    assert bw_rule(1_084_801.0, 433.92e6).ok is False
+    assert bw_rule(None, 433.92e6).ok is None and bw_rule(1e3, None).ok is None
+
+
+def test_fcc_15_231_carrier_range():
+    """47 CFR 15.231 (from memory) covers 40.66-40.70 MHz and 70 MHz and up: 40.68 and
+    70 MHz pass, 50 MHz and 27.1 MHz fail (and their field strength has no limit)."""
+    def carrier(f_hz):
+        return _by_rule(check_region("fcc-15.231", 184_000, 900.0, 0.001, carrier_hz=f_hz),
+                        "carrier frequency")
+    assert carrier(40.68e6).ok is True and carrier(70e6).ok is True
+    assert carrier(50e6).ok is False and carrier(27.1e6).ok is False
+    f = check_region("fcc-15.231", 184_000, 900.0, 0.001, carrier_hz=50e6)
+    assert verdict(f) is False
 
 
 def test_fcc_15_231_a3_two_seconds_per_hour():
@@ -167,6 +296,8 @@ def test_region_errors():
         check_region("cept433", 1000, 10.0)
     with pytest.raises(ValueRangeError, match="power_mw"):
         check_region("cept-433", 1000, 10.0, -1.0)
+    with pytest.raises(ValueRangeError, match="carrier_hz"):
+        check_region("fcc-15.231", 1000, 10.0, carrier_hz=0.0)
     assert set(REGIONS) == {"cept-433", "fcc-15.231"}
     assert all("verify" in r.source for r in REGIONS.values())
 
@@ -208,6 +339,24 @@ def test_aloha_worked_example_and_poisson_limit():
     assert c.p_frame_ok == pytest.approx(c.p_frame_ok_poisson, rel=1e-4)
     assert c.offered_load == pytest.approx(500 * 1e-3 / 100)
     assert at.collisions(1000, 3, 5000.0, 10.0, 1).p_report_ok == 1.0
+
+
+def test_poisson_figure_uses_the_other_nodes_load():
+    """Exact small case, by hand: N = 2 nodes, R = 1, T = 1 ms, I = 1 s. Total offered load
+    G = N R T / I = 0.002 (throughput S = G exp(-2G), Abramson 1970); the one frame meets
+    only the other node's load G' = (N-1) R T / I = 0.001, so the Poisson figure is
+    exp(-2G') = exp(-0.002) = 0.998002 against the exact 1 - 2T/I = 0.998. With R = 2 copies
+    and N = 3 at I = 0.1 s: G = 0.06, G' = 0.04, Poisson exp(-0.08)."""
+    c = at.collisions(1000.0, 1, 0.0, 1.0, 2)
+    assert c.offered_load == pytest.approx(0.002) and c.others_load == pytest.approx(0.001)
+    assert c.p_frame_ok_poisson == pytest.approx(math.exp(-0.002), rel=1e-12)
+    assert c.p_frame_ok == pytest.approx(0.998)
+    assert c.throughput == pytest.approx(0.002 * math.exp(-0.004))
+    c = at.collisions(1000.0, 2, 9000.0, 0.1, 3)
+    assert c.offered_load == pytest.approx(0.06) and c.others_load == pytest.approx(0.04)
+    assert c.p_frame_ok_poisson == pytest.approx(math.exp(-0.08), rel=1e-12)
+    one = at.collisions(1000.0, 1, 0.0, 1.0, 1)
+    assert one.others_load == 0.0 and one.p_frame_ok_poisson == 1.0 == one.p_frame_ok
 
 
 def test_two_copies_two_nodes_by_hand():
@@ -311,10 +460,60 @@ def test_cli_airtime_json(capsys):
     assert d["bandwidth_hz"] > 0 and d["rf_bandwidth_hz"] == pytest.approx(2 * d["bandwidth_hz"])
 
 
+def test_cli_airtime_aloha_rows_agree(capsys):
+    """The printed G' is the load the Poisson figure uses: exp(-2 G') with G' = (N-1) R T / I
+    (arithmetic on Abramson's model), and G = N R T / I is printed for the throughput row."""
+    code, out, _ = _run(capsys, "airtime", HIVE, "--interval-s", "900", "--nodes", "2", "--json")
+    c = json.loads(out)["collisions"]
+    assert code == 0 and c["others_load"] == pytest.approx(c["offered_load"] / 2)
+    assert c["p_frame_ok_poisson"] == pytest.approx(math.exp(-2 * c["others_load"]), rel=1e-12)
+    code, out, _ = _run(capsys, "airtime", HIVE, "--interval-s", "900", "--nodes", "2")
+    rows = {line.split("│")[1].strip(): line.split("│")[2].strip()
+            for line in out.splitlines() if line.count("│") == 3}
+    g_other = float(rows["load of the other nodes: G' = (N-1) R T / I"])
+    assert g_other == pytest.approx(c["others_load"], rel=1e-3)
+    assert float(rows["P(one frame survives), Poisson exp(-2G')"]) == pytest.approx(
+        math.exp(-2 * g_other), abs=2e-6)
+    assert float(rows["offered load, all nodes: G = N R T / I"]) == pytest.approx(2 * g_other,
+                                                                                  rel=1e-3)
+
+
+def test_cli_airtime_power_and_carrier(capsys):
+    """47 CFR 15.231(b)/(e) (from memory): --power-mw 10 at --carrier-mhz 433.92 meets no
+    FCC option (field strength 233,809 µV/m against 10,997 / 4,399); without --power-mw the
+    field strength is "not assessed" and the verdict too; a low power met through 15.231(a)
+    prints its security/safety condition. The regulatory caution stays."""
+    base = ("airtime", HIVE, "--interval-s", "900", "--region", "fcc-15.231")
+    code, out, _ = _run(capsys, *base, "--power-mw", "10", "--carrier-mhz", "433.92", "--json")
+    fcc = json.loads(out)["regions"][0]
+    assert code == 0 and fcc["verdict"] is False and fcc["met_options"] == []
+    assert json.loads(out)["cautions"][0] == REGULATORY_CAUTION
+    field = [f for f in fcc["findings"] if f["unit"] == "µV/m"]
+    assert [round(f["limit"]) for f in field] == [10_997, 4_399]
+    assert all(f["value"] == pytest.approx(233_809.04) and f["ok"] is False for f in field)
+    code, out, _ = _run(capsys, *base, "--power-mw", "10", "--json")  # no carrier given
+    assert json.loads(out)["regions"][0]["verdict"] is False  # above 12,500 µV/m anywhere
+    code, out, _ = _run(capsys, *base, "--power-mw", "10")
+    assert "no option met" in out
+    code, out, _ = _run(capsys, *base, "--carrier-mhz", "433.92", "--json")
+    fcc = json.loads(out)["regions"][0]
+    assert fcc["verdict"] is None
+    assert all(f["ok"] is None for f in fcc["findings"] if f["unit"] == "µV/m")
+    code, out, err = _run(capsys, *base, "--carrier-mhz", "433.92")
+    flat = " ".join(out.split())
+    assert "not fully assessed" in flat and "not assessed" in flat
+    assert REGULATORY_CAUTION in " ".join(err.split())  # messages go to stderr
+    code, out, _ = _run(capsys, *base, "--carrier-mhz", "433.92", "--power-mw", "0.01")
+    flat = " ".join(out.split())
+    assert "met by: 15.231(a)" in flat and "only if:" in flat and "security or safety" in flat
+    code, _, err = _run(capsys, *base, "--carrier-mhz", "-1")
+    assert code == exitcodes.BAD_INPUT and "carrier_hz must be > 0" in err
+
+
 def test_cli_airtime_table_and_errors(capsys):
-    code, out, _ = _run(capsys, "airtime", HIVE, "--interval-s", "900", "--region", "fcc-15.231")
+    code, out, err = _run(capsys, "airtime", HIVE, "--interval-s", "900", "--region", "fcc-15.231")
     assert code == 0
     flat = " ".join(out.split())
-    assert REGULATORY_CAUTION in flat and "15.231(e)" in flat and "Abramson" in flat
+    assert REGULATORY_CAUTION in " ".join(err.split()) and "15.231(e)" in flat and "Abramson" in flat
     code, _, err = _run(capsys, "airtime", HIVE, "--interval-s", "0.1")
     assert code == exitcodes.BAD_INPUT and "interval_s must be longer" in err

@@ -1,4 +1,4 @@
-"""Tests for ookframe.analysis.check_strength (checks at the frame's covered length)."""
+"""Tests for ookframe.checks.strength (checks at the frame's covered length)."""
 
 from __future__ import annotations
 
@@ -9,14 +9,14 @@ import numpy as np
 import pytest
 
 import ookframe
-from ookframe.analysis.check_strength import (
+from ookframe.checks import Fletcher16, Sum8, Xor8
+from ookframe.checks.strength import (
     alternatives,
     check_strength,
     checksum_strength,
     covered_bits,
     stronger_alternative,
 )
-from ookframe.checks import Fletcher16, Sum8, Xor8
 from ookframe.errors import ValueRangeError
 
 IMPL = {"sum8": Sum8(), "xor8": Xor8(), "fletcher16": Fletcher16()}

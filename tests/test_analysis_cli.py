@@ -4,7 +4,12 @@ from __future__ import annotations
 
 import json
 
+from bitstring import Bits
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
 from ookframe.cli import exitcodes
+from ookframe.cli.cmd_syncword import parse_pattern
 from ookframe.cli.main import main
 
 
@@ -60,3 +65,13 @@ def test_crc_strength_table_and_errors(capsys):
     assert "+1 term" in capsys.readouterr().err
     assert main(["crc-strength", "--width", "16", "--poly", "zz"]) == exitcodes.BAD_INPUT
     assert "not an integer" in capsys.readouterr().err
+
+
+@settings(deadline=None)
+@given(st.one_of(st.text("01", min_size=1, max_size=40),
+                 st.text("0123456789abcdefABCDEF", min_size=1, max_size=10).map("0x".__add__)))
+def test_syncword_preamble_pattern_against_bitstring(pattern):
+    """`syncword --preamble` reads 0/1 digits MSB first and 0x-hex as 4 bits a digit, as
+    bitstring's own bin= / hex= parsers do (PyPI bitstring)."""
+    ref = Bits(hex=pattern[2:]) if pattern.startswith("0x") else Bits(bin=pattern)
+    assert "".join(map(str, parse_pattern(pattern))) == ref.bin

@@ -11,8 +11,8 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from ookframe.analysis import _gf2
-from ookframe.analysis.crc_strength import (
+from ookframe.checks import _gf2
+from ookframe.checks.crc_strength import (
     crc_strength,
     hd_reach,
     koopman_to_normal,

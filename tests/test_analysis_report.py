@@ -6,15 +6,15 @@ import json
 
 import pytest
 
-from ookframe.analysis.check_strength import check_strength, covered_bits
-from ookframe.analysis.crc_strength import crc_strength
 from ookframe.analysis.report import design_report
 from ookframe.analysis.syncword import spec_sync_quality
+from ookframe.checks.crc_strength import crc_strength
+from ookframe.checks.strength import check_strength, covered_bits
 from ookframe.cli.output import REGULATORY_CAUTION
 from ookframe.layout import frame_layout
 from tests.conftest import example_spec
 
-KEYS = {"airtime_us", "line_code", "sync", "check", "bandwidth_hz", "cautions"}
+KEYS = {"airtime_us", "line_code", "sync", "check", "bandwidth_hz", "cautions", "warnings"}
 
 
 def test_report_keys_and_values(example):

@@ -115,6 +115,69 @@ def test_catalogue_models_match_crccheck_on_random_data(name: str, data: bytes) 
     assert c.compute(data) == crccheck_generic(c).calc(data)
 
 
+# ------------------------------------------------------------------ residues
+
+#: residue= values of Greg Cook's "Catalogue of parametrised CRC algorithms" (CRC RevEng,
+#: reveng.sourceforge.io/crc-catalogue/all.htm), as its entry lines are reproduced in
+#: Istvan Pasztor's public parametric_crc.py (2023); a few rows with a non-zero residue
+PUBLISHED_RESIDUES = {
+    "CRC-3/GSM": 0x2, "CRC-5/USB": 0x06, "CRC-8/SAE-J1850": 0xC4, "CRC-12/GSM": 0x178,
+    "CRC-15/MPT1327": 0x6815, "CRC-16/IBM-SDLC": 0xF0B8, "CRC-16/USB": 0xB001,
+    "CRC-16/DNP": 0x66C5, "CRC-16/EN-13757": 0xA366, "CRC-16/GSM": 0x1D0F,
+    "CRC-16/KERMIT": 0x0000, "CRC-24/OS-9": 0x800FE3, "CRC-31/PHILIPS": 0x4EAF26F1,
+    "CRC-32/ISO-HDLC": 0xDEBB20E3, "CRC-32/BZIP2": 0xC704DD7B, "CRC-32/ISCSI": 0xB798B438,
+    "CRC-40/GSM": 0xC4FF8071FF, "CRC-64/XZ": 0x49958C9ABD7D353F,
+    "CRC-64/GO-ISO": 0x5300000000000000,
+}
+
+
+def test_residue_published_values() -> None:
+    """Crc.residue equals the residue= value published in the CRC RevEng catalogue
+    (Greg Cook; read from the copy of its lines in Istvan Pasztor's parametric_crc.py)."""
+    for name, published in PUBLISHED_RESIDUES.items():
+        assert Crc.named(name).residue == published, name
+        assert CATALOGUE[name].residue == published, name
+
+
+@pytest.mark.parametrize("name", CATALOGUE_NAMES)
+def test_catalogue_residue(name: str) -> None:
+    """Every catalogue row's residue (CRC RevEng catalogue residue=, read from the copy of
+    its lines in parametric_crc.py) equals the computed Crc.residue."""
+    assert Crc.named(name).residue == CATALOGUE[name].residue
+
+
+def _feed(c: Crc, register: int, bits: list[int]) -> int:
+    """Shift ``bits`` into an unreflected (MSB-first) Rocksoft register (Williams' model)."""
+    for b in bits:
+        feedback = ((register >> (c.width - 1)) ^ b) & 1
+        register = (register << 1) & c.mask
+        if feedback:
+            register ^= c.poly
+    return register
+
+
+@settings(max_examples=200, deadline=None)
+@given(name=st.sampled_from(CATALOGUE_NAMES), data=data_st)
+def test_residue_is_the_register_after_a_codeword(name: str, data: bytes) -> None:
+    """The RevEng catalogue defines the residue as the register after an error-free
+    codeword (message + its CRC), reflected when refout (crossed-endian models: in the
+    refin orientation), without xorout. Computed here bit by bit: the message bits in
+    feed order (LSB first per byte when refin), then the CRC bits in the order that
+    cancels the register (LSB first when refout); for byte-wide models with refin ==
+    refout also as crccheck 1.3.x's CRC (xorout 0) over message + CRC bytes (little-endian
+    when reflected), the usual receiver check."""
+    c = Crc.named(name)
+    crc = c.compute(data)
+    msg_bits = [(byte >> (i if c.refin else 7 - i)) & 1 for byte in data for i in range(8)]
+    crc_bits = [(crc >> (i if c.refout else c.width - 1 - i)) & 1 for i in range(c.width)]
+    register = _feed(c, c.init, msg_bits + crc_bits)
+    assert (reflect(register, c.width) if c.refin else register) == c.residue
+    if c.width % 8 == 0 and c.refin == c.refout:
+        codeword = data + crc.to_bytes(c.width // 8, "little" if c.refin else "big")
+        receiver = crccheck.crc.Crc(c.width, c.poly, c.init, c.refin, c.refout, 0)
+        assert receiver.calc(codeword) == c.residue
+
+
 # ------------------------------------------------------------------ algorithms
 
 @settings(max_examples=300, deadline=None)
@@ -309,7 +372,7 @@ def test_describe_line() -> None:
     """describe() prints the parameters and check in hex of the CRC's width."""
     assert Crc.named("CRC-5/USB").describe() == (
         "width=5 poly=0x05 init=0x1f refin=true refout=true xorout=0x1f check=0x19 "
-        "name='CRC-5/USB'")
+        "residue=0x06 name='CRC-5/USB'")
 
 
 # ------------------------------------------------------------------ checksums

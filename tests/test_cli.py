@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import itertools
 import json
 import subprocess
 import sys
@@ -53,6 +54,79 @@ def test_encode_payload_equals_set(capsys):
     _, bits_set, _ = run(capsys, "encode", HIVE, "--format", "bits")
     _, bits_payload, _ = run(capsys, "encode", HIVE, "--format", "bits", "--payload", "0300a12215a6")
     assert bits_set == bits_payload and len(bits_set.strip()) == 112
+
+
+PROBE_BITS_SPEC = """
+[frame]
+name = "vent_probe"
+bit_rate_bps = 1000
+bit_order = "lsb"
+byte_order = "little"
+[line_code]
+name = "manchester"
+[preamble]
+pattern = 0xAA
+pattern_bits = 8
+count = 2
+[sync]
+value = 0x2DD4
+length_bits = 16
+[[fields]]
+name = "temp_c"
+width_bits = 16
+signed = true
+scale = 0.1
+[[fields]]
+name = "tilt"
+width_bits = 5
+signed = true
+[[fields]]
+name = "mode"
+width_bits = 3
+[[fields]]
+name = "flags"
+width_bits = 7
+[check]
+model = "CRC-16/KERMIT"
+covers = ["fields"]
+byte_order = "little"
+"""
+
+
+def test_encode_bits_read_back_with_bitstring(capsys, tmp_path):
+    """`encode --format bits` parsed with bitstring (PyPI bitstring, an independent bit
+    reader): preamble and sync MSB first; LSB-first fields: 16-bit signed scaled -12.3 ->
+    raw -123, little-endian with each byte LSB first; 5-bit signed -5, 3-bit 6 and 7-bit
+    0x55, each reversed whole; then the CRC-16/KERMIT (crccheck 1.3.x) of the 31 field bits
+    packed MSB first and zero-padded, little-endian and LSB first."""
+    import crccheck.crc
+    from bitstring import BitArray
+
+    spec = tmp_path / "vent_probe.toml"
+    spec.write_text(PROBE_BITS_SPEC)
+    code, out, _ = run(capsys, "encode", str(spec), "--format", "bits", "--set", "temp_c=-12.3",
+                       "--set", "tilt=-5", "--set", "mode=6", "--set", "flags=0x55")
+    assert code == 0 and set(out.strip()) <= {"0", "1"}
+    frame = BitArray(bin=out.strip())
+    cuts = dict(zip(("pre", "sync", "temp_c", "tilt", "mode", "flags", "crc"),
+                    itertools.pairwise((0, 16, 32, 48, 53, 56, 63, 79)), strict=True))
+
+    def part(name: str, lsb_bytes: bool = False) -> BitArray:
+        """The section as bitstring reads it, with LSB-first order undone."""
+        b = frame[slice(*cuts[name])]
+        if lsb_bytes:  # whole bytes: each byte LSB first
+            for i in range(0, len(b), 8):
+                b.reverse(i, i + 8)
+        else:
+            b.reverse()
+        return b
+
+    assert len(frame) == 79
+    assert frame[0:16].hex == "aaaa" and frame[16:32].uint == 0x2DD4
+    assert part("temp_c", lsb_bytes=True).intle == -123
+    assert part("tilt").int == -5 and part("mode").uint == 6 and part("flags").uint == 0x55
+    field_bytes = frame[32:63].tobytes()  # packed MSB first, last byte zero-padded
+    assert part("crc", lsb_bytes=True).uintle == crccheck.crc.Crc16Kermit.calc(field_bytes)
 
 
 def test_demo_writes_folder(capsys, tmp_path):

@@ -700,10 +700,17 @@ def test_field_names_equal_in_upper_case_are_refused(capsys, tmp_path):
 
 
 def test_check_warns_when_emit_would_refuse_the_gap(capsys, tmp_path):
-    """A 9 s gap needs 70,312.5 ticks of 128 µs (8 MHz / 1024) on a 16-bit timer, which holds
-    at most 65,535 (arithmetic). check passes with a warning that names emit and gives emit's
-    own reason; emit then refuses with that reason."""
-    spec = spec_with(tmp_path, "gap_us = 8000", "gap_us = 9000000")
+    """A 0.01 µs gap is under one tick at every prescaler (0.08 ticks of 0.125 µs at 8 MHz /
+    1; arithmetic). check passes with a warning that names emit and gives emit's own reason;
+    emit then refuses with that reason. A 9 s gap, longer than one 16-bit timer period at any
+    prescaler (70,312.5 ticks of 128 µs at 8 MHz / 1024 > 65,535), is split over several
+    periods instead: no warning, and emit writes the header."""
+    long_gap = spec_with(tmp_path, "gap_us = 8000", "gap_us = 9000000", name="long.toml")
+    assert main(["check", str(long_gap)]) == 0
+    assert "ookframe emit" not in capsys.readouterr().err
+    assert main(["emit", str(long_gap), "-o", str(tmp_path / "long")]) == 0
+    assert "sent as" in capsys.readouterr().out
+    spec = spec_with(tmp_path, "gap_us = 8000", "gap_us = 0.01")
     assert main(["check", str(spec)]) == 0
     err = " ".join(capsys.readouterr().err.split())
     assert "warning: 'ookframe emit' with its default timer" in err

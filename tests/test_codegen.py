@@ -8,6 +8,7 @@ streams many cases per process; every byte and every (level, ticks) pulse must m
 from __future__ import annotations
 
 import dataclasses
+import itertools
 import os
 import re
 import subprocess
@@ -33,8 +34,9 @@ from ookframe.codegen.toolchains import (
 )
 from ookframe.errors import CodegenError
 from ookframe.frame import encode, frame_bits, random_values
-from ookframe.spec.load import spec_from_dict
-from ookframe.spec.model import FrameSpec
+from ookframe.linecodes import LINE_CODES, get_line_code
+from ookframe.spec.model import FrameSpec, LineCodeSpec
+from ookframe.spec_io import spec_from_dict
 from tests.c.runner import (
     bits_case,
     build_harness,
@@ -56,20 +58,21 @@ COMPILERS = [pytest.param(GCC, id="gcc", marks=pytest.mark.skipif(GCC is None, r
              pytest.param(CLANG, id="clang", marks=pytest.mark.skipif(CLANG is None, reason="clang not installed"))]
 needs_gcc = pytest.mark.skipif(GCC is None, reason="gcc not installed; host C checks skipped")
 
-LINE_CODES = [
-    {"name": "nrz"},
+#: every registered line code at its defaults, then parameter sets that change its C
+LINE_CODE_DOCS = [{"name": name, **cls.DEFAULTS} for name, cls in LINE_CODES.items()] + [
     {"name": "nrz", "stuff_after": 3},
     {"name": "nrz", "stuff_after": 5, "stuff_value": "ones"},
-    {"name": "manchester", "convention": "ieee"},
     {"name": "manchester", "convention": "thomas"},
-    {"name": "diff_manchester"},
-    {"name": "biphase_mark"},
     {"name": "pwm", "short_units": 1, "long_units": 3},
     {"name": "pwm", "short_units": 2, "long_units": 5},
     {"name": "pulse_distance", "mark_units": 1, "zero_space_units": 2, "one_space_units": 4},
-    {"name": "4b6b"},
-    {"name": "3of6"},
 ]
+
+
+def bits_per_block(lc: dict) -> int:
+    """Data bits per block of the line code a ``[line_code]`` table names."""
+    params = tuple(sorted((k, v) for k, v in lc.items() if k != "name"))
+    return get_line_code(LineCodeSpec(lc["name"], params)).bits_per_block
 
 
 def base_doc(line_code: dict, **frame: object) -> dict:
@@ -195,7 +198,7 @@ def test_schedule_merges_to_encoder_train(seed, name):
     assert s.ticks.max() <= emitted.model.max_pulse_ticks
 
 
-@pytest.mark.parametrize("lc", LINE_CODES, ids=lambda d: "-".join(map(str, d.values())))
+@pytest.mark.parametrize("lc", LINE_CODE_DOCS, ids=lambda d: "-".join(map(str, d.values())))
 def test_schedule_every_line_code(lc):
     """Every line code's run table replays its Python module exactly (encode, 40 values)."""
     spec = spec_from_dict(base_doc(lc))
@@ -225,9 +228,12 @@ def test_quantise_picks_exact_prescaler_and_reports_errors():
 
 
 def test_quantise_refusals():
-    """Durations that fit no timer period, a too coarse tick, empty prescaler lists."""
-    with pytest.raises(CodegenError, match="no prescaler fits.*repeat gap"):
-        quantise(TimerTarget(prescalers=(1,)), 250.0, [1], 20000.0, (2, 1))
+    """Chip runs that fit no timer period, a gap too long even split over 65535 periods
+    (20 s at 0.125 µs ticks on an 8-bit timer), a too coarse tick, empty prescaler lists."""
+    with pytest.raises(CodegenError, match="no prescaler fits.*1 unit"):
+        quantise(TimerTarget(prescalers=(1,)), 10000.0, [1], None, (2, 0))
+    with pytest.raises(CodegenError, match="no prescaler fits.*repeat gap.*65535 periods"):
+        quantise(TimerTarget(timer_bits=8, prescalers=(1,)), 20.0, [1], 20e6, (2, 1))
     with pytest.raises(CodegenError, match=r"worst timing error .* exceeds the tolerance 1 %"):
         quantise(TimerTarget(prescalers=(1024,)), 250.0, [1], None, (2, 0))
     assert quantise(TimerTarget(prescalers=(1024,), tolerance=0.05), 2500.0, [1], None,
@@ -253,8 +259,8 @@ def test_emit_refuses_bad_names_and_timing():
         dataclasses.replace(spec.fields[2], name="NODE"), *spec.fields[3:]))
     with pytest.raises(CodegenError, match="same C macro name"):
         build_model(renamed)
-    with pytest.raises(CodegenError, match="no prescaler fits"):
-        build_model(spec, TimerTarget(timer_bits=8, prescalers=(1, 8)))
+    with pytest.raises(CodegenError, match="no prescaler fits"):  # 250 µs = 2000 ticks > 255
+        build_model(spec, TimerTarget(timer_bits=8, prescalers=(1,)))
 
 
 # --------------------------------------------------------------------------- rendering
@@ -327,7 +333,7 @@ def test_examples_bit_and_tick_exact(tmp_path, cc, name):
 @pytest.mark.slow
 @needs_gcc
 @pytest.mark.parametrize("crc_impl", ["table256", "table16", "bitwise"])
-@pytest.mark.parametrize("lc", LINE_CODES, ids=lambda d: "-".join(map(str, d.values())))
+@pytest.mark.parametrize("lc", LINE_CODE_DOCS, ids=lambda d: "-".join(map(str, d.values())))
 def test_every_line_code_and_crc_impl(tmp_path, lc, crc_impl):
     """Each line code (incl. stuffing, differential codes, trailers) with each CRC
     implementation, bytes field and LSB-first little-endian fields, is bit/tick exact."""
@@ -360,8 +366,9 @@ def spec_docs(draw) -> dict:
     """Random valid spec documents covering line codes, widths 1..64, signedness, scale,
     bytes fields, every check kind (random and catalogue CRCs), LFSR whitening, bit/byte
     order and repeats."""
-    lc = draw(st.sampled_from(LINE_CODES))
-    block = lc["name"] in ("4b6b", "3of6")
+    lc = draw(st.sampled_from(LINE_CODE_DOCS))
+    bpb = bits_per_block(lc)
+    block = bpb > 1
     byte_order = draw(st.sampled_from(["big", "little"]))
 
     def width(lo: int, hi: int, *, whole_bytes_if_wide: bool = False) -> int:
@@ -369,7 +376,7 @@ def spec_docs(draw) -> dict:
         if whole_bytes_if_wide and byte_order == "little" and w > 8:
             w = min(64, -(-w // 8) * 8)
         if block:
-            w = max(4, min(hi - hi % 4, -(-w // 4) * 4))
+            w = max(bpb, min(hi - hi % bpb, -(-w // bpb) * bpb))
         return w
 
     pattern_bits = width(1, 16)
@@ -385,7 +392,7 @@ def spec_docs(draw) -> dict:
         max_len = draw(st.integers(1, 7))
         lw = max(width(3, 8), max_len.bit_length())
         if block:
-            lw = 4 if max_len < 16 else 8
+            lw = -(-max(lw, max_len.bit_length()) // bpb) * bpb
         fields.insert(draw(st.integers(0, len(fields))), {"name": "n", "width_bits": lw, "role": "length"})
         pos = next(i for i, f in enumerate(fields) if f["name"] == "n")
         fields.insert(draw(st.integers(pos + 1, len(fields))),
@@ -393,7 +400,7 @@ def spec_docs(draw) -> dict:
     kind = draw(st.sampled_from(["none", "sum8", "xor8", "fletcher16", "crc", "crc"]))
     check: dict = {"kind": kind, "covers": draw(st.sampled_from([["fields"], ["sync", "fields"]]))}
     if kind == "crc":
-        models = [n for n, e in CATALOGUE.items() if not block or e.params.width % 4 == 0]
+        models = [n for n, e in CATALOGUE.items() if e.params.width % bpb == 0]
         if draw(st.booleans()):
             check = {"model": draw(st.sampled_from(models)), "covers": check["covers"]}
         else:
@@ -458,8 +465,8 @@ def test_sanitizers_clean(tmp_path, name):
         emitted_list = [emit_header(example_spec(n)[0]) for n in EXAMPLES]
     else:
         emitted_list = [emit_header(spec_from_dict(base_doc(lc)), TimerTarget(crc_impl=impl))
-                        for lc, impl in zip(LINE_CODES, ["table256", "table16", "bitwise"] * 4,
-                                            strict=True)]
+                        for lc, impl in zip(LINE_CODE_DOCS,
+                                            itertools.cycle(["table256", "table16", "bitwise"]))]
     env = {"ASAN_OPTIONS": "detect_leaks=1:abort_on_error=1",
            "UBSAN_OPTIONS": "print_stacktrace=1:halt_on_error=1"}
     for i, emitted in enumerate(emitted_list):

@@ -22,7 +22,7 @@ import ookframe
 from ookframe.codegen import emit_header
 from ookframe.codegen.render import templates_dir
 from ookframe.demo import example_text
-from ookframe.spec.load import spec_from_dict
+from ookframe.spec_io import spec_from_dict
 import tomllib
 assert ookframe.__file__.startswith(sys.argv[1]), ookframe.__file__
 assert str(templates_dir()).startswith(sys.argv[1]), templates_dir()
@@ -66,3 +66,21 @@ def test_wheel_contains_templates_and_renders(tmp_path):
                          text=True, cwd=tmp_path, timeout=120)
     assert run.returncode == 0, run.stderr[-3000:]
     assert run.stdout.strip() == str(site / "ookframe" / "codegen_templates")
+
+
+def test_every_runtime_dependency_is_imported():
+    """Each package in [project] dependencies of pyproject.toml is imported by the library
+    (a declared dependency nothing imports is a defect; test-only helpers such as
+    bitstring belong in the test extra). Import names: the distribution name, lower case,
+    '-' as '_' (true for every current dependency)."""
+    import re
+    import tomllib
+
+    deps = tomllib.loads((ROOT / "pyproject.toml").read_text())["project"]["dependencies"]
+    names = {re.split(r"[<>=!~\[ ;]", d, maxsplit=1)[0].lower().replace("-", "_") for d in deps}
+    source = "\n".join(p.read_text(encoding="utf-8") for p in (ROOT / "ookframe").rglob("*.py"))
+    imported = set(re.findall(r"^\s*(?:from|import)\s+([A-Za-z_]\w*)", source, re.M))
+    assert names and not names - imported, f"declared but never imported: {names - imported}"
+    extras = tomllib.loads((ROOT / "pyproject.toml").read_text())["project"]["optional-dependencies"]
+    assert any(d.startswith("bitstring") for d in extras["test"])
+    assert "bitstring" not in imported

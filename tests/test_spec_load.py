@@ -116,3 +116,46 @@ def test_load_spec_reports_bad_toml(tmp_path):
         load_spec(p)
     with pytest.raises(SpecError, match="cannot read"):
         load_spec(tmp_path / "missing.toml")
+
+
+@pytest.mark.parametrize(("frame_order", "check", "expected"), [
+    ("little", {"kind": "fletcher16"}, "little"),
+    ("little", {"model": "CRC-16/KERMIT", "byte_order": "big"}, "big"),
+    ("little", {"model": "CRC-12/UMTS"}, "big"),  # 12 bits: no byte order to follow
+    ("little", {"kind": "sum8"}, "little"),
+    ("big", {"model": "CRC-16/KERMIT"}, "big"),
+    ("big", {"model": "CRC-16/KERMIT", "byte_order": "little"}, "little"),
+])
+def test_check_byte_order_follows_the_frame(frame_order, check, expected):
+    """Without ``[check] byte_order`` the check's bytes go in the frame's byte order when the
+    check is a whole number of bytes (a little-endian frame gets a little-endian check),
+    else big; an explicit value always wins (project convention, no source)."""
+    doc = copy.deepcopy(base())
+    doc["frame"]["byte_order"] = frame_order
+    doc["fields"] = [f for f in doc["fields"] if f["width_bits"] % 8 == 0]
+    doc["check"] = {**check, "covers": ["fields"]}
+    assert spec_from_dict(doc).check.byte_order == expected
+
+
+def test_little_endian_example_sends_its_check_low_byte_first():
+    """coldframe_vent (little-endian, Fletcher-16, no whitening): the two check bytes on air
+    are sum1 then sum2, each LSB first like its fields. Fletcher-16 as defined by
+    J. G. Fletcher, IEEE Trans. Commun. COM-30 (1982): sum1 = sum of the bytes mod 255,
+    sum2 = sum of the running sum1 values mod 255, value = sum2 << 8 | sum1; computed here
+    with a plain loop over the packed sync + field bits."""
+    import numpy as np
+
+    from ookframe import frame
+
+    spec = load_spec("examples/coldframe_vent.toml")
+    values = {"vent": 1, "opening_pct": 35, "inside_temp_c": 18.25}
+    bits = frame.frame_bits(spec, values)
+    n_head = spec.preamble.length_bits + spec.sync.length_bits
+    covered = bits[spec.preamble.length_bits:n_head + 32]  # sync + 32 field bits
+    sum1 = sum2 = 0
+    for byte in np.packbits(covered).tolist():
+        sum1 = (sum1 + byte) % 255
+        sum2 = (sum2 + sum1) % 255
+    on_air = bits[n_head + 32:]
+    first, second = (int("".join(map(str, on_air[i:i + 8][::-1])), 2) for i in (0, 8))
+    assert (first, second) == (sum1, sum2)

@@ -18,7 +18,7 @@ import pytest
 from ookframe.channel import PRESETS, ChannelSpec, apply_channel
 from ookframe.channel import impairments as im
 from ookframe.pulses import PulseTrain
-from ookframe.spec.load import load_spec
+from ookframe.spec_io import load_spec
 from ookframe.stress import batch as sb
 from ookframe.stress.runner import Counts, match_frames
 
@@ -319,13 +319,10 @@ def test_join_matches_reference(example, gap_us):
         s = dataclasses.replace(spec, unit_us=unit)
         b = sb.random_batch(s, 9, np.random.default_rng(3), gap_us=gap_us)
         gap = float(s.gap_us if gap_us is None else gap_us)
-        if sb._batch.is_fixed_layout(s):
-            rows = list(sb._random_fixed(s, 9, np.random.default_rng(3))[0])
-        else:
-            rows = sb._random_any(s, 9, np.random.default_rng(3))[0]
+        rows = list(sb.random_chips(s, 9, np.random.default_rng(3))[0])
         lv, du = _ref_join(s, rows, gap)
         assert _same(b.train.levels, lv) and _same(b.train.durations_us, du)
-        got = sb._join(s, rows, b.payload_hex, gap)  # list input as well as 2-D
+        got = sb.join_chips(s, rows, b.payload_hex, gap)  # list input as well as 2-D
         assert _same(got.train.levels, lv) and _same(got.train.durations_us, du)
 
 
@@ -338,7 +335,7 @@ def test_join_all_zero_rows_and_empty_batch():
         for chips in (rows, np.zeros((4, 6), np.uint8), np.zeros((0, 6), np.uint8), []):
             as_list = list(chips)
             lv, du = _ref_join(s, as_list, 77.0)
-            got = sb._join(s, chips, ("",) * len(as_list), 77.0)
+            got = sb.join_chips(s, chips, ("",) * len(as_list), 77.0)
             assert _same(got.train.levels, lv) and _same(got.train.durations_us, du)
 
 

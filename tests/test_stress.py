@@ -11,8 +11,9 @@ import pytest
 from ookframe import frame as _f
 from ookframe.channel import ChannelSpec, apply_channel, get_preset
 from ookframe.decode import decode
+from ookframe.plan import compile_plan
 from ookframe.pulses import PulseTrain, chips_to_train, concat, merge_runs
-from ookframe.spec.load import spec_from_dict
+from ookframe.spec_io import spec_from_dict
 from ookframe.stress.batch import random_batch
 from ookframe.stress.runner import chunk_plan, run_stress
 from ookframe.stress.stats import clopper_pearson
@@ -66,7 +67,7 @@ def test_same_seed_same_result_and_any_worker_count():
     """Chunks are seeded by SeedSequence.spawn: 1 worker, a process pool of 2 and a thread
     pool of 3 give identical results; another seed gives different ones."""
     spec = manchester_spec()
-    ch = get_preset("budget-superregen").with_(jitter_us=25.0)
+    ch = get_preset("budget-superregen").with_(dropout_prob=0.005)  # lost marks: some fail
     kw = dict(seed=11, chunk_frames=40)
     one = run_stress(spec, ch, 200, workers=1, **kw)
     again = run_stress(spec, ch, 200, workers=1, **kw)
@@ -142,7 +143,7 @@ def test_false_accepts_on_random_data_match_two_to_minus_n():
     rng = np.random.default_rng(99)
     body = rng.integers(0, 2, (n, 16 + 8), dtype=np.uint8)
     head = np.broadcast_to(_f.head_bits(spec), (n, _f.head_bits(spec).size))
-    lc = _f._line_code(spec)
+    lc = compile_plan(spec).line_code
     chips = lc.encode(np.hstack((head, body)))
     gap = chips_to_train(np.zeros(int(spec.gap_us / spec.unit_us), np.uint8), spec.unit_us)
     trains = [chips_to_train(c, spec.unit_us) for c in chips]

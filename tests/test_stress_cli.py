@@ -21,14 +21,14 @@ def run_json(capsys, *argv: str) -> dict:
 
 def test_stress_json_has_the_documented_keys(capsys):
     d = run_json(capsys, "stress", HIVE, "--frames", "120", "--workers", "1", "--json",
-                 "--preset", "ideal", "--jitter-us", "30")
+                 "--preset", "ideal", "--jitter-us", "50")
     for key in ("frames", "ok", "per", "per_ci95", "false_accepts", "frames_per_s"):
         assert key in d
     assert d["frames"] == 120 and 0 < d["ok"] < 120
     assert d["per"] == pytest.approx(1 - d["ok"] / 120)
     lo, hi = d["per_ci95"]
     assert lo <= d["per"] <= hi
-    assert d["channel"]["jitter_us"] == 30.0
+    assert d["channel"]["jitter_us"] == 50.0
 
 
 def test_stress_table_and_same_seed(capsys):

@@ -52,3 +52,19 @@ def test_glitches_varied_on_a_channel_without_glitch_width():
     kept = channel_at(spec, ChannelSpec(glitch_rate_per_ms=0.1, glitch_width_us=7.0),
                       "glitch_rate_per_ms", 2.0)
     assert (kept.glitch_rate_per_ms, kept.glitch_width_us) == (2.0, 7.0)
+
+
+def test_pooled_sweep_equals_point_by_point():
+    """With a pool the sweep submits the chunks of all points together; every result equals
+    the in-process run of that point alone (same chunk seeds)."""
+    from ookframe.stress.runner import run_stress
+    from ookframe.stress.sweep import channel_at
+
+    a, _ = example_spec("hive_scale.toml")
+    ch = ChannelSpec()
+    pooled = run_sweep([a], ch, "dropout_prob", [0.0, 0.02, 0.05], 90, seed=4, workers=2,
+                       chunk_frames=25)
+    alone = [run_stress(a, channel_at(a, ch, "dropout_prob", v), 90, seed=4, chunk_frames=25)
+             for v in (0.0, 0.02, 0.05)]
+    assert list(pooled.results[0]) == alone
+    assert 0 < sum(r.ok for r in alone) < 270

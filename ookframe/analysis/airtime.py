@@ -9,9 +9,9 @@ interval I with independent, uniformly random phases; a frame is lost when any o
 overlaps it in time (no capture effect, the receiver always listens). A frame of length T
 meets one other node's frame with probability 2T/I (vulnerable window 2T), so it survives
 N-1 single-frame nodes with probability (1 - 2T/I)^(N-1), exact for T <= I/2. This tends
-to exp(-2G) as N grows, G being the offered load in frames per frame time (here the other
-nodes' load (N-1) T / I, which is N T / I for large N); the throughput S = G exp(-2G) peaks
-at G = 1/2 with S = 1/(2e).
+to exp(-2G') as N grows, G' = (N-1) R T / I being the load the *other* nodes offer (frames
+per frame time); the total offered load G = N R T / I (which G' approaches for large N)
+gives the channel throughput S = G exp(-2G), peaking at G = 1/2 with S = 1/(2e).
 
 Repeats: every node sends R copies spaced S = T + gap. Copies of two nodes collide together
 (their repeat patterns are the same), so the copies of one report are *not* independent.
@@ -33,9 +33,9 @@ from functools import lru_cache
 import numpy as np
 
 from ..errors import ValueRangeError
-from ..frame import head_bits
-from ..linecodes import get_line_code
+from ..plan import FramePlan, as_plan, spec_of
 from ..spec.model import FrameSpec
+from .linecode_stats import frame_stats
 from .regions import REGIONS, Finding, check_region, usage
 from .spectrum import chip_stream
 
@@ -85,7 +85,8 @@ class Collisions:
     """Pure-ALOHA odds for one report among ``n_nodes`` unsynchronised nodes.
 
     offered_load: G = N R T / I (all nodes, frames per frame time); throughput = G exp(-2G);
-    p_frame_ok: exact P(one copy survives); p_frame_ok_poisson: exp(-2 (N-1) R T / I);
+    others_load: G' = (N-1) R T / I (the other nodes' load, what one frame meets);
+    p_frame_ok: exact P(one copy survives); p_frame_ok_poisson: exp(-2 G');
     p_report_ok: exact P(at least one of the R copies survives); p_report_ok_independent:
     1 - (1 - p_frame_ok)^R (copies assumed lost independently, optimistic);
     expected_deliveries: R p_frame_ok (copies received per report).
@@ -97,6 +98,7 @@ class Collisions:
     spacing_us: float
     interval_s: float
     offered_load: float
+    others_load: float
     p_frame_ok: float
     p_frame_ok_poisson: float
     throughput: float
@@ -134,26 +136,32 @@ class AirtimeReport:
     rf_bandwidth_hz: float | None
 
 
-@lru_cache(maxsize=64)
-def max_frame_us(spec: FrameSpec) -> float:
+def max_frame_us(spec: FrameSpec | FramePlan) -> float:
     """Return an upper bound in µs on one frame's duration over all payloads.
 
     From the exact worst-case chip count of :func:`.linecode_stats.frame_stats` (longest
     bytes field, stuffing and data-dependent symbol lengths included).
     """
-    from .linecode_stats import frame_stats
+    return _max_frame_us(spec_of(spec))
 
+
+@lru_cache(maxsize=64)
+def _max_frame_us(spec: FrameSpec) -> float:
     return frame_stats(spec).max_frame_chips * spec.unit_us
 
 
-def max_airtime_us(spec: FrameSpec) -> float:
+def max_airtime_us(spec: FrameSpec | FramePlan) -> float:
     """Return an upper bound in µs on one transmission (repeats + gaps) over all payloads."""
+    spec = spec_of(spec)
     return max_frame_us(spec) * spec.repeats + spec.gap_us * (spec.repeats - 1)
 
 
-def tx_timing(spec: FrameSpec, rng: np.random.Generator, n_frames: int = MEAN_FRAMES) -> TxTiming:
+def tx_timing(spec: FrameSpec | FramePlan, rng: np.random.Generator,
+              n_frames: int = MEAN_FRAMES) -> TxTiming:
     """Return mean frame, airtime and mark time over ``n_frames`` random payloads, plus bounds."""
-    chips = chip_stream(spec, rng, n_frames)
+    plan = as_plan(spec)
+    spec = plan.spec
+    chips = chip_stream(plan, rng, n_frames)
     frame_us = chips.size / n_frames * spec.unit_us
     mark_us = float(chips.sum()) / n_frames * spec.unit_us * spec.repeats
     max_f = max_frame_us(spec)
@@ -180,7 +188,8 @@ def aloha_p_success(frame_us: float, interval_s: float, n_nodes: int) -> float:
 
 
 def aloha_p_success_poisson(offered_load: float) -> float:
-    """Return exp(-2G), the pure-ALOHA success probability at offered load G (large N)."""
+    """Return exp(-2G), the pure-ALOHA success probability of a frame that meets a load of G
+    other frames per frame time (Poisson limit of many nodes)."""
     return math.exp(-2.0 * offered_load)
 
 
@@ -256,7 +265,7 @@ def collisions(frame_us: float, repeats: int, gap_us: float, interval_s: float,
     others = n * repeats * frame_s / interval_s
     return Collisions(n_nodes=n_nodes, frame_us=frame_us, repeats=repeats,
                       spacing_us=frame_us + gap_us, interval_s=interval_s, offered_load=load,
-                      p_frame_ok=p_copy, p_frame_ok_poisson=aloha_p_success_poisson(others),
+                      others_load=others, p_frame_ok=p_copy, p_frame_ok_poisson=aloha_p_success_poisson(others),
                       throughput=aloha_throughput(load), p_report_ok=min(1.0, p_report),
                       p_report_ok_independent=1.0 - (1.0 - p_copy) ** repeats,
                       expected_deliveries=repeats * p_copy)
@@ -287,27 +296,32 @@ def energy(mark_us: float, interval_s: float, tx_current_ma: float, supply_v: fl
                   battery_life_days=life)
 
 
-def airtime_report(spec: FrameSpec, interval_s: float, rng: np.random.Generator, *,
+def airtime_report(spec: FrameSpec | FramePlan, interval_s: float, rng: np.random.Generator, *,
                    n_nodes: int = 1, regions: tuple[str, ...] = tuple(REGIONS),
                    power_mw: float | None = None, rf_bandwidth_hz: float | None = None,
                    tx_current_ma: float = TYPICAL_TX_CURRENT_MA,
                    supply_v: float = TYPICAL_SUPPLY_V,
-                   battery_mah: float | None = None) -> AirtimeReport:
+                   battery_mah: float | None = None,
+                   carrier_hz: float | None = None) -> AirtimeReport:
     """Return timing, duty cycle, region findings, collision odds and energy for a spec.
 
     Duty cycle and region rules use the upper-bound airtime (conservative); collisions and
-    energy use means over random payloads (expected values).
+    energy use means over random payloads (expected values). ``power_mw`` (e.r.p.),
+    ``rf_bandwidth_hz`` and ``carrier_hz`` feed the region rules; rules needing one that is
+    not given are reported as not assessed.
     """
+    spec = spec_of(spec)
     timing = tx_timing(spec, rng)
     duty = duty_cycle(timing.max_airtime_us, interval_s)
     found = {r: check_region(r, timing.max_airtime_us, interval_s, power_mw,
-                             rf_bandwidth_hz=rf_bandwidth_hz) for r in regions}
+                             rf_bandwidth_hz=rf_bandwidth_hz, carrier_hz=carrier_hz)
+             for r in regions}
     coll = collisions(timing.frame_us, spec.repeats, spec.gap_us, interval_s, n_nodes)
     en = energy(timing.mark_us, interval_s, tx_current_ma, supply_v, battery_mah)
     return AirtimeReport(timing, duty, found, coll, en, rf_bandwidth_hz)
 
 
-def cautions(spec: FrameSpec) -> list[str]:
+def cautions(spec: FrameSpec | FramePlan) -> list[str]:
     """Return notes on how the airtime and bandwidth figures were estimated (shown after the
     regulatory caution, which callers print first)."""
     notes = ["Region rules are transcribed from memory and simplified: verify each clause "
@@ -321,10 +335,9 @@ def cautions(spec: FrameSpec) -> list[str]:
     return notes
 
 
-def _fixed_frame_us(spec: FrameSpec) -> float:
+def _fixed_frame_us(spec: FrameSpec | FramePlan) -> float:
     """Shortest frame in µs (empty bytes field, every body bit at its shorter symbol)."""
-    lc = get_line_code(spec.line_code)
-    n_body = sum(f.width_bits for f in spec.fields if f.kind == "int") + spec.check.width_bits
-    head = head_bits(spec)
-    return min(lc.encode(np.concatenate((head, np.full(n_body, v, np.uint8)))).size
-               for v in (0, 1)) * spec.unit_us
+    plan = as_plan(spec)
+    lc = plan.line_code
+    return min(lc.encode(np.concatenate((plan.head_bits, np.full(plan.min_body_bits, v, np.uint8)))
+                         ).size for v in (0, 1)) * plan.unit_us

@@ -35,7 +35,8 @@ from functools import lru_cache
 
 import numpy as np
 
-from ..linecodes import LineCode, get_line_code
+from ..linecodes import LineCode
+from ..plan import FramePlan, as_plan
 from ..pulses import chips_to_runs
 from ..spec.model import FrameSpec
 
@@ -374,13 +375,13 @@ def chip_stats(lc: LineCode, head_bits: Sequence[int], body_lengths: Sequence[in
                          max_mark_chips=most_marks[0], bounded=bounded)
 
 
-def frame_stats(spec: FrameSpec) -> LineCodeStats:
+def frame_stats(spec: FrameSpec | FramePlan) -> LineCodeStats:
     """Return the :class:`LineCodeStats` of the spec's frames over all payloads."""
-    lc = get_line_code(spec.line_code)
-    head = list(spec.preamble.bits() + spec.sync.bits())
-    fixed = sum(f.width_bits for f in spec.fields if f.kind == "int") + spec.check.width_bits
-    blob = next((f for f in spec.fields if f.kind == "bytes"), None)
-    lengths = [fixed + 8 * n for n in range(blob.max_len_bytes + 1)] if blob else [fixed]
+    plan = as_plan(spec)
+    spec = plan.spec
+    lc = plan.line_code
+    head = plan.head_bits.tolist()
+    lengths = list(range(plan.min_body_bits, plan.max_body_bits + 1, 8))
     bounded: list[str] = []
     if spec.check.kind != "none":
         bounded.append("check bits taken as free bits")

@@ -11,23 +11,26 @@ one engine of this package:
   noise at the spec's bit rate (:mod:`.syncword`);
 * ``check``: kind, covered data bits, HD and P(undetected frame) at ``ber``, the
   catalogue alternatives of the same width and a stronger one when it exists
-  (:mod:`.check_strength`);
+  (:mod:`ookframe.checks.strength`);
 * ``bandwidth_hz``: one-sided 99 % power bandwidth of the keyed baseband, mean removed
   (:mod:`.spectrum`); the RF signal occupies about twice that;
-* ``cautions``: the regulatory caution first, then design warnings.
+* ``cautions``: the regulatory caution first, then design advice;
+* ``warnings``: design defects that make frames fail to decode (a sync word within the
+  allowed errors of a preamble window cannot be located); ``check --strict`` rejects a
+  spec that has any.
 """
 
 from __future__ import annotations
 
 from ..cautions import REGULATORY_CAUTION
-from ..spec.model import FrameSpec
-from .check_strength import (
+from ..checks.strength import (
     DEFAULT_BER,
     alternatives,
     check_strength,
     covered_bits,
     stronger_alternative,
 )
+from ..spec.model import FrameSpec
 from .linecode_stats import frame_stats
 from .syncword import spec_sync_quality
 
@@ -65,10 +68,13 @@ def design_report(spec: FrameSpec, *, ber: float = DEFAULT_BER,
               "min_distance_to_preamble": sync.min_distance_to_preamble,
               "margin_bits": sync.margin_bits,
               "false_syncs_per_hour_on_noise": sync.false_syncs_per_hour}
+    warnings: list[str] = []
     if sync.margin_bits is not None and sync.margin_bits < 0:
-        cautions.append(f"sync word {sync.hex} is within {sync.max_errors} bit error(s) of a "
-                        "window of the preamble: the decoder can lock early; pick another "
-                        "word (ookframe syncword).")
+        how = ("equals a window" if sync.min_distance_to_preamble == 0 else
+               f"is {sync.min_distance_to_preamble} bit(s) from a window")
+        warnings.append(f"sync word {sync.hex} {how} of the preamble, within the "
+                        f"{sync.max_errors} bit error(s) allowed: the decoder cannot locate "
+                        "it (it locks early); pick another word (ookframe syncword).")
     if (sync.false_syncs_per_hour or 0.0) > FALSE_SYNC_WARN_PER_HOUR:
         cautions.append(f"about {sync.false_syncs_per_hour:.3g} false sync detections per hour "
                         "on noise: the check must reject them; a longer sync word or fewer "
@@ -121,4 +127,5 @@ def design_report(spec: FrameSpec, *, ber: float = DEFAULT_BER,
         "check": check_d,
         "bandwidth_hz": bandwidth,
         "cautions": cautions,
+        "warnings": warnings,
     }

@@ -31,7 +31,8 @@ from functools import lru_cache
 import numpy as np
 
 from ..errors import ValueRangeError
-from ..frame import frame_chips, random_values
+from ..frame import frame_chips_many, random_values
+from ..plan import FramePlan, as_plan, spec_of
 from ..spec.model import FrameSpec
 
 #: welch segment length in chips (frequency resolution 1/(NPERSEG_CHIPS T))
@@ -44,12 +45,14 @@ _INTEGRATE_CHIP_RATES = 256
 BANDWIDTH_SEED = 20240433
 
 
-def chip_stream(spec: FrameSpec, rng: np.random.Generator, n_frames: int = DEFAULT_FRAMES
-                ) -> np.ndarray:
+def chip_stream(spec: FrameSpec | FramePlan, rng: np.random.Generator,
+                n_frames: int = DEFAULT_FRAMES) -> np.ndarray:
     """Return the chips (uint8) of ``n_frames`` random-payload frames sent back to back."""
     if n_frames < 1:
         raise ValueRangeError(f"n_frames must be >= 1, got {n_frames}")
-    return np.concatenate([frame_chips(spec, random_values(spec, rng)) for _ in range(n_frames)])
+    plan = as_plan(spec)
+    values = [random_values(plan, rng) for _ in range(n_frames)]
+    return np.concatenate(frame_chips_many(plan, values))
 
 
 def _chip_psd(chips: np.ndarray) -> np.ndarray:
@@ -70,14 +73,14 @@ def _one_sided_psd(p_chip: np.ndarray, nu: np.ndarray, unit_s: float) -> np.ndar
     return 2.0 * unit_s * np.sinc(nu) ** 2 * p_chip[idx]
 
 
-def baseband_psd(spec: FrameSpec, rng: np.random.Generator, n_frames: int = DEFAULT_FRAMES,
+def baseband_psd(spec: FrameSpec | FramePlan, rng: np.random.Generator, n_frames: int = DEFAULT_FRAMES,
                  max_freq_hz: float | None = None) -> tuple[np.ndarray, np.ndarray]:
     """Return (freqs_hz, psd): one-sided PSD of the AC part of the keyed baseband, level²/Hz.
 
     Levels are normalised (carrier on = 1). The grid runs from 0 to ``max_freq_hz`` (default
     16 chip rates) in steps of 1/(256 T). See the module docstring for the method.
     """
-    unit_s = spec.unit_us * 1e-6
+    unit_s = spec_of(spec).unit_us * 1e-6
     chip_rate_hz = 1.0 / unit_s
     f_max = 16.0 * chip_rate_hz if max_freq_hz is None else float(max_freq_hz)
     if not f_max > 0:
@@ -87,7 +90,7 @@ def baseband_psd(spec: FrameSpec, rng: np.random.Generator, n_frames: int = DEFA
     return nu * chip_rate_hz, _one_sided_psd(p, nu, unit_s)
 
 
-def occupied_bandwidth_hz(spec: FrameSpec, rng: np.random.Generator, fraction: float = 0.99,
+def occupied_bandwidth_hz(spec: FrameSpec | FramePlan, rng: np.random.Generator, fraction: float = 0.99,
                           n_frames: int = DEFAULT_FRAMES) -> float:
     """Return the one-sided baseband bandwidth in Hz holding ``fraction`` of the AC power.
 
@@ -96,7 +99,7 @@ def occupied_bandwidth_hz(spec: FrameSpec, rng: np.random.Generator, fraction: f
     """
     if not 0.0 < fraction < 1.0:
         raise ValueRangeError(f"fraction must be in (0, 1), got {fraction}")
-    unit_s = spec.unit_us * 1e-6
+    unit_s = spec_of(spec).unit_us * 1e-6
     p = _chip_psd(chip_stream(spec, rng, n_frames))
     n = p.size
     k = _INTEGRATE_CHIP_RATES
@@ -120,5 +123,6 @@ def occupied_bandwidth_hz(spec: FrameSpec, rng: np.random.Generator, fraction: f
 
 @lru_cache(maxsize=64)
 def bandwidth_hz(spec: FrameSpec) -> float:
-    """Return the 99 % one-sided baseband bandwidth in Hz (fixed seed, deterministic)."""
+    """Return the 99 % one-sided baseband bandwidth in Hz (fixed seed, deterministic; the
+    result is kept per spec, a plan's spec is ``plan.spec``)."""
     return occupied_bandwidth_hz(spec, np.random.default_rng(BANDWIDTH_SEED))

@@ -26,6 +26,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import ValueRangeError
+from ..plan import FramePlan, as_plan, spec_of
 from ..spec.model import FrameSpec
 
 EXHAUSTIVE_MAX_BITS = 24
@@ -257,15 +258,15 @@ def _hill_climb(n_bits: int, pre: tuple[int, ...], top: int, rng: np.random.Gene
     return _best(words, cur_s[first], top)
 
 
-def bit_rate_bps(spec: FrameSpec) -> float:
+def bit_rate_bps(spec: FrameSpec | FramePlan) -> float:
     """Return the spec's data bit rate in bit/s (1e6 / (unit_us * units per bit))."""
-    from ..linecodes import get_line_code
+    plan = as_plan(spec)
+    return 1e6 / (plan.unit_us * plan.line_code.units_per_bit)
 
-    return 1e6 / (spec.unit_us * get_line_code(spec.line_code).units_per_bit)
 
-
-def spec_sync_quality(spec: FrameSpec) -> SyncQuality:
+def spec_sync_quality(spec: FrameSpec | FramePlan) -> SyncQuality:
     """Return the :class:`SyncQuality` of the spec's sync word after its preamble, at the
     spec's bit rate and allowed sync errors."""
+    spec = spec_of(spec)
     return sync_quality(spec.sync.value, spec.sync.length_bits, spec.preamble.bits(),
                         max_errors=spec.sync.max_errors, bit_rate_bps=bit_rate_bps(spec))

@@ -120,8 +120,29 @@ class Crc(CrcParams):
         """Return the CRC of b"123456789" (the catalogue's check value)."""
         return self.compute(CHECK_INPUT)
 
+    @property
+    def residue(self) -> int:
+        """Return the register after any error-free codeword (message + its CRC), refout
+        reflection applied, xorout not applied (the catalogue's ``residue``).
+
+        By linearity it does not depend on the message or ``init``: it is
+        (X * x^width) mod poly with X = xorout (reflected when refout), reflected when
+        refin, as the catalogue defines it. A receiver running the CRC over a whole
+        codeword checks the raw register against this constant.
+        """
+        w = self.width
+        x = reflect(self.xorout, w) if self.refout else self.xorout
+        r = x
+        for _ in range(w):  # w zero bits through the left-shifting register
+            top = r >> (w - 1)
+            r = (r << 1) & self.mask
+            if top:
+                r ^= self.poly
+        return reflect(r, w) if self.refin else r
+
     def describe(self) -> str:
-        """Return the parameters on one line (width, poly, init, refin, refout, xorout, check)."""
+        """Return the parameters on one line (width, poly, init, refin, refout, xorout, check,
+        residue)."""
         digits = (self.width + 3) // 4
 
         def h(v: int) -> str:
@@ -129,7 +150,7 @@ class Crc(CrcParams):
 
         text = (f"width={self.width} poly={h(self.poly)} init={h(self.init)} "
                 f"refin={str(self.refin).lower()} refout={str(self.refout).lower()} "
-                f"xorout={h(self.xorout)} check={h(self.check)}")
+                f"xorout={h(self.xorout)} check={h(self.check)} residue={h(self.residue)}")
         return f"{text} name={self.name!r}" if self.name else text
 
     # ------------------------------------------------------------------- algorithms

@@ -6,7 +6,7 @@ import argparse
 
 from rich.table import Table
 
-from ..analysis.crc_strength import (
+from ..checks.crc_strength import (
     HD_RANGE,
     SEARCH_LIMIT_BITS,
     crc_strength,

@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import argparse
 
+from rich import box
+from rich.markup import escape
 from rich.table import Table
 
 from . import common
@@ -11,11 +13,17 @@ from .output import err, out, print_json
 
 NAME = "decode"
 HELP = "decode every frame in a pulse capture (CSV, JSON or VCD)"
+#: capture formats --format accepts (the names of ookframe.captures.FORMATS, which a test
+#: compares with this tuple; kept here so that building the parser imports no reader)
+CAPTURE_FORMATS = ("csv", "json", "vcd")
 
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
     common.add_spec_argument(p)
     p.add_argument("capture", metavar="CAPTURE", help="capture file: .csv (level,duration_us), .json or .vcd")
+    p.add_argument("--format", choices=CAPTURE_FORMATS, default=None, dest="capture_format",
+                   help="capture format, overriding the file extension (default: from the "
+                   "extension: .csv, .json, .vcd)")
     p.add_argument("--signal", metavar="NAME", help="VCD signal to read (default: the only 1-bit signal)")
     p.add_argument("--good-only", action="store_true", help="leave out frames whose check fails")
     common.add_json_argument(p)
@@ -33,6 +41,7 @@ def frame_dicts(frames) -> list[dict]:
             "unit_us": f.unit_us,
             "worst_deviation": f.worst_deviation,
             "sync_errors": f.sync_errors,
+            "corrected": f.corrected,
         }
         for f in frames
     ]
@@ -42,20 +51,56 @@ def run(args: argparse.Namespace) -> int:
     from ..captures import read_capture
     from ..decode import decode
     spec, _ = common.load(args)
-    train = read_capture(args.capture, signal=args.signal)
+    train = read_capture(args.capture, signal=args.signal, fmt=args.capture_format)
     frames = decode(spec, train, include_bad=not args.good_only)
     if args.json:
         print_json(frame_dicts(frames))
         return 0
     if not frames:
-        err.print(f"no frames of '{spec.name}' found in {args.capture} ({len(train)} pulses)")
+        from ..decode import diagnose
+
+        r = diagnose(spec, train)
+        units = ", ".join(f"{u:g}" for u in r.head_units_us) or "-"
+        err.print(f"no frames of '{spec.name}' found in {args.capture}: {r.stage}. "
+                  f"{r.pulses} pulses ({r.after_glitch_filter} after the glitch filter), "
+                  f"{r.bursts} burst(s), {r.heads} preamble(s) (unit measured {units} µs; "
+                  f"spec {r.unit_us:g} µs), {r.synced} with a sync word, {r.check_ok} "
+                  "with a passing check")
         return 0
-    t = Table(title=f"{len(frames)} frame(s) of '{spec.name}' in {args.capture}")
-    for col in ("#", "start µs", "check", "unit µs", "worst dev", "fields"):
-        t.add_column(col, justify="right" if col != "fields" else "left")
-    for i, f in enumerate(frames):
-        fields = ", ".join(f"{k}={v}" for k, v in f.fields.items())
-        t.add_row(str(i), f"{f.start_us:.1f}", "ok" if f.crc_ok else "[red]BAD[/red]",
-                  f"{f.unit_us:.2f}", f"{100 * f.worst_deviation:.1f} %", fields)
-    out.print(t)
+    out.print(frames_table(spec, frames, f"{len(frames)} frame(s) of '{spec.name}' in "
+                           f"{args.capture}"))
     return 0
+
+
+def frames_table(spec, frames, title: str) -> Table:
+    """A table of decoded frames, one section each: the frame's number, time and check
+    result, its reception figures (clock error, worst edge deviation, sync-word bit
+    errors, edges moved by the check-aided recovery) and one row per field with value and
+    unit."""
+    t = Table(title=title, title_justify="left", box=box.SIMPLE_HEAD, show_edge=False)
+    for head in ("frame", "reception", "field", "value", "unit"):
+        t.add_column(head, justify="right" if head == "value" else "left",
+                     overflow="fold", no_wrap=head in ("frame", "reception"))
+    for i, fr in enumerate(frames):
+        left = [f"#{i}  at {fr.start_us / 1000:.3f} ms",
+                "check pass" if fr.crc_ok else "check [red]FAIL[/red]"]
+        clock = f"{100 * fr.clock_error:+.2f}".replace("-0.00", "+0.00")
+        mid = [f"clock {clock} %", f"worst dev {100 * fr.worst_deviation:.0f} %",
+               f"sync errors {fr.sync_errors}"]
+        if fr.corrected:
+            mid.append(f"corrected {fr.corrected} edge(s)")
+        rows = [(escape(f.name), escape(_value_text(fr.fields.get(f.name))),
+                 escape(f.unit or ("hex" if f.kind == "bytes" else ""))) for f in spec.fields]
+        n = max(len(left), len(mid), len(rows))
+        for k in range(n):
+            cells = rows[k] if k < len(rows) else ("", "", "")
+            t.add_row(left[k] if k < len(left) else "", mid[k] if k < len(mid) else "", *cells,
+                      end_section=k == n - 1)
+    return t
+
+
+def _value_text(v: object) -> str:
+    """A field value for the table: floats without float noise, hex strings as they are."""
+    if isinstance(v, float):
+        return f"{v:.10g}"
+    return "-" if v is None else str(v)

@@ -11,7 +11,7 @@ from ..demo import DEMO_SPEC, example_text
 from ..errors import ValueRangeError
 from ..frame import encode, values_equal
 from ..layout import frame_layout
-from ..spec.load import spec_and_defaults_from_dict
+from ..spec_io import spec_and_defaults_from_dict
 from . import exitcodes
 from .cmd_decode import frame_dicts
 from .cmd_encode import capture_text

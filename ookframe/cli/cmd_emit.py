@@ -78,5 +78,10 @@ def run(args: argparse.Namespace) -> int:
         out.print(f"pulse type {report['ticks_type']}, longest pulse {report['max_pulse_ticks']} "
                   f"ticks; frame up to {report['max_frame_bits']} bits"
                   + (f"; CRC code {report['crc_impl']}" if report["crc_impl"] else ""))
+        periods = report["gap_timer_periods"]
+        if len(periods) > 1:
+            out.print(f"repeat gap longer than one {report['timer_bits']}-bit timer period: sent "
+                      f"as {len(periods)} periods of {min(periods)}..{max(periods)} ticks "
+                      f"({sum(periods)} ticks in all)")
     err.print(f"wrote {path}")
     return 0

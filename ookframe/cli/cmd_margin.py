@@ -3,12 +3,15 @@
 from __future__ import annotations
 
 import argparse
+import difflib
 
+from rich import box
+from rich.markup import escape
 from rich.table import Table
 
-from ..errors import ValueRangeError
 from ..stress.margin import MARGIN_IMPAIRMENTS, run_margin
 from . import common, exitcodes
+from .cluster import executor_from_args
 from .cmd_stress import add_channel_arguments, add_run_arguments, channel_from_args
 from .output import err, out, print_json, progress_enabled
 
@@ -22,34 +25,55 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--frames", type=int, default=None,
                    help="transmissions per evaluation (default: twice the fewest that can "
                    "show the target at 95 %%)")
-    p.add_argument("--impairments", default=",".join(MARGIN_IMPAIRMENTS),
-                   help="comma-separated impairments to search")
+    p.add_argument("--impairments", type=impairment_list, default=list(MARGIN_IMPAIRMENTS),
+                   metavar="NAME,...", help="comma-separated impairments to search (default: "
+                   f"all of {', '.join(MARGIN_IMPAIRMENTS)})")
     p.add_argument("--resolution", type=common.float_in(0, 1, lo_open=True, hi_open=True), default=0.02,
                    help="bracket width as a fraction of the search range (default 0.02)")
     add_channel_arguments(p, "ideal")
     add_run_arguments(p)
 
 
+def impairment_list(text: str) -> list[str]:
+    """argparse type of --impairments: known names, comma-separated (a usage error else)."""
+    names = [n.strip() for n in text.split(",") if n.strip()]
+    bad = next((n for n in names if n not in MARGIN_IMPAIRMENTS), None)
+    if not names or bad is not None:
+        close = difflib.get_close_matches(bad or "", MARGIN_IMPAIRMENTS, n=1)
+        hint = f" (did you mean {close[0]!r}?)" if close else ""
+        raise argparse.ArgumentTypeError(
+            f"{bad or text!r} is not a searchable impairment{hint}; allowed: "
+            f"{', '.join(MARGIN_IMPAIRMENTS)}")
+    return names
+
+
 def run(args: argparse.Namespace) -> int:
     spec, _ = common.load(args)
-    names = [n.strip() for n in args.impairments.split(",") if n.strip()]
-    if not names or any(n not in MARGIN_IMPAIRMENTS for n in names):
-        bad = next((n for n in names if n not in MARGIN_IMPAIRMENTS), "")
-        raise ValueRangeError(f"--impairments: {bad!r} is not a searchable impairment; "
-                              f"allowed: {', '.join(MARGIN_IMPAIRMENTS)}")
+    names = args.impairments
     show = progress_enabled(args)
-    r = run_margin(spec, args.target_per, channel=channel_from_args(args), impairments=names,
-                   n_frames=args.frames, resolution=args.resolution, seed=args.seed,
-                   workers=args.workers, chunk_frames=args.chunk_frames,
-                   progress=(lambda n: err.print(f"searching {n} ...")) if show else None)
+    with executor_from_args(args) as ex:
+        r = run_margin(spec, args.target_per, channel=channel_from_args(args),
+                       impairments=names, n_frames=args.frames, resolution=args.resolution,
+                       seed=args.seed, executor=ex, workers=args.workers,
+                       chunk_frames=args.chunk_frames,
+                       progress=(lambda n: err.print(f"searching {n} ...")) if show else None)
     failed = any(row.status == "fails-at-zero" for row in r.rows)
     if args.json:
         print_json(r.to_dict())
         return exitcodes.FAILED if failed else 0
-    t = Table(title=f"{spec.name}: margins for PER < {args.target_per:g} "
-              f"({r.n_frames} frames per point, upper 95 % bound)")
-    for col in ("impairment", "largest passing", "first failing", "PER there [95 % CI]", "note"):
-        t.add_column(col, justify="left" if col in ("impairment", "note") else "right")
+    out.print(margin_table(spec.name, args.target_per, r))
+    return exitcodes.FAILED if failed else 0
+
+
+def margin_table(name: str, target_per: float, r) -> Table:
+    """The margin table: impairment names and figures never wrap (readable at 80 columns),
+    only the note does."""
+    t = Table(title=f"{name}: margins for PER < {target_per:g} "
+              f"({r.n_frames} frames per point, upper 95 % bound)", box=box.SIMPLE_HEAD)
+    for col in ("impairment", "largest\npassing", "first\nfailing", "PER there\n[95 % CI]",
+                "note"):
+        t.add_column(escape(col), justify="left" if col in ("impairment", "note") else "right",
+                     no_wrap=col != "note", min_width=10 if col == "note" else None)
     for row in r.rows:
         at = row.at_limit
         per = f"{at.per:.3g} [{at.per_ci95[0]:.3g}, {at.per_ci95[1]:.3g}]" if at else "-"
@@ -57,5 +81,4 @@ def run(args: argparse.Namespace) -> int:
         note = {"ok": "", "beyond": "passes the whole search range",
                 "fails-at-zero": "fails already without it"}[row.status]
         t.add_row(row.impairment, f"{row.limit:.4g}", first, per, note)
-    out.print(t)
-    return exitcodes.FAILED if failed else 0
+    return t

@@ -9,6 +9,7 @@ from rich.table import Table
 from ..channel import PRESETS, get_preset
 from ..stress import run_noise
 from . import common
+from .cluster import executor_from_args
 from .cmd_stress import add_run_arguments, progress_bar
 from .output import out, print_json
 
@@ -29,9 +30,10 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     spec, _ = common.load(args)
     mean = args.mean_us if args.mean_us is not None else get_preset(args.preset).idle_noise_mean_us
-    with progress_bar(args, args.hours * 3600.0, "noise (s)") as tick:
-        r = run_noise(spec, args.hours, mean_us=mean, seed=args.seed, workers=args.workers,
-                      progress=tick)
+    with executor_from_args(args) as ex, progress_bar(args, args.hours * 3600.0,
+                                                      "noise (s)") as tick:
+        r = run_noise(spec, args.hours, mean_us=mean, seed=args.seed, executor=ex,
+                      workers=args.workers, progress=tick)
     if args.json:
         print_json(r.to_dict())
         return 0

@@ -40,5 +40,10 @@ def run(args: argparse.Namespace) -> int:
     else:
         fig = plots.psd_figure(spec, np.random.default_rng(PSD_SEED))
     path = write_atomic(args.output, plots.figure_png(fig), force=args.force)
-    err.print(f"wrote {path} ({args.what})")
+    if args.what == "psd":
+        from ..analysis.spectrum import bandwidth_hz
+
+        err.print(f"wrote {path} (psd, 99 % bandwidth {bandwidth_hz(spec) / 1e3:.1f} kHz)")
+    else:
+        err.print(f"wrote {path} ({args.what})")
     return 0

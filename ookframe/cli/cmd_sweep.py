@@ -7,9 +7,10 @@ import argparse
 from rich.table import Table
 
 from ..errors import ValueRangeError
-from ..spec.load import load_spec
+from ..spec_io import load_spec
 from ..stress.sweep import parse_vary, plot_sweep, run_sweep
 from . import common
+from .cluster import executor_from_args
 from .cmd_stress import add_channel_arguments, add_run_arguments, channel_from_args, progress_bar
 from .output import check_writable, err, out, print_json
 
@@ -22,7 +23,8 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("specs", nargs="+", metavar="SPEC", help="frame spec files (TOML)")
     p.add_argument("--vary", required=True, metavar="NAME=START:STOP:COUNT",
                    help="impairment and grid, e.g. jitter_us=0:40:21 or mark_bias_us=-8,0,8")
-    p.add_argument("--frames", type=common.FRAMES, default=2000, help="transmissions per point")
+    p.add_argument("--frames", type=common.FRAMES, default=2000,
+                   help="transmissions per point and spec (default 2000)")
     p.add_argument("--plot", metavar="FILE", help="write a plot (.png, .svg, .pdf)")
     p.add_argument("--force", action="store_true", help="overwrite an existing plot file")
     add_channel_arguments(p, "ideal")
@@ -43,8 +45,8 @@ def run(args: argparse.Namespace) -> int:
             raise ValueRangeError(f"--plot {args.plot}: folder does not exist")
     ch = channel_from_args(args)
     total = args.frames * len(values) * len(specs)
-    with progress_bar(args, total, "sweep") as tick:
-        res = run_sweep(specs, ch, name, values, args.frames, seed=args.seed,
+    with executor_from_args(args) as ex, progress_bar(args, total, "sweep") as tick:
+        res = run_sweep(specs, ch, name, values, args.frames, seed=args.seed, executor=ex,
                         workers=args.workers, chunk_frames=args.chunk_frames, progress=tick)
     if args.plot:
         plot_sweep(res, args.plot)

@@ -5,6 +5,7 @@ from __future__ import annotations
 import argparse
 
 import numpy as np
+from rich import box
 from rich.table import Table
 
 from ..analysis.syncword import (
@@ -60,6 +61,12 @@ def parse_pattern(text: str) -> list[int]:
     raise ValueRangeError(f"--preamble {excerpt(text)}: give 0/1 digits, 0x-hex or 'none'")
 
 
+def bit_groups(word: int, n_bits: int, group: int = 8) -> str:
+    """``word`` as ``n_bits`` binary digits, MSB first, in space-separated groups."""
+    digits = format(word, f"0{n_bits}b")
+    return " ".join(digits[i:i + group] for i in range(0, n_bits, group))
+
+
 def run(args: argparse.Namespace) -> int:
     pre = parse_pattern(args.preamble)
     if args.word is not None:
@@ -80,14 +87,15 @@ def run(args: argparse.Namespace) -> int:
     title = (f"{args.bits}-bit sync word{'' if args.word else 's'} after "
              f"{len(pre)} preamble bits, {args.max_errors} error(s) allowed"
              + ("" if args.word else f" ({how})"))
-    t = Table(title=title)
-    cols = ["word", "bits", "max sidelobe", "sidelobe energy", "min distance", "margin"]
+    t = Table(title=title, box=box.SIMPLE_HEAD, collapse_padding=True, pad_edge=False)
+    cols = ["word", "bits", "max\nsidelobe", "sidelobe\nenergy", "min\ndistance", "margin"]
     if args.bit_rate_bps is not None:
-        cols.append("false syncs / h")
-    for c in cols:
-        t.add_column(c, justify="left" if c in ("word", "bits") else "right")
+        cols.append("false\nsyncs / h")
+    for c in cols:  # only the bits wrap (at byte groups), nothing is cut at 80 columns
+        t.add_column(c, justify="left" if c in ("word", "bits") else "right",
+                     no_wrap=c != "bits", min_width=8 if c == "bits" else None)
     for q in found:
-        row = [q.hex, format(q.word, f"0{q.n_bits}b"), str(q.max_sidelobe),
+        row = [q.hex, bit_groups(q.word, q.n_bits), str(q.max_sidelobe),
                str(q.sidelobe_energy), "-" if q.min_distance_to_preamble is None
                else str(q.min_distance_to_preamble),
                "-" if q.margin_bits is None else str(q.margin_bits)]

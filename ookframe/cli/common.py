@@ -6,8 +6,8 @@ import argparse
 
 from ..errors import ValueRangeError, excerpt
 from ..frame import values_from_payload
-from ..spec.load import load_spec_and_defaults
 from ..spec.model import FrameSpec
+from ..spec_io import load_spec_and_defaults
 
 
 def add_spec_argument(p: argparse.ArgumentParser) -> None:

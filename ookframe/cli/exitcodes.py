@@ -7,4 +7,5 @@ BAD_SPEC = 3  # spec file invalid
 BAD_INPUT = 4  # capture / values / other input invalid
 CODEGEN = 5  # C cannot be generated for this spec/target
 EXISTS = 6  # output file exists and --force not given
+INTERRUPTED = 130  # Ctrl-C (128 + SIGINT); stress prints what it counted so far
 INTERNAL = 70  # a bug: reported with a hint to rerun with --debug

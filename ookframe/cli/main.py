@@ -12,7 +12,6 @@ from types import ModuleType
 from .. import __version__
 from ..errors import CaptureError, CodegenError, OokframeError, SpecError, ValueRangeError
 from . import exitcodes
-from .output import OutputExists, err
 from .registry import COMMANDS
 
 
@@ -47,9 +46,24 @@ def _suggest_command(argv: Sequence[str], names: list[str]) -> str | None:
     return f"unknown command '{words[0]}'{hint}; commands: {', '.join(names)}"
 
 
+def _asks_version(argv: Sequence[str]) -> bool:
+    """True when --version comes before any command word (only --debug may precede it)."""
+    for a in argv:
+        if a == "--version":
+            return True
+        if a != "--debug":
+            return False
+    return False
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; return the exit code (also used as the process status)."""
     argv = list(sys.argv[1:] if argv is None else argv)
+    if _asks_version(argv):  # answered before the commands (and numpy, rich) are imported
+        sys.stdout.write(f"ookframe {__version__}\n")
+        return _exit(exitcodes.OK)
+    from .output import OutputExists, err
+
     parser, table = build_parser()
     msg = _suggest_command(argv, list(table))
     if msg:
@@ -78,7 +92,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         return _fail(args, f"{e.strerror or e}: {e.filename or ''}".rstrip(": "), exitcodes.BAD_INPUT)
     except KeyboardInterrupt:
         err.print("ookframe: interrupted")
-        return _exit(130)
+        return _exit(exitcodes.INTERRUPTED)
     except Exception as e:  # noqa: BLE001 - the one funnel for bugs
         if args.debug:
             raise
@@ -87,6 +101,8 @@ def main(argv: Sequence[str] | None = None) -> int:
 
 
 def _fail(args: argparse.Namespace, message: str, code: int) -> int:
+    from .output import err
+
     if getattr(args, "debug", False):
         import traceback
 

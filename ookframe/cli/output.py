@@ -104,10 +104,9 @@ def _umask() -> int:
 
 
 def progress_enabled(args: Any) -> bool:
-    """True when a progress bar should be shown (stderr is a TTY and not --json)."""
+    """True when a progress bar should be shown: --progress on always (the bar goes to
+    stderr, JSON to stdout), auto when stderr is a terminal and without --json."""
     mode = getattr(args, "progress", "auto")
-    if mode == "off" or getattr(args, "json", False):
-        return False
-    if mode == "on":
-        return True
-    return sys.stderr.isatty()
+    if mode != "auto":
+        return mode == "on"
+    return sys.stderr.isatty() and not getattr(args, "json", False)

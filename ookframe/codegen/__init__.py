@@ -12,6 +12,7 @@ from pathlib import Path
 
 from .._require import require, require_spec
 from ..errors import CodegenError
+from ..plan import FramePlan
 from ..spec.model import FrameSpec
 from .model import CModel, build_model
 from .render import render_model
@@ -52,16 +53,17 @@ class Emitted:
             "crc_impl": m.target.crc_impl if m.spec.check.kind == "crc" else None,
             "durations": t.table(),
             "max_frame_bits": m.max_frame_bits,
+            "gap_timer_periods": list(t.gap_piece_ticks()),
         }
 
 
-def emit_header(spec: FrameSpec, target: TimerTarget | None = None) -> Emitted:
+def emit_header(spec: FrameSpec | FramePlan, target: TimerTarget | None = None) -> Emitted:
     """Return the generated header for ``spec`` (CodegenError when it cannot be made)."""
     require_spec(spec, "spec")
     if target is not None:
         require(target, TimerTarget, "target")
     model = build_model(spec, target)
-    return Emitted(f"{spec.name}.h", render_model(model), model)
+    return Emitted(f"{model.spec.name}.h", render_model(model), model)
 
 
 def emit_problem(spec: FrameSpec, target: TimerTarget | None = None) -> str | None:

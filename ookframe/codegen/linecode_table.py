@@ -17,7 +17,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import CodegenError
-from ..linecodes import LineCode, get_line_code
+from ..linecodes import LineCode
+from ..plan import FramePlan, as_plan
 from ..pulses import chips_to_runs
 from ..spec.model import FrameSpec
 
@@ -76,10 +77,11 @@ def _chips(lc: LineCode, bits: list[int]) -> np.ndarray:
     return np.asarray(lc.encode(np.asarray(bits, dtype=np.uint8)), dtype=np.uint8).ravel()
 
 
-def code_table(spec: FrameSpec) -> CodeTable:
+def code_table(spec: FrameSpec | FramePlan) -> CodeTable:
     """Return the run table of ``spec``'s line code; CodegenError when it is not blockwise."""
-    lc = get_line_code(spec.line_code)
-    name = spec.line_code.name
+    plan = as_plan(spec)
+    lc = plan.line_code
+    name = plan.spec.line_code.name
     k = lc.bits_per_block
     if not 1 <= k <= 8:
         raise CodegenError(f"line code {name!r}: {k} bits per block; the C generator handles 1..8")

@@ -11,12 +11,12 @@ import dataclasses
 import hashlib
 import json
 import re
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 from .. import __version__
-from ..checks import Crc
+from ..checks import Crc, reflect
 from ..errors import CodegenError
-from ..linecodes import get_line_code
+from ..plan import FramePlan, as_plan
 from ..spec.model import FrameSpec
 from ..spec.names import name_problem, same_name
 from .linecode_table import CodeTable, code_table
@@ -63,6 +63,56 @@ class CField:
     unit: str
     description: str
     role: str
+    fixed: FixedPoint | None = None
+
+
+#: most decimal places of a field's scale and offset that get fixed-point helpers
+FIXED_MAX_DECIMALS = 9
+#: largest magnitude of a fixed-point value or intermediate the helpers promise (2^62)
+FIXED_LIMIT = 1 << 62
+
+
+@dataclass(frozen=True)
+class FixedPoint:
+    """Integer-only conversion of a scaled field between raw and physical values.
+
+    Physical values are integers in units of 1/``div`` of the field's unit (``div`` the
+    smallest power of ten that makes scale and offset whole in that unit):
+    physical_fixed = raw * ``scale_fixed`` + ``offset_fixed`` (exact), and
+    raw = round((physical_fixed - ``offset_fixed``) / ``scale_fixed``), nearest with ties
+    to even as ``ookframe.bits.to_raw``. ``scale_num`` / ``scale_den``: the scale as a
+    reduced fraction.
+    """
+
+    div: int
+    decimals: int
+    scale_fixed: int
+    offset_fixed: int
+    scale_num: int
+    scale_den: int
+    example_raw: int
+    example_fixed: int
+
+
+def fixed_point(scale: float, offset: float, raw_min: int, raw_max: int) -> FixedPoint | None:
+    """Return the fixed-point helper values of a field, or None when scale and offset need
+    more than FIXED_MAX_DECIMALS decimal places or the values would pass FIXED_LIMIT."""
+    from decimal import Decimal
+    from fractions import Fraction
+
+    s, o = Decimal(repr(float(scale))), Decimal(repr(float(offset)))
+    places = max(0, -int(s.as_tuple().exponent), -int(o.as_tuple().exponent))
+    if places > FIXED_MAX_DECIMALS or s == 0:
+        return None
+    div = 10 ** places
+    sf, of = int(s * div), int(o * div)
+    if max(abs(raw_min), abs(raw_max)) * abs(sf) + abs(of) >= FIXED_LIMIT:
+        return None
+    frac = Fraction(s)
+    example = raw_max // 2 if raw_max > 1 else raw_max
+    return FixedPoint(div=div, decimals=places, scale_fixed=sf, offset_fixed=of,
+                      scale_num=frac.numerator, scale_den=frac.denominator,
+                      example_raw=example, example_fixed=example * sf + of)
 
 
 @dataclass(frozen=True)
@@ -77,6 +127,7 @@ class CModel:
     spec_hash32: str
     description: str
     spec: FrameSpec
+    plan: FramePlan = field(compare=False)
     target: TimerTarget
     timing: Timing
     code: CodeTable
@@ -112,6 +163,7 @@ class CModel:
     ticks_max: int
     duration_consts: tuple[dict[str, object], ...]
     needs: dict[str, bool]
+    gap: dict[str, object] | None = None
 
 
 def _uint_type(bits: int) -> str:
@@ -248,13 +300,16 @@ def _fields(spec: FrameSpec) -> tuple[CField, ...]:
                          else uint_literal(f.raw_max, tbits)),
             mask_literal=uint_literal((1 << f.width_bits) - 1, tbits),
             offset_bits=pos, bit_order=spec.bit_order, scale=f.scale, offset=f.offset,
-            unit=f.unit, description=f.description, role=f.role))
+            unit=f.unit, description=f.description, role=f.role,
+            fixed=(fixed_point(f.scale, f.offset, f.raw_min, f.raw_max)
+                   if f.is_scaled and f.role == "value" else None)))
         if pos is not None:
             pos += f.width_bits
     return tuple(out)
 
 
-def _check_model(spec: FrameSpec, crc_impl: str) -> dict[str, object]:
+def _check_model(plan: FramePlan, crc_impl: str) -> dict[str, object]:
+    spec = plan.spec
     c = spec.check
     m: dict[str, object] = {"kind": c.kind, "width": c.width_bits, "covers_sync": "sync" in c.covers,
                             "impl": crc_impl if c.kind == "crc" else "",
@@ -263,16 +318,13 @@ def _check_model(spec: FrameSpec, crc_impl: str) -> dict[str, object]:
     if c.kind != "crc":
         m["type"] = {"none": "uint8_t", "sum8": "uint8_t", "xor8": "uint8_t",
                      "fletcher16": "uint16_t"}[c.kind]
-        from ..checks import make_check
-
-        m["check_value"] = uint_literal(make_check(c).compute(b"123456789"), 16)
+        m["check_value"] = uint_literal(plan.check.compute(b"123456789") if plan.check else 0, 16)
         return m
-    assert c.crc is not None
-    crc = Crc.from_params(c.crc)
+    crc = plan.check
+    assert isinstance(crc, Crc)
     w = crc.width
     ctype = _uint_type(w)
     tbits = _type_bits(ctype)
-    from ..checks import reflect
 
     m.update({
         "name": crc.name or "custom",
@@ -317,18 +369,19 @@ def _whitening_model(spec: FrameSpec) -> dict[str, object]:
             "W": "(unsigned)" if tbits <= 16 else ""}
 
 
-def build_model(spec: FrameSpec, target: TimerTarget | None = None) -> CModel:
+def build_model(spec: FrameSpec | FramePlan, target: TimerTarget | None = None) -> CModel:
     """Return the validated model of ``spec``'s header for ``target`` (CodegenError if not)."""
+    plan = as_plan(spec)
+    spec = plan.spec
     target = target or TimerTarget()
     check_names(spec)
-    code = code_table(spec)
-    lc = get_line_code(spec.line_code)
+    code = code_table(plan)
+    lc = plan.line_code
     fields = _fields(spec)
-    head_bits = spec.preamble.length_bits + spec.sync.length_bits
-    fixed_bits = head_bits + sum(f.width_bits for f in spec.fields if f.kind == "int") \
-        + spec.check.width_bits
+    head_bits = plan.head_bits.size
+    fixed_bits = head_bits + plan.min_body_bits
     bytes_field = next((f for f in fields if f.kind == "bytes"), None)
-    max_frame_bits = fixed_bits + (8 * bytes_field.max_len_bytes if bytes_field else 0)
+    max_frame_bits = head_bits + plan.max_body_bits
     # merging: how many runs can chain into one pulse, and how long it can get
     trailer_single = code.trailer is not None and len(code.trailer.runs_units) == 1
     has_gap = spec.repeats > 1
@@ -363,7 +416,7 @@ def build_model(spec: FrameSpec, target: TimerTarget | None = None) -> CModel:
     timing_rows = tuple(
         (d.name, f"{d.nominal_us:.3f}", str(d.ticks), f"{d.quantised_us:.3f}",
          f"{100 * d.error:+.3f}") for d in timing.durations)
-    check = _check_model(spec, target.crc_impl)
+    check = _check_model(plan, target.crc_impl)
     white = _whitening_model(spec)
     pieces_all = [p for f in fields for p in f.pieces] + list(check["pieces"])  # type: ignore
     pre_pieces = tuple(split_pieces(pre.pattern_bits, "msb")) if pre.count else ()
@@ -381,12 +434,14 @@ def build_model(spec: FrameSpec, target: TimerTarget | None = None) -> CModel:
         "differential": code.differential,
         "blocks": code.bits_per_block > 1,
         "reflect": bool(check.get("reflect_out")),
+        "fixed": any(f.fixed is not None for f in fields),
+        "gap_split": has_gap and timing.gap_pieces > 1,
     }
     units_per_bit = lc.units_per_bit
     return CModel(
         prefix=spec.name, PREFIX=spec.name.upper(), version=__version__, api_version=API_VERSION,
         spec_hash=h, spec_hash32=f"0x{h[:8].upper()}u", description=spec.description,
-        spec=spec, target=target, timing=timing, code=code, fields=fields,
+        spec=spec, plan=plan, target=target, timing=timing, code=code, fields=fields,
         head_bits=head_bits, fixed_bits=fixed_bits, max_frame_bits=max_frame_bits,
         variable=bytes_field is not None, bytes_field=bytes_field,
         preamble_pieces=pre_pieces, sync_pieces=sync_pieces,
@@ -407,7 +462,16 @@ def build_model(spec: FrameSpec, target: TimerTarget | None = None) -> CModel:
             {"name": f"RUN_{d.units}U" if d.units else "GAP", "us": round(d.nominal_us),
              "nominal": f"{d.nominal_us:.3f}", "ticks": d.ticks, "actual": f"{d.quantised_us:.3f}"}
             for d in timing.durations),
-        needs=needs)
+        needs=needs, gap=_gap_model(timing) if has_gap else None)
+
+
+def _gap_model(timing: Timing) -> dict[str, object]:
+    """Values of the repeat gap as sent: one timer period, or ``pieces`` of them (the
+    ``short`` ones first, then ``long_count`` of ``short + 1`` ticks)."""
+    pieces = timing.gap_piece_ticks()
+    short = pieces[0]
+    return {"ticks": timing.gap_ticks, "pieces": len(pieces), "short": short,
+            "long_count": sum(1 for t in pieces if t != short)}
 
 
 def _layout_rows(spec: FrameSpec, fields: tuple[CField, ...], head_bits: int

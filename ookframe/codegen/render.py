@@ -11,11 +11,13 @@ from __future__ import annotations
 from functools import lru_cache
 from importlib import resources
 from pathlib import Path
-
-import jinja2
+from typing import TYPE_CHECKING
 
 from ..errors import CodegenError
 from .model import CModel
+
+if TYPE_CHECKING:  # jinja2 is imported when a header is rendered, not at start-up
+    import jinja2
 
 TEMPLATE = "header.h.j2"
 
@@ -39,6 +41,8 @@ def templates_dir() -> Path:
 @lru_cache(maxsize=1)
 def environment() -> jinja2.Environment:
     """Return the one Jinja2 environment used for every template."""
+    import jinja2
+
     return jinja2.Environment(
         loader=jinja2.FileSystemLoader(str(templates_dir())),
         undefined=jinja2.StrictUndefined,
@@ -51,6 +55,8 @@ def environment() -> jinja2.Environment:
 
 def render_model(model: CModel) -> str:
     """Return the header text for a validated model."""
+    import jinja2
+
     try:
         return environment().get_template(TEMPLATE).render(m=model)
     except jinja2.TemplateError as exc:  # a template bug, not a user error

@@ -15,7 +15,6 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..frame import frame_bits
-from ..linecodes import get_line_code
 from ..pulses import PulseTrain, merge_runs
 from .model import CModel
 
@@ -39,7 +38,7 @@ class Schedule:
 
 def line_bits(model: CModel, bits: np.ndarray) -> np.ndarray:
     """Return the frame bits as line coded: head unchanged, body through the code's stuffing."""
-    lc = get_line_code(model.spec.line_code)
+    lc = model.plan.line_code
     h = model.head_bits
     return np.concatenate((bits[:h], lc.stuff(bits[h:]))).astype(np.uint8)
 
@@ -54,10 +53,12 @@ def _elements(model: CModel, bits: np.ndarray) -> tuple[list[int], list[int], li
     ticks: list[int] = []
     nominal: list[float] = []
     for rep in range(spec.repeats):
-        if rep:
-            levels.append(0)
-            ticks.append(timing.gap_ticks)
-            nominal.append(spec.gap_us)
+        if rep:  # the gap, split over several timer periods when one cannot hold it
+            pieces = timing.gap_piece_ticks()
+            for t in pieces:
+                levels.append(0)
+                ticks.append(t)
+                nominal.append(spec.gap_us * t / timing.gap_ticks)
         state = 0
         words = [code.words[int(v)] for v in values]
         if code.trailer is not None:
@@ -103,4 +104,4 @@ def schedule_from_bits(model: CModel, bits: np.ndarray) -> Schedule:
 
 def tx_schedule(model: CModel, values: Mapping[str, object]) -> Schedule:
     """Return the schedule tx_next yields for one transmission of ``values``."""
-    return schedule_from_bits(model, frame_bits(model.spec, values))
+    return schedule_from_bits(model, frame_bits(model.plan, values))

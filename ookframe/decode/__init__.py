@@ -8,7 +8,7 @@ code -> ``sync`` (sync word with bit errors) -> ``framer`` (unstuff, fields, che
 
 from __future__ import annotations
 
-from .framer import DecodedFrame, decode
+from .framer import DecodedFrame, DecodeReport, decode, diagnose
 from .validate import validate_train
 
-__all__ = ["DecodedFrame", "decode", "validate_train"]
+__all__ = ["DecodeReport", "DecodedFrame", "decode", "diagnose", "validate_train"]

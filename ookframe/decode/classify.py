@@ -7,8 +7,95 @@ so one numpy pass serves every candidate frame of a capture).
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 from scipy.signal import lfilter
+
+
+@dataclass(frozen=True, eq=False)
+class RunTable:
+    """The run lengths in units a frame can hold, per level (index 0 space, 1 mark).
+
+    ``allowed[lv]`` ascending int64; ``mids[lv]`` the decision thresholds halfway between
+    neighbours (a pulse goes to the nearest allowed length); ``cap_ratio``: a pulse
+    longer than this many units cannot lie inside a frame (one unit beyond the longest
+    run, so the nearest-length decision keeps its whole margin below it).
+    """
+
+    allowed: tuple[np.ndarray, np.ndarray]
+    mids: tuple[np.ndarray, np.ndarray]
+    top: int  # the longest run of either level
+    cap_ratio: float
+    same: bool  # both levels allow exactly 1 .. top (then rounding decides)
+
+
+def run_table(space: tuple[int, ...], mark: tuple[int, ...]) -> RunTable:
+    """Return the decision table for the allowed space and mark run lengths."""
+    allowed = tuple(np.unique(np.asarray(a, dtype=np.int64)) for a in (space, mark))
+    mids = tuple((a[1:] + a[:-1]) / 2.0 for a in allowed)
+    top = int(max(a[-1] for a in allowed))
+    same = all(a.size == top and a[0] == 1 for a in allowed)
+    return RunTable(allowed, mids, top, float(top + 1), same)  # type: ignore[arg-type]
+
+
+def nearest_runs(ratio: np.ndarray, levels: np.ndarray, table: RunTable
+                 ) -> tuple[np.ndarray, np.ndarray]:
+    """Return (nearest allowed run length as int64, |ratio - length|) per pulse.
+
+    ``ratio`` is duration / unit; ``levels`` the pulses' levels. Pulses beyond the
+    longest run get the longest run (callers cap them with ``table.cap_ratio``).
+    """
+    r = np.asarray(ratio, dtype=np.float64)
+    if table.same:
+        units = np.rint(r)
+        np.clip(units, 1.0, float(table.top), out=units)
+        units = units.astype(np.int64)
+    else:
+        units = np.empty(r.shape, np.int64)
+        for lv in (0, 1):
+            m = levels == lv
+            a = table.allowed[lv]
+            units[m] = a[np.searchsorted(table.mids[lv], r[m])]
+    return units, np.abs(r - units)
+
+
+def run_margin(ratio: np.ndarray, levels: np.ndarray, units: np.ndarray, table: RunTable
+               ) -> np.ndarray:
+    """Return per pulse how far its ratio lies from the nearest decision threshold, as a
+    fraction of the half-distance to the neighbouring length on that side (1 = on the
+    allowed length, 0 = on the threshold): the reliability of the decision."""
+    r = np.asarray(ratio, dtype=np.float64)
+    out = np.ones(r.shape)
+    for lv in (0, 1):
+        m = levels == lv
+        a = table.allowed[lv]
+        i = np.searchsorted(a, units[m])
+        up = r[m] >= units[m]
+        lo_gap = np.where(i > 0, units[m] - a[np.maximum(i - 1, 0)], 2 * units[m])
+        hi_gap = np.where(i < a.size - 1, a[np.minimum(i + 1, a.size - 1)] - units[m], 2.0)
+        half = np.where(up, hi_gap, lo_gap) / 2.0
+        out[m] = np.clip(1.0 - np.abs(r[m] - units[m]) / half, 0.0, 1.0)
+    return out
+
+
+def second_runs(ratio: np.ndarray, levels: np.ndarray, units: np.ndarray, table: RunTable
+                ) -> np.ndarray:
+    """Return per pulse the second-nearest allowed length (the neighbour on the side the
+    ratio leans to; the length itself where there is none)."""
+    r = np.asarray(ratio, dtype=np.float64)
+    out = units.copy()
+    for lv in (0, 1):
+        m = levels == lv
+        a = table.allowed[lv]
+        i = np.searchsorted(a, units[m])
+        up = r[m] >= units[m]
+        j = np.where(up, i + 1, i - 1)
+        ok = (j >= 0) & (j < a.size)
+        alt = units[m].copy()
+        alt[ok] = a[j[ok]]
+        out[m] = alt
+    return out
 
 
 def _whole_units(ratio: np.ndarray) -> np.ndarray:
@@ -30,26 +117,6 @@ def classify(durations_us: np.ndarray, unit_us: float | np.ndarray) -> tuple[np.
     return units.astype(np.int64), ratio
 
 
-def fit_unit(durations_us: np.ndarray, units: np.ndarray) -> np.ndarray:
-    """Return the least-squares unit in µs (slope of edge time over edge chip count).
-
-    ``durations_us`` is (..., k) measured runs, ``units`` their lengths in units (k,) or
-    (..., k); every edge (k + 1 of them, the first at time 0) weighs the same, so the
-    jitter of single edges averages out much better than in total time / total units.
-    """
-    d = np.asarray(durations_us, dtype=np.float64)
-    n = d.shape[-1] + 1  # the origin edge (0, 0) adds nothing to the sums below
-    if d.ndim == 1:  # one fit: dot products (this runs once per decoded frame)
-        t = d.cumsum()
-        c = np.asarray(units).cumsum(dtype=np.float64)
-        st, sc = t.sum(), c.sum()
-        return np.float64((n * t.dot(c) - st * sc) / (n * c.dot(c) - sc * sc))
-    t = np.cumsum(d, axis=-1)
-    c = np.cumsum(np.broadcast_to(np.asarray(units, dtype=np.float64), d.shape), axis=-1)
-    st, sc = t.sum(axis=-1), c.sum(axis=-1)
-    return (n * (t * c).sum(axis=-1) - st * sc) / (n * (c * c).sum(axis=-1) - sc * sc)
-
-
 def _offsets(lengths: np.ndarray) -> np.ndarray:
     """Return where every window starts in the concatenated arrays."""
     return np.concatenate(([0], np.cumsum(lengths)[:-1]))
@@ -65,12 +132,14 @@ def _column_sums(x: np.ndarray) -> np.ndarray:
 
 
 def head_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarray,
-              head_units: int, iterations: int = 2) -> np.ndarray:
+              head_units: int, iterations: int = 2, *, levels: np.ndarray | None = None,
+              table: RunTable | None = None) -> np.ndarray:
     """Return per window the unit in µs refitted over its pulses of the head.
 
     Each window starts at its first signature pulse; its pulses wholly inside the first
     ``head_units`` units (classified with the current estimate, starting from
-    ``unit0_us``) are least-squares fitted like :func:`fit_unit`, ``iterations`` times.
+    ``unit0_us``) give the least-squares slope of edge time over chip count (every edge
+    weighs the same), ``iterations`` times.
     The longer baseline (preamble + sync rather than the signature alone) makes the
     estimate good enough for long runs right after the sync.
     """
@@ -92,8 +161,12 @@ def head_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarra
     t = cs[at]
     t -= np.where(offsets > 0, cs[offsets - 1], 0.0)
     d = d[at]
+    lv = None if levels is None or table is None else np.asarray(levels)[at]
     for _ in range(iterations):
-        n, _ = classify(d, unit)
+        if lv is None:
+            n, _ = classify(d, unit)
+        else:
+            n, _ = nearest_runs(d / unit, lv, table)  # type: ignore[arg-type]
         c = np.cumsum(n, axis=0).astype(np.float64)
         w = ((c <= head_units) & real).astype(np.float64)  # a prefix of every column
         npts = _column_sums(w) + 1.0  # + the origin edge (0, 0)
@@ -111,7 +184,8 @@ def head_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarra
 
 def track_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarray, *,
                gain: float, tolerance: float, iterations: int = 2,
-               max_units: int | None = None) -> np.ndarray:
+               max_units: int | None = None, levels: np.ndarray | None = None,
+               table: RunTable | None = None) -> np.ndarray:
     """Return the unit in µs used to classify each pulse, tracking slow clock drift.
 
     First-order loop ``u = u + gain * (d_k / n_k - u)`` started at the window's
@@ -123,7 +197,9 @@ def track_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarr
     are filtered together; each starts afresh (the filter's carry-over from the windows
     before it decays as ``(1 - gain) ** units`` and is subtracted). Pulses off by more
     than ``tolerance`` units do not move the loop (they feed the previous estimate
-    back), and no pulse counts for more than ``max_units`` units.
+    back), and no pulse counts for more than ``max_units`` units. With ``levels`` and
+    ``table`` pulses go to the nearest allowed run length instead of the nearest whole
+    number.
     """
     d = np.asarray(durations_us, dtype=np.float64)
     lengths = np.asarray(lengths, dtype=np.int64)
@@ -134,7 +210,10 @@ def track_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarr
     u_prev = u0
     b, a = [gain], [1.0, gain - 1.0]
     for _ in range(iterations):
-        n, dev = classify(d, u_prev)
+        if levels is None or table is None:
+            n, dev = classify(d, u_prev)
+        else:
+            n, dev = nearest_runs(d / u_prev, levels, table)
         if max_units is not None:
             np.minimum(n, max_units, out=n)
         x = d / n
@@ -167,3 +246,167 @@ def _restart_windows(y: np.ndarray, n: np.ndarray, offsets: np.ndarray, lengths:
     w_first = offsets[lengths > 0]  # w_first[0] is 0
     u[w_first] = u0[w_first]
     return u
+
+
+#: edges on each side averaged into the local chip phase at the default loop gain 0.05
+#: (long enough to average edge jitter, short enough to follow a drifting clock)
+PHASE_HALF_WINDOW = 10
+
+
+#: later edges that also count for an edge's phase: few, so that receiver noise right
+#: after a frame's last edge does not move the grid under the frame's last bits
+LOOK_AHEAD = 1
+
+
+def phase_half_window(loop_gain: float) -> int:
+    """Return the edges on each side averaged into the local chip phase for a clock
+    tracking ``loop_gain``: about 1 / (2 gain), so the phase follows the clock over some
+    1 / gain edges; gain 0 freezes the phase over the whole window (no tracking)."""
+    if loop_gain <= 0.0:
+        return 1 << 30
+    return max(1, round(0.5 / loop_gain))
+
+
+@dataclass(frozen=True, eq=False)
+class GridRuns:
+    """Pulses of ragged windows placed on the chip grid (see :func:`grid_runs`).
+
+    units: run length of every pulse (int64); deviation: per pulse the larger distance
+    of its two edges from their grid points, in units (0.5 = a coin toss);
+    residual: per edge (every window has one more edge than pulses) the signed distance
+    from its grid point in units; end_residual: that of every pulse's end edge.
+    """
+
+    units: np.ndarray
+    deviation: np.ndarray
+    residual: np.ndarray
+    end_residual: np.ndarray
+
+
+def _ragged_moving_sum(x: np.ndarray, lengths: np.ndarray, before: int, after: int
+                       ) -> np.ndarray:
+    """Return for every element the sum of ``x`` over the ``before`` elements before it,
+    itself and the ``after`` elements after it, within its own segment (segments of
+    ``lengths`` laid end to end)."""
+    cs = np.concatenate(([0], np.cumsum(x)))
+    start = np.repeat(np.cumsum(lengths) - lengths, lengths)
+    stop = start + np.repeat(lengths, lengths)
+    i = np.arange(x.size)
+    lo = np.maximum(i - before, start)
+    hi = np.minimum(i + after + 1, stop)
+    return cs[hi] - cs[lo]
+
+
+def _allowed(n: np.ndarray, levels: np.ndarray, table: RunTable) -> np.ndarray:
+    """Return True where ``n`` is a run length the code allows at the pulse's level."""
+    ok = n >= 1
+    for lv in (0, 1):
+        m = levels == lv
+        ok[m] &= np.isin(n[m], table.allowed[lv])
+    return ok
+
+
+def _repair(c: np.ndarray, residual: np.ndarray, grid: np.ndarray, pulse_edge: np.ndarray,
+            n: np.ndarray, ok: np.ndarray, levels: np.ndarray, table: RunTable
+            ) -> tuple[np.ndarray, np.ndarray]:
+    """Return the grid points with one edge of every pulse of a disallowed length moved to
+    the grid point on its other side: the edge nearer halfway (the less sure), where that
+    leaves both pulses it bounds at allowed lengths. A jittered edge that crossed halfway
+    makes exactly such a pair of pulses (one too long, one too short)."""
+    c = c.copy()
+    bad = np.flatnonzero(~ok)
+    e0, e1 = pulse_edge[bad] - 1, pulse_edge[bad]
+    edge = np.where(np.abs(residual[e0]) >= np.abs(residual[e1]), e0, e1)
+    step = np.where(residual[edge] > 0, 1.0, -1.0)
+    # the pulses before and after the chosen edge (a window's first and last edges are
+    # not moved: they bound one pulse only)
+    p_before = np.searchsorted(pulse_edge, edge)  # pulse ending at ``edge``
+    inner = (p_before < pulse_edge.size) & (pulse_edge[np.minimum(p_before, pulse_edge.size
+                                                                  - 1)] == edge)
+    inner &= (p_before + 1 < pulse_edge.size)
+    inner[inner] &= pulse_edge[p_before[inner] + 1] - 1 == edge[inner]
+    edge, step, p_before = edge[inner], step[inner], p_before[inner]
+    n_before = n[p_before] + step.astype(np.int64)
+    n_after = n[p_before + 1] - step.astype(np.int64)
+    fits = _allowed(n_before, levels[p_before], table) & _allowed(
+        n_after, levels[p_before + 1], table)
+    edge, step = edge[fits], step[fits]
+    edge, first = np.unique(edge, return_index=True)
+    c[edge] += step[first]
+    return c, grid - c
+
+
+def _phasor_sum(x: np.ndarray, weight: np.ndarray, lengths: np.ndarray, before: int,
+                after: int) -> np.ndarray:
+    """Return the moving sum (within each segment) of the weighted unit phasors of the
+    fractional parts of ``x``."""
+    z = np.exp(2j * np.pi * x) * weight
+    return _ragged_moving_sum(z.real, lengths, before, after) + 1j * _ragged_moving_sum(
+        z.imag, lengths, before, after)
+
+
+def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
+              unit_us: np.ndarray, table: RunTable, *, half_window: int = PHASE_HALF_WINDOW,
+              capped: np.ndarray | None = None) -> GridRuns:
+    # ``unit_us``: one unit per window, or one per pulse (a tracked clock)
+    """Return the run length of every pulse of ragged windows from its edges' places on
+    the chip grid, not from its own duration.
+
+    Every edge of these line codes lies on a chip boundary. Each window's edge times
+    (durations divided by ``unit_us``: one per window, or a tracked unit per pulse, so a
+    drifting clock leaves only a slow phase wander) are compared with the nearest whole
+    chip; the local
+    grid phase is the circular mean of those offsets over +-``half_window`` edges
+    (phasors, so a phase drifting past half a chip wraps cleanly; then unwrapped). A mark
+    bias moves rising and falling edges apart by a few hundredths of a unit: left in the
+    phase noise (measuring it per window costs more margin than it gains).
+    Each edge goes to its nearest grid point and a pulse's length is the difference of
+    its edges' points. An edge may move by almost half a unit either way before it is
+    misplaced, where a duration-by-duration decision fails once the two edges of a pulse
+    together move it halfway to the next length. Lengths the line code cannot hold at
+    that level fall back to the nearest allowed length of the duration. The end of a
+    ``capped`` pulse (longer than any run: the gap after a frame) is no grid edge: it is
+    left out of the phase.
+    """
+    d = np.asarray(durations_us, dtype=np.float64)
+    lengths = np.asarray(lengths, dtype=np.int64)
+    n_edges = lengths + 1
+    u = np.asarray(unit_us, dtype=np.float64)
+    u_pulse = u if u.size == d.size and u.size != lengths.size else np.repeat(u, lengths)
+    # edge times from each window's first edge: per window 0, d0, d0 + d1, ...
+    e_start = np.cumsum(n_edges) - n_edges
+    p_start = np.cumsum(lengths) - lengths
+    pulse_edge = np.arange(d.size) + np.repeat(e_start - p_start, lengths) + 1  # end edge
+    t = np.zeros(int(n_edges.sum()))
+    t[pulse_edge] = d / u_pulse  # durations in (tracked) units
+    cs = np.cumsum(t)
+    x = cs - np.repeat(cs[e_start], n_edges)
+    keep = np.ones(x.size)
+    if capped is not None:
+        keep[pulse_edge[capped]] = 0.0
+    # rough phase over +-2 edges (follows a fast drift), unwrapped and averaged over the
+    # window; then the circular mean of what is left around it
+    b, a = 2 * half_window, LOOK_AHEAD
+    rough = np.unwrap(np.angle(_phasor_sum(x, keep, n_edges, 4, a)) / (2 * np.pi), period=1.0)
+    trend = _ragged_moving_sum(rough * keep, n_edges, b, a) / np.maximum(
+        _ragged_moving_sum(keep, n_edges, b, a), 1.0)
+    phase = trend + np.angle(_phasor_sum(x - trend, keep, n_edges, b, a)) / (2 * np.pi)
+    phase = np.unwrap(phase, period=1.0)  # a step of the rough phase must not move the grid
+    grid = x - phase
+    c = np.rint(grid)
+    residual = grid - c
+    start_edge = pulse_edge - 1
+    n = (c[pulse_edge] - c[start_edge]).astype(np.int64)
+    ok = _allowed(n, levels, table)
+    if not ok.all():  # move the less sure edge of a bad pulse to its other grid point
+        c, residual = _repair(c, residual, grid, pulse_edge, n, ok, levels, table)
+        n = (c[pulse_edge] - c[start_edge]).astype(np.int64)
+        ok = _allowed(n, levels, table)
+    ratio = d / u_pulse
+    fallback, _ = nearest_runs(ratio, levels, table)
+    n = np.where(ok, n, fallback)
+    ar = np.abs(residual)
+    if capped is not None:
+        ar[pulse_edge[capped]] = 0.0
+    dev = np.maximum(ar[pulse_edge - 1], ar[pulse_edge])
+    return GridRuns(n, dev, residual, residual[pulse_edge])

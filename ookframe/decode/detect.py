@@ -4,43 +4,98 @@ from __future__ import annotations
 
 import numpy as np
 
-from .classify import fit_unit
+from .classify import RunTable, nearest_runs
+
+#: signatures of fewer runs also need every duration's nearest allowed length to match
+SHORT_SIGNATURE_RUNS = 8
+#: an edge of the signature may lie at most this far (units) from the fitted chip grid
+MAX_EDGE_OFFSET = 0.5
 
 
 def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np.ndarray,
-                    sig_units: np.ndarray, unit_us: float, tolerance: float,
+                    sig_units: np.ndarray, unit_us: float, table: RunTable,
                     clock_error: float) -> tuple[np.ndarray, np.ndarray]:
     """Return (index of the first signature pulse, estimated unit in µs) per candidate.
 
-    A candidate is a run of pulses with the signature's levels whose durations are the
-    signature's unit counts at one common unit (least-squares fit, within ``clock_error``
-    of ``unit_us``), each within ``tolerance`` units. Vectorised: a loose per-pulse bound
-    narrows the positions run by run, then the survivors are fitted together. When
-    candidates overlap (a periodic preamble longer than the signature) only the last is
-    kept: it is the one next to the sync word.
+    A candidate is a run of pulses with the signature's levels whose edges lie on the
+    signature's chip grid at one common unit: the least-squares line of edge time over
+    chip count (within ``clock_error`` of ``unit_us``) leaves every edge less than half a
+    unit from its chip, so each edge, not each duration, must be right. Vectorised: the
+    widest durations such edges allow narrow the positions run by run, then the
+    survivors are fitted together. When candidates overlap (a periodic preamble longer
+    than the signature) only the last is kept: it is the one next to the sync word.
+    ``table`` bounds the signature's runs from above (a longer pulse is no frame run).
     """
     k = sig_units.size
     n = durations_us.size - k + 1
     if k == 0 or n <= 0:
         return np.zeros(0, np.int64), np.zeros(0)
     r = sig_units.astype(np.float64)
-    lo_us = (r - tolerance) * (1.0 - clock_error) * unit_us
-    hi_us = (r + tolerance) * (1.0 + clock_error) * unit_us
+    lo_us = np.maximum(r - 2 * MAX_EDGE_OFFSET, 0.0) * (1.0 - clock_error) * unit_us
+    hi_us = np.minimum(r + 2 * MAX_EDGE_OFFSET, table.cap_ratio) * (1.0 + clock_error) * unit_us
     d0 = durations_us[:n]
-    cand = np.flatnonzero((levels[:n] == sig_levels[0]) & (d0 >= lo_us[0]) & (d0 <= hi_us[0]))
+    cand = np.flatnonzero((levels[:n] == sig_levels[0]) & (d0 > lo_us[0]) & (d0 < hi_us[0]))
     for j in range(1, k):
         if cand.size == 0:
             break
         dj = durations_us[cand + j]
-        cand = cand[(levels[cand + j] == sig_levels[j]) & (dj >= lo_us[j]) & (dj <= hi_us[j])]
+        cand = cand[(levels[cand + j] == sig_levels[j]) & (dj > lo_us[j]) & (dj < hi_us[j])]
     if cand.size == 0:
         return cand.astype(np.int64), np.zeros(0)
     d = durations_us[cand[:, None] + np.arange(k)]
-    unit = fit_unit(d, r) if k > 1 else d[:, 0] / r[0]
+    unit, offset = _edge_fit(d, r)
     ok = np.abs(unit / unit_us - 1.0) <= clock_error
-    ok &= (np.abs(d / unit[:, None] - r) <= tolerance).all(axis=1)
-    cand, unit = cand[ok], unit[ok]
+    t = np.concatenate((np.zeros((d.shape[0], 1)), np.cumsum(d, axis=1)), axis=1)
+    c = np.concatenate(([0.0], np.cumsum(r)))
+    resid = t / unit[:, None] - offset[:, None] - c
+    worst = np.abs(resid).max(axis=1)
+    ok &= worst < MAX_EDGE_OFFSET
+    if k < SHORT_SIGNATURE_RUNS:  # few runs say little: every duration must fit as well
+        got, _ = nearest_runs(d / unit[:, None], np.broadcast_to(sig_levels, d.shape), table)
+        ok &= (got == sig_units).all(axis=1)
+    cand, unit, worst = cand[ok], unit[ok], worst[ok]
     if cand.size > 1:
-        last = np.append(np.diff(cand) >= k, True)
-        cand, unit = cand[last], unit[last]
+        cand, unit = _one_per_cluster(cand, unit, worst, k)
     return cand.astype(np.int64), unit
+
+
+#: fits whose worst edge offsets differ by less than this (units) count as equally good
+FIT_STEP = 0.1
+#: steps by which the best fit must beat the latest candidate to be framed as well
+CLEARLY_BETTER = 2
+
+
+def _one_per_cluster(cand: np.ndarray, unit: np.ndarray, worst: np.ndarray, k: int
+                     ) -> tuple[np.ndarray, np.ndarray]:
+    """Keep of every cluster of overlapping candidates (less than ``k`` pulses apart) the
+    latest and, where it fits clearly better (worst edge offset at least CLEARLY_BETTER
+    steps of FIT_STEP lower), the best fit as well.
+
+    A periodic preamble matches at several shifts about equally well, and the latest is
+    next to the sync word; but a shift that reaches into the sync can also fit by bending
+    the clock (short signatures), leaving some edge far off its chip: then the best fit
+    is the true one. Both are framed; a frame found from the earlier one covers the other.
+    """
+    cluster = np.concatenate(([0], np.cumsum(np.diff(cand) >= k)))
+    score = np.floor(worst / FIT_STEP)
+    order = np.lexsort((-cand, score, cluster))  # per cluster: best score, latest first
+    best_i = order[np.concatenate(([True], cluster[order][1:] != cluster[order][:-1]))]
+    last = np.append(cluster[1:] != cluster[:-1], True)
+    last_i = np.flatnonzero(last)
+    # the best fit also, where it is clearly better than the latest (by CLEARLY_BETTER)
+    clearly = score[best_i] <= score[last_i] - CLEARLY_BETTER
+    keep = last.copy()
+    keep[best_i[clearly]] = True
+    return cand[keep], unit[keep]
+
+def _edge_fit(d: np.ndarray, r: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Return per row (unit in µs, grid offset in units) of the least-squares line of edge
+    time over chip count for rows of durations ``d`` with run lengths ``r``."""
+    t = np.concatenate((np.zeros((d.shape[0], 1)), np.cumsum(d, axis=1)), axis=1)
+    c = np.concatenate(([0.0], np.cumsum(r)))
+    cm = c.mean()
+    tm = t.mean(axis=1)
+    slope = ((t - tm[:, None]) @ (c - cm)) / ((c - cm) @ (c - cm))
+    unit = np.where(slope > 0, slope, np.nan)
+    offset = (tm - slope * cm) / unit
+    return unit, offset

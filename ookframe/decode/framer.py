@@ -14,23 +14,23 @@ Limits (by design, not bugs):
 
 from __future__ import annotations
 
+import dataclasses
+import itertools
 from dataclasses import dataclass
 
 import numpy as np
 
-from ..frame import parse_frame
+from ..checks.strength import check_strength, covered_bits
 from ..linecodes import DecodedBits
 from ..pulses import PulseTrain
 from ..spec.model import FrameSpec
-from .bulk import BulkFrames, bulk_body_bits, bulk_frames
-from .classify import fit_unit
 from .detect import find_candidates
+from .framing import frame_windows
 from .glitch import drop_glitches
-from .head import MAX_CLOCK_ERROR, HeadModel, bit_chips, head_model
+from .head import MAX_CLOCK_ERROR, HeadModel, head_model
 from .segment import burst_breaks, burst_end
-from .sync import best_sync
 from .validate import validate_train
-from .windows import Windows, classify_windows, lay_out, split_candidates
+from .windows import WindowRuns, Windows, classify_windows, lay_out
 
 #: a frame the check cannot vouch for is taken for noise when more than this fraction
 #: of its pulses is out of tolerance (random pulses: typically 25-50 %; real frames hit
@@ -54,7 +54,9 @@ class DecodedFrame:
     as a fraction of one unit (0.5 would be a coin toss between two unit counts).
     pulses: measured pulses wholly inside the frame (the rates below are out of these);
     sync_errors: bit errors in the sync word; timing_errors: pulses off by more than the
-    spec's tolerance; code_errors: data bits whose chips were no valid codeword.
+    spec's tolerance (a quality flag: no pulse is rejected for it); code_errors: data bits
+    whose chips were no valid codeword; corrected: edges the check-aided recovery moved to
+    the other grid point next to them to make the check pass (0: hard decisions).
     """
 
     fields: dict[str, object]
@@ -70,131 +72,7 @@ class DecodedFrame:
     sync_errors: int
     timing_errors: int
     code_errors: int
-
-
-@dataclass(frozen=True)
-class _Window:
-    """Runs given to the line code for one candidate: the head prefix (runs as sent, not
-    measured) + the window's measured pulses; timing looked up on demand."""
-
-    levels: np.ndarray
-    units: np.ndarray
-    chip0: np.ndarray  # chip offset of every run
-    n_prefix: int
-    first: int  # train index of the first measured pulse
-    at: int  # where the measured pulses start in the Windows arrays
-    unit0_us: float
-    ws: Windows
-    t0: np.ndarray  # start time of every pulse of the train
-    dur: np.ndarray  # durations of every pulse of the train
-
-    def start_us(self, r: int) -> float:
-        """Start time of run ``r`` (prefix runs extrapolated back with the start unit)."""
-        if r < self.n_prefix:
-            return float(self.t0[self.first] - (self.chip0[self.n_prefix] - self.chip0[r])
-                         * self.unit0_us)
-        return float(self.t0[self.first + r - self.n_prefix])
-
-    def unit_us(self, r: int) -> float:
-        return self.unit0_us if r < self.n_prefix else float(
-            self.ws.unit_us[self.at + r - self.n_prefix])
-
-    def measured(self, runs: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-        """Return (runs not capped, their durations, deviation of all ``runs``) for runs
-        of the measured part."""
-        k = runs - self.n_prefix
-        capped = self.ws.capped[self.at + k]
-        return runs[~capped], self.dur[self.first + k[~capped]], self.ws.deviation[self.at + k]
-
-    def time_of_chip(self, chip: int, *, end: bool = False) -> tuple[float, int]:
-        """Return (time in µs, run) of the start of ``chip`` (of its end with ``end``)."""
-        c = chip - 1 if end else chip
-        r = int(self.chip0.searchsorted(c, side="right")) - 1
-        r = min(max(r, 0), self.levels.size - 1)
-        if end and chip == self.chip0[r] + self.units[r] and r >= self.n_prefix \
-                and not self.ws.capped[self.at + r - self.n_prefix]:
-            return self.start_us(r) + float(self.dur[self.first + r - self.n_prefix]), r
-        return self.start_us(r) + (chip - int(self.chip0[r])) * self.unit_us(r), r
-
-
-def _window(hm: HeadModel, ws: Windows, k: int, levels: np.ndarray, dur: np.ndarray,
-            t0: np.ndarray) -> _Window:
-    """Return the runs of candidate window ``k`` with the head prefix in front."""
-    first, a = int(ws.first[k]), int(ws.offset[k])
-    m = int(ws.length[k])
-    units = np.concatenate((hm.prefix_units, ws.units[a:a + m]))
-    chip0 = np.cumsum(units) - units
-    return _Window(np.concatenate((hm.prefix_levels, levels[first:first + m])), units, chip0,
-                   int(hm.prefix_units.size), first, a, float(ws.start_unit_us[k]), ws, t0, dur)
-
-
-def _rank(hit: tuple[int, int, int], hm: HeadModel) -> tuple[int, int, int]:
-    pos, sync_errors, lead_errors = hit
-    return sync_errors + lead_errors, sync_errors, abs(pos - hm.sync_bit)
-
-
-def _frame_from(spec: FrameSpec, hm: HeadModel, w: _Window, cands: list[DecodedBits]
-                ) -> tuple[DecodedFrame, int] | None:
-    """Return (frame, train index of its last pulse) decoded from one window (its runs and
-    their line-code candidates), or None."""
-    lc = hm.line_code
-    sync = hm.sync_bits
-    best = None
-    for cand in cands:
-        hit = best_sync(cand.bits, cand.valid, hm.lead_bits, sync, hm.sync_bit,
-                        hm.sync_reach_bits, spec.sync.max_errors)
-        if hit is not None and (best is None or _rank(hit, hm) < _rank(best[1], hm)):
-            best = (cand, hit)
-            if _rank(hit, hm) == (0, 0, 0):
-                break  # a perfect hit where expected: no other phase can beat it
-    if best is None:
-        return None
-    cand, (pos, sync_errors, _) = best
-    body_at = pos + sync.size
-    body = lc.unstuff(cand.bits[body_at:])
-    parsed = parse_frame(spec, body)
-    if parsed is None:
-        return None
-    on_air = lc.stuff(body[:parsed.n_bits])
-    end_bit = body_at + on_air.size
-    if end_bit > cand.bits.size:
-        return None
-    c_start = int(bit_chips(lc, w.chip0, cand.run_index, pos + 1)[pos]) - hm.sync_chip
-    n_bits = hm.head_bits.size + on_air.size
-    if lc.chips_per_block is not None:
-        n_chips = n_bits // lc.bits_per_block * lc.chips_per_block
-    else:
-        n_chips = lc.encode(np.concatenate((hm.head_bits, on_air))).size
-    start_us, _ = w.time_of_chip(c_start)
-    end_us, last = w.time_of_chip(c_start + n_chips, end=True)
-    # measured runs wholly inside the frame (the last one often runs on into the gap)
-    inner = np.arange(max(w.n_prefix, int(np.searchsorted(w.chip0, c_start))), last + 1)
-    inner = inner[w.chip0[inner] + w.units[inner] <= c_start + n_chips]
-    measured, d, dev = w.measured(inner)
-    if inner.size and inner[-1] == last and (measured.size == 0 or measured[-1] != last):
-        inner, dev = inner[:-1], dev[:-1]  # the last run was capped: it is the gap
-    if measured.size >= 2 and measured[-1] - measured[0] == measured.size - 1:
-        unit_us = float(fit_unit(d, w.units[measured]))
-    elif measured.size:
-        unit_us = float(d.sum() / w.units[measured].sum())
-    else:
-        unit_us = w.unit_us(w.n_prefix)
-    frame = DecodedFrame(
-        fields=parsed.fields,
-        raw=parsed.raw,
-        payload_hex=parsed.payload_hex,
-        crc_ok=parsed.check_ok,
-        start_us=start_us,
-        end_us=end_us,
-        unit_us=unit_us,
-        clock_error=unit_us / spec.unit_us - 1.0,
-        worst_deviation=float(dev.max()) if dev.size else 0.0,
-        pulses=int(inner.size),
-        sync_errors=sync_errors,
-        timing_errors=int((dev > spec.decoder.tolerance).sum()),
-        code_errors=int((~cand.valid[body_at:end_bit]).sum()),
-    )
-    return frame, w.first + last - w.n_prefix
+    corrected: int = 0
 
 
 def _plausible(spec: FrameSpec, frame: DecodedFrame) -> bool:
@@ -206,14 +84,18 @@ def _plausible(spec: FrameSpec, frame: DecodedFrame) -> bool:
 
 
 def decode(spec: FrameSpec, train: PulseTrain, *,
-           include_bad: bool | None = None, bulk: bool = True) -> list[DecodedFrame]:
+           include_bad: bool | None = None, max_flips: int | None = None
+           ) -> list[DecodedFrame]:
     """Return every frame of ``spec`` found in ``train``, in time order.
 
     Pipeline: validate (CaptureError on NaN / inf / non-positive durations or levels other
     than 0/1) -> glitch filter -> head signatures found at any clock within +-10 % of
-    ``spec.unit_us`` (unit estimate from the preamble) -> for all candidates at once:
-    unit refit over the head, drift tracking, classification, line-code decode -> per
-    candidate: sync search with the allowed bit errors, unstuff, field parsing and check.
+    ``spec.unit_us`` (their edges on one chip grid; unit estimate from the preamble) -> for
+    all candidates at once: unit refit over the head, every pulse's run length from its
+    edges' places on the chip grid, one line-code decode, then framing (sync search with
+    the allowed bit errors, unstuffing, fields and check, times). A frame whose check
+    fails is decoded once more duration by duration with the drift-tracking loop, and the
+    result replaces it where its check passes.
     Repeats are separate frames, each with its own ``start_us``; the search goes on after
     the end of every decoded frame. Frames whose check fails are included unless
     ``include_bad`` is False (default: the spec's ``decoder.report_bad_check``); a frame
@@ -221,9 +103,12 @@ def decode(spec: FrameSpec, train: PulseTrain, *,
     of tolerance is taken for noise. Frames cut off by the end of the train are left
     out. Random pulses never raise.
 
-    Specs of one fixed layout (block code, no stuffing, integer fields) are framed for all
-    candidates at once (``bulk``); ``bulk=False`` frames candidate by candidate, with the
-    same results (kept as the reference the bulk framer is tested against).
+    Check-aided recovery: for a frame whose check fails, the least reliable edges (those
+    nearest to halfway between two grid points) are moved to the other grid point, up
+    to ``max_flips`` at a time (default: the spec's ``decoder.max_flips``), and the frame
+    is taken when its check passes; never more edges than the check's Hamming distance
+    at the frame's length leaves safe (HD - 2: one more error would still be detected;
+    none for checksums of HD 2 or no check). ``corrected`` counts them.
     """
     validate_train(train)
     if include_bad is None:
@@ -233,53 +118,143 @@ def decode(spec: FrameSpec, train: PulseTrain, *,
     if len(clean) == 0:
         return []
     hm = head_model(spec)
+    found, ctx = _decode_clean(spec, hm, clean, grid=True)
+    frames = [f for f, _ in found]
+    if any(not f.crc_ok for f in frames) and spec.check.kind != "none":
+        flips = min(spec.decoder.max_flips if max_flips is None else max_flips,
+                    safe_flips(spec))
+        if flips > 0:
+            frames = [f if f.crc_ok else _recover(spec, hm, ctx, k, flips) or f
+                      for f, k in found]
+        if not all(f.crc_ok for f in frames):
+            other, _ = _decode_clean(spec, hm, clean, grid=False)
+            frames = _second_opinion(spec, frames, [f for f, _ in other])
+    return [f for f in frames if f.crc_ok or include_bad]
+
+
+def safe_flips(spec: FrameSpec) -> int:
+    """Return the most decisions the check-aided recovery may change: the check's Hamming
+    distance at the frame's covered length less 2 (0 without a check)."""
+    if spec.check.kind == "none":
+        return 0
+    return max(0, check_strength(spec.check, covered_bits(spec)).hd - 2)
+
+
+#: least reliable edges of a frame the recovery chooses from
+RECOVERY_EDGES = 8
+
+
+@dataclass(frozen=True, eq=False)
+class _Context:
+    """What the recovery needs of one framing pass."""
+
+    ws: Windows
+    levels: np.ndarray
+    dur: np.ndarray
+    t0: np.ndarray
+
+
+def _recover(spec: FrameSpec, hm: HeadModel, ctx: _Context, k: int, max_flips: int
+             ) -> DecodedFrame | None:
+    """Return the frame of window ``k`` with up to ``max_flips`` of its least reliable
+    edges moved to the grid point on their other side, the first (fewest moves, least
+    reliable first) whose check passes; None if none does."""
+    one = ctx.ws.one(k)
+    units, lv, res = one.units, one.levels, one.end_residual
+    m = int(one.length[0])
+    j = np.arange(max(m - 1, 0))
+    step = np.where(res[j] > 0, 1, -1)
+    n1, n2 = units[j] + step, units[j + 1] - step
+    ok = ~one.capped[j] & ~one.capped[j + 1] & (n1 >= 1) & (n2 >= 1)
+    for lvl in (0, 1):
+        a = hm.runs.allowed[lvl]
+        ok &= np.where(lv[j] == lvl, np.isin(n1, a), True)
+        ok &= np.where(lv[j + 1] == lvl, np.isin(n2, a), True)
+    j = j[ok]
+    cost = 0.5 - np.abs(res[j])
+    order = np.argsort(cost, kind="stable")[:RECOVERY_EDGES]
+    edges, step = j[order], np.where(res[j[order]] > 0, 1, -1)
+    trials = sorted((c for n in range(1, max_flips + 1)
+                     for c in itertools.combinations(range(edges.size), n)),
+                    key=lambda c: (len(c), float(cost[order][list(c)].sum())))
+    for combo in trials:
+        u = units.copy()
+        for i in combo:
+            u[edges[i]] += step[i]
+            u[edges[i] + 1] -= step[i]
+        if (u < 1).any():
+            continue
+        ws1 = ctx.ws.one(k, u)
+        runs = lay_out(hm, ws1, ctx.levels)
+        got = _frame_all(spec, hm, ws1, runs, hm.line_code.decode(runs.levels, runs.units),
+                         ctx.levels, ctx.dur, ctx.t0)[0]
+        if got is not None and got[0].crc_ok:
+            return dataclasses.replace(got[0], corrected=len(combo))
+    return None
+
+
+def _second_opinion(spec: FrameSpec, frames: list[DecodedFrame], other: list[DecodedFrame]
+                    ) -> list[DecodedFrame]:
+    """Return ``frames`` with every frame whose check failed replaced by a frame of
+    ``other`` (decoded duration by duration) at the same start whose check passes."""
+    good = [f for f in other if f.crc_ok]
+    starts = np.array([f.start_us for f in good])
+    out = []
+    for f in frames:
+        if not f.crc_ok and starts.size:
+            k = int(np.abs(starts - f.start_us).argmin())
+            if abs(starts[k] - f.start_us) < 2 * spec.unit_us:
+                f = good[k]
+        out.append(f)
+    return out
+
+
+def _decode_clean(spec: FrameSpec, hm: HeadModel, clean: PulseTrain, *,
+                  grid: bool) -> tuple[list[tuple[DecodedFrame, int]], _Context | None]:
+    """Return the frames of the glitch-filtered train ``clean`` (see :func:`decode`) with
+    the window each came from, those whose check fails included, and the pass's context;
+    run lengths by ``grid`` (see classify_windows)."""
     levels, dur = clean.levels, clean.durations_us
     first, unit0 = find_candidates(levels, dur, hm.sig_levels, hm.sig_units, spec.unit_us,
-                                   dec.tolerance, MAX_CLOCK_ERROR)
+                                   hm.runs, MAX_CLOCK_ERROR)
     if first.size == 0:
-        return []
+        return [], None
     t0 = clean.edges_us()
     prefix_chips = int(hm.prefix_units.sum())
     stop = burst_end(first, burst_breaks(dur, hm.break_us), dur.size)
     reach_us = t0[first] + (hm.max_frame_chips - prefix_chips) * unit0 * (1 + MAX_CLOCK_ERROR)
     stop = np.minimum(stop, np.searchsorted(t0, reach_us, side="right") + 1)
     stop = np.maximum(np.minimum(stop, dur.size), first + 1)
-    ws = classify_windows(spec, hm, dur, first, stop, unit0)
+    ws = classify_windows(spec, hm, dur, first, stop, unit0, levels, grid=grid)
     runs = lay_out(hm, ws, levels)
     cands = hm.line_code.decode(runs.levels, runs.units)
-    if bulk and bulk_body_bits(spec, hm) is not None:
-        results = _bulk_results(spec, bulk_frames(spec, hm, ws, runs, cands, dur, t0))
-
-        def frame_of(k: int) -> tuple[DecodedFrame, int] | None:
-            return results[k]
-    else:
-        per_window = split_candidates(runs, cands)
-
-        def frame_of(k: int) -> tuple[DecodedFrame, int] | None:
-            return _frame_from(spec, hm, _window(hm, ws, k, levels, dur, t0), per_window[k])
-    frames: list[DecodedFrame] = []
+    results = _frame_all(spec, hm, ws, runs, cands, levels, dur, t0)
+    frames: list[tuple[DecodedFrame, int]] = []
     done = -1
     for k, i in enumerate(first.tolist()):
         if i <= done:
             continue
-        got = frame_of(k)
+        got = results[k]
         if got is None:
             continue
         frame, last = got
         if not _plausible(spec, frame):
             continue  # noise that happened to parse: later candidates may lie inside it
         done = last
-        if frame.crc_ok or include_bad:
-            frames.append(frame)
-    return frames
+        frames.append((frame, k))
+    return frames, _Context(ws, levels, dur, t0)
 
 
-def _bulk_results(spec: FrameSpec, bf: BulkFrames) -> list[tuple[DecodedFrame, int] | None]:
-    """Return per window what ``_frame_from`` returns, from the bulk framer's arrays."""
+def _frame_all(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,
+               cands: list[DecodedBits], levels: np.ndarray, dur: np.ndarray, t0: np.ndarray
+               ) -> list[tuple[DecodedFrame, int] | None]:
+    """Return per window (frame, train index of its last pulse), or None: every window
+    framed at once (``framing.frame_windows``)."""
+    bf = frame_windows(spec, hm, ws, runs, cands, dur, t0)
     out: list[tuple[DecodedFrame, int] | None] = [None] * bf.found.size
     f = np.flatnonzero(bf.found)
     unit = bf.unit_us[f]
-    columns = zip(f.tolist(), bf.parsed.frames(), bf.start_us[f].tolist(),
+    columns = zip(f.tolist(), bf.parsed, bf.start_us[f].tolist(),
                   bf.end_us[f].tolist(), unit.tolist(), (unit / spec.unit_us - 1.0).tolist(),
                   bf.worst_deviation[f].tolist(), bf.pulses[f].tolist(),
                   bf.sync_errors[f].tolist(), bf.timing_errors[f].tolist(),
@@ -290,3 +265,54 @@ def _bulk_results(spec: FrameSpec, bf: BulkFrames) -> list[tuple[DecodedFrame, i
             start_us=t_start, end_us=t_end, unit_us=u, clock_error=ce, worst_deviation=worst,
             pulses=pulses, sync_errors=se, timing_errors=te, code_errors=code), last)
     return out
+
+
+@dataclass(frozen=True)
+class DecodeReport:
+    """How far the decoder got in a pulse train (for "no frames found" messages).
+
+    pulses / after_glitch_filter: pulses in the train and left after the glitch filter;
+    bursts: stretches between pulses too long to lie inside a frame; heads: places where
+    the preamble's signature matched (``head_units_us``: the unit measured there, at most
+    the first 5); synced: of those, windows where the sync word was found and the fields
+    could be read; check_ok: frames whose check passed; unit_us: the spec's unit.
+    """
+
+    pulses: int
+    after_glitch_filter: int
+    bursts: int
+    heads: int
+    head_units_us: tuple[float, ...]
+    synced: int
+    check_ok: int
+    unit_us: float
+
+    @property
+    def stage(self) -> str:
+        """The first stage nothing passed, in words."""
+        if self.after_glitch_filter == 0:
+            return "every pulse was shorter than the glitch filter"
+        if self.heads == 0:
+            return "no preamble found (no run of pulses matched its signature)"
+        if self.synced == 0:
+            return "preamble found but no sync word after it"
+        if self.check_ok == 0:
+            return "frames found but every check failed"
+        return "frames found"
+
+
+def diagnose(spec: FrameSpec, train: PulseTrain) -> DecodeReport:
+    """Return how far :func:`decode` gets in ``train`` (stage by stage counts)."""
+    validate_train(train)
+    clean = drop_glitches(train.levels, train.durations_us,
+                          spec.decoder.glitch_fraction * spec.unit_us)
+    hm = head_model(spec)
+    n = len(clean)
+    bursts = int(burst_breaks(clean.durations_us, hm.break_us).size) + 1 if n else 0
+    first, unit0 = (find_candidates(clean.levels, clean.durations_us, hm.sig_levels,
+                                    hm.sig_units, spec.unit_us, hm.runs, MAX_CLOCK_ERROR)
+                    if n else (np.zeros(0, np.int64), np.zeros(0)))
+    found, _ = _decode_clean(spec, hm, clean, grid=True) if first.size else ([], None)
+    return DecodeReport(len(train), n, bursts, int(first.size),
+                        tuple(round(float(u), 3) for u in unit0[:5]), len(found),
+                        sum(f.crc_ok for f, _ in found), float(spec.unit_us))

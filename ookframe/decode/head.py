@@ -13,6 +13,7 @@ from ..frame import max_body_bits
 from ..linecodes import LineCode, get_line_code
 from ..pulses import chips_to_runs
 from ..spec.model import FrameSpec
+from .classify import RunTable, run_table
 from .segment import break_threshold_us
 
 #: largest transmitter clock error searched for (fraction); twice the +-5 % of cheap RC
@@ -49,6 +50,7 @@ class HeadModel:
     cap_units: int
     break_us: float
     phased: bool  # the code's decoder gives one candidate per chip phase (fixed blocks)
+    runs: RunTable  # allowed run lengths per level (head runs included), decision thresholds
 
     @property
     def sig_levels(self) -> np.ndarray:
@@ -66,24 +68,6 @@ class HeadModel:
     @property
     def prefix_units(self) -> np.ndarray:
         return self.units[:self.sig_start]
-
-
-def bit_chips(line_code: LineCode, cs: np.ndarray, run_index: np.ndarray, stop: int) -> np.ndarray:
-    """Return the chip offset of the first chip of the code block of bits 0 .. stop-1.
-
-    ``cs`` is the chip offset of every run given to ``decode``, ``run_index`` the run of
-    each bit of one candidate. Fixed-length codes: block b sits at ``phase + b *
-    chips_per_block``; a block's first chip lies in its run, so the phase is at least
-    ``cs[run] - b * chips_per_block`` for every block, and the first block starts on the
-    window's first run boundary at or after it. Other codes start every bit on a run.
-    """
-    r = run_index[:stop]
-    cpb = line_code.chips_per_block
-    if cpb is None or r.size == 0:
-        return cs[r]
-    block = np.arange(r.size) // line_code.bits_per_block * cpb
-    phase = int((cs[r] - block).max())
-    return phase + block
 
 
 def _signature(levels: np.ndarray, units: np.ndarray, sync_chip: int) -> tuple[int, int]:
@@ -158,6 +142,13 @@ def build_head(spec: FrameSpec) -> HeadModel:
         # the head is not stuffed, and stuffing starts afresh after the sync: a body run
         # can extend the head's last run
         max_run = max(max_run + int(units[-1]), int(units.max()))
+    allowed = []
+    for lv in (0, 1):
+        own = lc.run_lengths(lv)
+        if own is None or lc.max_stuffed_bits(1 << 16):
+            allowed.append(tuple(range(1, int(max_run) + 1)))
+        else:
+            allowed.append(tuple(sorted(set(own) | set(units[levels == lv].tolist()))))
     return HeadModel(
         line_code=lc,
         head_bits=head,
@@ -175,6 +166,7 @@ def build_head(spec: FrameSpec) -> HeadModel:
         cap_units=int(max_run),
         break_us=break_threshold_us(max_run, spec.unit_us, MAX_CLOCK_ERROR),
         phased=cpb is not None and len(lc.decode(levels, units)) > 1,
+        runs=run_table(allowed[0], allowed[1]),
     )
 
 

@@ -9,7 +9,7 @@ def break_threshold_us(max_run_units: int, unit_us: float, clock_error: float) -
     """Return the shortest pulse in µs that cannot be a run of a frame.
 
     A run of ``max_run_units`` from a transmitter whose clock is off by up to
-    ``clock_error`` (fraction), plus half a unit of edge jitter, stays below it.
+    ``clock_error`` (fraction), plus a unit of edge jitter, stays below it.
     """
     return (max_run_units + 0.5) * (1.0 + clock_error) * unit_us
 

@@ -7,9 +7,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..linecodes import DecodedBits
 from ..spec.model import FrameSpec
-from .classify import classify, head_unit, track_unit
+from .classify import grid_runs, head_unit, nearest_runs, phase_half_window, track_unit
 from .head import HeadModel
 
 
@@ -26,11 +25,27 @@ class Windows:
     unit_us: np.ndarray  # tracked unit each pulse was classified with
     capped: np.ndarray  # True where the pulse was longer than any run of a frame
     durations_us: np.ndarray  # the pulses' durations
+    ratio: np.ndarray  # durations / tracked unit
+    levels: np.ndarray  # the pulses' levels
+    end_residual: np.ndarray  # signed offset of each pulse's end edge from its grid point
+
+    def one(self, k: int, units: np.ndarray | None = None) -> Windows:
+        """Return window ``k`` alone (with other ``units`` if given)."""
+        a, m = int(self.offset[k]), int(self.length[k])
+        cut = slice(a, a + m)
+        return Windows(self.first[k:k + 1], np.zeros(1, np.int64), self.length[k:k + 1],
+                       self.start_unit_us[k:k + 1],
+                       self.units[cut] if units is None else units, self.deviation[cut],
+                       self.unit_us[cut], self.capped[cut], self.durations_us[cut],
+                       self.ratio[cut], self.levels[cut], self.end_residual[cut])
 
 
 def classify_windows(spec: FrameSpec, hm: HeadModel, dur: np.ndarray, first: np.ndarray,
-                     stop: np.ndarray, unit0: np.ndarray) -> Windows:
-    """Return the windows [first, stop) classified: head fit, drift tracking, units.
+                     stop: np.ndarray, unit0: np.ndarray, levels: np.ndarray, *,
+                     grid: bool = True) -> Windows:
+    """Return the windows [first, stop) classified: head fit, then run lengths from the
+    edges' places on the chip grid (``grid``, :func:`classify.grid_runs`) or from each
+    duration with the drift-tracking loop (nearest allowed length).
 
     A window ends early at its first pulse longer than any run of a frame (included: a
     frame's last space runs into it), so only a window's last pulse can be capped.
@@ -41,17 +56,31 @@ def classify_windows(spec: FrameSpec, hm: HeadModel, dur: np.ndarray, first: np.
     window = np.repeat(np.arange(first.size), length)
     idx = ragged_index(first, length)
     d = dur[idx]
-    start_unit = head_unit(d, length, unit0, hm.body_chip - int(hm.prefix_units.sum()))
-    unit = track_unit(d, length, start_unit, gain=dec.loop_gain, tolerance=dec.tolerance,
-                      max_units=hm.cap_units + 1)
-    n, dev = classify(d, unit)
-    capped = n > hm.cap_units
+    lv = levels[idx]
+    table = hm.runs
+    start_unit = head_unit(d, length, unit0, hm.body_chip - int(hm.prefix_units.sum()),
+                           levels=lv, table=table)
+    if grid:
+        unit = np.repeat(start_unit, length)
+        ratio = d / unit
+        capped = ratio > table.cap_ratio
+        g = grid_runs(d, lv, length, start_unit, table, capped=capped,
+                      half_window=phase_half_window(dec.loop_gain))
+        n, dev = np.where(capped, table.top, g.units), g.deviation
+        end_res = g.end_residual
+    else:  # duration by duration, with the tracking loop (follows a fast-drifting clock)
+        unit = track_unit(d, length, start_unit, gain=dec.loop_gain, tolerance=dec.tolerance,
+                          max_units=hm.cap_units + 1, levels=lv, table=table)
+        ratio = d / unit
+        capped = ratio > table.cap_ratio
+        n, dev = nearest_runs(ratio, lv, table)
+        end_res = np.zeros(d.size)
     pos = idx - first[window]
     first_cap = np.minimum.reduceat(np.where(capped, pos, length[window]), offset)
     length = np.minimum(length, first_cap + 1)
-    dev = np.where(capped, d / unit - hm.cap_units, dev)
-    return Windows(first, offset, length, start_unit, np.minimum(n, hm.cap_units), dev,
-                   unit, capped, d)
+    dev = np.where(capped, ratio - table.top, dev)
+    return Windows(first, offset, length, start_unit, n, dev, unit, capped, d, ratio, lv,
+                   end_res)
 
 
 @dataclass(frozen=True)
@@ -116,14 +145,3 @@ def lay_out(hm: HeadModel, ws: Windows, levels: np.ndarray) -> WindowRuns:
     return WindowRuns(lv, un, chip0, run_start, run_stop, n_pre)
 
 
-def split_candidates(runs: WindowRuns, cands: list[DecodedBits]) -> list[list[DecodedBits]]:
-    """Return per window its part of every line-code candidate of the laid-out runs (run
-    indices relative to the window's first run)."""
-    out: list[list[DecodedBits]] = [[] for _ in range(runs.run_start.size)]
-    for cand in cands:
-        lo = np.searchsorted(cand.run_index, runs.run_start).tolist()
-        hi = np.searchsorted(cand.run_index, runs.run_stop).tolist()
-        for k, (a, b) in enumerate(zip(lo, hi, strict=True)):
-            out[k].append(DecodedBits(cand.bits[a:b], cand.run_index[a:b] - runs.run_start[k],
-                                      cand.valid[a:b]))
-    return out

@@ -8,7 +8,7 @@ from typing import ClassVar
 import numpy as np
 
 from ..spec.model import LineCodeSpec
-from ._chips import as_bits, as_runs, expand_runs, table_max_run
+from ._chips import as_bits, as_runs, expand_runs, table_max_run, table_run_lengths
 from ._params import ParamReader
 from .base import DecodedBits, LineCode
 
@@ -76,6 +76,13 @@ class BlockCode(LineCode):
     def max_run_units(self) -> int | None:
         """Longest run over any codeword sequence, computed from the table."""
         return self._table_max_run
+
+    def run_lengths(self, level: int) -> tuple[int, ...] | None:
+        """Run lengths from the codeword table (None when a constant codeword makes runs
+        unbounded; a stuffing code overrides this)."""
+        if self._table_max_run is None:
+            return None
+        return table_run_lengths(self.codewords, self.CODE_CHIPS, level)
 
     def encode(self, bits: np.ndarray) -> np.ndarray:
         """Return chips (uint8): 1-D bits -> 1-D chips, 2-D (frames x bits) -> 2-D chips."""

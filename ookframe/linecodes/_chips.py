@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import itertools
 from collections.abc import Sequence
 
 import numpy as np
@@ -89,3 +90,20 @@ def table_max_run(codewords: Sequence[int], n_chips: int) -> int | None:
             if a[-1] == b[0]:
                 longest = max(longest, _run_lengths(a)[-1] + _run_lengths(b)[0])
     return longest
+
+
+def table_run_lengths(codewords: Sequence[int], n_chips: int, level: int) -> tuple[int, ...]:
+    """Return the run lengths at ``level`` that concatenations of codewords can hold
+    (no constant codeword: a run spans at most the tail of one word and the head of the
+    next, so single words and ordered pairs give them all)."""
+    words = [word_chips(w, n_chips) for w in codewords]
+    found: set[int] = set()
+    for w in words:
+        runs = _run_lengths(w)
+        starts = [0, *itertools.accumulate(runs)][:-1]
+        found.update(r for r, s in zip(runs, starts, strict=True) if w[s] == level)
+    for a in words:
+        for b in words:
+            if a[-1] == b[0] == level:
+                found.add(_run_lengths(a)[-1] + _run_lengths(b)[0])
+    return tuple(sorted(found))

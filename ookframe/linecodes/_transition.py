@@ -41,6 +41,10 @@ class TransitionCode(LineCode):
         """2: the clock slot changes level at least once every two chips."""
         return 2
 
+    def run_lengths(self, level: int) -> tuple[int, ...] | None:
+        """One or two chips: the clock slot changes level in every bit."""
+        return (1, 2)
+
     def encode(self, bits: np.ndarray) -> np.ndarray:
         """Return chips (uint8): 1-D bits -> 1-D chips, 2-D (frames x bits) -> 2-D chips."""
         b = as_bits(bits)

@@ -84,3 +84,24 @@ class LineCode(ABC):
     def max_stuffed_bits(self, n_bits: int) -> int:
         """Return the most bits ``stuff`` can add to ``n_bits`` data bits (0 without stuffing)."""
         return 0
+
+    def run_lengths(self, level: int) -> tuple[int, ...] | None:
+        """Return every run length in units a frame can hold at ``level`` (0 space, 1 mark),
+        ascending; None when runs are unbounded (every whole number is allowed).
+
+        The default encodes every data word of up to 12 bits (whole blocks) one after the
+        other, stuffed as on air, and keeps the runs wholly inside those chips (so every
+        pair of neighbouring words is seen). Codes whose run set needs longer words
+        override it.
+        """
+        if self.max_run_units is None:
+            return None
+        k = self.bits_per_block
+        n_bits = max(k, 12 // k * k)
+        words = (np.arange(1 << n_bits)[:, None] >> np.arange(n_bits - 1, -1, -1)) & 1
+        chips = self.encode(self.stuff(words.astype(np.uint8).ravel()))  # all words in a row
+        edges = np.flatnonzero(chips[1:] != chips[:-1]) + 1
+        lengths = np.diff(edges)
+        found = {int(x) for x in np.unique(lengths[chips[edges[:-1]] == level])}
+        found = {x for x in found if x <= self.max_run_units}
+        return tuple(sorted(found)) if found else None

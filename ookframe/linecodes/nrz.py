@@ -131,6 +131,12 @@ class Nrz(BlockCode):
             return self.stuff_after
         return None
 
+    def run_lengths(self, level: int) -> tuple[int, ...] | None:
+        """1 .. N at a level whose runs stuffing bounds, else None (unbounded)."""
+        if self.stuff_after and (self.stuff_value == "both" or level == 1):
+            return tuple(range(1, self.stuff_after + 1))
+        return None
+
     def stuff(self, bits: np.ndarray) -> np.ndarray:
         """Return the stuffed bit stream (1-D); identity when stuffing is off."""
         b = as_bits(bits, max_ndim=1)

@@ -53,6 +53,12 @@ class PulseDistance(LineCode):
     def max_run_units(self) -> int | None:
         return max(self.mark_units, self.zero_space_units, self.one_space_units)
 
+    def run_lengths(self, level: int) -> tuple[int, ...] | None:
+        """Marks: ``mark_units``; spaces: the 0 or the 1 space."""
+        if level == 1:
+            return (self.mark_units,)
+        return tuple(sorted((self.zero_space_units, self.one_space_units)))
+
     def encode(self, bits: np.ndarray) -> np.ndarray:
         """Return chips (uint8) of a 1-D bit array, ending with the stop mark."""
         if np.ndim(bits) != 1:

@@ -54,6 +54,10 @@ class Pwm(LineCode):
         """long_units: every bit starts with a mark and ends with a space."""
         return self.long_units
 
+    def run_lengths(self, level: int) -> tuple[int, ...] | None:
+        """Marks and spaces are short or long."""
+        return (self.short_units, self.long_units)
+
     def encode(self, bits: np.ndarray) -> np.ndarray:
         """Return chips (uint8): 1-D bits -> 1-D chips, 2-D (frames x bits) -> 2-D chips."""
         b = as_bits(bits)

@@ -1,7 +1,11 @@
-"""Load and validate a frame spec from TOML (``tomllib``) into the frozen model.
+"""Parse a frame spec from TOML (``tomllib``) into the frozen model.
 
 Every error is a :class:`~ookframe.errors.SpecError` carrying the key path, what is wrong
-and what is allowed; unknown keys get a close-match suggestion.
+and what is allowed; unknown keys get a close-match suggestion. This module checks keys,
+types and ranges; what needs a later stage (line codes, CRCs, whitening, the field layout)
+is checked by :func:`ookframe.plan.compile_plan`. The public loaders that do both are in
+:mod:`ookframe.spec_io`; the few facts parsing needs from later stages come in as
+:class:`Lookups`, so this package imports nothing after the model.
 """
 
 from __future__ import annotations
@@ -11,7 +15,8 @@ import math
 import os
 import sys
 import tomllib
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -52,8 +57,23 @@ FIELD_KEYS = (
 CRC_KEYS = ("width", "poly", "init", "refin", "refout", "xorout")
 CHECK_KEYS = ("kind", "model", "covers", "byte_order", *CRC_KEYS)
 WHITENING_KEYS = ("kind", "width", "poly", "seed", "covers")
-DECODER_KEYS = ("glitch_fraction", "tolerance", "loop_gain", "report_bad_check")
+DECODER_KEYS = ("glitch_fraction", "tolerance", "loop_gain", "report_bad_check", "max_flips")
 CHECK_KINDS = ("none", "crc", "sum8", "xor8", "fletcher16")
+
+
+@dataclass(frozen=True)
+class Lookups:
+    """What parsing needs from later stages, handed in by the caller.
+
+    line_codes: the line code names (for the "is required" message); units_per_bit: chips
+    per data bit of a line code (to turn ``bit_rate_bps`` into ``unit_us``; SpecError for
+    a bad line code); crc_model: the parameters of a catalogue CRC name (SpecError with
+    path ``check.model`` when unknown or ambiguous).
+    """
+
+    line_codes: tuple[str, ...]
+    units_per_bit: Callable[[LineCodeSpec], float]
+    crc_model: Callable[[str], CrcParams]
 
 
 def _suggest(key: str, allowed: tuple[str, ...] | list[str]) -> str:
@@ -206,9 +226,7 @@ def _field(d: object, i: int) -> tuple[FieldSpec, object]:
     return f, d.get("default")
 
 
-def _crc_params(d: Mapping[str, Any], path: str) -> CrcParams:
-    from ..checks import Crc
-
+def _crc_params(d: Mapping[str, Any], path: str, lookups: Lookups) -> CrcParams:
     if "model" in d:
         extra = [k for k in CRC_KEYS if k in d]
         if extra:
@@ -216,16 +234,7 @@ def _crc_params(d: Mapping[str, Any], path: str) -> CrcParams:
         model = d["model"]
         if not isinstance(model, str):
             raise SpecError(f"{path}.model", "must be a catalogue name such as \"CRC-16/KERMIT\"")
-        try:
-            return Crc.named(model).params
-        except (KeyError, SpecError) as e:
-            from ..checks import CATALOGUE
-
-            if isinstance(e, SpecError) and "ambiguous" in e.message:
-                raise SpecError(f"{path}.model", e.message) from None
-            close = difflib.get_close_matches(model[:100].upper(), list(CATALOGUE), n=3)
-            hint = f"; close matches: {', '.join(close)}" if close else ""
-            raise SpecError(f"{path}.model", f"unknown CRC model {excerpt(model)}{hint}") from None
+        return lookups.crc_model(model)
     width = _int(d, "width", path, lo=3, hi=64)
     top = (1 << width) - 1
     params = CrcParams(
@@ -238,22 +247,26 @@ def _crc_params(d: Mapping[str, Any], path: str) -> CrcParams:
     )
     if params.poly & 1 == 0:
         raise SpecError(f"{path}.poly", "a CRC polynomial must have its x^0 term set (odd value)")
-    Crc.from_params(params)  # validates
     return params
 
 
-def _check(d: object) -> CheckSpec:
+def _check(d: object, lookups: Lookups, frame_byte_order: str) -> CheckSpec:
+    """Return the CheckSpec of a [check] table; ``byte_order`` defaults to the frame's
+    (to "big" for no check or a width that is not a multiple of 8: byte order has no meaning
+    there)."""
     path = "check"
     d = _table(d, path)
     _no_unknown(d, CHECK_KEYS, path)
     kind = _choice(d, "kind", path, CHECK_KINDS, "crc" if ("model" in d or "poly" in d) else None)
     covers = _sections(d, path, ("sync", "fields"), ("fields",))
-    byte_order = _choice(d, "byte_order", path, ("big", "little"), "big")
-    crc = _crc_params(d, path) if kind == "crc" else None
+    crc = _crc_params(d, path, lookups) if kind == "crc" else None
     if kind != "crc":
         for k in ("model", *CRC_KEYS):
             if k in d:
                 raise SpecError(f"{path}.{k}", f"only allowed with kind = \"crc\" (kind is {kind!r})")
+    width_bits = CheckSpec(kind=kind, crc=crc).width_bits
+    byte_order = _choice(d, "byte_order", path, ("big", "little"),
+                         frame_byte_order if width_bits and width_bits % 8 == 0 else "big")
     spec = CheckSpec(kind=kind, crc=crc, covers=covers, byte_order=byte_order)
     if byte_order == "little" and spec.width_bits % 8:
         raise SpecError(f"{path}.byte_order", f"little needs a check width that is a multiple of 8, "
@@ -278,30 +291,22 @@ def _whitening(d: object) -> WhiteningSpec:
         width = _int(d, "width", path, lo=2, hi=32)
         poly = _int(d, "poly", path, lo=1, hi=(1 << width) - 1)
     seed = _int(d, "seed", path, (1 << width) - 1, lo=1, hi=(1 << width) - 1)
-    spec = WhiteningSpec(kind="lfsr" if kind == "lfsr" else "pn9", width=width, poly=poly,
+    return WhiteningSpec(kind="lfsr" if kind == "lfsr" else "pn9", width=width, poly=poly,
                          seed=seed, covers=covers)
-    from ..whitening import lfsr_bits
-
-    lfsr_bits(spec, 1)  # validates polynomial/seed
-    return spec
 
 
-def _line_code(d: object) -> LineCodeSpec:
-    from ..linecodes import get_line_code
-
+def _line_code(d: object, lookups: Lookups) -> LineCodeSpec:
     path = "line_code"
     d = _table(d, path)
     if "name" not in d:
-        from ..linecodes import LINE_CODES
-
-        raise SpecError(f"{path}.name", f"is required; allowed: {', '.join(LINE_CODES)}")
+        raise SpecError(f"{path}.name", f"is required; allowed: {', '.join(lookups.line_codes)}")
     name = d["name"]
     if not isinstance(name, str):
         raise SpecError(f"{path}.name", f"must be a string, got {type(name).__name__} "
                         f"{excerpt(name)}")
     params = tuple(sorted((k, v) for k, v in d.items() if k != "name"))
-    spec = LineCodeSpec(name=name.lower(), params=params)
-    get_line_code(spec)  # validates name and params
+    spec = LineCodeSpec(name=str(name).lower(), params=params)
+    lookups.units_per_bit(spec)  # a bad name or parameter fails here, before the rest
     return spec
 
 
@@ -338,22 +343,17 @@ def _decoder(d: object) -> DecoderSpec:
         tolerance=_float(d, "tolerance", path, 0.35, lo=0.05, hi=0.49),
         loop_gain=_float(d, "loop_gain", path, 0.05, lo=0.0, hi=0.5),
         report_bad_check=_bool(d, "report_bad_check", path, True),
+        max_flips=_int(d, "max_flips", path, 2, lo=0, hi=4),
     )
 
 
-def spec_from_dict(doc: Mapping[str, Any]) -> FrameSpec:
-    """Return a validated FrameSpec from a parsed TOML document (dict)."""
-    spec, _ = spec_and_defaults_from_dict(doc)
-    return spec
+def parse_spec_dict(doc: Mapping[str, Any], lookups: Lookups
+                    ) -> tuple[FrameSpec, dict[str, object]]:
+    """Return (FrameSpec, default field values as written) from a parsed TOML document.
 
-
-def spec_and_defaults_from_dict(doc: Mapping[str, Any]) -> tuple[FrameSpec, dict[str, object]]:
-    """Return (FrameSpec, default field values given in the spec)."""
-    require(doc, Mapping, "doc", "give the dict tomllib.loads returns")
-    from ..bits import to_raw
-    from ..frame import _blob
-    from ..linecodes import get_line_code
-
+    Keys, types and ranges are checked here; :func:`ookframe.plan.compile_plan` checks the
+    rest and :mod:`ookframe.spec_io` the defaults.
+    """
     doc = _table(doc, "")
     _no_unknown(doc, TOP_KEYS, "")
     for req in ("frame", "line_code", "sync"):
@@ -368,15 +368,14 @@ def spec_and_defaults_from_dict(doc: Mapping[str, Any]) -> tuple[FrameSpec, dict
     if "name" not in fr:
         raise SpecError("frame.name", "is required (a C identifier, used as the prefix of generated C)")
     name = _identifier(fr["name"], "frame.name", "frame name (C prefix)", fold_case=True)
-    line_code = _line_code(doc["line_code"])
-    lc = get_line_code(line_code)
+    line_code = _line_code(doc["line_code"], lookups)
     if ("bit_rate_bps" in fr) == ("unit_us" in fr):
         raise SpecError("frame", "give exactly one of bit_rate_bps or unit_us")
     if "unit_us" in fr:
         unit_us = _float(fr, "unit_us", "frame", lo=MIN_UNIT_US, hi=MAX_UNIT_US)
     else:
         rate = _float(fr, "bit_rate_bps", "frame", lo=0.0, lo_open=True)
-        unit_us = 1e6 / (rate * lc.units_per_bit)
+        unit_us = 1e6 / (rate * lookups.units_per_bit(line_code))
         if not MIN_UNIT_US <= unit_us <= MAX_UNIT_US:
             raise SpecError("frame.bit_rate_bps", f"{rate:g} bit/s gives a symbol unit of {unit_us:g} µs "
                             f"with {line_code.name}; allowed units are {MIN_UNIT_US:g}..{MAX_UNIT_US:g} µs")
@@ -386,7 +385,7 @@ def spec_and_defaults_from_dict(doc: Mapping[str, Any]) -> tuple[FrameSpec, dict
     if len(raw_fields) > MAX_FIELDS:
         raise SpecError("fields", f"{len(raw_fields)} fields; allowed at most {MAX_FIELDS}")
     fields: list[FieldSpec] = []
-    defaults_in: list[tuple[int, object]] = []
+    defaults: dict[str, object] = {}
     for i, fd in enumerate(raw_fields):
         f, default = _field(fd, i)
         fields.append(f)
@@ -396,31 +395,9 @@ def spec_and_defaults_from_dict(doc: Mapping[str, Any]) -> tuple[FrameSpec, dict
             why = "" if first == f.name else f" (same as {first!r} in upper-case C macro names)"
             raise SpecError(f"fields[{i}].name", f"duplicate field name {f.name!r}{why}")
         if default is not None:
-            defaults_in.append((i, default))
-    lengths = [i for i, f in enumerate(fields) if f.role == "length"]
-    blobs = [i for i, f in enumerate(fields) if f.kind == "bytes"]
-    if len(lengths) > 1:
-        raise SpecError(f"fields[{lengths[1]}].role", "only one length field is allowed")
-    if len(blobs) > 1:
-        raise SpecError(f"fields[{blobs[1]}].kind", "only one bytes field is allowed")
-    if blobs and not lengths:
-        raise SpecError(f"fields[{blobs[0]}].kind", "a bytes field needs a preceding field with role = \"length\"")
-    if lengths and not blobs:
-        raise SpecError(f"fields[{lengths[0]}].role", "a length field needs a following kind = \"bytes\" field")
-    if blobs:
-        li, bi = lengths[0], blobs[0]
-        if li > bi:
-            raise SpecError(f"fields[{li}].role", "the length field must come before the bytes field")
-        if fields[bi].max_len_bytes > fields[li].raw_max:
-            raise SpecError(f"fields[{bi}].max_len_bytes", f"{fields[bi].max_len_bytes} does not fit the "
-                            f"{fields[li].width_bits}-bit length field '{fields[li].name}'")
+            defaults[f.name] = default
     byte_order = _choice(fr, "byte_order", "frame", ("big", "little"), "big")
-    if byte_order == "little":
-        for i, f in enumerate(fields):
-            if f.kind == "int" and f.width_bits > 8 and f.width_bits % 8:
-                raise SpecError(f"fields[{i}].width_bits", f"byte_order = \"little\" needs widths that are "
-                                f"multiples of 8 for fields wider than 8 bits; '{f.name}' is {f.width_bits}")
-    check = _check(doc["check"]) if "check" in doc else CheckSpec()
+    check = _check(doc["check"], lookups, byte_order) if "check" in doc else CheckSpec()
     spec = FrameSpec(
         name=name,
         description=_str(fr, "description", "frame"),
@@ -437,28 +414,7 @@ def spec_and_defaults_from_dict(doc: Mapping[str, Any]) -> tuple[FrameSpec, dict
         gap_us=_float(fr, "gap_us", "frame", 10000.0, lo=0.0, hi=10_000_000.0),
         decoder=_decoder(doc.get("decoder", {})),
     )
-    bpb = lc.bits_per_block
-    if bpb > 1:
-        head = spec.preamble.length_bits + spec.sync.length_bits
-        body = sum(f.width_bits for f in fields if f.kind == "int") + check.width_bits
-        for what, n in (("preamble + sync", head), ("fields + check", body)):
-            if n % bpb:
-                raise SpecError("line_code.name", f"{line_code.name} codes {bpb} bits per block; "
-                                f"{what} is {n} bits, not a multiple of {bpb}")
     _check_size(spec)
-    if spec.repeats > 1 and spec.gap_us <= 0:
-        raise SpecError("frame.gap_us", "must be > 0 when repeats > 1, or repeats run together")
-    defaults: dict[str, object] = {}
-    for i, value in defaults_in:
-        f = fields[i]
-        try:
-            if f.kind == "bytes":
-                _blob(f, value)
-            else:
-                to_raw(f, value)
-        except Exception as e:  # noqa: BLE001 - turn any conversion problem into a spec error
-            raise SpecError(f"fields[{i}].default", str(e)) from None
-        defaults[f.name] = value
     return spec, defaults
 
 
@@ -474,8 +430,8 @@ def _check_size(spec: FrameSpec) -> None:
                         "bits a transmission")
 
 
-def load_spec_and_defaults(path: str | Path) -> tuple[FrameSpec, dict[str, object]]:
-    """Return (FrameSpec, defaults) from a TOML file; SpecError on any problem."""
+def read_spec_file(path: str | Path) -> dict[str, Any]:
+    """Return the TOML document in a spec file; SpecError when unreadable or not TOML."""
     require(path, (str, os.PathLike), "path")
     p = Path(path)
     try:
@@ -493,9 +449,4 @@ def load_spec_and_defaults(path: str | Path) -> tuple[FrameSpec, dict[str, objec
     except ValueError:  # Python's int-digits limit, hit inside tomllib
         raise SpecError("", f"{p}: a number is too long to read (more than "
                         f"{sys.get_int_max_str_digits():,} digits)") from None
-    return spec_and_defaults_from_dict(doc)
-
-
-def load_spec(path: str | Path) -> FrameSpec:
-    """Return the validated FrameSpec in a TOML file."""
-    return load_spec_and_defaults(path)[0]
+    return doc

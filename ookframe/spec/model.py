@@ -1,4 +1,5 @@
-"""Frame spec model: small frozen dataclasses, validated by ``ookframe.spec.load``.
+"""Frame spec model: small frozen dataclasses, parsed by ``ookframe.spec.load`` and
+validated by ``ookframe.plan.compile_plan``.
 
 Frame on air (before line coding), in order::
 
@@ -102,6 +103,8 @@ class CheckSpec:
 
     kind: "none", "crc" (``crc`` set), "sum8", "xor8", "fletcher16".
     The check value (``width_bits``) is sent in ``byte_order`` with the frame bit order.
+    A spec file without ``[check] byte_order`` gets the frame's ``byte_order`` (see
+    ``ookframe.spec.load``); a CheckSpec built directly defaults to "big".
     """
 
     kind: str = "none"
@@ -154,6 +157,9 @@ class DecoderSpec:
     tolerance: float = 0.35
     loop_gain: float = 0.05
     report_bad_check: bool = True
+    #: most edges the check-aided recovery may move in a frame whose check fails (the
+    #: decoder also keeps it below the check's Hamming distance less 2)
+    max_flips: int = 2
 
 
 @dataclass(frozen=True)

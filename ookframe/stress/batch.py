@@ -9,8 +9,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from .. import batch as _batch
-from .. import bits as _b
-from .. import frame as _f
+from ..frame import random_values, raw_values, raws_batch
+from ..plan import FramePlan, as_plan
 from ..pulses import PulseTrain
 from ..spec.model import FrameSpec
 
@@ -36,70 +36,56 @@ class Batch:
         return len(self.payload_hex)
 
 
-def _random_fixed(spec: FrameSpec, n: int, rng: np.random.Generator):
-    """Return (chips: 2-D array or list of rows, payload hex) of ``n`` fixed-layout frames
-    with random raw values (``ookframe.batch``: the same distribution as
-    ``frame.random_values``)."""
-    raws = _batch.random_raw_batch(spec, n, rng)
-    bits = _batch.frame_bits_batch(spec, raws)
-    chips = _batch.frame_chips_batch(spec, bits)
-    n_head = _f.head_bits(spec).size
-    n_fb = sum(f.width_bits for f in spec.fields)
-    fb = bits[:, n_head : n_head + n_fb] ^ _f.whitening_mask(spec, n_fb, 0)
-    return chips, _hex_rows(np.packbits(fb, axis=1))
-
-
-def _hex_rows(packed: np.ndarray) -> tuple[str, ...]:
-    """Return ``row.tobytes().hex()`` of every row of a 2-D uint8 array."""
-    width = 2 * packed.shape[1]
-    if width == 0:
-        return ("",) * packed.shape[0]
-    text = packed.tobytes().hex()
-    return tuple(text[i : i + width] for i in range(0, len(text), width))
-
-
-def _random_any(spec: FrameSpec, n: int, rng: np.random.Generator):
-    """Return (chip rows, payload hex) of ``n`` frames of ``frame.random_values``."""
-    rows, payload = [], []
-    for _ in range(n):
-        values = _f.random_values(spec, rng)
-        rows.append(_f.frame_chips(spec, values))
-        raw = _f.raw_values(spec, values)
-        payload.append(_b.pack_bits(_f.field_bits(spec, raw)).hex())
-    return rows, tuple(payload)
+def _random_raws(plan: FramePlan, n: int, rng: np.random.Generator):
+    """Return the raw values of ``n`` random frames: drawn array-wide for a fixed layout
+    (``ookframe.batch.random_raw_batch``), else frame by frame with
+    ``frame.random_values`` (the same distribution; the same draws as one-frame runs)."""
+    if plan.is_fixed:
+        return _batch.random_raw_batch(plan, n, rng)
+    return raws_batch(plan, [raw_values(plan, random_values(plan, rng)) for _ in range(n)])
 
 
 def random_batch(
-    spec: FrameSpec, n: int, rng: np.random.Generator, *, gap_us: float | None = None
+    spec: FrameSpec | FramePlan, n: int, rng: np.random.Generator, *,
+    gap_us: float | None = None
 ) -> Batch:
     """Return ``n`` random transmissions (``spec.repeats`` copies each, ``spec.gap_us``
     apart) joined by ``gap_us`` of space (default ``spec.gap_us``), one also before the
     first and after the last."""
-    gap = float(spec.gap_us if gap_us is None else gap_us)
-    if _batch.is_fixed_layout(spec):
-        rows, payload = _random_fixed(spec, n, rng)
-    else:
-        rows, payload = _random_any(spec, n, rng)
-    return _join(spec, rows, payload, gap)
+    plan = as_plan(spec)
+    gap = float(plan.gap_us if gap_us is None else gap_us)
+    chips, payload = random_chips(plan, n, rng)
+    return join_chips(plan, chips, payload, gap)
 
 
-def _join(
-    spec: FrameSpec, rows: np.ndarray | list[np.ndarray], payload: tuple[str, ...], gap: float
+def random_chips(spec: FrameSpec | FramePlan, n: int, rng: np.random.Generator
+                 ) -> tuple[np.ndarray | list[np.ndarray], tuple[str, ...]]:
+    """Return (chips of ``n`` random frames: a 2-D array or a list of rows, their payload
+    hex as ``DecodedFrame.payload_hex`` reports it), as :func:`random_batch` draws them."""
+    plan = as_plan(spec)
+    enc = _batch.encode_bits(plan, _random_raws(plan, n, rng))
+    return _batch.frame_chips_batch(plan, _batch.frame_bits_of(plan, enc)), enc.payload_hex()
+
+
+def join_chips(
+    spec: FrameSpec | FramePlan, rows: np.ndarray | list[np.ndarray], payload: tuple[str, ...],
+    gap: float
 ) -> Batch:
     """Return the batch train: chips weighted by their duration, runs summed (vectorised).
 
     ``rows``: the chips of each transmission, a 2-D array (fixed layout) or a list.
     """
-    unit = float(spec.unit_us)
-    r = spec.repeats
+    plan = as_plan(spec)
+    unit = plan.unit_us
+    r = plan.repeats
     levels, lens, gap_slot = _slot_levels(rows, r)
     # gap slots: one batch gap in front, then per transmission r - 1 repeat gaps and a batch gap
     gap_w = np.full(gap_slot.size, float(gap))
     if r > 1:
-        gap_w[1:].reshape(-1, r)[:, :-1] = spec.gap_us
+        gap_w[1:].reshape(-1, r)[:, :-1] = plan.gap_us
     starts = np.flatnonzero(np.concatenate(([True], levels[1:] != levels[:-1])))
     train = PulseTrain(levels[starts], _run_durations_us(levels.size, starts, unit, gap_slot, gap_w))
-    tx_us = r * lens * unit + (r - 1) * spec.gap_us
+    tx_us = r * lens * unit + (r - 1) * plan.gap_us
     begin = gap + np.concatenate(([0.0], np.cumsum(tx_us + gap)[:-1]))
     return Batch(train, begin, begin + tx_us, payload, gap)
 

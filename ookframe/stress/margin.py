@@ -10,6 +10,9 @@ from dataclasses import dataclass
 
 from ..channel import SIGNED, ChannelSpec
 from ..errors import ValueRangeError
+from ..frame import encode
+from ..layout import zero_values
+from ..plan import FramePlan, as_plan, spec_of
 from ..spec.model import FrameSpec
 from .runner import DEFAULT_CHUNK_FRAMES, StressResult, pool_for, run_stress
 from .sweep import channel_at
@@ -21,9 +24,10 @@ MARGIN_IMPAIRMENTS: tuple[str, ...] = (
 )
 
 
-def search_limit(spec: FrameSpec, name: str) -> float:
+def search_limit(spec: FrameSpec | FramePlan, name: str) -> float:
     """Return the largest magnitude of impairment ``name`` searched for ``spec``."""
     frame_s = _frame_s(spec)
+    spec = spec_of(spec)
     return {
         "jitter_us": spec.unit_us,
         "mark_bias_us": spec.unit_us,
@@ -37,11 +41,9 @@ def search_limit(spec: FrameSpec, name: str) -> float:
     }.get(name, spec.unit_us)
 
 
-def _frame_s(spec: FrameSpec) -> float:
-    from ..frame import encode
-    from ..layout import zero_values
-
-    return encode(spec, zero_values(spec)).total_us / 1e6
+def _frame_s(spec: FrameSpec | FramePlan) -> float:
+    plan = as_plan(spec)
+    return encode(plan, zero_values(plan)).total_us / 1e6
 
 
 @dataclass(frozen=True)
@@ -95,7 +97,7 @@ def frames_needed(target_per: float) -> int:
 
 
 def run_margin(
-    spec: FrameSpec,
+    spec: FrameSpec | FramePlan,
     target_per: float,
     *,
     channel: ChannelSpec | None = None,
@@ -116,6 +118,7 @@ def run_margin(
     glitch width get half a symbol unit (``sweep.channel_at``)."""
     if not 0 < target_per < 1:
         raise ValueRangeError(f"target PER must be in (0, 1), got {target_per}")
+    spec = spec_of(spec)
     base = channel or ChannelSpec()
     need = frames_needed(target_per)
     n = max(2 * need, 200) if n_frames is None else n_frames

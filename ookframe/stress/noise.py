@@ -11,8 +11,9 @@ import numpy as np
 
 from .._require import require, require_spec
 from ..channel import idle_noise_train
+from ..plan import FramePlan, spec_of
 from ..spec.model import FrameSpec
-from .runner import Decoder, _reference_decoder, map_unordered, pool_for
+from .runner import Decoder, map_unordered, pool_for, reference_decoder
 from .stats import poisson_ci
 from .theory import expected_false_frames_per_hour
 
@@ -54,12 +55,12 @@ def noise_chunk(
 ) -> tuple[int, int, int]:
     """Return (pulses, frames decoded, frames with a passing check) for one noise chunk."""
     train = idle_noise_train(duration_us, mean_us, np.random.default_rng(seed_seq))
-    frames = (decoder or _reference_decoder)(spec, train)
+    frames = (decoder or reference_decoder)(spec, train)
     return len(train), len(frames), sum(1 for f in frames if f.crc_ok)
 
 
 def run_noise(
-    spec: FrameSpec,
+    spec: FrameSpec | FramePlan,
     hours: float,
     *,
     mean_us: float = 100.0,
@@ -79,11 +80,12 @@ def run_noise(
     require(hours, (int, float), "hours")
     if hours <= 0 or chunk_s <= 0:
         raise ValueError("hours and chunk_s must be > 0")
+    spec = spec_of(spec)  # the decoder takes the spec
     total_s = hours * 3600.0
     n_full, rest = divmod(total_s, chunk_s)
-    plan = [chunk_s] * int(n_full) + ([rest] if rest > 1e-9 else [])
-    seqs = np.random.SeedSequence(seed).spawn(len(plan))
-    args = [(spec, s * 1e6, mean_us, q, decoder) for s, q in zip(plan, seqs, strict=True)]
+    sizes = [chunk_s] * int(n_full) + ([rest] if rest > 1e-9 else [])
+    seqs = np.random.SeedSequence(seed).spawn(len(sizes))
+    args = [(spec, s * 1e6, mean_us, q, decoder) for s, q in zip(sizes, seqs, strict=True)]
     t0 = time.perf_counter()
     pulses = hits = passing = 0
     with pool_for(executor, workers) as pool:
@@ -92,7 +94,7 @@ def run_noise(
             hits += got[1]
             passing += got[2]
             if progress is not None:
-                progress(plan[k])
+                progress(sizes[k])
     exp_hits, exp_pass = expected_false_frames_per_hour(spec)
     lo_h, hi_h = poisson_ci(hits)
     lo_p, hi_p = poisson_ci(passing)

@@ -12,9 +12,11 @@ before it to half a gap after it).
 
 from __future__ import annotations
 
+import signal
+import threading
 import time
 from collections.abc import Callable, Iterator, Sequence
-from concurrent.futures import Executor, ProcessPoolExecutor, as_completed
+from concurrent.futures import FIRST_COMPLETED, Executor, ProcessPoolExecutor, wait
 from contextlib import contextmanager
 from dataclasses import dataclass, field, fields
 from typing import TypeVar
@@ -23,6 +25,7 @@ import numpy as np
 
 from .._require import require, require_int, require_spec
 from ..channel import ChannelSpec, apply_channel, channel_time_map_us
+from ..plan import FramePlan, as_plan
 from ..pulses import PulseTrain
 from ..spec.model import FrameSpec
 from .batch import Batch, random_batch
@@ -150,14 +153,15 @@ def _payload_right(
     )
 
 
-def _reference_decoder(spec: FrameSpec, train: PulseTrain) -> list:
+def reference_decoder(spec: FrameSpec, train: PulseTrain) -> list:
+    """The reference decoder as stress runs call it (frames with a bad check included)."""
     from ..decode import decode
 
     return decode(spec, train, include_bad=True)
 
 
 def run_chunk(
-    spec: FrameSpec,
+    spec: FrameSpec | FramePlan,
     channel: ChannelSpec,
     n: int,
     seed_seq: np.random.SeedSequence,
@@ -165,10 +169,11 @@ def run_chunk(
     decoder: Decoder | None = None,
 ) -> Counts:
     """Return the tallies of one chunk: ``n`` random transmissions, one batch."""
+    plan = as_plan(spec)
     rng = np.random.default_rng(seed_seq)
-    batch = random_batch(spec, n, rng, gap_us=gap_us)
+    batch = random_batch(plan, n, rng, gap_us=gap_us)
     rx = apply_channel(batch.train, channel, rng, burst_starts_us=batch.starts_us)
-    decoded = (decoder or _reference_decoder)(spec, rx)
+    decoded = (decoder or reference_decoder)(plan.spec, rx)
     half = batch.gap_us / 2
     bounds = np.append(batch.starts_us - half, batch.ends_us[-1] + half)
     bounds = channel_time_map_us(bounds, channel, batch.starts_us)
@@ -184,6 +189,11 @@ def chunk_plan(n_frames: int, chunk_frames: int) -> list[int]:
     return [chunk_frames] * full + ([rest] if rest else [])
 
 
+def _ignore_interrupt() -> None:
+    """Pool workers leave Ctrl-C to the parent, which stops the run and reports."""
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+
+
 @contextmanager
 def pool_for(executor: Executor | None, workers: int) -> Iterator[Executor | None]:
     """Yield ``executor``, else a process pool of ``workers`` (shut down afterwards) when
@@ -191,7 +201,7 @@ def pool_for(executor: Executor | None, workers: int) -> Iterator[Executor | Non
     if executor is not None or workers <= 1:
         yield executor
         return
-    pool = ProcessPoolExecutor(max_workers=workers)
+    pool = ProcessPoolExecutor(max_workers=workers, initializer=_ignore_interrupt)
     try:
         yield pool
     finally:
@@ -201,18 +211,48 @@ def pool_for(executor: Executor | None, workers: int) -> Iterator[Executor | Non
 def map_unordered(
     fn: Callable[..., T], arg_tuples: Sequence[tuple], pool: Executor | None
 ) -> Iterator[tuple[int, T]]:
-    """Yield (index, fn(*args)) for every argument tuple, in completion order."""
+    """Yield (index, fn(*args)) for every argument tuple, in completion order.
+
+    With a pool, Ctrl-C is held back while futures are submitted and waited on and raised
+    as KeyboardInterrupt between completions: raised inside ``concurrent.futures`` it can
+    leave a future's lock held, and the pool's shutdown then waits forever.
+    """
     if pool is None:
         for k, a in enumerate(arg_tuples):
             yield k, fn(*a)
         return
-    futures = {pool.submit(fn, *a): k for k, a in enumerate(arg_tuples)}
-    for fut in as_completed(futures):
-        yield futures[fut], fut.result()
+    with _interrupt_as_flag() as stop:
+        futures = {}
+        for k, a in enumerate(arg_tuples):
+            if stop.is_set():
+                break
+            futures[pool.submit(fn, *a)] = k
+        pending = set(futures)
+        while pending and not stop.is_set():
+            done, pending = wait(pending, timeout=0.2, return_when=FIRST_COMPLETED)
+            for fut in done:
+                yield futures[fut], fut.result()
+    if stop.is_set():
+        raise KeyboardInterrupt
+
+
+@contextmanager
+def _interrupt_as_flag() -> Iterator[threading.Event]:
+    """Yield an Event that SIGINT sets instead of raising (main thread only; elsewhere
+    signals are not delivered to the thread anyway)."""
+    stop = threading.Event()
+    if threading.current_thread() is not threading.main_thread():
+        yield stop
+        return
+    previous = signal.signal(signal.SIGINT, lambda *_: stop.set())
+    try:
+        yield stop
+    finally:
+        signal.signal(signal.SIGINT, previous)
 
 
 def run_stress(
-    spec: FrameSpec,
+    spec: FrameSpec | FramePlan,
     channel: ChannelSpec,
     n_frames: int,
     *,
@@ -239,17 +279,44 @@ def run_stress(
     require(channel, ChannelSpec, "channel", "e.g. ookframe.get_preset('ideal')")
     require_int(n_frames, "n_frames")
     t0 = time.perf_counter()
+    if isinstance(spec, FramePlan):
+        spec = spec.spec  # chunks get the spec (small to send) and compile it once each
     chunk_frames = min(chunk_frames, max(1, CHUNK_BITS // (spec.max_frame_bits * spec.repeats)))
-    plan = chunk_plan(n_frames, chunk_frames)
-    seqs = np.random.SeedSequence(seed).spawn(len(plan))
-    args = [(spec, channel, n, q, gap_us, decoder) for n, q in zip(plan, seqs, strict=True)]
     c = Counts()
-    with pool_for(executor, workers) as pool:
-        for _, counts in map_unordered(run_chunk, args, pool):
-            c = c + counts  # integer sums: the order of completion does not matter
-            if progress is not None:
-                progress(counts.frames)
+    try:
+        sizes = chunk_plan(n_frames, chunk_frames)
+        seqs = np.random.SeedSequence(seed).spawn(len(sizes))
+        args = [(spec, channel, n, q, gap_us, decoder) for n, q in zip(sizes, seqs, strict=True)]
+        with pool_for(executor, workers) as pool:
+            for _, counts in map_unordered(run_chunk, args, pool):
+                c = c + counts  # integer sums: the order of completion does not matter
+                if progress is not None:
+                    progress(counts.frames)
+    except KeyboardInterrupt:
+        raise StressInterrupted(_result(spec, channel, seed, c, chunk_frames, t0,
+                                        workers if executor is None else 0)) from None
+    return _result(spec, channel, seed, c, chunk_frames, t0, workers if executor is None else 0)
+
+
+class StressInterrupted(KeyboardInterrupt):
+    """Ctrl-C during ``run_stress``; ``partial`` holds the chunks counted until then."""
+
+    def __init__(self, partial: StressResult) -> None:
+        super().__init__("stress run interrupted")
+        self.partial = partial
+
+
+def _result(spec: FrameSpec, channel: ChannelSpec, seed: int, c: Counts, chunk_frames: int,
+            t0: float, workers: int) -> StressResult:
+    """The StressResult of the counts ``c`` (PER from integer counts: exact to the float)."""
     elapsed = time.perf_counter() - t0
+    return stress_result(spec, channel, seed, c, chunk_frames, elapsed, workers)
+
+
+def stress_result(spec: FrameSpec, channel: ChannelSpec, seed: int, c: Counts,
+                  chunk_frames: int, elapsed_s: float, workers: int) -> StressResult:
+    """Return the StressResult of a run's summed chunk tallies ``c``."""
+    elapsed = elapsed_s
     n_copies = c.frames * spec.repeats
     return StressResult(
         spec_name=spec.name,
@@ -257,7 +324,7 @@ def run_stress(
         seed=seed,
         frames=c.frames,
         ok=c.ok,
-        per=(1.0 - c.ok / c.frames) if c.frames else 0.0,
+        per=(c.frames - c.ok) / c.frames if c.frames else 0.0,
         per_ci95=clopper_pearson(c.frames - c.ok, c.frames),
         lost_sync=c.lost_sync,
         bad_check=c.bad_check,
@@ -271,5 +338,5 @@ def run_stress(
         chunk_frames=chunk_frames,
         elapsed_s=elapsed,
         frames_per_s=c.frames / elapsed if elapsed > 0 else float("inf"),
-        workers=workers if executor is None else 0,
+        workers=workers,
     )

@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-from scipy.stats import beta, chi2
-
 
 def clopper_pearson(k: int, n: int, confidence: float = 0.95) -> tuple[float, float]:
     """Return the exact (Clopper & Pearson 1934, Biometrika 26(4)) two-sided interval
@@ -18,6 +16,8 @@ def clopper_pearson(k: int, n: int, confidence: float = 0.95) -> tuple[float, fl
         raise ValueError(f"confidence must be in (0, 1), got {confidence}")
     if n == 0:
         return (0.0, 1.0)
+    from scipy.stats import beta  # slow import: only when an interval is computed
+
     alpha = 1.0 - confidence
     low = 0.0 if k == 0 else float(beta.ppf(alpha / 2, k, n - k + 1))
     high = 1.0 if k == n else float(beta.ppf(1 - alpha / 2, k + 1, n - k))
@@ -29,6 +29,8 @@ def poisson_ci(k: int, confidence: float = 0.95) -> tuple[float, float]:
     Poisson count after observing ``k`` events: chi-square quantiles / 2."""
     if k < 0:
         raise ValueError(f"need k >= 0, got {k}")
+    from scipy.stats import chi2  # slow import: only when an interval is computed
+
     alpha = 1.0 - confidence
     low = 0.0 if k == 0 else float(chi2.ppf(alpha / 2, 2 * k) / 2)
     high = float(chi2.ppf(1 - alpha / 2, 2 * k + 2) / 2)

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import time
 from collections.abc import Callable, Sequence
 from concurrent.futures import Executor
 from dataclasses import dataclass
@@ -10,8 +11,19 @@ import numpy as np
 
 from ..channel import ChannelSpec, impairment_names
 from ..errors import ValueRangeError
+from ..plan import FramePlan, spec_of
 from ..spec.model import FrameSpec
-from .runner import DEFAULT_CHUNK_FRAMES, StressResult, pool_for, run_stress
+from .runner import (
+    DEFAULT_CHUNK_FRAMES,
+    Counts,
+    StressResult,
+    chunk_plan,
+    map_unordered,
+    pool_for,
+    run_chunk,
+    run_stress,
+    stress_result,
+)
 
 #: most grid points of one sweep (each point is a full stress run)
 MAX_POINTS = 200
@@ -21,13 +33,13 @@ MAX_POINTS = 200
 GLITCH_WIDTH_UNITS = 0.5
 
 
-def channel_at(spec: FrameSpec, channel: ChannelSpec, name: str, value: float) -> ChannelSpec:
+def channel_at(spec: FrameSpec | FramePlan, channel: ChannelSpec, name: str, value: float) -> ChannelSpec:
     """Return ``channel`` with impairment ``name`` set to ``value``; varying
     ``glitch_rate_per_ms`` on a channel without ``glitch_width_us`` also sets the width to
     ``GLITCH_WIDTH_UNITS`` of the spec's unit."""
     changes = {name: float(value)}
     if name == "glitch_rate_per_ms" and value > 0 and channel.glitch_width_us <= 0:
-        changes["glitch_width_us"] = GLITCH_WIDTH_UNITS * spec.unit_us
+        changes["glitch_width_us"] = GLITCH_WIDTH_UNITS * spec_of(spec).unit_us
     return channel.with_(**changes)
 
 
@@ -88,7 +100,7 @@ class SweepResult:
 
 
 def run_sweep(
-    specs: Sequence[FrameSpec],
+    specs: Sequence[FrameSpec | FramePlan],
     channel: ChannelSpec,
     parameter: str,
     values: Sequence[float],
@@ -102,22 +114,59 @@ def run_sweep(
 ) -> SweepResult:
     """Return PER of every spec at every value of ``parameter`` (same seed at each point,
     so curves are smooth: common random numbers; channel per point by :func:`channel_at`).
-    Parallel as ``run_stress``."""
+    Parallel as ``run_stress``; with a pool or executor the chunks of all points are
+    submitted together, so a cluster works on every point at once."""
     if parameter not in impairment_names():
         raise ValueRangeError(
             f"unknown impairment {parameter!r}; allowed: {', '.join(impairment_names())}"
         )
+    specs = [spec_of(s) for s in specs]
     with pool_for(executor, workers) as pool:
-        results = tuple(
-            tuple(
-                run_stress(spec, channel_at(spec, channel, parameter, v), n_frames, seed=seed,
-                           executor=pool, chunk_frames=chunk_frames, progress=progress)
-                for v in values
+        if pool is None:
+            results = tuple(
+                tuple(
+                    run_stress(spec, channel_at(spec, channel, parameter, v), n_frames,
+                               seed=seed, chunk_frames=chunk_frames, progress=progress)
+                    for v in values
+                )
+                for spec in specs
             )
-            for spec in specs
-        )
+        else:
+            results = _all_points_at_once(specs, channel, parameter, values, n_frames, seed,
+                                          pool, chunk_frames, progress)
     return SweepResult(parameter, tuple(float(v) for v in values),
                        tuple(s.name for s in specs), channel, results)
+
+
+def _all_points_at_once(
+    specs: Sequence[FrameSpec], channel: ChannelSpec, parameter: str, values: Sequence[float],
+    n_frames: int, seed: int, pool: Executor, chunk_frames: int,
+    progress: Callable[[int], None] | None,
+) -> tuple[tuple[StressResult, ...], ...]:
+    """Submit the chunks of every point together (a cluster works on all points at once);
+    each point's chunks and seeds are exactly those ``run_stress`` uses, so the results are
+    the same. elapsed_s of a point: from the start to its last chunk."""
+    t0 = time.perf_counter()
+    plan = chunk_plan(n_frames, chunk_frames)
+    points = [(s, channel_at(s, channel, parameter, v)) for s in specs for v in values]
+    args, owner = [], []
+    for k, (spec, ch) in enumerate(points):
+        seqs = np.random.SeedSequence(seed).spawn(len(plan))
+        for n, q in zip(plan, seqs, strict=True):
+            args.append((spec, ch, n, q, None, None))
+            owner.append(k)
+    sums = [Counts() for _ in points]
+    done_s = [0.0] * len(points)
+    for i, counts in map_unordered(run_chunk, args, pool):
+        k = owner[i]
+        sums[k] = sums[k] + counts  # integer sums: the order of completion does not matter
+        done_s[k] = time.perf_counter() - t0
+        if progress is not None:
+            progress(counts.frames)
+    flat = [stress_result(spec, ch, seed, sums[k], chunk_frames, done_s[k], 0)
+            for k, (spec, ch) in enumerate(points)]
+    n_v = len(values)
+    return tuple(tuple(flat[s * n_v:(s + 1) * n_v]) for s in range(len(specs)))
 
 
 def plot_sweep(result: SweepResult, path: str) -> None:

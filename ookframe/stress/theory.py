@@ -5,9 +5,8 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from scipy.stats import norm
 
-from ..linecodes import get_line_code
+from ..plan import FramePlan, as_plan, spec_of
 from ..spec.model import FrameSpec
 
 
@@ -20,6 +19,8 @@ def width_misread_prob(sigma_us: float, unit_us: float, margin_units: float = 0.
     """
     if sigma_us <= 0:
         return 0.0
+    from scipy.stats import norm  # slow import: only when the figure is computed
+
     return float(2.0 * norm.sf(margin_units * unit_us / (math.sqrt(2.0) * sigma_us)))
 
 
@@ -38,6 +39,8 @@ def widths_error_prob(
     """
     if n_widths <= 0 or sigma_us <= 0:
         return 0.0
+    from scipy.stats import norm  # slow import: only when the figure is computed
+
     h = margin_units * unit_us
     x = np.linspace(-10 * sigma_us, 10 * sigma_us, grid_points)
     dx = x[1] - x[0]
@@ -50,20 +53,23 @@ def widths_error_prob(
     return float(np.clip(1.0 - total, 0.0, 1.0))
 
 
-def bit_rate_bps(spec: FrameSpec) -> float:
+def bit_rate_bps(spec: FrameSpec | FramePlan) -> float:
     """Return the data bit rate (bit/s) of ``spec``: 1e6 / (unit_us * chips per bit)."""
-    return 1e6 / (spec.unit_us * get_line_code(spec.line_code).units_per_bit)
+    plan = as_plan(spec)
+    return 1e6 / (plan.unit_us * plan.line_code.units_per_bit)
 
 
-def sync_hit_prob(spec: FrameSpec) -> float:
+def sync_hit_prob(spec: FrameSpec | FramePlan) -> float:
     """Return the probability that ``length_bits`` random bits match the sync word with at
     most ``max_errors`` differences: Σ_{i<=k} C(L, i) / 2^L."""
-    n, k = spec.sync.length_bits, spec.sync.max_errors
+    sync = spec_of(spec).sync
+    n, k = sync.length_bits, sync.max_errors
     return sum(math.comb(n, i) for i in range(k + 1)) / 2.0**n
 
 
-def expected_false_frames_per_hour(spec: FrameSpec) -> tuple[float, float]:
+def expected_false_frames_per_hour(spec: FrameSpec | FramePlan) -> tuple[float, float]:
     """Return (sync hits, frames passing the check) per hour expected from random bits at
     the spec's bit rate: one sync test per bit, a hit passing the check with 2^-width."""
-    hits = bit_rate_bps(spec) * 3600.0 * sync_hit_prob(spec)
-    return hits, hits * 2.0 ** -spec.check.width_bits
+    plan = as_plan(spec)
+    hits = bit_rate_bps(plan) * 3600.0 * sync_hit_prob(plan)
+    return hits, hits * 2.0 ** -plan.n_check_bits

@@ -8,9 +8,10 @@ from dataclasses import dataclass
 import numpy as np
 
 from .. import __version__
-from .. import frame as _f
 from ..channel import ChannelSpec, apply_channel
 from ..errors import CodegenError
+from ..frame import Values, encode, random_values, raw_values
+from ..plan import FramePlan, as_plan, spec_of
 from ..pulses import PulseTrain, merge_runs
 from ..spec.model import FrameSpec
 
@@ -28,14 +29,14 @@ class Vector:
 
 
 def transmit(
-    spec: FrameSpec, values: _f.Values, channel: ChannelSpec, rng: np.random.Generator,
+    spec: FrameSpec | FramePlan, values: Values, channel: ChannelSpec, rng: np.random.Generator,
     *, idle_us: float | None = None,
 ) -> PulseTrain:
     """Return what a receiver outputs for one transmission of ``values``: ``idle_us`` of
     space (default ``spec.gap_us``), the transmission, ``idle_us`` of space, through
     ``channel``."""
-    idle = float(spec.gap_us if idle_us is None else idle_us)
-    tx = _f.encode(spec, values)
+    idle = float(spec_of(spec).gap_us if idle_us is None else idle_us)
+    tx = encode(spec, values)
     space = np.zeros(1, np.uint8)
     sent = merge_runs(np.concatenate((space, tx.levels, space)),
                       np.concatenate(([idle], tx.durations_us, [idle])))
@@ -43,25 +44,28 @@ def transmit(
 
 
 def make_vectors(
-    spec: FrameSpec, channel: ChannelSpec, count: int, *, seed: int = 0,
+    spec: FrameSpec | FramePlan, channel: ChannelSpec, count: int, *, seed: int = 0,
     idle_us: float | None = None,
 ) -> list[Vector]:
     """Return ``count`` random transmissions of ``spec`` through ``channel``, each framed
     by ``idle_us`` of space (default ``spec.gap_us``) on both sides."""
     if count < 1:
         raise ValueError("count must be >= 1")
+    plan = as_plan(spec)
     rng = np.random.default_rng(np.random.SeedSequence(seed))
     out = []
     for _ in range(count):
-        values = _f.random_values(spec, rng)
-        rx = transmit(spec, values, channel, rng, idle_us=idle_us)
-        out.append(Vector(values, _f.raw_values(spec, values), rx))
+        values = random_values(plan, rng)
+        rx = transmit(plan, values, channel, rng, idle_us=idle_us)
+        out.append(Vector(values, raw_values(plan, values), rx))
     return out
 
 
-def vectors_to_dict(spec: FrameSpec, channel: ChannelSpec, seed: int,
+def vectors_to_dict(spec: FrameSpec | FramePlan, channel: ChannelSpec, seed: int,
                     vectors: list[Vector]) -> dict[str, object]:
     """Return the vectors as a JSON-ready dict (durations in µs, levels, expected values)."""
+    spec = spec_of(spec)
+
     def plain(v: object) -> object:
         return v.hex() if isinstance(v, bytes) else v
 
@@ -97,13 +101,14 @@ def _rows(values: list[int], per_row: int = 12) -> list[str]:
     return [", ".join(values[i:i + per_row]) for i in range(0, len(values), per_row)]
 
 
-def render_vectors_c(spec: FrameSpec, channel: ChannelSpec, seed: int,
+def render_vectors_c(spec: FrameSpec | FramePlan, channel: ChannelSpec, seed: int,
                      vectors: list[Vector]) -> str:
     """Return a C99 header with the vectors: durations (µs, rounded), levels, per-vector
     offsets and lengths, and one array of expected raw values per field."""
     from ..codegen.model import check_names, int_literal, spec_hash
     from ..codegen.render import environment
 
+    spec = spec_of(spec)
     check_names(spec)
     durations = np.concatenate([np.rint(v.train.durations_us) for v in vectors])
     durations = np.maximum(durations, 1).astype(np.int64)

@@ -98,6 +98,20 @@
 #define PROBE_FIELD_TEMP_C_MASK 0xFFFu
 #define PROBE_FIELD_TEMP_C_MIN (-2048)
 #define PROBE_FIELD_TEMP_C_MAX 2047
+/* temp_c: physical = raw * 0.1 + 0.0; integer helpers with the
+ * physical value in 1/10 unit (1 decimal place(s)), e.g. raw 1023 is 1023/10 unit: */
+#define PROBE_FIELD_TEMP_C_FIXED_DIV INT64_C(10) /* fixed-point units per 1 unit */
+#define PROBE_FIELD_TEMP_C_SCALE_FIXED INT64_C(1) /* scale in 1/FIXED_DIV units */
+#define PROBE_FIELD_TEMP_C_OFFSET_FIXED INT64_C(0) /* offset in 1/FIXED_DIV units */
+#define PROBE_FIELD_TEMP_C_SCALE_NUM INT64_C(1) /* scale = NUM / DEN exactly */
+#define PROBE_FIELD_TEMP_C_SCALE_DEN INT64_C(10)
+/* int64_t fixed-point physical value of a raw value (exact) */
+#define PROBE_FIELD_TEMP_C_FIXED_FROM_RAW(raw) \
+    ((int64_t)(raw) * PROBE_FIELD_TEMP_C_SCALE_FIXED + PROBE_FIELD_TEMP_C_OFFSET_FIXED)
+/* int64_t raw value nearest to a fixed-point physical value (ties to even); compare with
+ * _MIN/_MAX before storing it */
+#define PROBE_FIELD_TEMP_C_RAW_FROM_FIXED(fixed) \
+    probe_div_round((int64_t)(fixed) - PROBE_FIELD_TEMP_C_OFFSET_FIXED, PROBE_FIELD_TEMP_C_SCALE_FIXED)
 #define PROBE_FIELD_COUNT_OFFSET_BITS 48u
 #define PROBE_FIELD_COUNT_WIDTH_BITS 4u
 #define PROBE_FIELD_COUNT_MASK 0xFu
@@ -162,6 +176,10 @@ extern "C" {
  *  is too small or a field value does not fit its width. */
 size_t probe_pack(const struct probe_fields *f, uint8_t *out, size_t out_cap);
 
+/** Returns n / d rounded to the nearest integer, ties to even (d != 0; |n|, |d| < 2^62).
+ *  Used by the _RAW_FROM_FIXED macros. */
+int64_t probe_div_round(int64_t n, int64_t d);
+
 /** Starts a transmission of the nbits bits at bits (as written by probe_pack). */
 void probe_tx_init(struct probe_tx *tx, const uint8_t *bits, size_t nbits);
 
@@ -208,7 +226,7 @@ typedef char probe_assert_repeats[(PROBE_REPEATS >= 1u && PROBE_REPEATS <= 255u)
 #endif
 
 /* ---- tables -------------------------------------------------------------------------- */
-/* width=16 poly=0x1021 init=0x0000 refin=true refout=true xorout=0x0000 check=0x2189 name='CRC-16/KERMIT': 256-entry table, reflected (right-shifting) */
+/* width=16 poly=0x1021 init=0x0000 refin=true refout=true xorout=0x0000 check=0x2189 residue=0x0000 name='CRC-16/KERMIT': 256-entry table, reflected (right-shifting) */
 static const uint16_t PROBE_TABLE probe_crc_table[256] = {
     0x0000u, 0x1189u, 0x2312u, 0x329Bu, 0x4624u, 0x57ADu, 0x6536u, 0x74BFu,
     0x8C48u, 0x9DC1u, 0xAF5Au, 0xBED3u, 0xCA6Cu, 0xDBE5u, 0xE97Eu, 0xF8F7u,
@@ -417,6 +435,27 @@ size_t probe_pack(const struct probe_fields *f, uint8_t *out, size_t out_cap)
         probe_put_msb(&w, (uint32_t)(c), 8u);
     }
     return nbits;
+}
+
+/* ---- fixed-point values -------------------------------------------------------------- */
+int64_t probe_div_round(int64_t n, int64_t d)
+{
+    int64_t q;
+    int64_t r;
+    if (d < 0) {
+        n = -n;
+        d = -d;
+    }
+    q = n / d; /* C99: truncates toward zero */
+    r = n % d;
+    if (r < 0) { /* floor */
+        r += d;
+        q -= 1;
+    }
+    if (2 * r > d || (2 * r == d && (q % 2) != 0)) {
+        q += 1;
+    }
+    return q;
 }
 
 /* ---- transmitter --------------------------------------------------------------------- */

@@ -1,11 +1,12 @@
-"""Framing of every candidate window at once, for specs of one fixed frame layout.
+"""Framing of every candidate window at once: sync search with the bit-error allowance,
+unstuffing, field parsing and check, frame start / end times, the unit refit and the
+timing statistics, as array operations over all windows.
 
-Same decisions as the per-window framer (``framer._frame_from``), as array operations
-over all windows: sync search with the bit-error allowance, field parsing and check,
-frame start / end times, the unit refit and the timing statistics. It applies to block
-codes (fixed chips per block) without bit stuffing and to frames of one fixed layout of
-integer fields (:func:`bulk_body_bits`); every other spec goes through the per-window
-framer.
+Every layout takes this one path. Frames of one fixed layout of integer fields, sent by a
+block code without stuffing (:func:`fixed_body_bits`), are parsed as one array; for the
+others (bit stuffing, a length field with bytes, codes of data-dependent length such as
+pulse distance) the few windows whose sync was found are unstuffed and parsed one by
+one, and everything else stays array-wide.
 """
 
 from __future__ import annotations
@@ -14,15 +15,16 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..frame import ParsedFrames, fixed_body_bits, parse_frames
+from ..frame import ParsedFrame, fixed_body_bits, parse_frames
 from ..linecodes import DecodedBits
 from ..spec.model import FrameSpec
 from .head import HeadModel
 from .windows import WindowRuns, Windows, ragged_index
 
 
-def bulk_body_bits(spec: FrameSpec, hm: HeadModel) -> int | None:
-    """Return the fields + check bits of every frame when the bulk framer applies, else None."""
+def array_body_bits(spec: FrameSpec, hm: HeadModel) -> int | None:
+    """Return the fields + check bits of every frame when they are parsed as one array
+    (one fixed layout, a block code, no stuffing), else None."""
     lc = hm.line_code
     n_body = fixed_body_bits(spec)
     if n_body is None or lc.chips_per_block is None or lc.max_stuffed_bits(n_body):
@@ -31,17 +33,16 @@ def bulk_body_bits(spec: FrameSpec, hm: HeadModel) -> int | None:
 
 
 @dataclass(frozen=True, eq=False)
-class BulkFrames:
+class WindowFrames:
     """Per candidate window: whether a frame was decoded from it and its figures.
 
-    Arrays have one entry per window (meaningless where ``found`` is False); ``row`` is the
-    window's row in ``parsed`` (-1 where nothing was found). Figures as in ``DecodedFrame``;
-    ``last`` is the train index of the frame's last measured run.
+    Arrays have one entry per window (meaningless where ``found`` is False); ``parsed``
+    holds the fields of the found windows, in window order. Figures as in
+    ``DecodedFrame``; ``last`` is the train index of the frame's last measured run.
     """
 
     found: np.ndarray
-    row: np.ndarray
-    parsed: ParsedFrames
+    parsed: list[ParsedFrame]
     last: np.ndarray
     start_us: np.ndarray
     end_us: np.ndarray
@@ -88,9 +89,11 @@ def _find_sync(spec: FrameSpec, hm: HeadModel, st: _Streams
                ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """Return per window (found, phase, sync offset, sync errors) of the best sync hit.
 
-    As ``sync.best_sync`` per candidate, then the best candidate as in the per-window
-    framer: fewest lead + sync errors, then fewest sync errors, then the offset closest to
-    the expected one (the lowest offset of a tie), then the earliest phase.
+    Offsets within ``sync_reach_bits`` of the expected one are tried in each candidate; a hit
+    has at most ``max_errors`` errors in the sync word (an invalid bit is an error). The best
+    hit has the fewest lead + sync errors (lead: the preamble bits just before the sync),
+    then the fewest sync errors, then the offset closest to the expected one (the lowest
+    offset of a tie), then the earliest phase.
     """
     sync, lead = hm.sync_bits, hm.lead_bits
     n, nl, e, reach = sync.size, lead.size, hm.sync_bit, hm.sync_reach_bits
@@ -146,9 +149,9 @@ def _segment_sums(values: np.ndarray, lengths: np.ndarray) -> np.ndarray:
 
 
 def _unit_fit(d: np.ndarray, units: np.ndarray, lengths: np.ndarray) -> np.ndarray:
-    """Return per segment the least-squares unit of ``classify.fit_unit`` (NaN or inf
-    for segments of fewer than 2 runs). Chip counts stay integers (their sums are exact
-    either way)."""
+    """Return per segment the least-squares unit: the slope of edge time over chip count,
+    every edge weighing the same (NaN or inf for segments of fewer than 2 runs). Chip
+    counts stay integers (their sums are exact either way)."""
     start = _starts(lengths)
     t = np.cumsum(d)
     t -= np.repeat(np.concatenate(([0.0], t))[start], lengths)
@@ -161,41 +164,90 @@ def _unit_fit(d: np.ndarray, units: np.ndarray, lengths: np.ndarray) -> np.ndarr
         return (npts * stc - st * sc) / (npts * scc - sc * sc)
 
 
-def bulk_frames(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,
-                cands: list[DecodedBits], dur: np.ndarray, t0: np.ndarray) -> BulkFrames:
-    """Return the frame decoded from every window (``bulk_body_bits`` must apply).
+def _bodies(spec: FrameSpec, hm: HeadModel, st: _Streams, lo: np.ndarray, hi: np.ndarray,
+            body_at: np.ndarray) -> tuple[np.ndarray, list[ParsedFrame], np.ndarray, np.ndarray]:
+    """Return (parsed, their fields, on-air body bits, code errors) for windows whose body
+    starts at stream index ``lo + body_at`` (their streams end at ``hi``)."""
+    lc = hm.line_code
+    n_fixed = array_body_bits(spec, hm)
+    if n_fixed is not None:
+        ok = hi - lo - body_at >= n_fixed
+        at = lo[ok, None] + body_at[ok, None] + np.arange(n_fixed)
+        parsed = parse_frames(spec, st.bits[at]).frames()
+        code = np.zeros(lo.size, np.int64)
+        code[ok] = (~st.valid[at]).sum(axis=1)
+        return ok, parsed, np.full(lo.size, n_fixed, np.int64), code
+    ok = np.zeros(lo.size, bool)
+    parsed: list[ParsedFrame] = []
+    n_air = np.zeros(lo.size, np.int64)
+    code = np.zeros(lo.size, np.int64)
+    starts, stops = (lo + body_at).tolist(), hi.tolist()
+    bodies = [lc.unstuff(st.bits[a:b]) for a, b in zip(starts, stops, strict=True)]
+    rows = parse_frames(spec, bodies).frames() if bodies else []
+    for i, p in enumerate(rows):
+        if p is None:
+            continue
+        n = lc.stuff(bodies[i][:p.n_bits]).size
+        if n > stops[i] - starts[i]:
+            continue  # the stuffed frame runs past the window: cut off
+        ok[i] = True
+        parsed.append(p)
+        n_air[i] = n
+        code[i] = int((~st.valid[starts[i]:starts[i] + n]).sum())
+    return ok, parsed, n_air, code
+
+
+def _frame_chips(hm: HeadModel, st: _Streams, lo: np.ndarray, body_at: np.ndarray,
+                 n_air: np.ndarray) -> np.ndarray:
+    """Return the chips of every frame (head + on-air body): fixed per block for block
+    codes, else the code's own count for the bits received."""
+    lc = hm.line_code
+    n_bits = hm.head_bits.size + n_air
+    if lc.chips_per_block is not None:
+        return n_bits // lc.bits_per_block * lc.chips_per_block
+    return np.array([lc.encode(np.concatenate((hm.head_bits, st.bits[a:a + n]))).size
+                     for a, n in zip((lo + body_at).tolist(), n_air.tolist(), strict=True)],
+                    dtype=np.int64)
+
+
+def _start_chips(hm: HeadModel, st: _Streams, runs: WindowRuns, lo: np.ndarray,
+                 pos: np.ndarray, base: np.ndarray) -> np.ndarray:
+    """Return per window the chip offset (from the window's first run) of the frame start:
+    the sync's first chip less the head's chips before it."""
+    lc = hm.line_code
+    if lc.chips_per_block is None:  # every bit starts on a run of its own
+        return runs.chip0[st.run[lo + pos]] - base - hm.sync_chip
+    cpb, bpb = int(lc.chips_per_block), lc.bits_per_block
+    # block b of a candidate sits at phase + b * cpb; a block's first chip lies in its run
+    i = ragged_index(lo, pos + 1)
+    v = runs.chip0[st.run[i]] - (i - np.repeat(lo, pos + 1)) // bpb * cpb
+    return np.maximum.reduceat(v, _starts(pos + 1)) - base + pos // bpb * cpb - hm.sync_chip
+
+
+def frame_windows(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,
+                  cands: list[DecodedBits], dur: np.ndarray, t0: np.ndarray) -> WindowFrames:
+    """Return the frame decoded from every window (any layout).
 
     ``cands`` are the line-code candidates of ``runs`` (one ``decode`` call), ``dur`` and
     ``t0`` the durations and start times of the (glitch-filtered) train.
     """
-    lc = hm.line_code
-    n_body = bulk_body_bits(spec, hm)
-    if n_body is None:
-        raise ValueError(f"spec {spec.name!r} has no fixed layout for the bulk framer")
-    cpb, bpb = int(lc.chips_per_block), lc.bits_per_block  # type: ignore[arg-type]
     st = _streams(runs, cands)
     n_win = ws.first.size
     found, phase, pos, sync_err = _find_sync(spec, hm, st)
     win = np.arange(n_win)
-    lo = st.lo[phase, win]
-    body_at = pos + hm.sync_bits.size
-    found &= st.hi[phase, win] - lo - body_at >= n_body
-    f = np.flatnonzero(found)
-    lo, pos, body_at = lo[f], pos[f], body_at[f]
-    at = lo[:, None] + body_at[:, None] + np.arange(n_body)
-    parsed = parse_frames(spec, st.bits[at])
-    code_errors = (~st.valid[at]).sum(axis=1)
-
-    # chip offset of the frame start: block b of a candidate sits at phase + b * cpb
-    i = ragged_index(lo, pos + 1)
-    v = runs.chip0[st.run[i]] - (i - np.repeat(lo, pos + 1)) // bpb * cpb
+    lo_all, hi_all = st.lo[phase, win], st.hi[phase, win]
+    body_at_all = pos + hm.sync_bits.size
+    f = np.flatnonzero(found & (hi_all - lo_all - body_at_all >= 0))
+    ok, parsed, n_air, code_errors = _bodies(spec, hm, st, lo_all[f], hi_all[f],
+                                             body_at_all[f])
+    f, n_air, code_errors = f[ok], n_air[ok], code_errors[ok]
+    found = np.zeros(n_win, bool)
+    found[f] = True
+    lo, pos, body_at = lo_all[f], pos[f], body_at_all[f]
     rs, nr = runs.run_start[f], runs.run_stop[f] - runs.run_start[f]
     base = runs.chip0[rs]
-    c_start = np.maximum.reduceat(v, _starts(pos + 1)) - base + pos // bpb * cpb \
-        - hm.sync_chip
-    n_chips = (hm.head_bits.size + n_body) // bpb * cpb
-    c_end = c_start + n_chips
-
+    c_start = _start_chips(hm, st, runs, lo, pos, base)
+    c_end = c_start + _frame_chips(hm, st, lo, body_at, n_air)
     n_pre = runs.n_prefix
     pre_chips = int(hm.prefix_units.sum())
     first, off, unit0 = ws.first[f], ws.offset[f], ws.start_unit_us[f]
@@ -249,10 +301,8 @@ def bulk_frames(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,
         out[f] = values
         return out
 
-    row = np.full(n_win, -1, np.int64)
-    row[f] = np.arange(f.size)
-    return BulkFrames(
-        found=found, row=row, parsed=parsed,
+    return WindowFrames(
+        found=found, parsed=parsed,
         last=full(first + last - n_pre, np.int64),
         start_us=full(start_us, np.float64), end_us=full(end_us, np.float64),
         unit_us=full(unit, np.float64), worst_deviation=full(worst, np.float64),

@@ -22,9 +22,9 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from ..checks import CATALOGUE
 from ..errors import ValueRangeError
 from ..spec.model import CheckSpec, FrameSpec
+from .catalogue import CATALOGUE
 from .crc_strength import crc_strength, undetected_probability
 
 #: bit-error rate at which the design report states the undetected-frame probability
