@@ -9,41 +9,18 @@ from __future__ import annotations
 
 import os
 from collections.abc import Mapping
-from typing import Any, TypeVar
+from typing import Any
 
 import numpy as np
 
+from .errors import require
 from .pulses import PulseTrain
 from .spec.model import FrameSpec
 
-T = TypeVar("T")
-
 #: how to get the right type, for the common mistakes
-_HINTS: dict[type, str] = {
-    FrameSpec: "load one with ookframe.load_spec(path) or ookframe.spec_from_dict(doc)",
-    PulseTrain: "build one with ookframe.PulseTrain(levels, durations_us) or "
-    "ookframe.read_capture(path)",
-    np.random.Generator: "make one with numpy.random.default_rng(seed)",
-}
-
-
-def _type_name(t: type | tuple[type, ...]) -> str:
-    """Return 'a FrameSpec', 'an int', 'a str or PathLike' (numpy integers count as int)."""
-    names = [x.__name__ for x in (t if isinstance(t, tuple) else (t,)) if x is not np.integer]
-    text = " or ".join(names)
-    return ("an " if text[0].lower() in "aeiou" else "a ") + text
-
-
-def require(value: Any, expected: type[T] | tuple[type, ...], name: str,
-            hint: str = "") -> T:
-    """Return ``value`` if it is an instance of ``expected``; else TypeError naming ``name``."""
-    allowed = expected if isinstance(expected, tuple) else (expected,)
-    if isinstance(value, allowed) and (bool in allowed or not isinstance(value, bool)):
-        return value  # type: ignore[return-value]
-    hint = hint or (_HINTS.get(expected, "") if isinstance(expected, type) else "")
-    got = "None" if value is None else type(value).__name__
-    raise TypeError(f"{name} must be {_type_name(expected)}, got {got}"
-                    + (f"; {hint}" if hint else ""))
+SPEC_HINT = "load one with ookframe.load_spec(path) or ookframe.spec_from_dict(doc)"
+TRAIN_HINT = "build one with ookframe.PulseTrain(levels, durations_us) or ookframe.read_capture(path)"
+RNG_HINT = "make one with numpy.random.default_rng(seed)"
 
 
 def require_spec(spec: Any, name: str = "spec") -> Any:
@@ -51,17 +28,17 @@ def require_spec(spec: Any, name: str = "spec") -> Any:
     ``name`` otherwise."""
     if isinstance(spec, str | os.PathLike):
         raise TypeError(f"{name} must be a FrameSpec, got the path {os.fspath(spec)[:60]!r}; "
-                        f"{_HINTS[FrameSpec]}")
+                        f"{SPEC_HINT}")
     from .plan import FramePlan  # here: the plan's own stages (line codes, checks) use this module
 
     if isinstance(spec, FramePlan):
         return spec
-    return require(spec, FrameSpec, name)
+    return require(spec, FrameSpec, name, SPEC_HINT)
 
 
 def require_train(train: Any, name: str = "train") -> PulseTrain:
     """Return ``train`` if it is a PulseTrain; TypeError naming ``name`` otherwise."""
-    return require(train, PulseTrain, name)
+    return require(train, PulseTrain, name, TRAIN_HINT)
 
 
 def require_values(values: Any, name: str = "values") -> Mapping[str, object]:
@@ -72,13 +49,13 @@ def require_values(values: Any, name: str = "values") -> Mapping[str, object]:
 
 def require_rng(rng: Any, name: str = "rng") -> np.random.Generator:
     """Return ``rng`` if it is a numpy Generator; TypeError naming ``name`` otherwise."""
-    return require(rng, np.random.Generator, name)
+    return require(rng, np.random.Generator, name, RNG_HINT)
 
 
 def require_int(value: Any, name: str, lo: int = 0) -> int:
     """Return ``value`` if it is an integer (int or numpy, not bool) >= ``lo``; TypeError or
     ValueError naming ``name``."""
-    v = require(value, (int, np.integer), name)
+    v = require(value, (int, np.integer), name, what="an int")
     if v < lo:
         raise ValueError(f"{name} must be >= {lo}, got {v}")
     return v
@@ -87,3 +64,7 @@ def require_int(value: Any, name: str, lo: int = 0) -> int:
 def require_path(path: Any, name: str = "path") -> str | os.PathLike[str]:
     """Return ``path`` if it is a str or os.PathLike; TypeError naming ``name`` otherwise."""
     return require(path, (str, os.PathLike), name)
+
+
+__all__ = ["require", "require_int", "require_path", "require_rng", "require_spec",
+           "require_train", "require_values"]

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import reprlib
+from typing import Any, TypeVar
 
 
 class OokframeError(Exception):
@@ -68,3 +69,21 @@ def excerpt(value: object) -> str:
     uses this helper.
     """
     return _SHORT.repr(value)
+
+
+T = TypeVar("T")
+
+
+def require(value: Any, expected: type[T] | tuple[type, ...], name: str, hint: str = "",
+            what: str = "") -> T:
+    """Return ``value`` if it is an instance of ``expected`` (a bool only when bool is
+    expected); else TypeError naming the parameter ``name``, what it must be (``what``, by
+    default the type names) and ``hint`` (how to get one). Public functions call it first."""
+    allowed = expected if isinstance(expected, tuple) else (expected,)
+    if isinstance(value, allowed) and (bool in allowed or not isinstance(value, bool)):
+        return value  # type: ignore[return-value]
+    if not what:
+        text = " or ".join(t.__name__ for t in allowed)
+        what = ("an " if text[0].lower() in "aeiou" else "a ") + text
+    got = "None" if value is None else type(value).__name__
+    raise TypeError(f"{name} must be {what}, got {got}" + (f"; {hint}" if hint else ""))

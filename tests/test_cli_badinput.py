@@ -431,6 +431,7 @@ def test_vectors_refuses_existing_output(capsys, tmp_path):
         (["--interval-s", "0"], "interval_s must be longer than one transmission (0.184 s)"),
         (["--interval-s", "-5"], "interval_s must be longer"),
         (["--interval-s", "nan"], "got nan"),
+        (["--interval-s", "inf"], "got inf"),
         (["--interval-s", "0.1"], "got 0.1"),
         (["--interval-s", "60", "--nodes", "0"], "nodes must be an integer >= 1, got 0"),
         (["--interval-s", "60", "--nodes", "-2"], "nodes must be an integer >= 1"),
@@ -646,7 +647,7 @@ def test_spec_size_limits_fail_fast(capsys, tmp_path, n, width, repeats, message
         t0 = time.perf_counter()
         code, _, err = run_bad(capsys, *argv)
         assert code == exitcodes.BAD_SPEC and message in err
-        assert time.perf_counter() - t0 < 10
+        assert time.perf_counter() - t0 < 20  # was over a minute before the limits
 
 
 def test_preamble_count_limit(capsys, tmp_path):

@@ -247,6 +247,7 @@ def command_lines(draw) -> list[str]:
 @fuzz_settings(30)
 @given(argv=command_lines())
 @example(argv=["emit", str(HIVE), "--timer-bits", "12"])
+@example(argv=["airtime", str(HIVE), "--interval-s", "inf"])  # found by a long run
 @example(argv=["encode", str(HIVE), "--set", "hive=1e400"])
 def test_fuzz_command_options(argv):
     with tempfile.TemporaryDirectory() as out_dir:

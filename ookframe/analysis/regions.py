@@ -341,7 +341,7 @@ def usage(airtime_us: float, interval_s: float, power_mw: float | None = None, *
     carrier > 0)."""
     if not airtime_us > 0:
         raise ValueRangeError(f"airtime_us must be > 0, got {airtime_us}")
-    if not interval_s * 1e6 > airtime_us:
+    if not (interval_s * 1e6 > airtime_us and math.isfinite(interval_s)):
         raise ValueRangeError(f"interval_s must be longer than one transmission "
                               f"({airtime_us * 1e-6:g} s), got {interval_s}")
     if power_mw is not None and not power_mw >= 0:

@@ -86,7 +86,8 @@ def write_atomic(path: str | Path, data: str | bytes, force: bool = False, *,
 
 
 def _make_folder(folder: Path) -> None:
-    """Create ``folder`` and its parents; OutputExists naming the part that is a file."""
+    """Create ``folder`` and its parents; OutputExists naming the part that is a file (an
+    existing path in the way of the output, README exit 6)."""
     for part in (folder, *folder.parents):
         if part.exists():
             if not part.is_dir():

@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import difflib
 import math
+import os
 import sys
 import tomllib
 from collections.abc import Callable, Mapping
@@ -19,8 +20,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from .._require import require_path
-from ..errors import QUOTE_CHARS, SpecError, excerpt
+from ..errors import QUOTE_CHARS, SpecError, excerpt, require
 from .model import (
     CheckSpec,
     CrcParams,
@@ -109,8 +109,8 @@ def _int(d: Mapping[str, Any], key: str, path: str, default: int | None = None, 
         return _default(p, default)
     v = d[key]
     if isinstance(v, bool) or not isinstance(v, int):
-        raise SpecError(p, f"must be an integer, got {type(v).__name__} {excerpt(v)} "
-                        "(write e.g. 3, 0x2D or 0b101, without quotes)")
+        hint = " (write it without quotes: 3, 0x2D, 0b101)" if isinstance(v, str) else ""
+        raise SpecError(p, f"must be an integer, got {type(v).__name__} {excerpt(v)}{hint}")
     if lo is not None and v < lo or hi is not None and v > hi:
         allowed = f"{lo}..{hi}" if hi is not None else f">= {lo}"
         raise SpecError(p, f"{excerpt(v)} is out of range; allowed {allowed}")
@@ -432,7 +432,7 @@ def _check_size(spec: FrameSpec) -> None:
 
 def read_spec_file(path: str | Path) -> dict[str, Any]:
     """Return the TOML document in a spec file; SpecError when unreadable or not TOML."""
-    require_path(path, "path")
+    require(path, (str, os.PathLike), "path")
     p = Path(path)
     try:
         text = p.read_text(encoding="utf-8")
