@@ -158,7 +158,7 @@ _MEMORY_PROBE = textwrap.dedent("""
         for _ in range(reps):
             fh.write(block)
     frames = sum(1 for _ in decode_stream(spec, iter_capture(path, chunk_pulses=100_000)))
-    assert frames == reps, (frames, reps)
+    assert frames == reps * spec.repeats, (frames, reps)
     print(resource.getrusage(resource.RUSAGE_SELF).ru_maxrss)
 """)
 
