@@ -68,8 +68,7 @@ def iter_capture(
     ``chunk_pulses`` pulses, so a big capture is never held whole (see
     ``ookframe.decode.decode_stream``). Joined, the pieces are :func:`read_capture`'s train
     (a run of equal levels may be split between two pieces); errors and leniency are the
-    same, an error names the line. CSV is read line by line; VCD token by token (the
-    selected signal's changes are held whole); JSON is parsed whole (one document) and
+    same, an error names the line. CSV is read line by line, VCD token by token; JSON is parsed whole (one document) and
     then yielded in pieces.
     """
     require_path(path, "path")
@@ -81,8 +80,10 @@ def iter_capture(
     if name == "csv":
         yield from csv_format.iter_read(path, chunk_pulses)
         return
-    train = vcd_format.read(path, signal=signal, xz=xz) if name == "vcd" else \
-        FORMATS[name].read(path)
+    if name == "vcd":
+        yield from vcd_format.iter_read(path, signal=signal, xz=xz, chunk_pulses=chunk_pulses)
+        return
+    train = FORMATS[name].read(path)
     for i in range(0, len(train), chunk_pulses):
         yield PulseTrain(train.levels[i:i + chunk_pulses], train.durations_us[i:i + chunk_pulses])
 
