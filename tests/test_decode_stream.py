@@ -26,7 +26,7 @@ from ookframe.errors import CaptureError
 from ookframe.pulses import PulseTrain, merge_runs
 from tests.conftest import example_spec
 
-SETTINGS = settings(max_examples=25, deadline=None,
+SETTINGS = settings(max_examples=20, deadline=None,
                     suppress_health_check=[HealthCheck.too_slow])
 
 
@@ -206,3 +206,27 @@ def test_iter_capture_vcd_x_z_repeats_and_errors_match_read(tmp_path, size):
     with pytest.raises(CaptureError) as b:
         list(iter_capture(path, chunk_pulses=size, xz="error"))
     assert str(a.value) == str(b.value)
+
+
+def test_cli_decode_in_many_pieces_prints_the_whole_train_frames(tmp_path, capsys,
+                                                                 monkeypatch):
+    """``ookframe decode --json`` on a capture read in pieces of 37 pulses gives the frames
+    of ``decode`` on the whole train (reference: whole-train ``decode``)."""
+    import json
+
+    from ookframe.cli import cmd_decode
+    from ookframe.cli.main import main
+
+    spec, _ = example_spec("hive_scale.toml")
+    train = transmissions(spec, 4, np.random.default_rng(3))
+    path = tmp_path / "cap.csv"
+    write_capture(path, train)
+    monkeypatch.setattr(cmd_decode, "CHUNK_PULSES", 37)
+    spec_path = str(__import__("pathlib").Path(__file__).parent.parent / "examples"
+                    / "hive_scale.toml")
+    assert main(["decode", spec_path, str(path), "--json"]) == 0
+    got = json.loads(capsys.readouterr().out)
+    want = cmd_decode.frame_dicts(decode(spec, read_capture(path)))
+    assert [g["payload_hex"] for g in got] == [w["payload_hex"] for w in want]
+    assert [g["start_us"] for g in got] == pytest.approx([w["start_us"] for w in want],
+                                                         rel=1e-9)
