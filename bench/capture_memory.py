@@ -3,8 +3,8 @@
 Writes (streamed, block by block) a seeded CSV of ``--pulses`` pulses (default 10^8) to a
 temporary folder: bursts of random idle-noise pulses (about ``--noise`` per transmission)
 with one transmission of the beehive-scale example (3 repeats) after each. Then decodes
-it with ``ookframe decode --json`` through the CLI in a child process and prints the
-child's peak RSS (``os.wait4``'s ru_maxrss) and pulses per second. The baseline is the
+it with ``ookframe decode --json`` through the CLI entry point (``cli.main.main``) in a
+child process and prints the child's peak RSS (``VmHWM``, Linux) and pulses per second. The baseline is the
 whole-file path (``read_capture`` + ``decode``) on a 10^6-pulse file of the same kind,
 also in a child process; the ratios are printed.
 
@@ -14,8 +14,6 @@ also in a child process; the ratios are printed.
 from __future__ import annotations
 
 import argparse
-import os
-import shutil
 import subprocess
 import sys
 import tempfile
@@ -30,13 +28,31 @@ from ookframe.spec_io import load_spec
 SPEC = Path(__file__).resolve().parent.parent / "examples" / "hive_scale.toml"
 BASELINE_PULSES = 1_000_000
 
-_WHOLE = """
+#: the peak RSS of this process alone: VmHWM of /proc/self/status (Linux proc(5)); the
+#: rusage ru_maxrss of a child also counts the parent's pages at fork time
+_PEAK = """
+def _peak_mb():
+    for line in open("/proc/self/status"):
+        if line.startswith("VmHWM:"):
+            return int(line.split()[1]) / 1024
+"""
+_WHOLE = _PEAK + """
 import sys
 from ookframe.captures import read_capture
 from ookframe.decode import decode
 from ookframe.spec_io import load_spec
 spec = load_spec(sys.argv[1])
 print(len(decode(spec, read_capture(sys.argv[2]))))
+print(_peak_mb())
+"""
+_CLI = _PEAK + """
+import contextlib, io, sys
+from ookframe.cli.main import main
+buf = io.StringIO()
+with contextlib.redirect_stdout(buf):
+    code = main(["decode", *sys.argv[1:], "--json"])
+print(buf.getvalue().count('"payload_hex"') if code == 0 else -1)
+print(_peak_mb())
 """
 
 
@@ -60,18 +76,15 @@ def write_capture_csv(path: Path, pulses: int, noise: int, seed: int) -> int:
     return written
 
 
-def run_child(cmd: list[str]) -> tuple[float, float, str]:
-    """Return (seconds, peak RSS in MB, stdout) of a child process."""
+def run_child(cmd: list[str]) -> tuple[float, float, int]:
+    """Return (seconds, peak RSS in MB, frames) of a child that prints frames and its peak."""
     t0 = time.perf_counter()
-    with subprocess.Popen(cmd, stdout=subprocess.PIPE, stderr=subprocess.PIPE) as proc:
-        out = proc.stdout.read()
-        err = proc.stderr.read()
-        _, status, usage = os.wait4(proc.pid, 0)
-        proc.returncode = os.waitstatus_to_exitcode(status)
+    proc = subprocess.run(cmd, capture_output=True, text=True)
     seconds = time.perf_counter() - t0
     if proc.returncode != 0:
-        raise SystemExit(f"{' '.join(cmd[:3])}...: exit {proc.returncode}: {err.decode()[-300:]}")
-    return seconds, usage.ru_maxrss / 1024, out.decode()
+        raise SystemExit(f"child: exit {proc.returncode}: {proc.stderr[-300:]}")
+    frames, peak = proc.stdout.split()[-2:]
+    return seconds, float(peak), int(frames)
 
 
 def main() -> None:
@@ -80,20 +93,18 @@ def main() -> None:
     ap.add_argument("--noise", type=int, default=20_000)
     ap.add_argument("--seed", type=int, default=7)
     a = ap.parse_args()
-    cli = [shutil.which("ookframe") or str(Path(sys.executable).parent / "ookframe")]
     with tempfile.TemporaryDirectory() as tmp:
         base = Path(tmp) / "base.csv"
         n0 = write_capture_csv(base, BASELINE_PULSES, a.noise, a.seed)
-        s0, m0, out0 = run_child([sys.executable, "-c", _WHOLE, str(SPEC), str(base)])
+        s0, m0, f0 = run_child([sys.executable, "-c", _WHOLE, str(SPEC), str(base)])
         print(f"whole-file reader, {n0:,} pulses: peak RSS {m0:.0f} MB, "
-              f"{n0 / s0:,.0f} pulses/s, {int(out0)} frames")
+              f"{n0 / s0:,.0f} pulses/s, {f0} frames")
         big = Path(tmp) / "big.csv"
         t0 = time.perf_counter()
         n1 = write_capture_csv(big, a.pulses, a.noise, a.seed + 1)
         print(f"wrote {n1:,} pulses ({big.stat().st_size / 1e9:.2f} GB) in "
               f"{time.perf_counter() - t0:.0f} s", file=sys.stderr)
-        s1, m1, out1 = run_child([*cli, "decode", str(SPEC), str(big), "--json"])
-        frames = out1.count('"payload_hex"')
+        s1, m1, frames = run_child([sys.executable, "-c", _CLI, str(SPEC), str(big)])
         print(f"ookframe decode (streamed), {n1:,} pulses: peak RSS {m1:.0f} MB, "
               f"{n1 / s1:,.0f} pulses/s, {frames} frames")
         print(f"ratio streamed / whole-file: pulses x{n1 / n0:.0f}, peak RSS x{m1 / m0:.2f}, "
