@@ -8,6 +8,7 @@ format is adding a file and one line in ``FORMATS``.
 from __future__ import annotations
 
 import os
+from collections.abc import Iterator
 from pathlib import Path
 from types import ModuleType
 
@@ -55,6 +56,38 @@ def read_capture(
     return FORMATS[name].read(path)
 
 
+def iter_capture(
+    path: str | os.PathLike[str],
+    *,
+    chunk_pulses: int = 1_000_000,
+    signal: str | None = None,
+    fmt: str | None = None,
+    xz: str = "space",
+) -> Iterator[PulseTrain]:
+    """Yield the pulse train stored in ``path`` in consecutive pieces of at most about
+    ``chunk_pulses`` pulses, so a big capture is never held whole (see
+    ``ookframe.decode.decode_stream``). Joined, the pieces are :func:`read_capture`'s train
+    (a run of equal levels may be split between two pieces); errors and leniency are the
+    same, an error names the line. CSV is read line by line, VCD token by token; JSON is parsed whole (one document) and
+    then yielded in pieces.
+    """
+    require_path(path, "path")
+    if isinstance(chunk_pulses, bool) or not isinstance(chunk_pulses, int) or chunk_pulses < 1:
+        raise TypeError(f"chunk_pulses must be a positive int, got {chunk_pulses!r}")
+    name = capture_format(path, fmt)
+    if name != "vcd" and signal is not None:
+        raise CaptureError(f"{path}: --signal applies to VCD captures only, not {name}")
+    if name == "csv":
+        yield from csv_format.iter_read(path, chunk_pulses)
+        return
+    if name == "vcd":
+        yield from vcd_format.iter_read(path, signal=signal, xz=xz, chunk_pulses=chunk_pulses)
+        return
+    train = FORMATS[name].read(path)
+    for i in range(0, len(train), chunk_pulses):
+        yield PulseTrain(train.levels[i:i + chunk_pulses], train.durations_us[i:i + chunk_pulses])
+
+
 def write_capture(
     path: str | os.PathLike[str], train: PulseTrain, fmt: str | None = None, **options: object
 ) -> None:
@@ -64,4 +97,4 @@ def write_capture(
     FORMATS[capture_format(path, fmt)].write(path, train, **options)
 
 
-__all__ = ["FORMATS", "capture_format", "read_capture", "write_capture"]
+__all__ = ["FORMATS", "capture_format", "iter_capture", "read_capture", "write_capture"]

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import os
 import warnings
+from collections.abc import Iterator
 
 import numpy as np
 
@@ -41,9 +42,10 @@ def _number(cell: str) -> float | None:
         return None
 
 
-def _scan_for_error(path: str | os.PathLike[str], lines: list[str]) -> None:
-    """Raise CaptureError for the first invalid line (slow path, only on bad input)."""
-    for lineno, line in enumerate(lines, 1):
+def _scan_for_error(path: str | os.PathLike[str], lines: list[str], start: int = 1) -> None:
+    """Raise CaptureError for the first invalid line (slow path, only on bad input);
+    ``lines[0]`` is line ``start`` of the file (line 1 is the header)."""
+    for lineno, line in enumerate(lines, start):
         if lineno == 1 or _is_skipped(line):
             continue
         cells = [c.strip() for c in line.split(",")]
@@ -71,10 +73,21 @@ def read(path: str | os.PathLike[str]) -> PulseTrain:
     except UnicodeDecodeError as exc:
         raise CaptureError(f"{path}: not a UTF-8 text file") from exc
     lines = text.splitlines()
-    header = lines[0].strip().replace(" ", "").lstrip("\ufeff") if lines else ""
+    check_header(path, lines[0] if lines else "")
+    return parse_lines(path, lines, 1)
+
+
+def check_header(path: str | os.PathLike[str], line: str) -> None:
+    """Raise CaptureError unless ``line`` (line 1) is the ``level,duration_us`` header."""
+    header = line.strip().replace(" ", "").lstrip("\ufeff")
     if header != HEADER:
         raise CaptureError(f"{path}:1: expected header {HEADER!r}, got {excerpt(header)}")
-    body = [ln for ln in lines[1:] if not _is_skipped(ln)]
+
+
+def parse_lines(path: str | os.PathLike[str], lines: list[str], start: int) -> PulseTrain:
+    """Return the pulses written in ``lines``, the file's lines from line ``start`` on (line
+    1, the header, is skipped); CaptureError naming the first invalid line."""
+    body = [ln for ln in (lines[1:] if start == 1 else lines) if not _is_skipped(ln)]
     if not body:
         return PulseTrain(np.zeros(0, np.uint8), np.zeros(0))
     try:
@@ -82,12 +95,38 @@ def read(path: str | os.PathLike[str]) -> PulseTrain:
             warnings.simplefilter("ignore")
             table = np.loadtxt(body, delimiter=",", dtype=np.float64, ndmin=2)
     except ValueError:
-        _scan_for_error(path, lines)
+        _scan_for_error(path, lines, start)
         raise  # pragma: no cover - _scan_for_error always raises
     if table.shape[1] != 2 or bad_level(table[:, 0]) is not None or \
             bad_duration(table[:, 1]) is not None:
-        _scan_for_error(path, lines)
+        _scan_for_error(path, lines, start)
     return PulseTrain(table[:, 0].astype(np.uint8), table[:, 1])
+
+
+def iter_read(path: str | os.PathLike[str], chunk_pulses: int) -> Iterator[PulseTrain]:
+    """Yield the pulse train of a CSV capture in pieces of about ``chunk_pulses`` pulses,
+    reading the file line by line (memory bounded by the piece, not the file); the same
+    validation, leniency and messages as :func:`read`."""
+    try:
+        fh = open(path, encoding="utf-8")
+    except OSError as exc:
+        raise CaptureError(f"{path}: cannot read: {exc.strerror or exc}") from exc
+    with fh:
+        try:
+            lineno = 1
+            check_header(path, fh.readline())
+            block: list[str] = []
+            start = 2
+            for line in fh:
+                lineno += 1
+                block.append(line)
+                if len(block) >= chunk_pulses:
+                    yield parse_lines(path, block, start)
+                    start, block = lineno + 1, []
+            if block:
+                yield parse_lines(path, block, start)
+        except UnicodeDecodeError as exc:
+            raise CaptureError(f"{path}: not a UTF-8 text file") from exc
 
 
 def write(path: str | os.PathLike[str], train: PulseTrain) -> None:

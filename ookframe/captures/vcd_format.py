@@ -169,65 +169,157 @@ def _open(path):
         raise CaptureError(f"{path}: cannot read: {exc.strerror or exc}") from exc
 
 
-def read(path: str | os.PathLike[str], *, signal: str | None = None,
-         xz: str = "space") -> PulseTrain:
-    """Return the pulse train of one 1-bit signal in a VCD file (durations in µs)."""
+def _open_body(path, signal: str | None, xz: str):
+    """Return (open file, token iterator positioned at the body, timescale, target ident)."""
     if xz not in XZ_MODES:
         raise CaptureError(f"xz={xz!r} not allowed; allowed: {', '.join(XZ_MODES)}")
-    times: list[int] = []
-    values: list[int] = []
-    xz_lines: dict[int, int] = {}  # index in values -> line number
-    with _open(path) as fh:
+    fh = _open(path)
+    try:
         toks = _tokens(fh)
         timescale, variables, _ = _read_header(path, toks)
         if timescale is None:
             raise CaptureError(f"{path}: no $timescale in the header; cannot convert times to µs")
         target = _select(path, variables, signal).ident
-        now = 0
-        last_time = 0
-        for lineno, tok in toks:
-            head = tok[0]
-            if head == "#":
-                digits = tok[1:]
-                if not digits.isdigit() or not digits.isascii():
-                    raise CaptureError(f"{path}:{lineno}: bad timestamp {excerpt(tok)}")
-                if len(digits) > 19 or int(digits) > MAX_TIME:
-                    raise CaptureError(f"{path}:{lineno}: timestamp {excerpt(tok)} is above "
-                                       "2^63 - 1 time units")
-                t = int(digits)
-                if t < now:
-                    raise CaptureError(f"{path}:{lineno}: time goes backwards ({t} after {now})")
-                now = last_time = t
-            elif head in _SCALAR_VALUES:
-                if tok[1:] == target:
-                    v = _SCALAR_VALUES[head]
-                    if v == 2:
-                        xz_lines[len(values)] = lineno
-                    times.append(now)
-                    values.append(v)
-            elif head in "bBrRsS":
-                try:
-                    ident = next(toks)[1]
-                except StopIteration:
-                    raise CaptureError(f"{path}:{lineno}: value {excerpt(tok)} has no identifier") \
-                        from None
-                if ident == target:
-                    bits = tok[1:].lstrip("0") or "0"
-                    if head in "rRsS" or len(bits) != 1 or bits not in _SCALAR_VALUES:
-                        raise CaptureError(f"{path}:{lineno}: value {excerpt(tok)} for a 1-bit "
-                                           "signal")
-                    v = _SCALAR_VALUES[bits]
-                    if v == 2:
-                        xz_lines[len(values)] = lineno
-                    times.append(now)
-                    values.append(v)
-            elif tok == "$comment":
-                _until_end(path, toks, tok, lineno)
-            elif tok in ("$dumpvars", "$dumpall", "$dumpon", "$dumpoff", "$end"):
-                continue
-            else:
-                raise CaptureError(f"{path}:{lineno}: unexpected {excerpt(tok)} in the VCD body")
+    except BaseException:
+        fh.close()
+        raise
+    return fh, toks, timescale, target
+
+
+def _body_blocks(path, toks, target: str, block: int
+                 ) -> Iterator[tuple[list[int], list[int], dict[int, int], int]]:
+    """Yield the target signal's changes in blocks of ``block``: (times, values (0, 1, 2 for
+    x/z), line of every x/z by index in the block, last timestamp so far); the last block
+    (possibly empty) comes at the end of the file."""
+    times: list[int] = []
+    values: list[int] = []
+    xz_lines: dict[int, int] = {}  # index in values -> line number
+    now = 0
+    last_time = 0
+    for lineno, tok in toks:
+        head = tok[0]
+        if head == "#":
+            digits = tok[1:]
+            if not digits.isdigit() or not digits.isascii():
+                raise CaptureError(f"{path}:{lineno}: bad timestamp {excerpt(tok)}")
+            if len(digits) > 19 or int(digits) > MAX_TIME:
+                raise CaptureError(f"{path}:{lineno}: timestamp {excerpt(tok)} is above "
+                                   "2^63 - 1 time units")
+            t = int(digits)
+            if t < now:
+                raise CaptureError(f"{path}:{lineno}: time goes backwards ({t} after {now})")
+            now = last_time = t
+        elif head in _SCALAR_VALUES:
+            if tok[1:] == target:
+                v = _SCALAR_VALUES[head]
+                if v == 2:
+                    xz_lines[len(values)] = lineno
+                times.append(now)
+                values.append(v)
+        elif head in "bBrRsS":
+            try:
+                ident = next(toks)[1]
+            except StopIteration:
+                raise CaptureError(f"{path}:{lineno}: value {excerpt(tok)} has no identifier") \
+                    from None
+            if ident == target:
+                bits = tok[1:].lstrip("0") or "0"
+                if head in "rRsS" or len(bits) != 1 or bits not in _SCALAR_VALUES:
+                    raise CaptureError(f"{path}:{lineno}: value {excerpt(tok)} for a 1-bit "
+                                       "signal")
+                v = _SCALAR_VALUES[bits]
+                if v == 2:
+                    xz_lines[len(values)] = lineno
+                times.append(now)
+                values.append(v)
+        elif tok == "$comment":
+            _until_end(path, toks, tok, lineno)
+        elif tok in ("$dumpvars", "$dumpall", "$dumpon", "$dumpoff", "$end"):
+            continue
+        else:
+            raise CaptureError(f"{path}:{lineno}: unexpected {excerpt(tok)} in the VCD body")
+        if len(values) >= block:
+            yield times, values, xz_lines, last_time
+            times, values, xz_lines = [], [], {}
+    yield times, values, xz_lines, last_time
+
+
+def read(path: str | os.PathLike[str], *, signal: str | None = None,
+         xz: str = "space") -> PulseTrain:
+    """Return the pulse train of one 1-bit signal in a VCD file (durations in µs)."""
+    fh, toks, timescale, target = _open_body(path, signal, xz)
+    with fh:
+        ((times, values, xz_lines, last_time),) = _body_blocks(path, toks, target, 2**62)
     return _to_train(path, times, values, xz_lines, last_time, timescale, xz)
+
+
+def iter_read(path: str | os.PathLike[str], *, signal: str | None = None, xz: str = "space",
+              chunk_pulses: int = 1_000_000) -> Iterator[PulseTrain]:
+    """Yield the train :func:`read` returns in pieces of at most ``chunk_pulses`` pulses,
+    reading the file token by token (memory bounded by the piece); the same validation
+    and messages. Joined, the pieces are :func:`read`'s train (runs of equal levels
+    merged across pieces too)."""
+    fh, toks, timescale, target = _open_body(path, signal, xz)
+    num, den = timescale.numerator, timescale.denominator
+    started = False
+    pend: tuple[int, int] | None = None  # last change: (time, level), duration not yet known
+    carry = (np.zeros(0, np.uint8), np.zeros(0))  # last merged pulse, may still grow
+    count = 0  # pulses before merging, for messages
+    last_time = 0
+    with fh:
+        for block in _body_blocks(path, toks, target, chunk_pulses):
+            times, values, xz_lines, last_time = block
+            v = np.asarray(values, np.uint8)
+            t = np.asarray(times, np.int64)
+            first = 0
+            if not started:
+                known = np.flatnonzero(v != 2)
+                if known.size == 0:
+                    continue
+                first, started = int(known[0]), True
+            if xz == "error":
+                later = [i for i in xz_lines if i >= first]
+                if later:
+                    raise CaptureError(f"{path}:{xz_lines[min(later)]}: signal is x/z "
+                                       "(unknown); read with xz='space' to treat it as "
+                                       "carrier off")
+            v, t = v[first:], t[first:]
+            v[v == 2] = 0
+            if pend is not None:
+                t = np.concatenate(([pend[0]], t))
+                v = np.concatenate(([pend[1]], v))
+            if t.size == 0:
+                continue
+            pend = (int(t[-1]), int(v[-1]))
+            lv, du, count = _pulses(path, t, v, count, num, den, timescale)
+            merged = merge_runs(np.concatenate((carry[0], lv)), np.concatenate((carry[1], du)))
+            if len(merged) > 1:
+                yield PulseTrain(merged.levels[:-1], merged.durations_us[:-1])
+            carry = (merged.levels[-1:], merged.durations_us[-1:])
+    if pend is None:
+        return
+    t = np.array([pend[0], max(last_time, pend[0])], np.int64)
+    lv, du, count = _pulses(path, t, np.array([pend[1], 0], np.uint8), count, num, den,
+                            timescale)
+    merged = merge_runs(np.concatenate((carry[0], lv)), np.concatenate((carry[1], du)))
+    for i in range(0, len(merged), chunk_pulses):
+        yield PulseTrain(merged.levels[i:i + chunk_pulses],
+                         merged.durations_us[i:i + chunk_pulses])
+
+
+def _pulses(path, t: np.ndarray, v: np.ndarray, count: int, num: int, den: int,
+            timescale: Fraction) -> tuple[np.ndarray, np.ndarray, int]:
+    """Return (levels, durations_us, pulses so far) of the changes ``t``/``v`` but the last
+    (its length is not known yet); zero-length pulses dropped."""
+    ticks = np.diff(t)
+    keep = ticks > 0
+    durations_us = ticks[keep].astype(np.float64) * num / den
+    i = bad_duration(durations_us)
+    if i is not None:
+        raise CaptureError(f"{path}: pulse {count + i} (from #{int(t[:-1][keep][i])}) "
+                           f"{describe_duration(float(durations_us[i]))} at $timescale "
+                           f"{float(timescale):g} µs")
+    return v[:-1][keep], durations_us, count + int(keep.sum())
 
 
 def _to_train(path, times: list[int], values: list[int], xz_lines: dict[int, int],

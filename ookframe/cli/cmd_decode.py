@@ -47,19 +47,26 @@ def frame_dicts(frames) -> list[dict]:
     ]
 
 
+#: pulses read and decoded at a time: memory stays bounded by this (plus one frame span),
+#: whatever the capture's size
+CHUNK_PULSES = 250_000
+
+
 def run(args: argparse.Namespace) -> int:
-    from ..captures import read_capture
-    from ..decode import decode
+    from ..captures import iter_capture
+    from ..decode import decode_stream
     spec, _ = common.load(args)
-    train = read_capture(args.capture, signal=args.signal, fmt=args.capture_format)
-    frames = decode(spec, train, include_bad=not args.good_only)
+
+    def chunks():
+        return iter_capture(args.capture, chunk_pulses=CHUNK_PULSES, signal=args.signal,
+                            fmt=args.capture_format)
+
+    frames = list(decode_stream(spec, chunks(), include_bad=not args.good_only))
     if args.json:
         print_json(frame_dicts(frames))
         return 0
     if not frames:
-        from ..decode import diagnose
-
-        r = diagnose(spec, train)
+        r = _diagnose_pieces(spec, chunks())
         units = ", ".join(f"{u:g}" for u in r.head_units_us) or "-"
         err.print(f"no frames of '{spec.name}' found in {args.capture}: {r.stage}. "
                   f"{r.pulses} pulses ({r.after_glitch_filter} after the glitch filter), "
@@ -70,6 +77,31 @@ def run(args: argparse.Namespace) -> int:
     out.print(frames_table(spec, frames, f"{len(frames)} frame(s) of '{spec.name}' in "
                            f"{args.capture}"))
     return 0
+
+
+def _diagnose_pieces(spec, chunks):
+    """``diagnose`` summed over the pieces of a capture (exact for a capture of one piece;
+    for longer ones a burst or preamble cut by a piece's edge may count twice)."""
+    from ..decode import DecodeReport, diagnose
+
+    total = None
+    for chunk in chunks:
+        r = diagnose(spec, chunk)
+        if total is None:
+            total = r
+            continue
+        total = DecodeReport(
+            total.pulses + r.pulses, total.after_glitch_filter + r.after_glitch_filter,
+            total.bursts + r.bursts, total.heads + r.heads,
+            (total.head_units_us + r.head_units_us)[:5], total.synced + r.synced,
+            total.check_ok + r.check_ok, total.unit_us)
+    if total is None:
+        import numpy as np
+
+        from ..pulses import PulseTrain
+
+        total = diagnose(spec, PulseTrain(np.zeros(0, np.uint8), np.zeros(0)))
+    return total
 
 
 def frames_table(spec, frames, title: str) -> Table:

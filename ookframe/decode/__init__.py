@@ -8,7 +8,8 @@ code -> ``sync`` (sync word with bit errors) -> ``framer`` (unstuff, fields, che
 
 from __future__ import annotations
 
-from .framer import DecodedFrame, DecodeReport, decode, diagnose
+from .framer import DecodedFrame, DecodeReport, decode, decode_stream, diagnose
 from .validate import validate_train
 
-__all__ = ["DecodeReport", "DecodedFrame", "decode", "diagnose", "validate_train"]
+__all__ = ["DecodeReport", "DecodedFrame", "decode", "decode_stream", "diagnose",
+           "validate_train"]

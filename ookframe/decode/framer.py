@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import dataclasses
 import itertools
+from collections.abc import Iterable, Iterator
 from dataclasses import dataclass
 
 import numpy as np
@@ -329,3 +330,85 @@ def diagnose(spec: FrameSpec, train: PulseTrain) -> DecodeReport:
     return DecodeReport(len(train), n, bursts, int(first.size),
                         tuple(round(float(u), 3) for u in unit0[:5]), len(found),
                         sum(f.crc_ok for f, _ in found), float(spec.unit_us))
+
+
+#: units of margin added to a frame's longest span when decoding in pieces
+STREAM_MARGIN_UNITS = 8
+#: pulses kept before the carried-over tail of a piece, so the glitch filter and the head
+#: search see the same neighbours as in the whole train
+STREAM_CONTEXT_PULSES = 8
+
+
+def stream_span_us(spec: FrameSpec) -> float:
+    """Return the longest time a frame of ``spec`` can take as the decoder searches it:
+    its most chips at the slowest clock searched (``MAX_CLOCK_ERROR``), +10 %, plus
+    ``STREAM_MARGIN_UNITS`` units."""
+    slow_unit_us = spec.unit_us * (1 + MAX_CLOCK_ERROR)
+    return (head_model(spec).max_frame_chips * 1.1 + STREAM_MARGIN_UNITS) * slow_unit_us
+
+
+def decode_stream(spec: FrameSpec, chunks: Iterable[PulseTrain], *,
+                  include_bad: bool | None = None) -> Iterator[DecodedFrame]:
+    """Yield the frames :func:`decode` finds in the train made of ``chunks`` joined, in
+    time order, holding only a piece of it at a time (memory bounded by the chunk size
+    plus one frame span, :func:`stream_span_us`).
+
+    Each round decodes the carried-over tail plus the next chunk and emits the frames that
+    start before ``cut`` = the buffer's end less the span (so they lie whole in the
+    buffer) and not before the previous round's cut nor inside a frame it emitted; the
+    next buffer starts at the pulse boundary at or before ``cut`` (earlier when a frame
+    emitted this round reaches past ``cut``, so its pulses are again skipped over),
+    plus ``STREAM_CONTEXT_PULSES``. Times (``start_us``, ``end_us``) count from the start
+    of the first chunk. The frames are :func:`decode`'s for the whole train whenever no
+    decision depends on more than the span around a frame (times equal to float rounding).
+    """
+    if include_bad is None:
+        include_bad = spec.decoder.report_bad_check
+    span_us = stream_span_us(spec)
+    levels = np.zeros(0, np.uint8)
+    dur = np.zeros(0)
+    origin_us = 0.0            # absolute time of the buffer's first pulse
+    handled_us = -np.inf       # frames starting before it were dealt with
+    handled_end_us = -np.inf   # end of the last frame dealt with
+    for chunk in chunks:
+        validate_train(chunk)
+        levels = np.concatenate((levels, chunk.levels))
+        dur = np.concatenate((dur, chunk.durations_us))
+        edges = np.concatenate(([0.0], np.cumsum(dur)))
+        cut = float(edges[-1]) - span_us
+        if cut <= handled_us - origin_us or cut <= 0:
+            continue
+        keep_us = cut
+        for f in decode(spec, PulseTrain(levels, dur), include_bad=True):
+            if f.start_us >= cut:
+                break
+            start = f.start_us + origin_us
+            if start < handled_us or start < handled_end_us:
+                continue
+            handled_end_us = max(handled_end_us, f.end_us + origin_us)
+            if f.end_us > cut:
+                keep_us = min(keep_us, f.start_us)
+            if f.crc_ok or include_bad:
+                yield _shifted(f, origin_us)
+        i = max(int(np.searchsorted(edges, keep_us, side="right")) - 1
+                - STREAM_CONTEXT_PULSES, 0)
+        handled_us = origin_us + cut
+        origin_us += float(edges[i])
+        levels, dur = levels[i:], dur[i:]
+    if len(dur) == 0:
+        return
+    for f in decode(spec, PulseTrain(levels, dur), include_bad=True):
+        start = f.start_us + origin_us
+        if start < handled_us or start < handled_end_us:
+            continue
+        handled_end_us = max(handled_end_us, f.end_us + origin_us)
+        if f.crc_ok or include_bad:
+            yield _shifted(f, origin_us)
+
+
+def _shifted(frame: DecodedFrame, origin_us: float) -> DecodedFrame:
+    """Return ``frame`` with its times moved by ``origin_us``."""
+    if origin_us == 0.0:
+        return frame
+    return dataclasses.replace(frame, start_us=frame.start_us + origin_us,
+                               end_us=frame.end_us + origin_us)
