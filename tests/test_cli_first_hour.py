@@ -134,7 +134,7 @@ def test_decode_json_output_is_stable(capsys, tmp_path):
     run(capsys, "encode", HIVE, "--format", "csv", "-o", str(cap))
     frames = json.loads(run(capsys, "decode", HIVE, str(cap), "--json")[1])
     assert set(frames[0]) == {"fields", "payload_hex", "crc_ok", "start_us", "end_us",
-                              "unit_us", "worst_deviation", "sync_errors"}
+                              "unit_us", "worst_deviation", "sync_errors", "corrected"}
 
 
 def test_pulse_table_columns_add_up(capsys):

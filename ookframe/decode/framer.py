@@ -21,6 +21,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .._require import require_spec, require_train
 from ..checks.strength import check_strength, covered_bits
 from ..linecodes import DecodedBits
 from ..pulses import PulseTrain
@@ -114,6 +115,8 @@ def decode(spec: FrameSpec, train: PulseTrain, *,
     so the false-accept probability it adds to a failed frame stays below 2**-12 (checks
     narrower than 13 bits get none). ``corrected`` counts the edges moved.
     """
+    require_spec(spec, "spec")
+    require_train(train, "train")
     validate_train(train)
     if include_bad is None:
         include_bad = spec.decoder.report_bad_check
