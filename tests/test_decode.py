@@ -700,3 +700,23 @@ def test_diagnose_names_the_stage_that_failed():
     stray = diagnose(spec, PulseTrain(np.array([1, 0, 1, 0], np.uint8),
                                       np.array([300.0, 300.0, 300.0, 20000.0])))
     assert stray.heads == 0 and "no preamble" in stray.stage
+
+
+@settings(max_examples=300, deadline=None)
+@given(st.lists(st.integers(1, 4), min_size=4, max_size=40), st.floats(0.9, 1.1),
+       st.integers(0, 2**32 - 1))
+def test_span_prefilter_never_drops_a_head_the_edge_test_accepts(runs, clock, seed):
+    """The signature's span check (|S_j C_k - C_j S_k| <= (C_k + C_j) u, arithmetic from
+    edges within half a unit of their chips) keeps every run of pulses whose edges lie
+    within 0.49 unit of a grid at a unit within the clock range."""
+    from ookframe.decode.detect import _spans_fit
+
+    r = np.array(runs, dtype=np.float64)
+    rng = np.random.default_rng(seed)
+    unit = 100.0 * clock
+    edges = np.concatenate(([0.0], np.cumsum(r))) * unit
+    edges += rng.uniform(-0.49, 0.49, edges.size) * unit
+    d = np.diff(edges)
+    assume((d > 0).all())
+    kept = _spans_fit(np.array([0]), d, r, 1.1 * 100.0)
+    assert kept.tolist() == [0]

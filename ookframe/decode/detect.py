@@ -35,6 +35,7 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
     hi_us = np.minimum(r + 2 * MAX_EDGE_OFFSET, table.cap_ratio) * (1.0 + clock_error) * unit_us
     d0 = durations_us[:n]
     cand = np.flatnonzero((levels[:n] == sig_levels[0]) & (d0 > lo_us[0]) & (d0 < hi_us[0]))
+    cand = _spans_fit(cand, durations_us, r, (1.0 + clock_error) * unit_us)
     for j in range(1, k):
         if cand.size == 0:
             break
@@ -87,6 +88,29 @@ def _one_per_cluster(cand: np.ndarray, unit: np.ndarray, worst: np.ndarray, k: i
     keep = last.copy()
     keep[best_i[clearly]] = True
     return cand[keep], unit[keep]
+
+def _spans_fit(cand: np.ndarray, durations_us: np.ndarray, r: np.ndarray, max_unit_us: float
+               ) -> np.ndarray:
+    """Return the candidates whose spans of pulses keep the signature's proportions.
+
+    If every edge lies within half a unit u of its chip (the final test), the time S_j
+    from the first edge to edge j and the whole span S_k obey
+    |S_j C_k - C_j S_k| <= (C_k + C_j) u for chip counts C; whatever the clock. Checked
+    at every eighth of the signature, it drops most positions
+    inside frames (runs of other lengths) before any fit, and never a true head.
+    """
+    k = r.size
+    if k < 4 or cand.size == 0:
+        return cand
+    c = np.concatenate(([0.0], np.cumsum(r)))
+    t = np.concatenate(([0.0], np.cumsum(durations_us)))
+    total = t[cand + k] - t[cand]
+    for j in sorted({k * q // 8 for q in range(1, 8)} - {0}):
+        part = t[cand + j] - t[cand]
+        ok = np.abs(part * c[k] - c[j] * total) <= (c[k] + c[j]) * max_unit_us
+        cand, total = cand[ok], total[ok]
+    return cand
+
 
 def _edge_fit(d: np.ndarray, r: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Return per row (unit in µs, grid offset in units) of the least-squares line of edge
