@@ -287,22 +287,27 @@ class GridRuns:
     end_residual: np.ndarray
 
 
-def _ragged_moving_sum(x: np.ndarray, lengths: np.ndarray, before: int, after: int
-                       ) -> np.ndarray:
-    """Return for every element the sum of ``x`` over the ``before`` elements before it,
-    itself and the ``after`` elements after it, within its own segment (segments of
-    ``lengths`` laid end to end)."""
-    cs = np.concatenate(([0], np.cumsum(x)))
+def _ragged_bounds(lengths: np.ndarray, before: int, after: int
+                   ) -> tuple[np.ndarray, np.ndarray]:
+    """Return per element the bounds [lo, hi) of the ``before`` elements before it, itself
+    and the ``after`` elements after it, within its own segment (segments of ``lengths``
+    laid end to end)."""
     start = np.repeat(np.cumsum(lengths) - lengths, lengths)
     stop = start + np.repeat(lengths, lengths)
-    i = np.arange(x.size)
-    lo = np.maximum(i - before, start)
-    hi = np.minimum(i + after + 1, stop)
-    return cs[hi] - cs[lo]
+    i = np.arange(start.size)
+    return np.maximum(i - before, start), np.minimum(i + after + 1, stop)
+
+
+def _moving_sum(x: np.ndarray, bounds: tuple[np.ndarray, np.ndarray]) -> np.ndarray:
+    """Return the sums of ``x`` (real or complex) over the ``_ragged_bounds`` ranges."""
+    cs = np.concatenate(([0], np.cumsum(x)))
+    return cs[bounds[1]] - cs[bounds[0]]
 
 
 def _allowed(n: np.ndarray, levels: np.ndarray, table: RunTable) -> np.ndarray:
     """Return True where ``n`` is a run length the code allows at the pulse's level."""
+    if table.same:
+        return (n >= 1) & (n <= table.top)
     ok = n >= 1
     for lv in (0, 1):
         m = levels == lv
@@ -340,13 +345,11 @@ def _repair(c: np.ndarray, residual: np.ndarray, grid: np.ndarray, pulse_edge: n
     return c, grid - c
 
 
-def _phasor_sum(x: np.ndarray, weight: np.ndarray, lengths: np.ndarray, before: int,
-                after: int) -> np.ndarray:
-    """Return the moving sum (within each segment) of the weighted unit phasors of the
-    fractional parts of ``x``."""
-    z = np.exp(2j * np.pi * x) * weight
-    return _ragged_moving_sum(z.real, lengths, before, after) + 1j * _ragged_moving_sum(
-        z.imag, lengths, before, after)
+def _phasor_sum(x: np.ndarray, weight: np.ndarray, bounds: tuple[np.ndarray, np.ndarray]
+                ) -> np.ndarray:
+    """Return the moving sums of the weighted unit phasors of the fractional parts of
+    ``x`` over the ``_ragged_bounds`` ranges."""
+    return _moving_sum(np.exp(2j * np.pi * x) * weight, bounds)
 
 
 def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
@@ -391,10 +394,10 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
     # rough phase over +-2 edges (follows a fast drift), unwrapped and averaged over the
     # window; then the circular mean of what is left around it
     b, a = 2 * half_window, LOOK_AHEAD
-    rough = np.unwrap(np.angle(_phasor_sum(x, keep, n_edges, 4, a)) / (2 * np.pi), period=1.0)
-    trend = _ragged_moving_sum(rough * keep, n_edges, b, a) / np.maximum(
-        _ragged_moving_sum(keep, n_edges, b, a), 1.0)
-    phase = trend + np.angle(_phasor_sum(x - trend, keep, n_edges, b, a)) / (2 * np.pi)
+    near, wide = _ragged_bounds(n_edges, 4, a), _ragged_bounds(n_edges, b, a)
+    rough = np.unwrap(np.angle(_phasor_sum(x, keep, near)) / (2 * np.pi), period=1.0)
+    trend = _moving_sum(rough * keep, wide) / np.maximum(_moving_sum(keep, wide), 1.0)
+    phase = trend + np.angle(_phasor_sum(x - trend, keep, wide)) / (2 * np.pi)
     phase = np.unwrap(phase, period=1.0)  # a step of the rough phase must not move the grid
     grid = x - phase
     c = np.rint(grid)
