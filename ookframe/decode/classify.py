@@ -304,7 +304,7 @@ def _moving_sum(x: np.ndarray, bounds: tuple[np.ndarray, np.ndarray]) -> np.ndar
     return cs[bounds[1]] - cs[bounds[0]]
 
 
-def _allowed(n: np.ndarray, levels: np.ndarray, table: RunTable) -> np.ndarray:
+def is_allowed(n: np.ndarray, levels: np.ndarray, table: RunTable) -> np.ndarray:
     """Return True where ``n`` is a run length the code allows at the pulse's level."""
     if table.same:
         return (n >= 1) & (n <= table.top)
@@ -337,7 +337,7 @@ def _repair(c: np.ndarray, residual: np.ndarray, grid: np.ndarray, pulse_edge: n
     edge, step, p_before = edge[inner], step[inner], p_before[inner]
     n_before = n[p_before] + step.astype(np.int64)
     n_after = n[p_before + 1] - step.astype(np.int64)
-    fits = _allowed(n_before, levels[p_before], table) & _allowed(
+    fits = is_allowed(n_before, levels[p_before], table) & is_allowed(
         n_after, levels[p_before + 1], table)
     edge, step = edge[fits], step[fits]
     edge, first = np.unique(edge, return_index=True)
@@ -404,11 +404,11 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
     residual = grid - c
     start_edge = pulse_edge - 1
     n = (c[pulse_edge] - c[start_edge]).astype(np.int64)
-    ok = _allowed(n, levels, table)
+    ok = is_allowed(n, levels, table)
     if not ok.all():  # move the less sure edge of a bad pulse to its other grid point
         c, residual = _repair(c, residual, grid, pulse_edge, n, ok, levels, table)
         n = (c[pulse_edge] - c[start_edge]).astype(np.int64)
-        ok = _allowed(n, levels, table)
+        ok = is_allowed(n, levels, table)
     ratio = d / u_pulse
     fallback, _ = nearest_runs(ratio, levels, table)
     n = np.where(ok, n, fallback)

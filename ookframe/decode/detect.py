@@ -44,12 +44,8 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
     if cand.size == 0:
         return cand.astype(np.int64), np.zeros(0)
     d = durations_us[cand[:, None] + np.arange(k)]
-    unit, offset = _edge_fit(d, r)
+    unit, worst = _edge_fit(d, r)
     ok = np.abs(unit / unit_us - 1.0) <= clock_error
-    t = np.concatenate((np.zeros((d.shape[0], 1)), np.cumsum(d, axis=1)), axis=1)
-    c = np.concatenate(([0.0], np.cumsum(r)))
-    resid = t / unit[:, None] - offset[:, None] - c
-    worst = np.abs(resid).max(axis=1)
     ok &= worst < MAX_EDGE_OFFSET
     if k < SHORT_SIGNATURE_RUNS:  # few runs say little: every duration must fit as well
         got, _ = nearest_runs(d / unit[:, None], np.broadcast_to(sig_levels, d.shape), table)
@@ -113,8 +109,9 @@ def _spans_fit(cand: np.ndarray, durations_us: np.ndarray, r: np.ndarray, max_un
 
 
 def _edge_fit(d: np.ndarray, r: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Return per row (unit in µs, grid offset in units) of the least-squares line of edge
-    time over chip count for rows of durations ``d`` with run lengths ``r``."""
+    """Return per row (unit in µs, largest distance of an edge from the fitted grid in
+    units) of the least-squares line of edge time over chip count for rows of durations
+    ``d`` with run lengths ``r``."""
     t = np.concatenate((np.zeros((d.shape[0], 1)), np.cumsum(d, axis=1)), axis=1)
     c = np.concatenate(([0.0], np.cumsum(r)))
     cm = c.mean()
@@ -122,4 +119,5 @@ def _edge_fit(d: np.ndarray, r: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     slope = ((t - tm[:, None]) @ (c - cm)) / ((c - cm) @ (c - cm))
     unit = np.where(slope > 0, slope, np.nan)
     offset = (tm - slope * cm) / unit
-    return unit, offset
+    worst = np.abs(t / unit[:, None] - offset[:, None] - c).max(axis=1)
+    return unit, worst

@@ -26,6 +26,7 @@ from ..checks.strength import check_strength, covered_bits
 from ..linecodes import DecodedBits
 from ..pulses import PulseTrain
 from ..spec.model import FrameSpec
+from .classify import is_allowed
 from .detect import find_candidates
 from .framing import frame_windows
 from .glitch import drop_glitches
@@ -180,11 +181,8 @@ def _recover(spec: FrameSpec, hm: HeadModel, ctx: _Context, k: int, max_flips: i
     j = np.arange(max(m - 1, 0))
     step = np.where(res[j] > 0, 1, -1)
     n1, n2 = units[j] + step, units[j + 1] - step
-    ok = ~one.capped[j] & ~one.capped[j + 1] & (n1 >= 1) & (n2 >= 1)
-    for lvl in (0, 1):
-        a = hm.runs.allowed[lvl]
-        ok &= np.where(lv[j] == lvl, np.isin(n1, a), True)
-        ok &= np.where(lv[j + 1] == lvl, np.isin(n2, a), True)
+    ok = ~one.capped[j] & ~one.capped[j + 1]
+    ok &= is_allowed(n1, lv[j], hm.runs) & is_allowed(n2, lv[j + 1], hm.runs)
     ok &= np.abs(res[j]) >= RECOVERY_MIN_OFFSET
     j = j[ok]
     cost = 0.5 - np.abs(res[j])
