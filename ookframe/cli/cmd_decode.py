@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import argparse
+import functools
+import operator
 
 from rich import box
 from rich.markup import escape
@@ -82,26 +84,16 @@ def run(args: argparse.Namespace) -> int:
 def _diagnose_pieces(spec, chunks):
     """``diagnose`` summed over the pieces of a capture (exact for a capture of one piece;
     for longer ones a burst or preamble cut by a piece's edge may count twice)."""
-    from ..decode import DecodeReport, diagnose
+    from ..decode import diagnose
 
-    total = None
-    for chunk in chunks:
-        r = diagnose(spec, chunk)
-        if total is None:
-            total = r
-            continue
-        total = DecodeReport(
-            total.pulses + r.pulses, total.after_glitch_filter + r.after_glitch_filter,
-            total.bursts + r.bursts, total.heads + r.heads,
-            (total.head_units_us + r.head_units_us)[:5], total.synced + r.synced,
-            total.check_ok + r.check_ok, total.unit_us)
-    if total is None:
+    reports = [diagnose(spec, chunk) for chunk in chunks]
+    if not reports:
         import numpy as np
 
         from ..pulses import PulseTrain
 
-        total = diagnose(spec, PulseTrain(np.zeros(0, np.uint8), np.zeros(0)))
-    return total
+        return diagnose(spec, PulseTrain(np.zeros(0, np.uint8), np.zeros(0)))
+    return functools.reduce(operator.add, reports)
 
 
 def frames_table(spec, frames, title: str) -> Table:

@@ -302,6 +302,14 @@ class DecodeReport:
     check_ok: int
     unit_us: float
 
+    def __add__(self, other: DecodeReport) -> DecodeReport:
+        """The counts of two pieces of one capture together (the first 5 units kept)."""
+        return DecodeReport(
+            self.pulses + other.pulses, self.after_glitch_filter + other.after_glitch_filter,
+            self.bursts + other.bursts, self.heads + other.heads,
+            (self.head_units_us + other.head_units_us)[:5], self.synced + other.synced,
+            self.check_ok + other.check_ok, self.unit_us)
+
     @property
     def stage(self) -> str:
         """The first stage nothing passed, in words."""
