@@ -132,6 +132,8 @@ def test_encode_bits_read_back_with_bitstring(capsys, tmp_path):
 def test_demo_writes_folder(capsys, tmp_path):
     code, out, _ = run(capsys, "demo", "--dir", str(tmp_path / "d"))
     assert code == 0
+    # the project's own value layout (name: value unit | ...), not name=value lists
+    assert "hive: 3 | weight_g: 41250 g" in out and "hive=3" not in out
     assert {p.name for p in (tmp_path / "d").iterdir()} >= {"hive_scale.toml", "frame.csv",
                                                              "frame.vcd", "decoded.json", "hive_scale.h"}
     assert len(json.loads((tmp_path / "d" / "decoded.json").read_text())) == 3

@@ -55,14 +55,13 @@ def run(args: argparse.Namespace) -> int:
     ok = [f for f in frames if f.crc_ok and values_equal(spec, f.fields, values)]
     out.print(f"[bold]ookframe demo[/bold]: {spec.description}")
     out.print(f"  spec            {d / DEMO_SPEC}")
-    out.print(f"  sent values     {', '.join(f'{k}={v}' for k, v in values.items())}")
+    out.print(f"  sent values     {_values_text(spec, values)}")
     out.print(f"  transmission    {len(train)} pulses, {lay.repeats} repeats, airtime "
               f"{lay.airtime_us / 1000:.2f} ms -> {d / 'frame.csv'}, {d / 'frame.vcd'}")
     out.print(f"  decoded         {len(frames)} frame(s), {len(ok)} with a good check -> {d / 'decoded.json'}")
     if frames:
         f0 = frames[0]
-        out.print(f"  first frame     {', '.join(f'{k}={v}' for k, v in f0.fields.items())} "
-                  f"(unit {f0.unit_us:.2f} µs)")
+        out.print(f"  first frame     {_values_text(spec, f0.fields)} (unit {f0.unit_us:.2f} µs)")
     from ..channel import get_preset
     from ..stress import run_stress
 
@@ -77,3 +76,9 @@ def run(args: argparse.Namespace) -> int:
     out.print(f"  next            ookframe check {d / DEMO_SPEC}")
     err.print(f"caution: {REGULATORY_CAUTION}")
     return 0 if len(ok) == spec.repeats else exitcodes.FAILED
+
+
+def _values_text(spec, values) -> str:
+    """Field values on one line, each as 'name: value unit', separated by ' | '."""
+    return " | ".join(f"{f.name}: {values[f.name]}{' ' + f.unit if f.unit else ''}"
+                      for f in spec.fields if f.name in values)
