@@ -36,7 +36,11 @@ class SliceReport:
     ``decay_us``, ``attack_us``, ``min_contrast``.
     Measured (envelope units, full scale 1.0): ``floor_level`` / ``floor_rms`` (mean and
     spread of the envelope in spaces), ``carrier_level`` / ``carrier_rms`` (in marks),
-    ``snr_db`` (20 log10((carrier - floor) / floor_rms)), ``threshold_high_mean`` /
+    both leaving out 1.5 smoothing rise times (at least a sample) around every edge,
+    ``snr_db`` (20 log10((carrier - floor) / floor_rms), in the smoothed envelope's
+    bandwidth, so above the input's by the low-pass's noise reduction); without a squelch
+    (``min_contrast``) the slicer chatters on idle noise and those pulses count into the
+    levels. ``threshold_high_mean`` /
     ``threshold_low_mean`` with their minimum and maximum (not squelched samples),
     ``squelched_fraction``, ``clipped_fraction`` (input at full scale: gain too high),
     ``n_samples``, ``duration_s``, ``pulses``, ``marks``.
@@ -95,8 +99,11 @@ class _Tally:
         self.pulses = 0
         self.marks = 0
 
-    def add(self, e: np.ndarray, t: Tracked) -> None:
-        for level, sel in ((0, ~t.marks), (1, t.marks)):
+    def add(self, e: np.ndarray, t: Tracked, guard: int, mark_before: bool) -> None:
+        """Count one block; level figures leave out samples within ``guard`` samples of an
+        edge (the smoothed ramps), so floor and carrier are the plateaus."""
+        steady = ~_near_edge(t.marks, guard, mark_before)
+        for level, sel in ((0, ~t.marks & steady), (1, t.marks & steady)):
             v = e[sel]
             self.n[level] += v.size
             self.s[level] += float(v.sum())
@@ -151,6 +158,8 @@ class SampleSlicer:
         self.keep_trace = keep_trace
         self.trace: tuple[np.ndarray, Tracked, int] | None = None
         self._us_per_out = 1e6 * q / self.sample_rate_hz
+        #: samples next to an edge left out of the level figures: 1.5 rise times, >= 1
+        self._guard = max(1, int(np.ceil(1.5 * self._env.smoothing.rise_us / self._us_per_out)))
 
     @property
     def smoothing(self) -> Smoothing:
@@ -188,7 +197,7 @@ class SampleSlicer:
             pieces.append(self._run(np.concatenate(self._pending)))
             self._pending, self._pending_n = [], 0
         self._finished = True
-        end = float(self._out_index)
+        end = self._n_in / self.config.decimate  # the capture's end, in output samples
         if end > self._edge:
             pieces.append(PulseTrain(np.array([self._level], np.uint8),
                                      np.array([(end - self._edge) * self._us_per_out])))
@@ -213,14 +222,15 @@ class SampleSlicer:
         if e.size == 0:
             return _join([])
         if self._state is None:
-            self._state = start_state(float(e[0]), self.config)
+            self._state = start_state(float(e[0]), self.config,
+                                      self.sample_rate_hz / self.config.decimate)
         before = self._state
         tracked, self._state = track(e, before, self.config, self.sample_rate_hz /
                                      self.config.decimate)
         idx, pos = edge_positions(e, tracked, before)
         pos = pos + self._out_index
         self._out_index += e.size
-        self._tally.add(e, tracked)
+        self._tally.add(e, tracked, self._guard, before.mark)
         if self.keep_trace:
             self.trace = (e, tracked, self._out_index - e.size)
         if pos.size == 0:
@@ -274,6 +284,18 @@ class SampleSlicer:
             squelched_fraction=t.squelched / n_out, clipped_fraction=t.clipped /
             max(self._n_in, 1), n_samples=self._n_in,
             duration_s=self._n_in / self.sample_rate_hz, pulses=t.pulses, marks=t.marks)
+
+
+def _near_edge(marks: np.ndarray, guard: int, mark_before: bool) -> np.ndarray:
+    """Return True for the samples within ``guard`` samples of a change of ``marks``."""
+    change = np.empty(marks.size, bool)
+    change[0] = marks[0] != mark_before
+    np.not_equal(marks[1:], marks[:-1], out=change[1:])
+    c = np.concatenate(([0], np.cumsum(change)))
+    n = np.arange(marks.size)
+    hi = np.minimum(n + guard + 1, marks.size)
+    lo = np.maximum(n - guard, 0)
+    return c[hi] - c[lo] > 0
 
 
 def _clipped(x: np.ndarray) -> int:

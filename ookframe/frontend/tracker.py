@@ -9,15 +9,16 @@ mean ``m`` of the envelope (a one-pole average, ``lfilter``):
     valley[n] = m[n] - z[n],  z[n] = max(m[n] - e[n], d * z[n-1], 0)
 
 with ``d = exp(-1 / (decay_us * rate))``. The recursion ``y[n] = max(u[n], d y[n-1])``
-has the closed form ``y[n] = max_k u[k] d^(n-k)``, i.e. in logs
-``n log d + max_k (log u[k] - k log d)``: one ``np.maximum.accumulate``, no per-sample
-loop. The comparator's state (mark while above the high threshold, space below the low
+has the closed form ``y[n] = d^n max_k u[k] d^-k``: one ``np.maximum.accumulate``
+over ``u d^-k``, no per-sample loop (in sub-blocks short enough for ``d^-k`` to stay
+finite). The comparator's state (mark while above the high threshold, space below the low
 one, else unchanged) is the last decisive sample's side, found by a running maximum of
 the decisive indices.
 """
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 
 import numpy as np
@@ -57,24 +58,52 @@ def decay_factor(time_constant_us: float, rate_hz: float) -> float:
     return float(np.exp(-1e6 / (time_constant_us * rate_hz)))
 
 
-def start_state(first_e: float, config: FrontEndConfig) -> TrackerState:
-    """Return the state before the first sample: mean and both detectors at ``first_e``."""
+def start_state(first_e: float, config: FrontEndConfig, rate_hz: float) -> TrackerState:
+    """Return the state before the first sample: mean and both detectors settled at
+    ``first_e`` (``lfilter``'s ``zi`` of a one-pole average at rest at x is d * x)."""
     attack = None
     if config.attack_us > 0:
-        attack = np.array([[first_e], [first_e]], dtype=np.float64)
-    return TrackerState(np.array([first_e]), 0.0, 0.0, attack, False, float(first_e))
+        a = decay_factor(config.attack_us, rate_hz)
+        attack = np.array([[a * first_e], [a * first_e]], dtype=np.float64)
+    d = decay_factor(config.decay_us, rate_hz)
+    return TrackerState(np.array([d * first_e]), 0.0, 0.0, attack, False, float(first_e))
 
 
-def _held(u: np.ndarray, start: float, log_d: float) -> np.ndarray:
-    """Return ``y[n] = max(u[n], d y[n-1], 0)`` with ``y[-1] = start`` (``log_d = log d``)."""
-    k = np.arange(u.size, dtype=np.float64)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        w = np.log(np.maximum(u, 0.0)) - k * log_d
-        acc = np.maximum.accumulate(w)
-        acc += k * log_d
-        if start > 0:
-            np.maximum(acc, np.log(start) + (k + 1) * log_d, out=acc)
-        return np.exp(acc)
+#: largest exponent a sub-block's rescaling may reach (e^600 stays well inside float64)
+_MAX_EXPONENT = 600.0
+
+
+@functools.lru_cache(maxsize=16)
+def _decay_rows(d: float, length: int) -> tuple[np.ndarray, np.ndarray]:
+    """Return (d^-k, d^k) for k = 0..length-1, read-only (cached per decay factor)."""
+    k = np.arange(length, dtype=np.float64)
+    up, down = np.exp(-k * np.log(d)), np.exp(k * np.log(d))
+    up.flags.writeable = down.flags.writeable = False
+    return up, down
+
+
+def _held(u: np.ndarray, start: float, d: float) -> np.ndarray:
+    """Return ``y[n] = max(u[n], d y[n-1], 0)`` with ``y[-1] = start``.
+
+    Closed form per sub-block of ``L`` samples: ``y[k] = d^k max(start d, max_j<=k u[j]
+    d^-j)``, with ``L`` short enough that ``d^-L`` stays finite; the sub-blocks are chained
+    through their last value (a loop over sub-blocks, not samples).
+    """
+    n = u.size
+    length = int(min(n, max(1.0, _MAX_EXPONENT // max(-np.log(d), 1e-300))))
+    length = max(length, 1)
+    up, down = _decay_rows(d, length)
+    out = np.maximum(u, 0.0)
+    carry = start
+    for a in range(0, n, length):
+        seg = out[a:a + length]
+        m = seg.size
+        np.multiply(seg, up[:m], out=seg)
+        np.maximum.accumulate(seg, out=seg)
+        np.maximum(seg, carry * d, out=seg)
+        np.multiply(seg, down[:m], out=seg)
+        carry = float(seg[-1])
+    return out
 
 
 def track(e: np.ndarray, state: TrackerState, config: FrontEndConfig,
@@ -90,9 +119,8 @@ def track(e: np.ndarray, state: TrackerState, config: FrontEndConfig,
     else:
         d = decay_factor(config.decay_us, rate_hz)
         m, mean_zi = signal.lfilter([1.0 - d], [1.0, -d], e, zi=state.mean_zi)
-        log_d = np.log(d)
-        y = _held(e - m, state.peak_offset, log_d)
-        z = _held(m - e, state.valley_offset, log_d)
+        y = _held(e - m, state.peak_offset, d)
+        z = _held(m - e, state.valley_offset, d)
         carrier, floor = m + y, m - z
         attack_zi = state.attack_zi
         if attack_zi is not None:
