@@ -445,7 +445,7 @@ def _run_chunk(plan: FramePlan, cfg: NetworkConfig, nodes: Sequence[Node],
     clear_copy[order] = ~hit
     clear_tx = clear_copy.reshape(n, r).any(axis=1)
     capt_copy = np.empty(cs.size, bool)
-    capt_copy[order] = strongest + cfg.capture_db <= cpow[order]
+    capt_copy[order] = cpow[order] - strongest >= cfg.capture_db  # -inf: none overlapped
     capt_tx = capt_copy.reshape(n, r).any(axis=1)
     frames = _decode_merged(spec, cfg, vs, ve, rng)
     pulses = frames[1]
