@@ -41,6 +41,7 @@ from ..decode import decode
 from ..decode.framer import stream_span_us
 from ..errors import ValueRangeError, excerpt
 from ..plan import FramePlan, as_plan, spec_of
+from ..pulses import PulseTrain
 from ..spec.model import FieldSpec, FrameSpec
 from .stats import clopper_pearson
 
@@ -68,6 +69,14 @@ ID_WORDS: tuple[tuple[str, ...], ...] = (
 DAY_S = 86400.0
 
 Progress = Callable[[float], None]
+#: decoder called on each chunk's merged train: (spec, train) -> frames with start_us,
+#: end_us, crc_ok and payload_hex (the reference decoder, bad checks included, by default)
+Decoder = Callable[[FrameSpec, PulseTrain], Sequence]
+
+
+def reference_decoder(spec: FrameSpec, train: PulseTrain) -> list:
+    """The reference decoder as network runs call it (frames with a bad check included)."""
+    return decode(spec, train, include_bad=True)
 
 
 @dataclass(frozen=True)
@@ -409,7 +418,7 @@ def _overlaps(cs: np.ndarray, ce: np.ndarray, cnode: np.ndarray, cpow: np.ndarra
 
 def _run_chunk(plan: FramePlan, cfg: NetworkConfig, nodes: Sequence[Node],
                id_name: str | None, tx_node: np.ndarray, tx_start_us: np.ndarray,
-               rng: np.random.Generator) -> _ChunkOut:
+               rng: np.random.Generator, decoder: Decoder) -> _ChunkOut:
     """Simulate the transmissions of one chunk (nobody on air at its ends)."""
     spec = plan.spec
     unit, gap, r = plan.unit_us, plan.gap_us, plan.repeats
@@ -447,7 +456,7 @@ def _run_chunk(plan: FramePlan, cfg: NetworkConfig, nodes: Sequence[Node],
     capt_copy = np.empty(cs.size, bool)
     capt_copy[order] = cpow[order] - strongest >= cfg.capture_db  # -inf: none overlapped
     capt_tx = capt_copy.reshape(n, r).any(axis=1)
-    frames = _decode_merged(spec, cfg, vs, ve, rng)
+    frames = _decode_merged(spec, cfg, vs, ve, rng, decoder)
     pulses = frames[1]
     # match decoded frames to copies: nearest start within a quarter frame, same payload
     cs_sorted = cs[order]
@@ -486,7 +495,7 @@ def compact_gap_us(spec: FrameSpec, channel: ChannelSpec) -> float:
 
 
 def _decode_merged(spec: FrameSpec, cfg: NetworkConfig, vs: np.ndarray, ve: np.ndarray,
-                   rng: np.random.Generator) -> tuple[list[tuple[float, float, bool, str]], int]:
+                   rng: np.random.Generator, decoder: Decoder) -> tuple[list[tuple[float, float, bool, str]], int]:
     """Decode the receiver output of the visible marks; return ((start, end, check ok,
     payload hex) per decoded frame in real time µs, pulses decoded)."""
     s, e = union_intervals(vs, ve)
@@ -510,7 +519,7 @@ def _decode_merged(spec: FrameSpec, cfg: NetworkConfig, vs: np.ndarray, ve: np.n
     else:
         mapped, bounds, rate = cs_c, cs_c - keep / 2, 1.0
     out = []
-    for f in decode(spec, train, include_bad=True):
+    for f in decoder(spec, train):
         c = max(int(np.searchsorted(bounds, f.start_us, side="right")) - 1, 0)
         t0 = cs_real[c] + (f.start_us - mapped[c]) / rate
         t1 = cs_real[c] + (f.end_us - mapped[c]) / rate
@@ -557,11 +566,13 @@ def aloha_reference(spec: FrameSpec | FramePlan, interval_s: float, n_nodes: int
 
 
 def run_network(spec: FrameSpec | FramePlan, cfg: NetworkConfig, *,
-                progress: Progress | None = None) -> NetworkResult:
+                progress: Progress | None = None, decoder: Decoder | None = None
+                ) -> NetworkResult:
     """Return the delivery of ``cfg.n_nodes`` nodes sharing one receiver (module docstring).
 
-    ``progress(s)`` is called after each chunk with the simulated seconds it covered.
-    Same spec and config -> same result.
+    ``progress(s)`` is called after each chunk with the simulated seconds it covered;
+    ``decoder`` replaces the reference decoder (:data:`Decoder`). Same spec and config ->
+    same result.
     """
     require_spec(spec, "spec")
     require(cfg, NetworkConfig, "cfg", "e.g. NetworkConfig(n_nodes=2, interval_s=60, hours=1)")
@@ -591,7 +602,8 @@ def run_network(spec: FrameSpec | FramePlan, cfg: NetworkConfig, *,
                          chunk_seq.spawn(edges.size - 1), strict=True):
         if b > a:
             o = _run_chunk(plan, cfg, nodes, None if id_f is None else id_f.name,
-                           tx_node[a:b], tx_s[a:b] * 1e6, np.random.default_rng(q))
+                           tx_node[a:b], tx_s[a:b] * 1e6, np.random.default_rng(q),
+                           decoder or reference_decoder)
             delivered[a:b], latency[a:b] = o.delivered, o.latency_us
             clear[a:b], captured[a:b] = o.clear, o.captured
             for k in tally:
