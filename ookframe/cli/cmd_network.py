@@ -246,8 +246,10 @@ def _print_suggestion(s) -> None:
     head = "suggested" if s.met else "no candidate meets the target; best"
     out.print(f"{head}: repeats = {s.repeats}, interval jitter +-{s.interval_jitter:.0%} "
               f"({s.jitter_reason})")
-    if s.met and s.repeats > 1:
-        out.print("  (fewest repeats that meet it: least airtime, energy and load)")
+    if s.met:
+        out.print("  (fewest repeats that meet it: least airtime, energy and load; the ALOHA "
+                  "figure counts collisions only, so keep a repeat or two for fades and "
+                  "interference if the link margin is thin)")
     if s.run is not None:
         r = s.run
         lo, hi = r.delivery_ci95
