@@ -195,16 +195,19 @@ def _print_result(args: argparse.Namespace, r) -> None:
               f"{r.repeats} copies {r.gap_us / 1000:g} ms apart, {c.hours:g} h simulated; "
               f"id field: {r.id_field or '(none)'}; channel {args.preset} "
               f"({channel_text(c.channel)}); capture {c.capture_db:g} dB")
-    for col in ("node", "id", "clock ppm", "rx dBm", "updates", "delivered", "95 % CI",
-                "lost/day", "latency ms mean/p95", "longest outage"):
+    for col in ("node", "id", "ppm", "dBm", "sent", "deliv.", "95 % CI", "lost/d",
+                "ms avg/p95", "outage"):
         t.add_column(col, justify="right")
     for n in r.nodes:
         lo, hi = n.delivery_ci95
         t.add_row(str(n.index), "-" if n.id_value is None else str(n.id_value),
                   f"{n.clock_error_ppm:+.0f}", f"{n.rx_power_dbm:.1f}", str(n.updates),
-                  f"{n.delivery:.4f}", f"{lo:.4f}..{hi:.4f}", f"{n.lost_per_day:.3g}",
+                  f"{n.delivery:.4f}", f"{lo:.3f}-{hi:.3f}", f"{n.lost_per_day:.3g}",
                   f"{_ms(n.latency_ms_mean)}/{_ms(n.latency_ms_p95)}", str(n.longest_outage))
     out.print(t)
+    out.print("ppm: clock error; dBm: received power; deliv.: updates with >= 1 good copy; "
+              "lost/d: lost updates per day; ms: update to end of first good copy; outage: "
+              "most lost updates in a row")
     a = r.aloha
     lo, hi = a.delivery_ci95
     clo, chi = a.clear_ci95
