@@ -223,7 +223,7 @@ def quantisation(diffs_us: np.ndarray, resolution_us: float, scatter_us: float
     s = float(np.sum(x * m) / np.sum(m * m))
     e = x - m * s
     se = math.sqrt(float(np.sum(e * e)) / (x.size - 1) / float(np.sum(m * m)))
-    h = _t(x.size - 1) * se
+    h = _t(x.size - 1) * se + 1e-9 * s  # plus the float rounding of the time stamps
     return Estimate(name, s, (s - h, s + h),
                     "lattice search on duration differences (phase concentration "
                     f"{conc[best]:.3f}), then least-squares step with t-interval",
