@@ -313,6 +313,9 @@ def _glitches(fits: FrameFits, cap: CaptureEdges) -> list[Estimate | est.Blind]:
     if count == 0:
         width: Estimate | est.Blind = est.Blind(
             "glitch_width_us", f"no glitch seen in {time_us / 1000:.6g} ms of frames")
+    elif widths.size == 1:
+        width = Estimate("glitch_width_us", float(widths[0]), None, "one glitch: its width, "
+                         "no interval", 1, "glitches", "us")
     else:
         width = est.mean_t("glitch_width_us", widths, "glitches", "us",
                            "the model draws widths uniform in 0.5..1.5 times this")
