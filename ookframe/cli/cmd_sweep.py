@@ -10,8 +10,9 @@ from ..errors import ValueRangeError
 from ..spec_io import load_spec
 from ..stress.sweep import parse_vary, plot_sweep, run_sweep
 from . import common
+from .channel_options import add_channel_arguments, channel_from_args
 from .cluster import executor_from_args
-from .cmd_stress import add_channel_arguments, add_run_arguments, channel_from_args, progress_bar
+from .cmd_stress import add_run_arguments, progress_bar
 from .output import check_writable, err, out, print_json
 
 NAME = "sweep"

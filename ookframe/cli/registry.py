@@ -10,6 +10,7 @@ COMMANDS: tuple[str, ...] = (
     "cmd_noise",
     "cmd_sweep",
     "cmd_margin",
+    "cmd_calibrate",
     "cmd_vectors",
     "cmd_airtime",
     "cmd_plot",
