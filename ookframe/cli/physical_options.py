@@ -5,7 +5,7 @@ from __future__ import annotations
 
 import argparse
 
-from ..cautions import REGULATORY_CAUTION
+from ..cautions import RANGE_CAUTION
 from ..channel.physical import (
     RECEIVERS,
     PathModel,
@@ -146,4 +146,4 @@ def receiver_text(ch: PhysicalChannel) -> str:
 
 def caution() -> str:
     """Return the caution shown with power and range figures."""
-    return REGULATORY_CAUTION
+    return RANGE_CAUTION

@@ -11,6 +11,17 @@ from .budget import (
     path_loss_db,
     thermal_noise_dbm_per_hz,
 )
+from .capture import (
+    IQ_FORMATS,
+    WAV_DTYPES,
+    WAV_KINDS,
+    baseband_snr_db,
+    iq_bytes,
+    pin_samples,
+    render_baseband,
+    write_iq,
+    write_wav,
+)
 from .carrier import Carrier, KeyedEnvelope, carriers_on_grid, render_carriers
 from .model import (
     LICENCE_FREE_433_MW,
@@ -31,6 +42,15 @@ from .receiver import (
 )
 
 __all__ = [
+    "IQ_FORMATS",
+    "WAV_DTYPES",
+    "WAV_KINDS",
+    "baseband_snr_db",
+    "iq_bytes",
+    "pin_samples",
+    "render_baseband",
+    "write_iq",
+    "write_wav",
     "LICENCE_FREE_433_MW",
     "RECEIVERS",
     "Carrier",
