@@ -16,4 +16,5 @@ COMMANDS: tuple[str, ...] = (
     "cmd_syncword",
     "cmd_crc_strength",
     "cmd_range",
+    "cmd_render",
 )
