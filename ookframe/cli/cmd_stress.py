@@ -1,7 +1,7 @@
 """``ookframe stress``: random frames through the channel model and the reference decoder.
 
-Also holds the channel / run options shared by ``noise``, ``sweep``, ``margin`` and
-``vectors``.
+Also holds the run options shared by ``noise``, ``sweep`` and ``margin``; the channel
+options live in ``channel_options``.
 """
 
 from __future__ import annotations
@@ -10,65 +10,19 @@ import argparse
 import os
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager
-from dataclasses import fields
 
 from rich.table import Table
 
-from ..channel import PRESETS, ChannelSpec, get_preset
+from ..channel import ChannelSpec
 from ..stress import run_stress
 from ..stress.runner import DEFAULT_CHUNK_FRAMES
 from . import common, exitcodes, physical_options
+from .channel_options import add_channel_arguments, channel_from_args, channel_label, channel_text
 from .cluster import add_scheduler_arguments, executor_from_args, workers_text
 from .output import err, out, print_json, progress_enabled
 
 NAME = "stress"
 HELP = "send random frames through a cheap-link channel model; PER, false accepts, throughput"
-
-
-#: meaning and unit of every impairment option (ChannelSpec's docstring says more)
-IMPAIRMENT_HELP: dict[str, str] = {
-    "jitter_us": "per-edge timing error, µs: Gaussian sigma or uniform half-width "
-                 "(see --jitter-kind)",
-    "jitter_kind": "edge jitter distribution: gauss (sigma) or uniform (±)",
-    "mark_bias_us": "µs added to every mark and taken from the next space (negative: "
-                    "marks shortened); transmitter start-up and ring-down",
-    "clock_error_pct": "sender clock error, %% (positive: every pulse longer)",
-    "drift_pct_per_s": "sender clock drift, %% per second from each transmission start",
-    "quant_step_us": "receiver output edges moved to a grid of this step, µs (0: off)",
-    "glitch_rate_per_ms": "spurious level flips per ms of signal (Poisson)",
-    "glitch_width_us": "mean glitch width, µs (uniform in 0.5..1.5 times it)",
-    "dropout_prob": "probability that a whole mark is lost (0..1)",
-    "idle_noise_us": "idle-receiver noise before and after the train, µs each (0: none)",
-    "idle_noise_mean_us": "mean duration of an idle-noise pulse, µs",
-    "idle_quiet_us": "µs of space after which the idle receiver turns noisy again",
-    "min_width_us": "narrowest pulse the model lets through, µs (narrower ones are widened)",
-}
-
-
-def add_channel_arguments(p: argparse.ArgumentParser, default_preset: str) -> None:
-    """Add --preset and one option per ChannelSpec parameter (overriding the preset)."""
-    g = p.add_argument_group(
-        "channel", f"impairment options override the values of --preset (default "
-        f"{default_preset}); an option not given keeps the chosen preset's value, shown in "
-        f"[brackets] for {default_preset}")
-    g.add_argument("--preset", default=default_preset, choices=sorted(PRESETS),
-                   help=f"channel preset to start from (default: {default_preset})")
-    base = get_preset(default_preset)
-    for f in fields(ChannelSpec):
-        flag = "--" + f.name.replace("_", "-")
-        text = f"{IMPAIRMENT_HELP[f.name]} [{getattr(base, f.name):g}]" \
-            if f.name != "jitter_kind" else f"{IMPAIRMENT_HELP[f.name]} [{base.jitter_kind}]"
-        if f.name == "jitter_kind":
-            g.add_argument(flag, choices=("gauss", "uniform"), default=None, help=text)
-        else:
-            g.add_argument(flag, type=float, default=None, metavar="X", help=text)
-
-
-def channel_from_args(args: argparse.Namespace) -> ChannelSpec:
-    """Return the preset with every impairment option given on the command line applied."""
-    changes = {f.name: getattr(args, f.name) for f in fields(ChannelSpec)
-               if getattr(args, f.name, None) is not None}
-    return get_preset(args.preset).with_(**changes)
 
 
 def add_run_arguments(p: argparse.ArgumentParser) -> None:
@@ -104,20 +58,11 @@ def progress_bar(args: argparse.Namespace, total: float, label: str
         yield lambda k: bar.advance(task, k)
 
 
-def channel_text(ch: ChannelSpec) -> str:
-    """Return the non-default channel parameters as ``name=value`` text."""
-    base = ChannelSpec()
-    parts = [f"{f.name}={getattr(ch, f.name)}" for f in fields(ch)
-             if getattr(ch, f.name) != getattr(base, f.name)]
-    return ", ".join(parts) or "ideal"
-
-
 def add_arguments(p: argparse.ArgumentParser) -> None:
     common.add_spec_argument(p)
     p.add_argument("--frames", type=common.FRAMES, default=10000,
                    help="transmissions to send (default 10000)")
     add_channel_arguments(p, "budget-superregen")
-    physical_options.add_channel_choice(p)
     physical_options.add_physical_arguments(p)
     add_run_arguments(p)
 
@@ -152,7 +97,7 @@ def _report(args: argparse.Namespace, spec, ch: ChannelSpec, r, *, interrupted: 
         return
     partial = f"; INTERRUPTED: {r.frames} of {args.frames} sent" if interrupted else ""
     what = (f"the physical link ({physical_options.physical_text(ch)})" if physical
-            else f"{args.preset} ({channel_text(ch)})")
+            else f"{channel_label(args)} ({channel_text(ch)})")
     t = Table(title=f"{spec.name} through {what}{partial}")
     t.add_column("measure")
     t.add_column("value", justify="right")

@@ -11,8 +11,9 @@ from ..errors import ValueRangeError
 from ..spec_io import load_spec
 from ..stress.sweep import parameter_names, parse_vary, plot_sweep, run_sweep
 from . import common, physical_options
+from .channel_options import add_channel_arguments, channel_from_args
 from .cluster import executor_from_args
-from .cmd_stress import add_channel_arguments, add_run_arguments, channel_from_args, progress_bar
+from .cmd_stress import add_run_arguments, progress_bar
 from .output import check_writable, err, out, print_json
 
 NAME = "sweep"
@@ -29,7 +30,6 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--plot", metavar="FILE", help="write a plot (.png, .svg, .pdf)")
     p.add_argument("--force", action="store_true", help="overwrite an existing plot file")
     add_channel_arguments(p, "ideal")
-    physical_options.add_channel_choice(p)
     physical_options.add_physical_arguments(p, position=False)
     add_run_arguments(p)
 

@@ -16,6 +16,7 @@ from ..channel.physical import (
 )
 from ..errors import ValueRangeError
 from . import common
+from .channel_options import channel_word
 
 #: the value of ``--channel`` that selects the physical link model
 PHYSICAL = "physical"
@@ -24,17 +25,11 @@ _DB = common.float_in(-300, 300)
 _POSITIVE = common.float_in(0, 1e12, lo_open=True)
 
 
-def add_channel_choice(p: argparse.ArgumentParser) -> None:
-    """Add ``--channel physical`` (the pulse-level model of --preset when not given)."""
-    p.add_argument("--channel", choices=(PHYSICAL,), default=None,
-                   help="physical: send the frames through the physical link model (the "
-                   "options below) instead of the pulse-level --preset model")
-
-
 def channel_or(args: argparse.Namespace, pulse_level):
-    """Return the physical channel when ``--channel physical`` was given, else
-    ``pulse_level(args)`` (the preset and impairment options)."""
-    if getattr(args, "channel", None) == PHYSICAL:
+    """Return the physical channel when ``--channel physical`` was given (the
+    ``channel_options.CHANNEL_WORDS`` word), else ``pulse_level(args)`` (preset, channel
+    file and impairment options)."""
+    if channel_word(args) == PHYSICAL:
         return physical_from_args(args)
     return pulse_level(args)
 
