@@ -90,7 +90,7 @@ def test_decode_format_overrides_extension(capsys, tmp_path):
     assert code == exitcodes.BAD_INPUT and "extension" in err
     code, out, _ = run(capsys, "decode", HIVE, str(cap), "--format", "csv", "--json")
     assert code == 0 and len(json.loads(out)) == 3
-    code, _, _ = run(capsys, "decode", HIVE, str(cap), "--format", "wav")
+    code, _, _ = run(capsys, "decode", HIVE, str(cap), "--format", "mp3")
     assert code == exitcodes.USAGE
     # a JSON capture named .csv is read as JSON when told so
     cap_json = tmp_path / "capture.csv"

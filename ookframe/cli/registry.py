@@ -4,6 +4,7 @@ COMMANDS: tuple[str, ...] = (
     "cmd_check",
     "cmd_encode",
     "cmd_decode",
+    "cmd_slice",
     "cmd_demo",
     "cmd_emit",
     "cmd_stress",
