@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import math
 import tomllib
+import warnings
 from pathlib import Path
 
 import numpy as np
@@ -29,7 +30,6 @@ from ookframe.channel.physical import (
     fspl_db,
     get_receiver,
     idle_output_mean,
-    iq_bytes,
     noise_floor_dbm,
     path_loss_db,
     pin_samples,
@@ -37,6 +37,7 @@ from ookframe.channel.physical import (
     receive_carriers,
     render_baseband,
     render_carriers,
+    scaled_samples,
     thermal_noise_dbm_per_hz,
     write_iq,
     write_wav,
@@ -321,52 +322,52 @@ def test_baseband_noise_is_kt_plus_noise_figure_over_the_sample_rate() -> None:
 @pytest.mark.parametrize("dtype", ["u8", "s16", "s32", "f32"])
 @pytest.mark.parametrize("kind", ["envelope", "iq"])
 def test_wav_files_read_back(tmp_path: Path, kind: str, dtype: str) -> None:
-    """WAV written with scipy.io.wavfile reads back with scipy and soundfile (libsndfile)
-    as the samples written, within the sample type's quantisation."""
+    """The rendered WAV reads back with scipy.io.wavfile and with soundfile (libsndfile)
+    as the scaled samples (peak magnitude at 0.8 of full scale), within the sample type's
+    quantisation."""
+    sf = pytest.importorskip("soundfile")
     spec = _spec()
     rng = np.random.default_rng(1)
     train = random_batch(spec, 1, rng).train
     x = render_baseband(train, _at(-95.0), 100e3, rng)
     path = tmp_path / f"c_{kind}_{dtype}.wav"
     write_wav(path, x, 100e3, kind, dtype)
-    rate, data = wavfile.read(path)
+    ref = scaled_samples(x, kind)
+    assert np.abs(ref).max() == pytest.approx(0.8, abs=1e-6)  # peak magnitude
+    ref = np.stack((ref.real, ref.imag), axis=1) if kind == "iq" else ref
+    with warnings.catch_warnings():  # soundfile's float WAV has a chunk scipy skips
+        warnings.simplefilter("ignore", wavfile.WavFileWarning)
+        rate, data = wavfile.read(path)
     assert rate == 100_000
-    scale = {"u8": 127.5, "s16": 32767.0, "s32": 2**31 - 1.0, "f32": 1.0}[dtype]
-    got = (data.astype(np.float64) - (127.5 if dtype == "u8" else 0.0)) / scale
-    if kind == "iq":
-        assert got.shape == (x.size, 2)
-        ref = np.stack((x.real, x.imag), axis=1)
-    else:
-        ref = np.abs(x)
-    ref = ref / (np.abs(x).max() / 0.8)  # the peak magnitude is 0.8 of full scale
-    tol = 1.0 / scale if dtype != "f32" else 1e-6
-    np.testing.assert_allclose(got, ref, atol=tol + 1e-6)
-    sf = pytest.importorskip("soundfile")
-    data2, rate2 = sf.read(path, dtype="float64", always_2d=True)
-    assert rate2 == 100_000 and data2.shape[0] == x.size
-    assert np.corrcoef(data2[:, 0], got if got.ndim == 1 else got[:, 0])[0, 1] > 0.999
+    offset, scale = {"u8": (128.0, 128.0), "s16": (0.0, 32768.0),
+                     "s32": (0.0, 2.0**31), "f32": (0.0, 1.0)}[dtype]
+    got = (data.astype(np.float64) - offset) / scale
+    assert got.shape == ref.shape
+    step = 1.0 / scale if dtype != "f32" else 1e-6
+    np.testing.assert_allclose(got, ref, atol=1.01 * step)
+    data2, rate2 = sf.read(path, dtype="float64")
+    assert rate2 == 100_000
+    np.testing.assert_allclose(data2, got, atol=1e-9)
 
 
 @pytest.mark.parametrize("fmt", ["u8", "s16", "f32"])
 def test_raw_iq_files_read_back(tmp_path: Path, fmt: str) -> None:
     """Raw interleaved I/Q reads back with numpy.fromfile (u8 offset binary around 127.5,
-    s16 and f32 little-endian) as the complex samples written."""
+    s16 and f32 little-endian) as the scaled complex samples written."""
     rng = np.random.default_rng(3)
     train = random_batch(_spec("tank_level"), 1, rng).train
     x = render_baseband(train, _at(-90.0), 250e3, rng, offset_hz=20e3)
-    path = tmp_path / f"c.c{fmt}"
+    path = tmp_path / f"c.{fmt}.iq"
     write_iq(path, x, fmt)
     raw = np.fromfile(path, {"u8": np.uint8, "s16": "<i2", "f32": "<f4"}[fmt]).astype(float)
-    if fmt == "u8":
-        raw = (raw - 127.5) / 127.5
-    elif fmt == "s16":
-        raw = raw / 32767.0
+    offset, scale = {"u8": (127.5, 127.5), "s16": (0.0, 32768.0), "f32": (0.0, 1.0)}[fmt]
+    raw = (raw - offset) / scale
     y = raw[0::2] + 1j * raw[1::2]
+    ref = scaled_samples(x, "iq")
     assert y.size == x.size
-    ref = x / (np.abs(x).max() / 0.8)
-    tol = {"u8": 0.6 / 127.5 * 1.5, "s16": 1.0 / 32767, "f32": 1e-6}[fmt]
-    assert np.max(np.abs(y.real - ref.real)) <= tol + 1e-6
-    assert len(iq_bytes(x[:10], fmt)) == 10 * 2 * {"u8": 1, "s16": 2, "f32": 4}[fmt]
+    step = 1.0 / scale if fmt != "f32" else 1e-6
+    assert np.max(np.abs(y.real - ref.real)) <= 0.51 * step + 1e-7
+    assert np.max(np.abs(y.imag - ref.imag)) <= 0.51 * step + 1e-7
 
 
 def test_writers_refuse_to_overwrite(tmp_path: Path) -> None:
@@ -376,12 +377,14 @@ def test_writers_refuse_to_overwrite(tmp_path: Path) -> None:
     x = np.ones(10, np.complex64)
     with pytest.raises(ValueRangeError):
         write_wav(path, x, 1e5)
+    iq = tmp_path / "c.s16.iq"
+    iq.write_bytes(b"keep")
     with pytest.raises(ValueRangeError):
-        write_iq(path, x)
-    assert path.read_bytes() == b"keep"
+        write_iq(iq, x)
+    assert path.read_bytes() == b"keep" and iq.read_bytes() == b"keep"
     write_wav(path, x, 1e5, force=True)
     assert wavfile.read(path)[0] == 100_000
-    assert not list(tmp_path.glob("*.part"))
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["c.s16.iq", "c.wav"]
 
 
 def test_pin_samples_follow_the_train() -> None:
@@ -390,3 +393,45 @@ def test_pin_samples_follow_the_train() -> None:
     s = pin_samples(train, 1e6)
     assert s.size == 41
     assert s[:10].sum() == 0 and s[10:30].all() and s[30:].sum() == 0
+
+
+# -- through the sampled-capture front end ----------------------------------------------
+
+def _front_end_successes(tmp_path: Path, spec, power_dbm: float, suffix: str,
+                         seed: int) -> int:
+    """Return how many of 6 transmissions decode correctly from a capture of the physical
+    link written as ``suffix`` and read back through the sampled-capture front end."""
+    from ookframe.decode import decode
+    from ookframe.frontend import config_for_unit, slice_capture
+
+    rng = np.random.default_rng(seed)
+    batch = random_batch(spec, 6, rng)
+    x = render_baseband(batch.train, _at(power_dbm), 250e3, rng, offset_hz=15e3)
+    path = tmp_path / f"p{power_dbm:g}{suffix}"
+    if suffix.endswith(".wav"):
+        write_wav(path, x, 250e3, "envelope", "s16")
+        train, _ = slice_capture(path, config_for_unit(spec.unit_us))
+    else:
+        write_iq(path, x, "u8")
+        train, _ = slice_capture(path, config_for_unit(spec.unit_us), sample_rate_hz=250e3)
+    frames = [f for f in decode(spec, train) if f.crc_ok]
+    half = batch.gap_us / 2
+    window = np.searchsorted(np.append(batch.starts_us - half, batch.ends_us[-1] + half),
+                             [f.start_us for f in frames], side="right") - 1
+    ok = {int(w) for f, w in zip(frames, window, strict=True)
+          if 0 <= w < batch.n and f.payload_hex == batch.payload_hex[w]}
+    return len(ok)
+
+
+@pytest.mark.parametrize("suffix", [".wav", ".u8.iq"])
+def test_front_end_decodes_more_as_snr_rises(tmp_path: Path, suffix: str) -> None:
+    """Captures of the physical link (envelope WAV, u8 I/Q with a carrier offset) read by
+    the front end: decode success never falls as the received power (SNR over the
+    250 kHz sample rate: power + 174 - 10 dB - 54 dB) rises, none decode far below, all
+    decode well above."""
+    spec = _spec("hive_scale")
+    powers = [-118.0, -112.0, -108.0, -104.0, -96.0]
+    got = [_front_end_successes(tmp_path, spec, p, suffix, seed=k)
+           for k, p in enumerate(powers)]
+    assert got[0] == 0 and got[-1] == 6, got
+    assert all(b >= a for a, b in zip(got, got[1:], strict=False)), got

@@ -10,7 +10,14 @@ import numpy as np
 
 from ..captures import FORMATS as PULSE_FORMATS
 from ..captures import write_capture
-from ..channel.physical import apply_physical, baseband_snr_db, render_baseband, write_iq, write_wav
+from ..captures.sampled import sampled_format, write_samples
+from ..channel.physical import (
+    apply_physical,
+    baseband_snr_db,
+    pin_samples,
+    render_baseband,
+    scaled_samples,
+)
 from ..errors import ValueRangeError
 from ..frame import encode
 from ..pulses import PulseTrain, concat
@@ -21,16 +28,14 @@ NAME = "render"
 HELP = ("write transmissions of a spec through the physical link model as a WAV / raw I/Q "
         "capture of the received signal, or the receiver's data pin")
 
-#: raw I/Q file extensions and their sample types
-IQ_SUFFIXES = {".cu8": "u8", ".cs16": "s16", ".cf32": "f32"}
-
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
     common.add_spec_argument(p)
     common.add_values_arguments(p)
     p.add_argument("-o", "--output", required=True, metavar="FILE",
-                   help="capture to write: .wav (see --wav), .cu8 / .cs16 / .cf32 (raw "
-                   "interleaved I/Q), or a pulse capture (.csv, .json, .vcd) of the data pin")
+                   help="capture to write: .wav (see --wav), .iq (raw interleaved I/Q, "
+                   "e.g. cap.u8.iq), .raw (raw real samples of the envelope), or a pulse "
+                   "capture (.csv, .json, .vcd) of the receiver's data pin")
     p.add_argument("--force", action="store_true", help="overwrite an existing file")
     p.add_argument("--transmissions", type=common.int_in(1, 10_000), default=1, metavar="N",
                    help="transmissions (all repeats each) to write, a spec gap apart (default 1)")
@@ -42,8 +47,9 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--wav", choices=("envelope", "iq", "pin"), default="envelope",
                    help="what a .wav holds: the signal's envelope (mono), I/Q (stereo) or "
                    "the receiver's data pin (mono 0/1) (default envelope)")
-    p.add_argument("--sample-type", choices=("u8", "s16", "s32", "f32"), default="s16",
-                   help="WAV sample type (default s16)")
+    p.add_argument("--sample-type", metavar="TYPE",
+                   help="sample type: WAV u8, s16, s24, s32, f32; raw u8, s8, s16, f32 "
+                   "(default s16, or a raw file's second suffix as in cap.u8.iq)")
     p.add_argument("--offset-hz", type=common.FINITE, default=0.0, metavar="F",
                    help="carrier offset from the receiver's tuning, Hz (default 0)")
     p.add_argument("--seed", type=common.SEED, default=0, help="random seed (default 0)")
@@ -64,11 +70,11 @@ def _train(args: argparse.Namespace, spec, defaults) -> PulseTrain:
 def run(args: argparse.Namespace) -> int:
     spec, defaults = common.load(args)
     path = Path(args.output)
-    suffix = path.suffix.lower()
-    pulse_file = suffix.lstrip(".") in PULSE_FORMATS
-    if suffix != ".wav" and suffix not in IQ_SUFFIXES and not pulse_file:
-        raise ValueRangeError(f"--output {args.output}: the file name must end in .wav, "
-                              f"{', '.join(IQ_SUFFIXES)} or a pulse capture format "
+    sampled = sampled_format(path)
+    pulse_file = path.suffix.lower().lstrip(".") in PULSE_FORMATS
+    if sampled is None and not pulse_file:
+        raise ValueRangeError(f"--output {args.output}: the file name must end in .wav, .iq, "
+                              f".raw or a pulse capture format "
                               f"({', '.join('.' + f for f in PULSE_FORMATS)})")
     check_writable(path, args.force)
     if not path.resolve().parent.is_dir():
@@ -76,23 +82,22 @@ def run(args: argparse.Namespace) -> int:
     ch = physical_options.physical_from_args(args)
     train = _train(args, spec, defaults)
     rng = np.random.default_rng(args.seed)
-    if pulse_file or (suffix == ".wav" and args.wav == "pin"):
+    sample_type = args.sample_type or ("s16" if sampled == "wav" or len(path.suffixes) < 2
+                                       else None)
+    if pulse_file or (sampled == "wav" and args.wav == "pin"):
         pin = apply_physical(train, ch, rng)
         if pulse_file:
             write_capture(path, pin)
         else:
-            from ..channel.physical import pin_samples
-
-            write_wav(path, pin_samples(pin, args.sample_rate), args.sample_rate, "pin",
-                      args.sample_type, force=True)
+            write_samples(path, scaled_samples(pin_samples(pin, args.sample_rate), "pin"),
+                          args.sample_rate, sample_type=sample_type)
         what = "the receiver's data pin"
     else:
         x = render_baseband(train, ch, args.sample_rate, rng, offset_hz=args.offset_hz)
-        if suffix == ".wav":
-            write_wav(path, x, args.sample_rate, args.wav, args.sample_type, force=True)
-        else:
-            write_iq(path, x, IQ_SUFFIXES[suffix], force=True)
-        what = "the received signal"
+        kind = "iq" if sampled == "iq" else "envelope" if sampled == "raw" else args.wav
+        write_samples(path, scaled_samples(x, kind), args.sample_rate,
+                      sample_type=sample_type)
+        what = "the received signal" + (" (envelope)" if kind == "envelope" else " (I/Q)")
     info = {"output": str(path), "content": what, "duration_us": train.total_us,
             "sample_rate_hz": args.sample_rate, "transmissions": args.transmissions,
             "received_dbm": ch.received_dbm, "noise_floor_dbm": ch.rx.noise_floor_dbm,

@@ -12,13 +12,11 @@ from .budget import (
     thermal_noise_dbm_per_hz,
 )
 from .capture import (
-    IQ_FORMATS,
-    WAV_DTYPES,
     WAV_KINDS,
     baseband_snr_db,
-    iq_bytes,
     pin_samples,
     render_baseband,
+    scaled_samples,
     write_iq,
     write_wav,
 )
@@ -42,13 +40,11 @@ from .receiver import (
 )
 
 __all__ = [
-    "IQ_FORMATS",
-    "WAV_DTYPES",
     "WAV_KINDS",
     "baseband_snr_db",
-    "iq_bytes",
     "pin_samples",
     "render_baseband",
+    "scaled_samples",
     "write_iq",
     "write_wav",
     "LICENCE_FREE_433_MW",

@@ -1,5 +1,6 @@
 """Sampled captures of the physical link: complex baseband at the receiver's antenna, its
-envelope, or the data pin, written as WAV or raw interleaved I/Q files.
+envelope, or the data pin, scaled for and written by the sampled-capture writers
+(``ookframe.captures.sampled``: WAV, raw interleaved I/Q).
 
 The baseband holds the keyed carrier (received power, transmitter start-up and
 ring-down) plus thermal noise of density kT + noise figure over the sample rate, as a
@@ -12,7 +13,6 @@ import os
 from typing import Literal
 
 import numpy as np
-from scipy.io import wavfile
 
 from ..._require import require, require_rng, require_train
 from ...errors import ValueRangeError
@@ -21,13 +21,9 @@ from .budget import thermal_noise_dbm_per_hz
 from .carrier import Carrier, render_carriers
 from .model import PhysicalChannel
 
-IqFormat = Literal["u8", "s16", "f32"]
 WavKind = Literal["envelope", "iq", "pin"]
-WavDtype = Literal["u8", "s16", "s32", "f32"]
 
-IQ_FORMATS: tuple[str, ...] = ("u8", "s16", "f32")
 WAV_KINDS: tuple[str, ...] = ("envelope", "iq", "pin")
-WAV_DTYPES: tuple[str, ...] = ("u8", "s16", "s32", "f32")
 #: the largest sample magnitude of a file is this fraction of full scale
 HEADROOM = 0.8
 
@@ -75,32 +71,24 @@ def _full_scale(x: np.ndarray) -> float:
     return peak / HEADROOM if peak > 0 else 1.0
 
 
-def _quantise(x: np.ndarray, dtype: str) -> np.ndarray:
-    """Return real samples ``x`` in [-1, 1] as ``dtype`` ("u8" offset binary, "s16",
-    "s32" two's complement, "f32")."""
-    if dtype == "f32":
-        return x.astype(np.float32)
-    if dtype == "u8":
-        return np.clip(np.round(x * 127.5 + 127.5), 0, 255).astype(np.uint8)
-    bits = {"s16": 16, "s32": 32}[dtype]
-    top = 2 ** (bits - 1) - 1
-    return np.clip(np.round(x * top), -top - 1, top).astype(f"<i{bits // 8}")
-
-
-def iq_bytes(samples: np.ndarray, fmt: IqFormat = "s16", full_scale: float | None = None
-             ) -> bytes:
-    """Return complex ``samples`` as interleaved I/Q bytes: "u8" (offset binary, 127.5 =
-    zero), "s16" little-endian or "f32" little-endian; scaled so ``full_scale`` (default:
-    the peak magnitude / ``HEADROOM``) is the largest code."""
-    if fmt not in IQ_FORMATS:
-        raise ValueRangeError(f"I/Q format {fmt!r}: allowed {', '.join(IQ_FORMATS)}")
-    x = np.asarray(samples, dtype=np.complex64)
-    fs = _full_scale(x) if full_scale is None else float(full_scale)
-    inter = np.empty(2 * x.size, np.float64)
-    inter[0::2] = x.real / fs
-    inter[1::2] = x.imag / fs
-    return _quantise(inter, fmt).astype(_quantise(np.zeros(1), fmt).dtype.newbyteorder("<")
-                                         ).tobytes()
+def scaled_samples(samples: np.ndarray, kind: WavKind = "iq",
+                   full_scale: float | None = None) -> np.ndarray:
+    """Return samples with full scale 1.0, as the capture writers take them: "iq" the
+    complex samples (complex64), "envelope" their magnitude (float32, 0..1), "pin" 0/1
+    levels as 0 and ``HEADROOM``. ``full_scale`` (default: the peak magnitude /
+    ``HEADROOM``) maps to 1.0."""
+    if kind not in WAV_KINDS:
+        raise ValueRangeError(f"capture kind {kind!r}: allowed {', '.join(WAV_KINDS)}")
+    x = np.asarray(samples)
+    if kind == "pin":
+        return (HEADROOM * (x.real > 0)).astype(np.float32)
+    c = x.astype(np.complex64)
+    if kind == "envelope":
+        env = np.abs(c)
+        return (env / np.float32(_full_scale(env) if full_scale is None else full_scale)
+                ).astype(np.float32)
+    return (c / np.float32(_full_scale(c) if full_scale is None else full_scale)
+            ).astype(np.complex64)
 
 
 def _check_target(path: str | os.PathLike, force: bool) -> None:
@@ -109,51 +97,26 @@ def _check_target(path: str | os.PathLike, force: bool) -> None:
                               "overwrite it")
 
 
-def write_iq(path: str | os.PathLike, samples: np.ndarray, fmt: IqFormat = "s16", *,
+def write_iq(path: str | os.PathLike, samples: np.ndarray, sample_type: str = "s16", *,
              full_scale: float | None = None, force: bool = False) -> None:
-    """Write complex ``samples`` as a raw interleaved I/Q file (see ``iq_bytes``); the
-    file is written whole through a temporary name, never half."""
+    """Write complex ``samples`` as a raw interleaved I/Q file (``sample_type`` u8 offset
+    binary, s8, s16 or f32, little-endian; ``ookframe.captures.sampled``'s I/Q writer),
+    scaled by ``scaled_samples``; the file appears whole or not at all."""
+    from ...captures.sampled import write_samples
+
     _check_target(path, force)
-    data = iq_bytes(samples, fmt, full_scale)
-    _atomic_write(path, lambda f: f.write(data))
+    write_samples(path, scaled_samples(samples, "iq", full_scale), 1.0, fmt="iq",
+                  sample_type=sample_type)
 
 
 def write_wav(path: str | os.PathLike, samples: np.ndarray, sample_rate_hz: float,
-              kind: WavKind = "envelope", dtype: WavDtype = "s16", *,
+              kind: WavKind = "envelope", sample_type: str = "s16", *,
               full_scale: float | None = None, force: bool = False) -> None:
-    """Write a WAV file (scipy.io.wavfile): "envelope" mono ``|x|`` of complex samples
-    (0 .. full scale, centred for u8 as 8-bit WAV is unsigned), "iq" stereo (left I, right
-    Q), "pin" mono 0/1 levels (0 and 0.8 of full scale)."""
-    if kind not in WAV_KINDS:
-        raise ValueRangeError(f"WAV kind {kind!r}: allowed {', '.join(WAV_KINDS)}")
-    if dtype not in WAV_DTYPES:
-        raise ValueRangeError(f"WAV sample type {dtype!r}: allowed {', '.join(WAV_DTYPES)}")
-    rate = int(round(sample_rate_hz))
-    if not 1 <= rate <= 2**31 - 1:
-        raise ValueRangeError(f"sample_rate_hz: must be 1..2**31-1 for WAV, got {rate}")
+    """Write a WAV file through ``ookframe.captures.sampled`` (soundfile): "envelope"
+    mono magnitude of complex samples, "iq" stereo (left I, right Q), "pin" mono 0/1
+    levels; scaled by ``scaled_samples``; ``sample_type`` u8, s16, s24, s32 or f32."""
+    from ...captures.sampled import write_samples
+
     _check_target(path, force)
-    x = np.asarray(samples)
-    if kind == "pin":
-        data = _quantise(HEADROOM * (x.astype(np.float64) > 0), dtype)
-    elif kind == "envelope":
-        env = np.abs(x.astype(np.complex64)).astype(np.float64)
-        fs = _full_scale(env) if full_scale is None else float(full_scale)
-        data = _quantise(env / fs, dtype)
-    else:
-        c = x.astype(np.complex64)
-        fs = _full_scale(c) if full_scale is None else float(full_scale)
-        data = _quantise(np.stack((c.real / fs, c.imag / fs), axis=1).astype(np.float64),
-                         dtype)
-    _atomic_write(path, lambda f: wavfile.write(f, rate, data))
-
-
-def _atomic_write(path: str | os.PathLike, write) -> None:
-    """Write through ``path`` + ".part" and rename, so no half-written file is left."""
-    tmp = os.fspath(path) + ".part"
-    try:
-        with open(tmp, "wb") as f:
-            write(f)
-        os.replace(tmp, path)
-    finally:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
+    write_samples(path, scaled_samples(samples, kind, full_scale), float(round(sample_rate_hz)),
+                  fmt="wav", sample_type=sample_type)
