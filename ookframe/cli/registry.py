@@ -18,4 +18,5 @@ COMMANDS: tuple[str, ...] = (
     "cmd_crc_strength",
     "cmd_range",
     "cmd_render",
+    "cmd_network",
 )
