@@ -77,8 +77,8 @@ def add_physical_arguments(p: argparse.ArgumentParser, *, position: bool = True)
     g.add_argument("--bandwidth-hz", type=_POSITIVE, metavar="B",
                    help=f"receiver noise bandwidth, Hz [{rx.bandwidth_hz:g} for cheap]")
     g.add_argument("--sensitivity-dbm", type=_DB, metavar="S",
-                   help=f"receiver sensitivity, dBm (sets the required SNR over the noise "
-                   f"floor) [{rx.sensitivity_dbm:.0f} for cheap]")
+                   help="receiver sensitivity, dBm (sets the required SNR over the noise "
+                   "floor) [about -105 for cheap]")
     g.add_argument("--quench-hz", type=_POSITIVE, metavar="F",
                    help=f"quench (detector sampling) rate, Hz [{rx.quench_hz:g} for cheap]")
     g.add_argument("--slicer-tau-us", type=_POSITIVE, metavar="T",

@@ -5,7 +5,6 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from scipy import constants
 
 #: reference temperature of thermal noise, K (the usual 290 K of noise-figure definitions)
 T0_K = 290.0
@@ -14,6 +13,8 @@ T0_K = 290.0
 def fspl_db(distance_m: float | np.ndarray, frequency_hz: float) -> float | np.ndarray:
     """Return the free-space path loss (Friis), dB, between isotropic antennas:
     ``20 log10(4 pi d f / c)`` = 20 log10(d) + 20 log10(f) - 147.55 (d in m, f in Hz)."""
+    from scipy import constants  # here: the CLI's --help must not load scipy
+
     d = np.asarray(distance_m, dtype=np.float64)
     out = 20.0 * np.log10(4.0 * math.pi * d * frequency_hz / constants.c)
     return float(out) if out.ndim == 0 else out
@@ -46,6 +47,8 @@ def distance_for_loss_m(
 
 def thermal_noise_dbm_per_hz(temperature_k: float = T0_K) -> float:
     """Return the thermal noise density kT, dBm/Hz (-173.98 at 290 K)."""
+    from scipy import constants
+
     return 10.0 * math.log10(constants.k * temperature_k * 1e3)
 
 

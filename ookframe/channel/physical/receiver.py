@@ -17,7 +17,6 @@ from collections.abc import Sequence
 from functools import lru_cache
 
 import numpy as np
-from scipy import integrate, signal, stats
 
 from ...pulses import PulseTrain
 from .budget import dbm_to_mw
@@ -44,6 +43,8 @@ def detect_probability(rx: Receiver, rx_power_dbm: float | np.ndarray) -> np.nda
     """Return the probability that one quench period detects a steady carrier of
     ``rx_power_dbm`` (Rician: power of carrier + noise above the detection level; the
     non-central chi-square of 2 degrees of freedom)."""
+    from scipy import stats  # here: the CLI's --help must not load scipy
+
     snr = np.asarray(dbm_to_mw(np.asarray(rx_power_dbm) - detector_noise_dbm(rx)))
     # |s + n|^2 with n ~ CN(0, 1): half of a non-central chi2(2, 2 snr)
     return stats.ncx2.sf(2.0 * detection_level(rx), 2, 2.0 * snr)
@@ -52,6 +53,8 @@ def detect_probability(rx: Receiver, rx_power_dbm: float | np.ndarray) -> np.nda
 @lru_cache(maxsize=16)
 def idle_output_mean(rx: Receiver) -> float:
     """Return the mean quench output with no carrier (noise power exponential, mean 1)."""
+    from scipy import integrate
+
     eta = detection_level(rx)
     top = eta * 10.0 ** (rx.log_range_db / 10.0)
 
@@ -95,6 +98,8 @@ class _Slicer:
 
     def block(self, v: np.ndarray) -> np.ndarray:
         """Return the data pin (bool) for the quench outputs ``v`` of one block."""
+        from scipy import signal
+
         y, self.zf = signal.lfilter(*self.filt, v, zi=self.zf)
         thr, self.za = signal.lfilter(*self.avg, y, zi=self.za)
         up = y > thr + self.h
