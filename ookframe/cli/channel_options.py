@@ -6,7 +6,7 @@ Where the channel comes from, lowest precedence first:
      giving both is an error;
   2. every impairment option given (``--jitter-us 6``) overrides the value from 1.
 
-``--channel`` also takes the words in ``CHANNEL_WORDS`` (none yet): a model that is not a
+``--channel`` also takes the words in ``CHANNEL_WORDS``: a model that is not a
 ``ChannelSpec`` (e.g. a sample-level one) registers its word there, and the commands that
 support it test ``channel_word(args)`` before calling ``channel_from_args``.
 """
@@ -41,7 +41,10 @@ IMPAIRMENT_HELP: dict[str, str] = {
 }
 
 #: words ``--channel`` accepts instead of a file: word -> one-line help (see module doc)
-CHANNEL_WORDS: dict[str, str] = {}
+CHANNEL_WORDS: dict[str, str] = {
+    "physical": "the physical link model (transmitter, path, receiver; see the physical "
+                "link options)",
+}
 
 
 def add_channel_source_arguments(g: argparse._ActionsContainer, default_preset: str) -> None:

@@ -16,7 +16,7 @@ from rich.table import Table
 from ..channel import ChannelSpec
 from ..stress import run_stress
 from ..stress.runner import DEFAULT_CHUNK_FRAMES
-from . import common, exitcodes
+from . import common, exitcodes, physical_options
 from .channel_options import add_channel_arguments, channel_from_args, channel_label, channel_text
 from .cluster import add_scheduler_arguments, executor_from_args, workers_text
 from .output import err, out, print_json, progress_enabled
@@ -63,6 +63,7 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--frames", type=common.FRAMES, default=10000,
                    help="transmissions to send (default 10000)")
     add_channel_arguments(p, "budget-superregen")
+    physical_options.add_physical_arguments(p)
     add_run_arguments(p)
 
 
@@ -70,7 +71,7 @@ def run(args: argparse.Namespace) -> int:
     from ..stress.runner import StressInterrupted
 
     spec, _ = common.load(args)
-    ch = channel_from_args(args)
+    ch = physical_options.channel_or(args, channel_from_args)
     try:
         with executor_from_args(args) as ex, progress_bar(args, args.frames, "stress") as tick:
             r = run_stress(spec, ch, args.frames, seed=args.seed, executor=ex,
@@ -86,13 +87,18 @@ def run(args: argparse.Namespace) -> int:
 
 def _report(args: argparse.Namespace, spec, ch: ChannelSpec, r, *, interrupted: bool) -> None:
     """Print a stress result (JSON or table); an interrupted run is marked as partial."""
+    physical = not isinstance(ch, ChannelSpec)
     if args.json:
         d = r.to_dict()
         d["interrupted"] = interrupted
+        if physical:
+            d["caution"] = physical_options.caution()
         print_json(d)
         return
     partial = f"; INTERRUPTED: {r.frames} of {args.frames} sent" if interrupted else ""
-    t = Table(title=f"{spec.name} through {channel_label(args)} ({channel_text(ch)}){partial}")
+    what = (f"the physical link ({physical_options.physical_text(ch)})" if physical
+            else f"{channel_label(args)} ({channel_text(ch)})")
+    t = Table(title=f"{spec.name} through {what}{partial}")
     t.add_column("measure")
     t.add_column("value", justify="right")
     lo, hi = r.per_ci95
@@ -105,3 +111,5 @@ def _report(args: argparse.Namespace, spec, ch: ChannelSpec, r, *, interrupted: 
     t.add_row("frames outside any transmission", f"{r.stray_frames} ({r.stray_accepts} passing)")
     t.add_row("throughput", f"{r.frames_per_s:,.0f} frames/s ({workers_text(args)})")
     out.print(t)
+    if physical:
+        err.print(physical_options.caution())

@@ -17,5 +17,7 @@ COMMANDS: tuple[str, ...] = (
     "cmd_plot",
     "cmd_syncword",
     "cmd_crc_strength",
+    "cmd_range",
+    "cmd_render",
     "cmd_network",
 )
