@@ -184,7 +184,7 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
     # head pattern: lead bits of the preamble + the sync word
     pre_bits = plan.spec.preamble.length_bits
     sync_n = plan.sync_bits.size
-    lead_n = min(LEAD_BITS, pre_bits)
+    lead_n = min(LEAD_BITS, pre_bits // 2)  # the first preamble bits may meet receiver noise
     lead_n -= lead_n % k
     if sync_n + lead_n > 64:
         lead_n = max(0, 64 - sync_n)
