@@ -15,8 +15,13 @@ from hypothesis import strategies as st
 
 from ookframe.codegen import emit_header
 from ookframe.codegen.host_rx import decode_c, host_receiver
-from ookframe.codegen.toolchains import (AVR_FLAGS, CORTEX_M0PLUS_FLAGS, STRICT_FLAGS, compile_c,
-                                         find_tool)
+from ookframe.codegen.toolchains import (
+    AVR_FLAGS,
+    CORTEX_M0PLUS_FLAGS,
+    STRICT_FLAGS,
+    compile_c,
+    find_tool,
+)
 from ookframe.decode import decode
 from ookframe.errors import CodegenError
 from ookframe.frame import encode, random_values
