@@ -15,4 +15,5 @@ COMMANDS: tuple[str, ...] = (
     "cmd_plot",
     "cmd_syncword",
     "cmd_crc_strength",
+    "cmd_network",
 )
