@@ -26,7 +26,6 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from ..decode.head import MAX_CLOCK_ERROR, head_model
 from ..errors import CodegenError
 from ..plan import FramePlan
 from .linecode_table import CodeTable
@@ -39,7 +38,7 @@ UNIT_FRAC = 4
 LEAD_BITS = 16
 #: frequency window the receiver's unit may wander in while hunting (fraction); a little
 #: wider than the reference's search (``head.MAX_CLOCK_ERROR``)
-CLOCK_SPAN = MAX_CLOCK_ERROR + 0.02
+CLOCK_SPAN = 0.12
 #: allowed-length tables longer than this are decided by division (NRZ without stuffing)
 MAX_LADDER = 16
 #: frames held by the ready queue unless <PREFIX>_RX_QUEUE says otherwise
@@ -148,6 +147,8 @@ def _pairs(code: CodeTable, allowed: tuple[tuple[int, ...], tuple[int, ...]]
 
 def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
     """Return the receiver values of ``plan`` (CodegenError naming what is unsupported)."""
+    from ..decode.head import head_model  # the decoder pulls in scipy: only when needed
+
     spec = plan.spec
     lc = plan.line_code
     hm = head_model(spec)
