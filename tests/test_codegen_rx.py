@@ -137,8 +137,47 @@ def test_random_edges_never_break_it(pulses, name):
     lv = np.array([p[0] for p in pulses], np.uint8)
     du = np.array([max(p[1], 1) for p in pulses], float) * rx.tick_us
     EDGES_TRIED[0] += lv.size
+    print(f"rx fuzz: {EDGES_TRIED[0]} edges tried so far")
     if lv.size == 0:
         return
     frames = rx.decode(PulseTrain(lv, du))
     for f in frames:
         assert set(f.raw) == {fl.name for fl in spec.fields}
+
+
+def test_no_compiler_is_a_clear_error(monkeypatch, tmp_path):
+    """Without any C compiler the host build raises CodegenError (no traceback in the CLI)."""
+    from ookframe.codegen.host_rx import find_cc
+
+    monkeypatch.setenv("PATH", str(tmp_path))
+    monkeypatch.delenv("OOKFRAME_CC", raising=False)
+    with pytest.raises(CodegenError, match="no C compiler"):
+        find_cc()
+
+
+@pytest.mark.slow
+@needs_gcc
+def test_stress_cli_decoder_c(tmp_path):
+    """``stress --decoder c --json`` reports both decoders on the same seeds."""
+    import json
+
+    from ookframe.cli.main import main
+
+    import contextlib
+    import io
+
+    out = tmp_path / "o.json"
+    buf = io.StringIO()
+    with contextlib.redirect_stdout(buf):
+        code = main(["stress", str(_example_path("gate_sensor.toml")), "--decoder", "c",
+                     "--frames", "50", "--workers", "1", "--preset", "ideal", "--json"])
+    assert code == 0
+    d = json.loads(buf.getvalue())
+    out.write_text(buf.getvalue())
+    assert d["reference"]["ok"] == d["c"]["ok"] == 50
+
+
+def _example_path(name: str):
+    from pathlib import Path
+
+    return Path(__file__).resolve().parents[1] / "examples" / name
