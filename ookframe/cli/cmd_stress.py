@@ -62,6 +62,9 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     common.add_spec_argument(p)
     p.add_argument("--frames", type=common.FRAMES, default=10000,
                    help="transmissions to send (default 10000)")
+    p.add_argument("--decoder", choices=("reference", "c"), default="reference",
+                   help="c: also run the generated C receiver (built with the system C "
+                   "compiler, cached) on the same seeds and show both (default reference)")
     add_channel_arguments(p, "budget-superregen")
     physical_options.add_physical_arguments(p)
     add_run_arguments(p)
@@ -81,6 +84,27 @@ def run(args: argparse.Namespace) -> int:
         err.print(f"ookframe stress: interrupted after {stop.partial.frames} of {args.frames} "
                   "transmissions; the result above counts those only")
         return exitcodes.INTERRUPTED
+    if getattr(args, "decoder", "reference") == "c":
+        from ..codegen.host_rx import decode_c, host_receiver
+
+        host_receiver(spec)  # build (or find in the cache) before any worker needs it
+        with executor_from_args(args) as ex, progress_bar(args, args.frames, "C receiver") as tick:
+            rc = run_stress(spec, ch, args.frames, seed=args.seed, executor=ex,
+                            workers=args.workers, chunk_frames=args.chunk_frames,
+                            decoder=decode_c, progress=tick)
+        if args.json:
+            print_json({"reference": r.to_dict(), "c": rc.to_dict()})
+            return 0
+        t = Table(title=f"{spec.name} through {args.preset} ({channel_text(ch)}): reference "
+                  "decoder vs generated C receiver, same seeds")
+        for col in ("decoder", "decoded correctly", "PER", "95 % CI", "copies ok"):
+            t.add_column(col, justify="left" if col == "decoder" else "right")
+        for name, x in (("reference", r), ("C receiver", rc)):
+            lo, hi = x.per_ci95
+            t.add_row(name, f"{x.ok}/{x.frames}", f"{x.per:.4g}", f"{lo:.4g} .. {hi:.4g}",
+                      str(x.copies_ok))
+        out.print(t)
+        return 0
     _report(args, spec, ch, r, interrupted=False)
     return 0
 
