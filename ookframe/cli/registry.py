@@ -11,9 +11,13 @@ COMMANDS: tuple[str, ...] = (
     "cmd_noise",
     "cmd_sweep",
     "cmd_margin",
+    "cmd_calibrate",
     "cmd_vectors",
     "cmd_airtime",
     "cmd_plot",
     "cmd_syncword",
     "cmd_crc_strength",
+    "cmd_range",
+    "cmd_render",
+    "cmd_network",
 )

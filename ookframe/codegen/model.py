@@ -20,6 +20,7 @@ from ..plan import FramePlan, as_plan
 from ..spec.model import FrameSpec
 from ..spec.names import name_problem, same_name
 from .linecode_table import CodeTable, code_table
+from .rx_model import RxModel, build_rx
 from .timing import TimerTarget, Timing, quantise
 
 #: bump when the generated API changes incompatibly (checked by <PREFIX>_REQUIRE_API_VERSION)
@@ -164,6 +165,7 @@ class CModel:
     duration_consts: tuple[dict[str, object], ...]
     needs: dict[str, bool]
     gap: dict[str, object] | None = None
+    rx: RxModel | None = None  # the receiver's values (emit --side rx / both), else None
 
 
 def _uint_type(bits: int) -> str:
@@ -369,8 +371,12 @@ def _whitening_model(spec: FrameSpec) -> dict[str, object]:
             "W": "(unsigned)" if tbits <= 16 else ""}
 
 
-def build_model(spec: FrameSpec | FramePlan, target: TimerTarget | None = None) -> CModel:
-    """Return the validated model of ``spec``'s header for ``target`` (CodegenError if not)."""
+def build_model(spec: FrameSpec | FramePlan, target: TimerTarget | None = None, *,
+                side: str = "tx") -> CModel:
+    """Return the validated model of ``spec``'s header for ``target`` (CodegenError if not);
+    ``side`` "rx" or "both" adds the receiver (the transmitter part is always present)."""
+    if side not in ("tx", "rx", "both"):
+        raise CodegenError(f"side {side!r} not allowed; allowed: tx, rx, both")
     plan = as_plan(spec)
     spec = plan.spec
     target = target or TimerTarget()
@@ -462,7 +468,8 @@ def build_model(spec: FrameSpec | FramePlan, target: TimerTarget | None = None) 
             {"name": f"RUN_{d.units}U" if d.units else "GAP", "us": round(d.nominal_us),
              "nominal": f"{d.nominal_us:.3f}", "ticks": d.ticks, "actual": f"{d.quantised_us:.3f}"}
             for d in timing.durations),
-        needs=needs, gap=_gap_model(timing) if has_gap else None)
+        needs=needs, gap=_gap_model(timing) if has_gap else None,
+        rx=build_rx(plan, code, timing) if side != "tx" else None)
 
 
 def _gap_model(timing: Timing) -> dict[str, object]:
