@@ -20,6 +20,7 @@ from ..plan import FramePlan, as_plan
 from ..spec.model import FrameSpec
 from ..spec.names import name_problem, same_name
 from .linecode_table import CodeTable, code_table
+from .rx_model import RxModel, build_rx
 from .timing import TimerTarget, Timing, quantise
 
 #: bump when the generated API changes incompatibly (checked by <PREFIX>_REQUIRE_API_VERSION)
@@ -171,6 +172,7 @@ class CModel:
     #: RAM of the streaming transmitter: sizeof(struct <prefix>_tx) plus the frame buffer
     #: it reads, on 8-bit AVR and on a 32-bit MCU (bytes)
     stream_ram: dict[str, int] = field(default_factory=dict)
+    rx: RxModel | None = None  # the receiver's values (emit --side rx / both), else None
 
 
 def _uint_type(bits: int) -> str:
@@ -376,8 +378,12 @@ def _whitening_model(spec: FrameSpec) -> dict[str, object]:
             "W": "(unsigned)" if tbits <= 16 else ""}
 
 
-def build_model(spec: FrameSpec | FramePlan, target: TimerTarget | None = None) -> CModel:
-    """Return the validated model of ``spec``'s header for ``target`` (CodegenError if not)."""
+def build_model(spec: FrameSpec | FramePlan, target: TimerTarget | None = None, *,
+                side: str = "tx") -> CModel:
+    """Return the validated model of ``spec``'s header for ``target`` (CodegenError if not);
+    ``side`` "rx" or "both" adds the receiver (the transmitter part is always present)."""
+    if side not in ("tx", "rx", "both"):
+        raise CodegenError(f"side {side!r} not allowed; allowed: tx, rx, both")
     plan = as_plan(spec)
     spec = plan.spec
     target = target or TimerTarget()
@@ -473,7 +479,8 @@ def build_model(spec: FrameSpec | FramePlan, target: TimerTarget | None = None) 
             for d in timing.durations),
         needs=needs, gap=_gap_model(timing) if has_gap else None,
         txbuf=txbuf, txbuf_refusal=refusal,
-        stream_ram=_stream_ram(needs, ticks_type, (max_frame_bits + 7) // 8))
+        stream_ram=_stream_ram(needs, ticks_type, (max_frame_bits + 7) // 8),
+        rx=build_rx(plan, code, timing) if side != "tx" else None)
 
 
 #: (size, alignment) in bytes of the C types in the transmitter structs: 8-bit AVR
