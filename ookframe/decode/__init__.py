@@ -8,8 +8,17 @@ code -> ``sync`` (sync word with bit errors) -> ``framer`` (unstuff, fields, che
 
 from __future__ import annotations
 
-from .framer import DecodedFrame, DecodeReport, decode, decode_stream, diagnose
+from .framer import (
+    DecodedFrame,
+    DecodeReport,
+    Receiver,
+    compile_decoder,
+    decode,
+    decode_stream,
+    diagnose,
+)
+from .head import HeadModel
 from .validate import validate_train
 
-__all__ = ["DecodeReport", "DecodedFrame", "decode", "decode_stream", "diagnose",
-           "validate_train"]
+__all__ = ["DecodeReport", "DecodedFrame", "HeadModel", "Receiver", "compile_decoder",
+           "decode", "decode_stream", "diagnose", "validate_train"]

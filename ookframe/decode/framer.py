@@ -24,13 +24,14 @@ import numpy as np
 from .._require import require_spec, require_train
 from ..checks.strength import check_strength, covered_bits
 from ..linecodes import DecodedBits
+from ..plan import FramePlan
 from ..pulses import PulseTrain
 from ..spec.model import FrameSpec
 from .classify import is_allowed
 from .detect import find_candidates
 from .framing import frame_windows
 from .glitch import drop_glitches
-from .head import MAX_CLOCK_ERROR, HeadModel, head_model
+from .head import MAX_CLOCK_ERROR, HeadModel, build_head
 from .segment import burst_breaks, burst_end
 from .validate import validate_train
 from .windows import WindowRuns, Windows, classify_windows, lay_out
@@ -86,7 +87,20 @@ def _plausible(spec: FrameSpec, frame: DecodedFrame) -> bool:
     return frame.timing_errors <= NOISE_TIMING_FRACTION * max(frame.pulses, 1)
 
 
-def decode(spec: FrameSpec, train: PulseTrain, *,
+#: what the decoder takes: a spec, its compiled plan, or the decoder constants built from
+#: the plan once (``compile_decoder``; cheapest when decoding many trains of one spec)
+Receiver = FrameSpec | FramePlan | HeadModel
+
+
+def compile_decoder(spec: Receiver) -> HeadModel:
+    """Return the decoder constants of ``spec`` (a FrameSpec or FramePlan is compiled; a
+    HeadModel is returned as it is): build them once, pass them to every ``decode``."""
+    if isinstance(spec, HeadModel):
+        return spec
+    return build_head(require_spec(spec, "spec"))
+
+
+def decode(spec: Receiver, train: PulseTrain, *,
            include_bad: bool | None = None, max_flips: int | None = None
            ) -> list[DecodedFrame]:
     """Return every frame of ``spec`` found in ``train``, in time order.
@@ -116,7 +130,8 @@ def decode(spec: FrameSpec, train: PulseTrain, *,
     so the false-accept probability it adds to a failed frame stays below 2**-12 (checks
     narrower than 13 bits get none). ``corrected`` counts the edges moved.
     """
-    require_spec(spec, "spec")
+    hm = compile_decoder(spec)
+    spec = hm.spec
     require_train(train, "train")
     validate_train(train)
     if include_bad is None:
@@ -125,7 +140,6 @@ def decode(spec: FrameSpec, train: PulseTrain, *,
     clean = drop_glitches(train.levels, train.durations_us, dec.glitch_fraction * spec.unit_us)
     if len(clean) == 0:
         return []
-    hm = head_model(spec)
     cw = _windows(hm, clean, spec.unit_us)
     if cw is None:
         return []
@@ -363,12 +377,13 @@ class DecodeReport:
         return "frames found"
 
 
-def diagnose(spec: FrameSpec, train: PulseTrain) -> DecodeReport:
+def diagnose(spec: Receiver, train: PulseTrain) -> DecodeReport:
     """Return how far :func:`decode` gets in ``train`` (stage by stage counts)."""
+    hm = compile_decoder(spec)
+    spec = hm.spec
     validate_train(train)
     clean = drop_glitches(train.levels, train.durations_us,
                           spec.decoder.glitch_fraction * spec.unit_us)
-    hm = head_model(spec)
     n = len(clean)
     bursts = int(burst_breaks(clean.durations_us, hm.break_us).size) + 1 if n else 0
     first, unit0 = (find_candidates(clean.levels, clean.durations_us, hm.sig_levels,
@@ -388,15 +403,16 @@ STREAM_MARGIN_UNITS = 8
 STREAM_CONTEXT_PULSES = 8
 
 
-def stream_span_us(spec: FrameSpec) -> float:
+def stream_span_us(spec: Receiver) -> float:
     """Return the longest time a frame of ``spec`` can take as the decoder searches it:
     its most chips at the slowest clock searched (``MAX_CLOCK_ERROR``), +10 %, plus
     ``STREAM_MARGIN_UNITS`` units."""
-    slow_unit_us = spec.unit_us * (1 + MAX_CLOCK_ERROR)
-    return (head_model(spec).max_frame_chips * 1.1 + STREAM_MARGIN_UNITS) * slow_unit_us
+    hm = compile_decoder(spec)
+    slow_unit_us = hm.spec.unit_us * (1 + MAX_CLOCK_ERROR)
+    return (hm.max_frame_chips * 1.1 + STREAM_MARGIN_UNITS) * slow_unit_us
 
 
-def decode_stream(spec: FrameSpec, chunks: Iterable[PulseTrain], *,
+def decode_stream(spec: Receiver, chunks: Iterable[PulseTrain], *,
                   include_bad: bool | None = None) -> Iterator[DecodedFrame]:
     """Yield the frames :func:`decode` finds in the train made of ``chunks`` joined, in
     time order, holding only a piece of it at a time (memory bounded by the chunk size
@@ -411,9 +427,11 @@ def decode_stream(spec: FrameSpec, chunks: Iterable[PulseTrain], *,
     of the first chunk. The frames are :func:`decode`'s for the whole train whenever no
     decision depends on more than the span around a frame (times equal to float rounding).
     """
+    hm = compile_decoder(spec)
+    spec = hm.spec
     if include_bad is None:
         include_bad = spec.decoder.report_bad_check
-    span_us = stream_span_us(spec)
+    span_us = stream_span_us(hm)
     levels = np.zeros(0, np.uint8)
     dur = np.zeros(0)
     origin_us = 0.0            # absolute time of the buffer's first pulse
@@ -428,7 +446,7 @@ def decode_stream(spec: FrameSpec, chunks: Iterable[PulseTrain], *,
         if cut <= handled_us - origin_us or cut <= 0:
             continue
         keep_us = cut
-        for f in decode(spec, PulseTrain(levels, dur), include_bad=True):
+        for f in decode(hm, PulseTrain(levels, dur), include_bad=True):
             if f.start_us >= cut:
                 break
             start = f.start_us + origin_us
@@ -446,7 +464,7 @@ def decode_stream(spec: FrameSpec, chunks: Iterable[PulseTrain], *,
         levels, dur = levels[i:], dur[i:]
     if len(dur) == 0:
         return
-    for f in decode(spec, PulseTrain(levels, dur), include_bad=True):
+    for f in decode(hm, PulseTrain(levels, dur), include_bad=True):
         start = f.start_us + origin_us
         if start < handled_us or start < handled_end_us:
             continue

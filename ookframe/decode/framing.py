@@ -15,7 +15,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..frame import ParsedFrame, fixed_body_bits, parse_frames
+from ..frame import ParsedFrame, parse_frames
 from ..linecodes import DecodedBits
 from ..spec.model import FrameSpec
 from .head import HeadModel
@@ -26,7 +26,7 @@ def array_body_bits(spec: FrameSpec, hm: HeadModel) -> int | None:
     """Return the fields + check bits of every frame when they are parsed as one array
     (one fixed layout, a block code, no stuffing), else None."""
     lc = hm.line_code
-    n_body = fixed_body_bits(spec)
+    n_body = hm.plan.fixed_body_bits
     if n_body is None or lc.chips_per_block is None or lc.max_stuffed_bits(n_body):
         return None
     return n_body
@@ -173,7 +173,7 @@ def _bodies(spec: FrameSpec, hm: HeadModel, st: _Streams, lo: np.ndarray, hi: np
     if n_fixed is not None:
         ok = hi - lo - body_at >= n_fixed
         at = lo[ok, None] + body_at[ok, None] + np.arange(n_fixed)
-        parsed = parse_frames(spec, st.bits[at]).frames()
+        parsed = parse_frames(hm.plan, st.bits[at]).frames()
         code = np.zeros(lo.size, np.int64)
         code[ok] = (~st.valid[at]).sum(axis=1)
         return ok, parsed, np.full(lo.size, n_fixed, np.int64), code
@@ -185,7 +185,7 @@ def _bodies(spec: FrameSpec, hm: HeadModel, st: _Streams, lo: np.ndarray, hi: np
     received, n_rx = lc.unstuff_rows(st.bits[ragged_index(starts, hi - starts)], hi - starts)
     at = np.cumsum(n_rx) - n_rx
     bodies = np.split(received, at[1:]) if lo.size else []
-    rows = parse_frames(spec, bodies).frames() if bodies else []
+    rows = parse_frames(hm.plan, bodies).frames() if bodies else []
     got = np.array([p is not None for p in rows], bool)
     i = np.flatnonzero(got)
     n_bits = np.array([p.n_bits for p in rows if p is not None], np.int64)

@@ -1,16 +1,20 @@
 """What the decoder knows in advance about every frame of a spec: the runs of the
-preamble + sync (the head), the signature used to find frames, and timing limits."""
+preamble + sync (the head), the signature used to find frames, and timing limits.
+
+``build_head(plan)`` works them out from a compiled :class:`~ookframe.plan.FramePlan`
+(well under 2 ms); nothing is cached: whoever decodes many trains of one spec builds the
+model once and passes it to ``decode`` (the stress runner does, once per run).
+"""
 
 from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from functools import lru_cache
 
 import numpy as np
 
-from ..frame import max_body_bits
-from ..linecodes import LineCode, get_line_code
+from ..linecodes import LineCode
+from ..plan import FramePlan, as_plan
 from ..pulses import chips_to_runs
 from ..spec.model import FrameSpec
 from .classify import RunTable, run_table
@@ -32,8 +36,10 @@ MAX_SIGNATURE_RUNS = 32
 
 @dataclass(frozen=True, eq=False)
 class HeadModel:
-    """Decoder constants of one spec (see module docstring). Run arrays are of the head."""
+    """Decoder constants of one spec (see module docstring), with the compiled plan they
+    come from. Run arrays are of the head."""
 
+    plan: FramePlan
     line_code: LineCode
     head_bits: np.ndarray
     sync_bits: np.ndarray
@@ -51,6 +57,10 @@ class HeadModel:
     break_us: float
     phased: bool  # the code's decoder gives one candidate per chip phase (fixed blocks)
     runs: RunTable  # allowed run lengths per level (head runs included), decision thresholds
+
+    @property
+    def spec(self) -> FrameSpec:
+        return self.plan.spec
 
     @property
     def sig_levels(self) -> np.ndarray:
@@ -107,12 +117,14 @@ def _max_chips_per_bit(lc: LineCode) -> float:
     return n / k
 
 
-def build_head(spec: FrameSpec) -> HeadModel:
-    """Return the decoder constants of ``spec``."""
-    lc = get_line_code(spec.line_code)
-    pre = np.array(spec.preamble.bits(), dtype=np.uint8)
-    sync = np.array(spec.sync.bits(), dtype=np.uint8)
-    head = np.concatenate((pre, sync))
+def build_head(spec: FrameSpec | FramePlan) -> HeadModel:
+    """Return the decoder constants of a compiled plan (a spec is compiled first)."""
+    plan = as_plan(spec)
+    spec = plan.spec
+    lc = plan.line_code
+    sync = plan.sync_bits
+    head = plan.head_bits
+    pre = head[:head.size - sync.size]
     chips = lc.encode(head)
     levels, units = chips_to_runs(chips)
     cs = np.concatenate(([0], np.cumsum(units)))
@@ -132,8 +144,8 @@ def build_head(spec: FrameSpec) -> HeadModel:
             cand.run_index[head.size]])
     start, stop = _signature(levels, units, sync_chip)
     reach = max(_self_shift_bits(levels, units, start, stop, lc), 0) + 2 * bpb
-    n_max = head.size + max_body_bits(spec)
-    n_max += lc.max_stuffed_bits(max_body_bits(spec))
+    n_max = head.size + plan.max_body_bits
+    n_max += lc.max_stuffed_bits(plan.max_body_bits)
     max_chips = math.ceil(n_max * _max_chips_per_bit(lc)) + 2 * (cpb or 1)
     max_run = lc.max_run_units
     if max_run is None:
@@ -150,6 +162,7 @@ def build_head(spec: FrameSpec) -> HeadModel:
         else:
             allowed.append(tuple(sorted(set(own) | set(units[levels == lv].tolist()))))
     return HeadModel(
+        plan=plan,
         line_code=lc,
         head_bits=head,
         sync_bits=sync,
@@ -170,14 +183,7 @@ def build_head(spec: FrameSpec) -> HeadModel:
     )
 
 
-@lru_cache(maxsize=64)
-def _cached(spec: FrameSpec) -> HeadModel:
-    return build_head(spec)
-
-
-def head_model(spec: FrameSpec) -> HeadModel:
-    """Return the (cached) decoder constants of ``spec``."""
-    try:
-        return _cached(spec)
-    except TypeError:  # unhashable parameter values
-        return build_head(spec)
+def head_model(spec: FrameSpec | FramePlan | HeadModel) -> HeadModel:
+    """Return the decoder constants: ``spec`` itself when it is a HeadModel, else built
+    afresh from the spec or plan (not cached)."""
+    return spec if isinstance(spec, HeadModel) else build_head(spec)

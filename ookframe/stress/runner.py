@@ -156,23 +156,42 @@ def _payload_right(
     )
 
 
-def reference_decoder(spec: FrameSpec, train: PulseTrain) -> list:
-    """The reference decoder as stress runs call it (frames with a bad check included)."""
+def reference_decoder(spec: object, train: PulseTrain) -> list:
+    """The reference decoder as stress runs call it (frames with a bad check included);
+    ``spec``: a FrameSpec, FramePlan or the decoder's compiled constants
+    (``decode.compile_decoder``)."""
     from ..decode import decode
 
-    return decode(spec, train, include_bad=True)
+    return decode(spec, train, include_bad=True)  # type: ignore[arg-type]
+
+
+def compile_receiver(spec: object) -> object:
+    """Return the reference decoder's constants of ``spec`` (``decode.compile_decoder``:
+    a FrameSpec or FramePlan is compiled, compiled constants are returned as they are),
+    built once per run and sent with every chunk (a few kB), so no chunk compiles them."""
+    from ..decode import compile_decoder
+
+    return compile_decoder(spec)
 
 
 def run_chunk(
-    spec: FrameSpec | FramePlan,
+    spec: object,
     channel: Channel,
     n: int,
     seed_seq: np.random.SeedSequence,
     gap_us: float | None = None,
     decoder: Decoder | None = None,
 ) -> Counts:
-    """Return the tallies of one chunk: ``n`` random transmissions, one batch."""
-    plan = as_plan(spec)
+    """Return the tallies of one chunk: ``n`` random transmissions, one batch.
+
+    ``spec``: a FrameSpec, a FramePlan or the decoder constants of
+    :func:`compile_receiver` (then nothing is compiled here)."""
+    if decoder is None:
+        receiver = compile_receiver(spec)  # type: ignore[arg-type]
+        plan: FramePlan = receiver.plan  # type: ignore[attr-defined]
+    else:
+        plan = spec if isinstance(spec, FramePlan) else (
+            as_plan(spec) if isinstance(spec, FrameSpec) else spec.plan)  # type: ignore[attr-defined]
     rng = np.random.default_rng(seed_seq)
     batch = random_batch(plan, n, rng, gap_us=gap_us)
     half = batch.gap_us / 2
@@ -183,7 +202,8 @@ def run_chunk(
     else:
         rx = apply_channel(batch.train, channel, rng, burst_starts_us=batch.starts_us)
         bounds = channel_time_map_us(bounds, channel, batch.starts_us)
-    decoded = (decoder or reference_decoder)(plan.spec, rx)
+    decoded = (reference_decoder(receiver, rx) if decoder is None
+               else decoder(plan.spec, rx))
     counts = match_frames(batch, decoded, bounds)
     return counts + Counts(pulses=len(rx))
 
@@ -287,14 +307,16 @@ def run_stress(
             "e.g. ookframe.get_preset('ideal') or ookframe.PhysicalChannel()")
     require_int(n_frames, "n_frames")
     t0 = time.perf_counter()
-    if isinstance(spec, FramePlan):
-        spec = spec.spec  # chunks get the spec (small to send) and compile it once each
+    # compiled once per run: every chunk gets the decoder constants (plan included)
+    receiver = compile_receiver(spec) if decoder is None else as_plan(spec)
+    spec = spec.spec if isinstance(spec, FramePlan) else spec
     chunk_frames = min(chunk_frames, max(1, CHUNK_BITS // (spec.max_frame_bits * spec.repeats)))
     c = Counts()
     try:
         sizes = chunk_plan(n_frames, chunk_frames)
         seqs = np.random.SeedSequence(seed).spawn(len(sizes))
-        args = [(spec, channel, n, q, gap_us, decoder) for n, q in zip(sizes, seqs, strict=True)]
+        args = [(receiver, channel, n, q, gap_us, decoder)
+                for n, q in zip(sizes, seqs, strict=True)]
         with pool_for(executor, workers) as pool:
             for _, counts in map_unordered(run_chunk, args, pool):
                 c = c + counts  # integer sums: the order of completion does not matter
