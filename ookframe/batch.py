@@ -19,6 +19,7 @@ import numpy as np
 
 from .bits import from_raw, uint_matrix_to_bits
 from .plan import FramePlan, as_plan
+from .ragged import ragged_index
 from .spec.model import FrameSpec
 
 Raws = Mapping[str, np.ndarray | Sequence[bytes]]
@@ -222,4 +223,19 @@ def frame_chips_batch(spec: FrameSpec | FramePlan, bits: np.ndarray | Sequence[n
     if (isinstance(bits, np.ndarray) and bits.ndim == 2 and lc.chips_per_block is not None
             and lc.max_stuffed_bits(bits.shape[1]) == 0):
         return lc.encode(bits)
-    return [lc.encode(np.concatenate((row[:head_n], lc.stuff(row[head_n:])))) for row in bits]
+    rows = list(bits)
+    if not rows:
+        return []
+    sizes = np.array([r.size for r in rows], np.int64)
+    flat = np.concatenate(rows).astype(np.uint8, copy=False)
+    row_start = np.cumsum(sizes) - sizes
+    body, n_body = lc.stuff_rows(flat[ragged_index(row_start + head_n, sizes - head_n)],
+                                 sizes - head_n)
+    lengths = head_n + n_body
+    out = np.empty(int(lengths.sum()), np.uint8)
+    out_start = np.cumsum(lengths) - lengths
+    heads = (row_start[:, None] + np.arange(head_n)).ravel()
+    out[(out_start[:, None] + np.arange(head_n)).ravel()] = flat[heads]
+    out[ragged_index(out_start + head_n, n_body)] = body
+    chips, n_chips = lc.encode_rows(out, lengths)
+    return np.split(chips, np.cumsum(n_chips)[:-1])

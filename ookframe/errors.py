@@ -27,6 +27,11 @@ class CaptureError(OokframeError):
     """A pulse capture file cannot be read (bad header, NaN or non-positive durations...)."""
 
 
+class ChannelFileError(OokframeError):
+    """A channel file (TOML, ``--channel FILE``) cannot be used; the message names the file
+    and the key (e.g. ``link.toml: channel.jitter_us: expected a number``)."""
+
+
 class CodegenError(OokframeError):
     """C code cannot be generated for this spec/target (timing does not fit, bad name...)."""
 

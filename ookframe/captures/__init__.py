@@ -30,9 +30,12 @@ def capture_format(path: str | os.PathLike[str], fmt: str | None = None) -> str:
     for name, mod in FORMATS.items():
         if suffix in mod.EXTENSIONS:
             return name
+    from .sampled import SAMPLED_FORMATS
+
     allowed = ", ".join(ext for m in FORMATS.values() for ext in m.EXTENSIONS)
+    sampled = ", ".join(ext for m in SAMPLED_FORMATS.values() for ext in m.EXTENSIONS)
     raise CaptureError(f"{path}: cannot tell the capture format from {suffix or 'no'} extension; "
-                       f"allowed: {allowed}")
+                       f"allowed: {allowed} (pulses), {sampled} (samples)")
 
 
 def read_capture(

@@ -12,6 +12,7 @@ from .impairments import (
     scale_clock,
     tx_time_map_us,
 )
+from .linkfile import Estimate, LinkFile, link_from_text, link_to_toml, load_link
 from .model import SIGNED, ChannelSpec, impairment_names
 from .presets import PRESETS, get_preset
 
@@ -20,6 +21,8 @@ __all__ = [
     "PRESETS",
     "SIGNED",
     "ChannelSpec",
+    "Estimate",
+    "LinkFile",
     "add_glitches",
     "add_idle_noise",
     "apply_channel",
@@ -30,6 +33,9 @@ __all__ = [
     "idle_noise_train",
     "impairment_names",
     "jitter_edges",
+    "link_from_text",
+    "link_to_toml",
+    "load_link",
     "quantise_edges",
     "scale_clock",
     "tx_time_map_us",

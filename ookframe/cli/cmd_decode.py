@@ -10,11 +10,12 @@ from rich import box
 from rich.markup import escape
 from rich.table import Table
 
-from . import common
+from . import common, sampled_options
 from .output import err, out, print_json
 
 NAME = "decode"
-HELP = "decode every frame in a pulse capture (CSV, JSON or VCD)"
+HELP = ("decode every frame in a capture: pulses (CSV, JSON, VCD) or samples (WAV, raw I/Q, "
+        "raw real) through the front end of `slice`")
 #: capture formats --format accepts (the names of ookframe.captures.FORMATS, which a test
 #: compares with this tuple; kept here so that building the parser imports no reader)
 CAPTURE_FORMATS = ("csv", "json", "vcd")
@@ -22,13 +23,18 @@ CAPTURE_FORMATS = ("csv", "json", "vcd")
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
     common.add_spec_argument(p)
-    p.add_argument("capture", metavar="CAPTURE", help="capture file: .csv (level,duration_us), .json or .vcd")
-    p.add_argument("--format", choices=CAPTURE_FORMATS, default=None, dest="capture_format",
+    p.add_argument("capture", metavar="CAPTURE", help="capture file: pulses in .csv "
+                   "(level,duration_us), .json or .vcd; samples in .wav, .iq (raw I/Q) or "
+                   ".raw (raw real)")
+    p.add_argument("--format", choices=CAPTURE_FORMATS + sampled_options.SAMPLED_FORMATS,
+                   default=None, dest="capture_format",
                    help="capture format, overriding the file extension (default: from the "
-                   "extension: .csv, .json, .vcd)")
+                   "extension: .csv, .json, .vcd, .wav, .iq, .raw)")
     p.add_argument("--signal", metavar="NAME", help="VCD signal to read (default: the only 1-bit signal)")
     p.add_argument("--good-only", action="store_true", help="leave out frames whose check fails")
     common.add_json_argument(p)
+    sampled_options.add_reader_arguments(p)
+    sampled_options.add_frontend_arguments(p)
 
 
 def frame_dicts(frames) -> list[dict]:
@@ -55,15 +61,12 @@ CHUNK_PULSES = 250_000
 
 
 def run(args: argparse.Namespace) -> int:
-    from ..captures import iter_capture
     from ..decode import decode_stream
     spec, _ = common.load(args)
-
-    def chunks():
-        return iter_capture(args.capture, chunk_pulses=CHUNK_PULSES, signal=args.signal,
-                            fmt=args.capture_format)
-
+    chunks, reports = _pulse_source(args, spec)
     frames = list(decode_stream(spec, chunks(), include_bad=not args.good_only))
+    if reports:
+        err.print(sampled_options.report_line(reports[-1]), markup=False)
     if args.json:
         print_json(frame_dicts(frames))
         return 0
@@ -79,6 +82,43 @@ def run(args: argparse.Namespace) -> int:
     out.print(frames_table(spec, frames, f"{len(frames)} frame(s) of '{spec.name}' in "
                            f"{args.capture}"))
     return 0
+
+
+def _pulse_source(args: argparse.Namespace, spec):
+    """Return (a function returning a fresh iterator over the capture's pulse pieces, the
+    list the front end's report of each pass is appended to; empty for pulse captures)."""
+    from ..captures.sampled import sampled_format
+    from ..errors import CaptureError
+
+    reports: list = []
+    if sampled_format(args.capture, args.capture_format) is None:
+        from ..captures import iter_capture
+
+        flags = sampled_options.given_flags(args)
+        if flags:
+            raise CaptureError(f"{args.capture}: {', '.join(flags)} applies to sampled "
+                               "captures (.wav, .iq, .raw) only, not to pulse captures")
+
+        def pulse_chunks():
+            return iter_capture(args.capture, chunk_pulses=CHUNK_PULSES, signal=args.signal,
+                                fmt=args.capture_format)
+
+        return pulse_chunks, reports
+    from ..captures.sampled import sampled_info
+    from ..frontend import iter_sliced, open_slicer
+
+    if args.signal is not None:
+        raise CaptureError(f"{args.capture}: --signal applies to VCD captures only")
+    config = sampled_options.frontend_config(args, spec.unit_us)
+    info = sampled_info(args.capture, fmt=args.capture_format,
+                        **sampled_options.reader_options(args))
+
+    def sliced_chunks():
+        slicer = open_slicer(info, config)
+        yield from iter_sliced(info, slicer)
+        reports.append(slicer.report())
+
+    return sliced_chunks, reports
 
 
 def _diagnose_pieces(spec, chunks):

@@ -43,6 +43,9 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--tolerance-pct", type=float, default=100 * DEFAULT_TOLERANCE, metavar="PCT",
                    help="refuse when any duration is off by more than PCT %% after "
                    f"quantisation (default {100 * DEFAULT_TOLERANCE:g})")
+    p.add_argument("--side", choices=("tx", "rx", "both"), default="tx",
+                   help="tx: the transmitter (default); rx / both: the transmitter plus the "
+                   "receiver (<PREFIX>_rx_*, behind <PREFIX>_WANT_RX, default on)")
     p.add_argument("--force", action="store_true", help="overwrite an existing header")
     common.add_json_argument(p)
 
@@ -66,7 +69,7 @@ def run(args: argparse.Namespace) -> int:
     target = TimerTarget(clock_hz=args.mcu_clock_hz, timer_bits=args.timer_bits,
                          prescalers=tuple(args.prescalers), tolerance=args.tolerance_pct / 100,
                          crc_impl=args.crc_impl)
-    emitted = emit_header(spec, target)  # everything is computed before anything is written
+    emitted = emit_header(spec, target, side=args.side)  # everything is computed before anything is written
     path = Path(args.output_dir) / emitted.filename
     check_writable(path, args.force)
     write_atomic(path, emitted.text, force=args.force, make_parents=True)  # -o DIR is created

@@ -11,8 +11,9 @@ from rich.table import Table
 
 from ..stress.margin import MARGIN_IMPAIRMENTS, run_margin
 from . import common, exitcodes
+from .channel_options import add_channel_arguments, channel_from_args
 from .cluster import executor_from_args
-from .cmd_stress import add_channel_arguments, add_run_arguments, channel_from_args
+from .cmd_stress import add_run_arguments
 from .output import err, out, print_json, progress_enabled
 
 NAME = "margin"

@@ -6,9 +6,9 @@ import argparse
 
 from rich.table import Table
 
-from ..channel import PRESETS, get_preset
 from ..stress import run_noise
 from . import common
+from .channel_options import add_channel_source_arguments, base_channel
 from .cluster import executor_from_args
 from .cmd_stress import add_run_arguments, progress_bar
 from .output import out, print_json
@@ -20,16 +20,17 @@ HELP = "feed idle-receiver noise only; false frames per hour, measured and expec
 def add_arguments(p: argparse.ArgumentParser) -> None:
     common.add_spec_argument(p)
     p.add_argument("--hours", type=common.float_in(0, 10_000, lo_open=True), required=True, help="hours of noise to simulate")
-    p.add_argument("--preset", default="budget-superregen", choices=sorted(PRESETS),
-                   help="take the noise pulse mean from this preset")
-    p.add_argument("--mean-us", type=common.float_in(1, 1e7), default=None,
-                   help="mean noise pulse duration in µs (overrides the preset)")
+    g = p.add_argument_group("channel", "the noise pulse mean comes from --preset (default "
+                             "budget-superregen) or --channel FILE; --mean-us overrides both")
+    add_channel_source_arguments(g, "budget-superregen")
+    g.add_argument("--mean-us", type=common.float_in(1, 1e7), default=None,
+                   help="mean noise pulse duration in µs (overrides the preset or file)")
     add_run_arguments(p)
 
 
 def run(args: argparse.Namespace) -> int:
     spec, _ = common.load(args)
-    mean = args.mean_us if args.mean_us is not None else get_preset(args.preset).idle_noise_mean_us
+    mean = args.mean_us if args.mean_us is not None else base_channel(args).idle_noise_mean_us
     with executor_from_args(args) as ex, progress_bar(args, args.hours * 3600.0,
                                                       "noise (s)") as tick:
         r = run_noise(spec, args.hours, mean_us=mean, seed=args.seed, executor=ex,

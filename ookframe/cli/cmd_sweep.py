@@ -6,12 +6,14 @@ import argparse
 
 from rich.table import Table
 
+from ..channel.physical import PhysicalChannel
 from ..errors import ValueRangeError
 from ..spec_io import load_spec
-from ..stress.sweep import parse_vary, plot_sweep, run_sweep
-from . import common
+from ..stress.sweep import parameter_names, parse_vary, plot_sweep, run_sweep
+from . import common, physical_options
+from .channel_options import add_channel_arguments, channel_from_args
 from .cluster import executor_from_args
-from .cmd_stress import add_channel_arguments, add_run_arguments, channel_from_args, progress_bar
+from .cmd_stress import add_run_arguments, progress_bar
 from .output import check_writable, err, out, print_json
 
 NAME = "sweep"
@@ -28,11 +30,13 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--plot", metavar="FILE", help="write a plot (.png, .svg, .pdf)")
     p.add_argument("--force", action="store_true", help="overwrite an existing plot file")
     add_channel_arguments(p, "ideal")
+    physical_options.add_physical_arguments(p, position=False)
     add_run_arguments(p)
 
 
 def run(args: argparse.Namespace) -> int:
-    name, values = parse_vary(args.vary)
+    ch = physical_options.channel_or(args, channel_from_args)
+    name, values = parse_vary(args.vary, parameter_names(ch))
     specs = [load_spec(s) for s in args.specs]
     if args.plot:
         from pathlib import Path
@@ -43,7 +47,6 @@ def run(args: argparse.Namespace) -> int:
         check_writable(args.plot, args.force)
         if not Path(args.plot).resolve().parent.is_dir():
             raise ValueRangeError(f"--plot {args.plot}: folder does not exist")
-    ch = channel_from_args(args)
     total = args.frames * len(values) * len(specs)
     with executor_from_args(args) as ex, progress_bar(args, total, "sweep") as tick:
         res = run_sweep(specs, ch, name, values, args.frames, seed=args.seed, executor=ex,
@@ -52,14 +55,24 @@ def run(args: argparse.Namespace) -> int:
         plot_sweep(res, args.plot)
         err.print(f"wrote {args.plot}")
     if args.json:
-        print_json(res.to_dict())
+        d = res.to_dict()
+        if isinstance(ch, PhysicalChannel):
+            d["caution"] = physical_options.caution()
+        print_json(d)
         return 0
     t = Table(title=f"PER vs {name} ({args.frames} frames per point)")
+    physical = isinstance(ch, PhysicalChannel)
     t.add_column(name, justify="right")
+    if physical:
+        t.add_column("received dBm", justify="right")
     for s in res.specs:
         t.add_column(f"{s} PER [95 % CI]", justify="right")
     for k, v in enumerate(res.values):
-        t.add_row(f"{v:g}", *(f"{rows[k].per:.3g} [{rows[k].per_ci95[0]:.3g}, "
-                              f"{rows[k].per_ci95[1]:.3g}]" for rows in res.results))
+        link = [f"{res.results[0][k].channel.received_dbm:.1f}"] if physical else []
+        t.add_row(f"{v:g}", *link, *(f"{rows[k].per:.3g} [{rows[k].per_ci95[0]:.3g}, "
+                                     f"{rows[k].per_ci95[1]:.3g}]" for rows in res.results))
     out.print(t)
+    if physical:
+        err.print(physical_options.receiver_text(ch))
+        err.print(physical_options.caution())
     return 0

@@ -8,7 +8,7 @@ from pathlib import Path
 
 from ..stress.vectors import make_vectors, render_vectors_c, vectors_to_dict
 from . import common
-from .cmd_stress import add_channel_arguments, channel_from_args
+from .channel_options import add_channel_arguments, channel_from_args
 from .output import err, out, write_atomic
 
 NAME = "vectors"

@@ -57,12 +57,14 @@ class Emitted:
         }
 
 
-def emit_header(spec: FrameSpec | FramePlan, target: TimerTarget | None = None) -> Emitted:
-    """Return the generated header for ``spec`` (CodegenError when it cannot be made)."""
+def emit_header(spec: FrameSpec | FramePlan, target: TimerTarget | None = None, *,
+                side: str = "tx") -> Emitted:
+    """Return the generated header for ``spec`` (CodegenError when it cannot be made);
+    ``side`` "rx" / "both" adds the receiver behind ``<PREFIX>_WANT_RX``."""
     require_spec(spec, "spec")
     if target is not None:
         require(target, TimerTarget, "target")
-    model = build_model(spec, target)
+    model = build_model(spec, target, side=side)
     return Emitted(f"{model.spec.name}.h", render_model(model), model)
 
 

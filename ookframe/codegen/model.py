@@ -20,6 +20,7 @@ from ..plan import FramePlan, as_plan
 from ..spec.model import FrameSpec
 from ..spec.names import name_problem, same_name
 from .linecode_table import CodeTable, code_table
+from .rx_model import RxModel, build_rx
 from .timing import TimerTarget, Timing, quantise
 
 #: bump when the generated API changes incompatibly (checked by <PREFIX>_REQUIRE_API_VERSION)
@@ -164,6 +165,14 @@ class CModel:
     duration_consts: tuple[dict[str, object], ...]
     needs: dict[str, bool]
     gap: dict[str, object] | None = None
+    #: the run buffer transmitter (None in stream mode, or when the timer cannot hold it)
+    txbuf: dict[str, object] | None = None
+    #: why ``auto`` fell back to the streaming transmitter only ("" when it did not)
+    txbuf_refusal: str = ""
+    #: RAM of the streaming transmitter: sizeof(struct <prefix>_tx) plus the frame buffer
+    #: it reads, on 8-bit AVR and on a 32-bit MCU (bytes)
+    stream_ram: dict[str, int] = field(default_factory=dict)
+    rx: RxModel | None = None  # the receiver's values (emit --side rx / both), else None
 
 
 def _uint_type(bits: int) -> str:
@@ -369,8 +378,12 @@ def _whitening_model(spec: FrameSpec) -> dict[str, object]:
             "W": "(unsigned)" if tbits <= 16 else ""}
 
 
-def build_model(spec: FrameSpec | FramePlan, target: TimerTarget | None = None) -> CModel:
-    """Return the validated model of ``spec``'s header for ``target`` (CodegenError if not)."""
+def build_model(spec: FrameSpec | FramePlan, target: TimerTarget | None = None, *,
+                side: str = "tx") -> CModel:
+    """Return the validated model of ``spec``'s header for ``target`` (CodegenError if not);
+    ``side`` "rx" or "both" adds the receiver (the transmitter part is always present)."""
+    if side not in ("tx", "rx", "both"):
+        raise CodegenError(f"side {side!r} not allowed; allowed: tx, rx, both")
     plan = as_plan(spec)
     spec = plan.spec
     target = target or TimerTarget()
@@ -437,6 +450,8 @@ def build_model(spec: FrameSpec | FramePlan, target: TimerTarget | None = None) 
         "fixed": any(f.fixed is not None for f in fields),
         "gap_split": has_gap and timing.gap_pieces > 1,
     }
+    txbuf, refusal = _txbuf_model(target, timing, code, head_bits
+                                  + lc.max_stuffed_bits(plan.max_body_bits) + plan.max_body_bits)
     units_per_bit = lc.units_per_bit
     return CModel(
         prefix=spec.name, PREFIX=spec.name.upper(), version=__version__, api_version=API_VERSION,
@@ -462,7 +477,77 @@ def build_model(spec: FrameSpec | FramePlan, target: TimerTarget | None = None) 
             {"name": f"RUN_{d.units}U" if d.units else "GAP", "us": round(d.nominal_us),
              "nominal": f"{d.nominal_us:.3f}", "ticks": d.ticks, "actual": f"{d.quantised_us:.3f}"}
             for d in timing.durations),
-        needs=needs, gap=_gap_model(timing) if has_gap else None)
+        needs=needs, gap=_gap_model(timing) if has_gap else None,
+        txbuf=txbuf, txbuf_refusal=refusal,
+        stream_ram=_stream_ram(needs, ticks_type, (max_frame_bits + 7) // 8),
+        rx=build_rx(plan, code, timing) if side != "tx" else None)
+
+
+#: (size, alignment) in bytes of the C types in the transmitter structs: 8-bit AVR
+#: (everything byte-aligned, 2-byte pointers and size_t) and a 32-bit MCU (AAPCS)
+_TYPE_LAYOUT = {
+    "avr": {"uint8_t": (1, 1), "uint16_t": (2, 1), "uint32_t": (4, 1), "ptr": (2, 1)},
+    "arm32": {"uint8_t": (1, 1), "uint16_t": (2, 2), "uint32_t": (4, 4), "ptr": (4, 4)},
+}
+
+
+def struct_size(members: list[tuple[str, int]], abi: str) -> int:
+    """Return sizeof a C struct of (type, count) members on ``abi`` ("avr" | "arm32"),
+    with the usual padding: each member at a multiple of its alignment, the size a
+    multiple of the largest one."""
+    layout = _TYPE_LAYOUT[abi]
+    offset, widest = 0, 1
+    for ctype, count in members:
+        size, align = layout[ctype]
+        offset = -(-offset // align) * align + size * count
+        widest = max(widest, align)
+    return -(-offset // widest) * widest
+
+
+def _stream_ram(needs: dict[str, bool], ticks_type: str, frame_bytes: int) -> dict[str, int]:
+    """RAM of the streaming transmitter per ABI: struct <prefix>_tx + the frame bytes."""
+    # bits, nbits, pos (size_t is pointer-sized on both), row; run .. mask
+    members = [("ptr", 4), ("uint8_t", 6)]
+    if needs["differential"]:
+        members.append(("uint8_t", 1))
+    if needs["stuffing"]:
+        members.append(("uint8_t", 3))
+    if needs["gap_split"]:
+        members.append(("uint16_t", 1))
+    members += [("uint8_t", 2), (ticks_type, 1)]
+    return {abi: struct_size(members, abi) + frame_bytes for abi in _TYPE_LAYOUT}
+
+
+def _txbuf_model(target: TimerTarget, timing: Timing, code: CodeTable, max_line_bits: int
+                 ) -> tuple[dict[str, object] | None, str]:
+    """Return the run buffer's values (or None) and, for ``auto``, why it was left out.
+
+    The buffer holds one copy's edge-to-edge intervals as timer reload values (ticks - 1,
+    so an interval of 1 tick cannot be sent and 0 ends the copy) plus the end mark; the
+    interval from a copy's last edge to the next copy's first is kept apart. Capacity:
+    every run of the longest frame is at most one interval.
+    """
+    if target.tx_mode == "stream":
+        return None, ""
+    problem = ""
+    if timing.gap_pieces > 1:
+        problem = (f"the repeat gap ({timing.gap_ticks} ticks) is longer than one "
+                   f"{target.timer_bits}-bit timer period")
+    elif min(d.ticks for d in timing.durations) < 2:
+        problem = "a run of 1 timer tick is too short for the compare ISR"
+    if problem:
+        if target.tx_mode == "buffer":
+            raise CodegenError(f"--tx-mode buffer: {problem}; use --tx-mode stream (tx_next "
+                               "from the compare ISR) or another timer/prescaler")
+        return None, problem
+    blocks = -(-max_line_bits // code.bits_per_block)
+    runs = blocks * code.max_runs + (len(code.trailer.runs_units) if code.trailer else 0)
+    cap = runs + 1
+    rtype = _uint_type(target.timer_bits)
+    members = [("ptr", 1), (rtype, 1), ("uint8_t", 2), (rtype, cap)]
+    ram = {abi: struct_size(members, abi) for abi in _TYPE_LAYOUT}
+    return {"cap": cap, "reload_type": rtype, "reload_bits": _type_bits(rtype),
+            "max_interval_ticks": target.timer_max_ticks, "ram": ram, "avr_isr": False}, ""
 
 
 def _gap_model(timing: Timing) -> dict[str, object]:

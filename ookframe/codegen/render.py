@@ -50,6 +50,7 @@ def environment() -> jinja2.Environment:
         lstrip_blocks=True,
         keep_trailing_newline=True,
         autoescape=False,
+        extensions=["jinja2.ext.do"],
     )
 
 

@@ -26,6 +26,12 @@ DEFAULT_TOLERANCE = 0.01
 #: most timer periods one repeat gap may be split into
 MAX_GAP_PIECES = 65535
 CRC_IMPLS: tuple[str, ...] = ("table256", "table16", "bitwise")
+#: transmitter variants: ``buffer`` adds the run buffer (``<prefix>_tx_start`` fills it with
+#: timer reload values, the compare ISR only loads the next one) to the streaming
+#: ``<prefix>_tx_next``; ``stream`` emits the streaming one only; ``auto`` is ``buffer``
+#: unless the timer cannot hold the run buffer's intervals (then ``stream``, and the
+#: report says why)
+TX_MODES: tuple[str, ...] = ("auto", "buffer", "stream")
 
 
 @dataclass(frozen=True)
@@ -37,6 +43,7 @@ class TimerTarget:
     prescalers: tuple[int, ...] = DEFAULT_PRESCALERS
     tolerance: float = DEFAULT_TOLERANCE
     crc_impl: str = "table256"
+    tx_mode: str = "auto"
 
     def __post_init__(self) -> None:
         if isinstance(self.clock_hz, bool) or not isinstance(self.clock_hz, int) \
@@ -59,6 +66,9 @@ class TimerTarget:
         if self.crc_impl not in CRC_IMPLS:
             raise CodegenError(f"crc implementation {self.crc_impl!r} not allowed; allowed: "
                                f"{', '.join(CRC_IMPLS)}")
+        if self.tx_mode not in TX_MODES:
+            raise CodegenError(f"transmitter mode {self.tx_mode!r} not allowed; allowed: "
+                               f"{', '.join(TX_MODES)}")
 
     @property
     def timer_max_ticks(self) -> int:

@@ -28,6 +28,7 @@ class RunTable:
     top: int  # the longest run of either level
     cap_ratio: float
     same: bool  # both levels allow exactly 1 .. top (then rounding decides)
+    lookup: np.ndarray  # (2 x top + 2) bool: lookup[lv, n] for 0 <= n <= top + 1
 
 
 def run_table(space: tuple[int, ...], mark: tuple[int, ...]) -> RunTable:
@@ -36,7 +37,10 @@ def run_table(space: tuple[int, ...], mark: tuple[int, ...]) -> RunTable:
     mids = tuple((a[1:] + a[:-1]) / 2.0 for a in allowed)
     top = int(max(a[-1] for a in allowed))
     same = all(a.size == top and a[0] == 1 for a in allowed)
-    return RunTable(allowed, mids, top, float(top + 1), same)  # type: ignore[arg-type]
+    lookup = np.zeros((2, top + 2), bool)
+    for lv in (0, 1):
+        lookup[lv, allowed[lv]] = True
+    return RunTable(allowed, mids, top, float(top + 1), same, lookup)  # type: ignore[arg-type]
 
 
 def nearest_runs(ratio: np.ndarray, levels: np.ndarray, table: RunTable
@@ -52,12 +56,10 @@ def nearest_runs(ratio: np.ndarray, levels: np.ndarray, table: RunTable
         units = np.rint(r)
         np.clip(units, 1.0, float(table.top), out=units)
         units = units.astype(np.int64)
-    else:
-        units = np.empty(r.shape, np.int64)
-        for lv in (0, 1):
-            m = levels == lv
-            a = table.allowed[lv]
-            units[m] = a[np.searchsorted(table.mids[lv], r[m])]
+    else:  # both levels looked up over the whole array (cheaper than masked parts)
+        a0, a1 = table.allowed
+        units = np.where(levels == 1, a1[np.searchsorted(table.mids[1], r)],
+                         a0[np.searchsorted(table.mids[0], r)])
     beyond = r > table.cap_ratio
     if beyond.any():
         units[beyond] = np.rint(r[beyond]).astype(np.int64)
@@ -292,15 +294,30 @@ def _ragged_bounds(lengths: np.ndarray, before: int, after: int
     """Return per element the bounds [lo, hi) of the ``before`` elements before it, itself
     and the ``after`` elements after it, within its own segment (segments of ``lengths``
     laid end to end)."""
-    start = np.repeat(np.cumsum(lengths) - lengths, lengths)
-    stop = start + np.repeat(lengths, lengths)
-    i = np.arange(start.size)
-    return np.maximum(i - before, start), np.minimum(i + after + 1, stop)
+    return _Segments(lengths).bounds(before, after)
+
+
+class _Segments:
+    """Per element of segments of ``lengths`` laid end to end: its index and the bounds
+    [start, stop) of its segment (worked out once for several moving windows)."""
+
+    def __init__(self, lengths: np.ndarray) -> None:
+        self.start = np.repeat(np.cumsum(lengths) - lengths, lengths)
+        self.stop = self.start + np.repeat(lengths, lengths)
+        self.i = np.arange(self.start.size)
+
+    def bounds(self, before: int, after: int) -> tuple[np.ndarray, np.ndarray]:
+        """Bounds of the ``before`` elements before each element, itself and ``after``
+        after it, within its segment."""
+        return (np.maximum(self.i - before, self.start),
+                np.minimum(self.i + (after + 1), self.stop))
 
 
 def _moving_sum(x: np.ndarray, bounds: tuple[np.ndarray, np.ndarray]) -> np.ndarray:
     """Return the sums of ``x`` (real or complex) over the ``_ragged_bounds`` ranges."""
-    cs = np.concatenate(([0], np.cumsum(x)))
+    cs = np.empty(x.size + 1, x.dtype)
+    cs[0] = 0
+    np.cumsum(x, out=cs[1:])
     return cs[bounds[1]] - cs[bounds[0]]
 
 
@@ -308,11 +325,7 @@ def is_allowed(n: np.ndarray, levels: np.ndarray, table: RunTable) -> np.ndarray
     """Return True where ``n`` is a run length the code allows at the pulse's level."""
     if table.same:
         return (n >= 1) & (n <= table.top)
-    ok = n >= 1
-    for lv in (0, 1):
-        m = levels == lv
-        ok[m] &= np.isin(n[m], table.allowed[lv])
-    return ok
+    return table.lookup[(levels != 0).view(np.uint8), np.clip(n, 0, table.top + 1)]
 
 
 def _repair(c: np.ndarray, residual: np.ndarray, grid: np.ndarray, pulse_edge: np.ndarray,
@@ -345,11 +358,32 @@ def _repair(c: np.ndarray, residual: np.ndarray, grid: np.ndarray, pulse_edge: n
     return c, grid - c
 
 
-def _phasor_sum(x: np.ndarray, weight: np.ndarray, bounds: tuple[np.ndarray, np.ndarray]
+def _phasor_sum(x: np.ndarray, dropped: np.ndarray, bounds: tuple[np.ndarray, np.ndarray]
                 ) -> np.ndarray:
-    """Return the moving sums of the weighted unit phasors of the fractional parts of
-    ``x`` over the ``_ragged_bounds`` ranges."""
-    return _moving_sum(np.exp(2j * np.pi * x) * weight, bounds)
+    """Return the moving sums of the unit phasors of the fractional parts of ``x`` over
+    the ``_ragged_bounds`` ranges, those at the indices ``dropped`` left out (cos and sin
+    into one complex array: the values of ``np.exp(2j * np.pi * x)``, at less cost)."""
+    turn = 2 * np.pi * x
+    z = np.empty(x.size, np.complex128)
+    np.cos(turn, out=z.real)
+    np.sin(turn, out=z.imag)
+    z[dropped] = 0.0
+    return _moving_sum(z, bounds)
+
+
+def _unwrap(p: np.ndarray) -> np.ndarray:
+    """Return ``np.unwrap(p, period=1.0)`` (same values): only the steps of half a period
+    or more are corrected, so only those are worked out."""
+    dd = np.diff(p)
+    big = np.flatnonzero(np.abs(dd) >= 0.5)
+    step = dd[big]
+    mod = np.mod(step + 0.5, 1.0) - 0.5
+    mod[(mod == -0.5) & (step > 0)] = 0.5
+    correct = np.zeros(dd.size)
+    correct[big] = mod - step
+    out = p.copy()
+    out[1:] = p[1:] + np.cumsum(correct)
+    return out
 
 
 def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
@@ -389,16 +423,17 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
     cs = np.cumsum(t)
     x = cs - np.repeat(cs[e_start], n_edges)
     keep = np.ones(x.size)
-    if capped is not None:
-        keep[pulse_edge[capped]] = 0.0
+    dropped = pulse_edge[capped] if capped is not None else np.zeros(0, np.int64)
+    keep[dropped] = 0.0
     # rough phase over +-2 edges (follows a fast drift), unwrapped and averaged over the
     # window; then the circular mean of what is left around it
     b, a = 2 * half_window, LOOK_AHEAD
-    near, wide = _ragged_bounds(n_edges, 4, a), _ragged_bounds(n_edges, b, a)
-    rough = np.unwrap(np.angle(_phasor_sum(x, keep, near)) / (2 * np.pi), period=1.0)
+    segments = _Segments(n_edges)
+    near, wide = segments.bounds(4, a), segments.bounds(b, a)
+    rough = _unwrap(np.angle(_phasor_sum(x, dropped, near)) / (2 * np.pi))
     trend = _moving_sum(rough * keep, wide) / np.maximum(_moving_sum(keep, wide), 1.0)
-    phase = trend + np.angle(_phasor_sum(x - trend, keep, wide)) / (2 * np.pi)
-    phase = np.unwrap(phase, period=1.0)  # a step of the rough phase must not move the grid
+    phase = trend + np.angle(_phasor_sum(x - trend, dropped, wide)) / (2 * np.pi)
+    phase = _unwrap(phase)  # a step of the rough phase must not move the grid
     grid = x - phase
     c = np.rint(grid)
     residual = grid - c

@@ -83,6 +83,12 @@ def _one_per_cluster(cand: np.ndarray, unit: np.ndarray, worst: np.ndarray, k: i
     clearly = score[best_i] <= score[last_i] - CLEARLY_BETTER
     keep = last.copy()
     keep[best_i[clearly]] = True
+    # a signature of preamble runs alone also matches where the data repeats the preamble
+    # right after the sync: then the latest is inside the body. Every run of good fits that
+    # ends at a clearly worse fit (a shift reaching into the sync) is a place the sync may
+    # follow, so the latest of each such run is framed too.
+    good = score < score[best_i][cluster] + CLEARLY_BETTER
+    keep[:-1] |= good[:-1] & ~good[1:] & (cluster[1:] == cluster[:-1])
     return cand[keep], unit[keep]
 
 def _spans_fit(cand: np.ndarray, durations_us: np.ndarray, r: np.ndarray, max_unit_us: float

@@ -127,7 +127,10 @@ def decode(spec: FrameSpec, train: PulseTrain, *,
     if len(clean) == 0:
         return []
     hm = head_model(spec)
-    found, ctx = _decode_clean(spec, hm, clean, grid=True)
+    cw = _windows(hm, clean, spec.unit_us)
+    if cw is None:
+        return []
+    found, ctx = _decode_clean(spec, hm, clean, cw, grid=True)
     frames = [f for f, _ in found]
     if any(not f.crc_ok for f in frames) and spec.check.kind != "none":
         flips = min(spec.decoder.max_flips if max_flips is None else max_flips,
@@ -135,10 +138,11 @@ def decode(spec: FrameSpec, train: PulseTrain, *,
         if flips > 0:
             frames = [f if f.crc_ok else _recover(spec, hm, ctx, k, flips) or f
                       for f, k in found]
-        if not all(f.crc_ok for f in frames):
-            other, _ = _decode_clean(spec, hm, clean, grid=False)
+        failed = [k for f, (_, k) in zip(frames, found, strict=True) if not f.crc_ok]
+        if failed:
+            other, _ = _decode_clean(spec, hm, clean, cw.bursts_of(failed), grid=False)
             frames = _second_opinion(spec, frames, [f for f, _ in other])
-    if ctx is not None and (ctx.unparsed_us.size or not all(f.crc_ok for f in frames)):
+    if ctx.unparsed_us.size or not all(f.crc_ok for f in frames):
         frames = _tail_opinion(spec, hm, train, frames, ctx)
     return [f for f in frames if f.crc_ok or include_bad]
 
@@ -255,7 +259,10 @@ def _tail_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
         return frames
     clean = drop_glitches(cuts.train.levels, cuts.train.durations_us,
                           spec.decoder.glitch_fraction * spec.unit_us)
-    got = [f for f, _ in _decode_clean(spec, hm, clean, grid=True)[0] if f.crc_ok]
+    cw = _windows(hm, clean, spec.unit_us)
+    if cw is None:
+        return frames
+    got = [f for f, _ in _decode_clean(spec, hm, clean, cw, grid=True)[0] if f.crc_ok]
     out = list(frames)
     extra = []
     for f in got:
@@ -273,23 +280,58 @@ def _tail_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
     return out
 
 
-def _decode_clean(spec: FrameSpec, hm: HeadModel, clean: PulseTrain, *,
-                  grid: bool) -> tuple[list[tuple[DecodedFrame, int]], _Context | None]:
-    """Return the frames of the glitch-filtered train ``clean`` (see :func:`decode`) with
-    the window each came from, those whose check fails included, and the pass's context;
-    run lengths by ``grid`` (see classify_windows)."""
+@dataclass(frozen=True, eq=False)
+class _CandidateWindows:
+    """Where frames may start in a glitch-filtered train and how far each may reach.
+
+    first / unit0: the signature matches (``find_candidates``); stop: one past the last
+    pulse of each window; burst: the break ending each window's burst (the train's
+    length for the last burst). A frame never reaches past its burst's break, so windows
+    of different bursts never decide for each other. t0: the train's pulse start times.
+    """
+
+    t0: np.ndarray
+    first: np.ndarray
+    unit0: np.ndarray
+    stop: np.ndarray
+    burst: np.ndarray
+
+    def select(self, keep: np.ndarray) -> _CandidateWindows:
+        return _CandidateWindows(self.t0, self.first[keep], self.unit0[keep],
+                                 self.stop[keep], self.burst[keep])
+
+    def bursts_of(self, windows: list[int]) -> _CandidateWindows:
+        """Return the windows in the bursts of ``windows`` and the bursts next to them."""
+        ids = np.unique(self.burst, return_inverse=True)[1]
+        near = np.unique(ids[np.asarray(windows, np.int64)][:, None] + np.arange(-1, 2))
+        return self.select(np.isin(ids, near))
+
+
+def _windows(hm: HeadModel, clean: PulseTrain, unit_us: float) -> _CandidateWindows | None:
+    """Return the candidate windows of the glitch-filtered train ``clean`` (None if none)."""
     levels, dur = clean.levels, clean.durations_us
-    first, unit0 = find_candidates(levels, dur, hm.sig_levels, hm.sig_units, spec.unit_us,
+    first, unit0 = find_candidates(levels, dur, hm.sig_levels, hm.sig_units, unit_us,
                                    hm.runs, MAX_CLOCK_ERROR)
     if first.size == 0:
-        return [], None
+        return None
     t0 = clean.edges_us()
     prefix_chips = int(hm.prefix_units.sum())
-    stop = burst_end(first, burst_breaks(dur, hm.break_us), dur.size)
+    burst = burst_end(first, burst_breaks(dur, hm.break_us), dur.size)
     reach_us = t0[first] + (hm.max_frame_chips - prefix_chips) * unit0 * (1 + MAX_CLOCK_ERROR)
-    stop = np.minimum(stop, np.searchsorted(t0, reach_us, side="right") + 1)
+    stop = np.minimum(burst, np.searchsorted(t0, reach_us, side="right") + 1)
     stop = np.maximum(np.minimum(stop, dur.size), first + 1)
-    ws = classify_windows(spec, hm, dur, first, stop, unit0, levels, grid=grid)
+    return _CandidateWindows(t0, first, unit0, stop, burst)
+
+
+def _decode_clean(spec: FrameSpec, hm: HeadModel, clean: PulseTrain, cw: _CandidateWindows,
+                  *, grid: bool) -> tuple[list[tuple[DecodedFrame, int]], _Context]:
+    """Return the frames of the candidate windows ``cw`` of the glitch-filtered train
+    ``clean`` (see :func:`decode`) with the window each came from, those whose check
+    fails included, and the pass's context; run lengths by ``grid`` (see
+    classify_windows)."""
+    levels, dur = clean.levels, clean.durations_us
+    first, t0 = cw.first, cw.t0
+    ws = classify_windows(spec, hm, dur, first, cw.stop, cw.unit0, levels, grid=grid)
     runs = lay_out(hm, ws, levels)
     cands = hm.line_code.decode(runs.levels, runs.units)
     results, synced = _frame_all(spec, hm, ws, runs, cands, levels, dur, t0)
@@ -390,7 +432,8 @@ def diagnose(spec: FrameSpec, train: PulseTrain) -> DecodeReport:
     first, unit0 = (find_candidates(clean.levels, clean.durations_us, hm.sig_levels,
                                     hm.sig_units, spec.unit_us, hm.runs, MAX_CLOCK_ERROR)
                     if n else (np.zeros(0, np.int64), np.zeros(0)))
-    found, _ = _decode_clean(spec, hm, clean, grid=True) if first.size else ([], None)
+    cw = _windows(hm, clean, spec.unit_us) if first.size else None
+    found = _decode_clean(spec, hm, clean, cw, grid=True)[0] if cw is not None else []
     return DecodeReport(len(train), n, bursts, int(first.size),
                         tuple(round(float(u), 3) for u in unit0[:5]), len(found),
                         sum(f.crc_ok for f, _ in found), float(spec.unit_us))

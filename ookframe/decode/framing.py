@@ -183,19 +183,22 @@ def _bodies(spec: FrameSpec, hm: HeadModel, st: _Streams, lo: np.ndarray, hi: np
     parsed: list[ParsedFrame] = []
     n_air = np.zeros(lo.size, np.int64)
     code = np.zeros(lo.size, np.int64)
-    starts, stops = (lo + body_at).tolist(), hi.tolist()
-    bodies = [lc.unstuff(st.bits[a:b]) for a, b in zip(starts, stops, strict=True)]
+    starts = lo + body_at
+    received, n_rx = lc.unstuff_rows(st.bits[ragged_index(starts, hi - starts)], hi - starts)
+    at = np.cumsum(n_rx) - n_rx
+    bodies = np.split(received, at[1:]) if lo.size else []
     rows = parse_frames(spec, bodies).frames() if bodies else []
-    for i, p in enumerate(rows):
-        if p is None:
-            continue
-        n = lc.stuff(bodies[i][:p.n_bits]).size
-        if n > stops[i] - starts[i]:
-            continue  # the stuffed frame runs past the window: cut off
-        ok[i] = True
-        parsed.append(p)
-        n_air[i] = n
-        code[i] = int((~st.valid[starts[i]:starts[i] + n]).sum())
+    got = np.array([p is not None for p in rows], bool)
+    i = np.flatnonzero(got)
+    n_bits = np.array([p.n_bits for p in rows if p is not None], np.int64)
+    n = lc.stuff_rows(received[ragged_index(at[i], n_bits)], n_bits)[1]
+    whole = n <= hi[i] - starts[i]  # else the stuffed frame runs past the window: cut off
+    i, n = i[whole], n[whole]
+    ok[i] = True
+    parsed = [rows[k] for k in i.tolist()]
+    n_air[i] = n
+    bad = np.concatenate(([0], np.cumsum(~st.valid)))
+    code[i] = bad[starts[i] + n] - bad[starts[i]]
     return ok, parsed, n_air, code
 
 
@@ -207,9 +210,13 @@ def _frame_chips(hm: HeadModel, st: _Streams, lo: np.ndarray, body_at: np.ndarra
     n_bits = hm.head_bits.size + n_air
     if lc.chips_per_block is not None:
         return n_bits // lc.bits_per_block * lc.chips_per_block
-    return np.array([lc.encode(np.concatenate((hm.head_bits, st.bits[a:a + n]))).size
-                     for a, n in zip((lo + body_at).tolist(), n_air.tolist(), strict=True)],
-                    dtype=np.int64)
+    head = hm.head_bits
+    lengths = head.size + n_air
+    flat = np.empty(int(lengths.sum()), np.uint8)
+    row_start = np.cumsum(lengths) - lengths
+    flat[(row_start[:, None] + np.arange(head.size)).ravel()] = np.tile(head, n_air.size)
+    flat[ragged_index(row_start + head.size, n_air)] = st.bits[ragged_index(lo + body_at, n_air)]
+    return lc.chip_counts(flat, lengths)
 
 
 def _start_chips(hm: HeadModel, st: _Streams, runs: WindowRuns, lo: np.ndarray,

@@ -7,6 +7,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..ragged import ragged_index
 from ..spec.model import FrameSpec
 from .classify import grid_runs, head_unit, nearest_runs, phase_half_window, track_unit
 from .head import HeadModel
@@ -99,13 +100,6 @@ class WindowRuns:
     run_start: np.ndarray  # first run of every window (its first head-prefix run)
     run_stop: np.ndarray  # one past its last run
     n_prefix: int  # head-prefix runs at the start of every window
-
-
-def ragged_index(starts: np.ndarray, lengths: np.ndarray) -> np.ndarray:
-    """Return the indices of the segments [starts, starts + lengths) laid end to end."""
-    lengths = np.asarray(lengths, dtype=np.int64)
-    begin = np.cumsum(lengths) - lengths
-    return np.arange(int(lengths.sum())) + np.repeat(np.asarray(starts) - begin, lengths)
 
 
 def lay_out(hm: HeadModel, ws: Windows, levels: np.ndarray) -> WindowRuns:

@@ -96,6 +96,22 @@ class BlockCode(LineCode):
         chips = (words[..., None] >> self._chip_shifts) & 1
         return chips.reshape(*b.shape[:-1], values.shape[-1] * self.CODE_CHIPS).astype(np.uint8)
 
+    def encode_rows(self, bits: np.ndarray, lengths: np.ndarray
+                    ) -> tuple[np.ndarray, np.ndarray]:
+        """Rows of whole blocks encoded in one call (codewords do not depend on their
+        neighbours); see :meth:`LineCode.encode_rows`."""
+        lengths = np.asarray(lengths, np.int64)
+        if (lengths % self.DATA_BITS).any():
+            return super().encode_rows(bits, lengths)
+        return self.encode(np.asarray(bits, np.uint8)), lengths // self.DATA_BITS * self.CODE_CHIPS
+
+    def chip_counts(self, bits: np.ndarray, lengths: np.ndarray) -> np.ndarray:
+        """Chips per row of whole blocks (int64); see :meth:`LineCode.chip_counts`."""
+        lengths = np.asarray(lengths, np.int64)
+        if (lengths % self.DATA_BITS).any():
+            return super().chip_counts(bits, lengths)
+        return lengths // self.DATA_BITS * self.CODE_CHIPS
+
     def decode(self, levels: np.ndarray, units: np.ndarray) -> list[DecodedBits]:
         """Return one candidate per chip phase (n candidates); unknown codewords are invalid."""
         lv, un = as_runs(levels, units)

@@ -81,6 +81,32 @@ class LineCode(ABC):
         """Inverse of ``stuff`` on a received bit stream (may be longer than one frame)."""
         return bits
 
+    def stuff_rows(self, bits: np.ndarray, lengths: np.ndarray
+                   ) -> tuple[np.ndarray, np.ndarray]:
+        """``stuff`` of many rows laid end to end in ``bits`` (``lengths`` bits each), each
+        on its own: (stuffed bits laid end to end, bits per row). Identity by default."""
+        return bits, np.asarray(lengths, np.int64)
+
+    def unstuff_rows(self, bits: np.ndarray, lengths: np.ndarray
+                     ) -> tuple[np.ndarray, np.ndarray]:
+        """``unstuff`` of many received rows laid end to end (see :meth:`stuff_rows`)."""
+        return bits, np.asarray(lengths, np.int64)
+
+    def encode_rows(self, bits: np.ndarray, lengths: np.ndarray
+                    ) -> tuple[np.ndarray, np.ndarray]:
+        """Return (chips of every row laid end to end, chips per row) for rows of bits laid
+        end to end in ``bits`` (``lengths`` bits each), each encoded on its own. The
+        default encodes row by row; codes that can do better override it."""
+        lengths = np.asarray(lengths, np.int64)
+        rows = np.split(np.asarray(bits, np.uint8), np.cumsum(lengths)[:-1])
+        chips = [self.encode(r) for r in rows] if lengths.size else []
+        sizes = np.array([c.size for c in chips], np.int64)
+        return (np.concatenate(chips) if chips else np.zeros(0, np.uint8)), sizes
+
+    def chip_counts(self, bits: np.ndarray, lengths: np.ndarray) -> np.ndarray:
+        """Return the chips of every row of :meth:`encode_rows` (int64 per row)."""
+        return self.encode_rows(bits, lengths)[1]
+
     def max_stuffed_bits(self, n_bits: int) -> int:
         """Return the most bits ``stuff`` can add to ``n_bits`` data bits (0 without stuffing)."""
         return 0

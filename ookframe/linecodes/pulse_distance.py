@@ -73,6 +73,35 @@ class PulseDistance(LineCode):
         levels[1::2] = 0
         return np.repeat(levels, runs)
 
+    def encode_rows(self, bits: np.ndarray, lengths: np.ndarray
+                    ) -> tuple[np.ndarray, np.ndarray]:
+        """Every row's chips (each with its stop mark) in one pass; see
+        :meth:`LineCode.encode_rows`."""
+        b = as_bits(bits, max_ndim=1)
+        lengths = np.asarray(lengths, np.int64)
+        row_of_bit = np.repeat(np.arange(lengths.size), lengths)
+        n_runs = 2 * lengths + 1
+        run_end = np.cumsum(n_runs)  # one past each row's stop mark
+        runs = np.full(int(run_end[-1]) if run_end.size else 0, self.mark_units, np.int64)
+        levels = np.ones(runs.size, np.uint8)
+        # the space of bit j of row i is run 2 j + 1 of the row
+        space = (run_end - n_runs)[row_of_bit] + 2 * (np.arange(b.size) - (
+            np.cumsum(lengths) - lengths)[row_of_bit]) + 1
+        runs[space] = np.where(b == 1, self.one_space_units, self.zero_space_units)
+        levels[space] = 0
+        return np.repeat(levels, runs), self.chip_counts(b, lengths)
+
+    def chip_counts(self, bits: np.ndarray, lengths: np.ndarray) -> np.ndarray:
+        """Chips per row: a mark per bit and the stop mark, and every bit's space."""
+        b = np.asarray(bits)
+        lengths = np.asarray(lengths, np.int64)
+        ones = np.zeros(lengths.size, np.int64)
+        nz = lengths > 0
+        if b.size:
+            ones[nz] = np.add.reduceat(b.astype(np.int64), (np.cumsum(lengths) - lengths)[nz])
+        return ((lengths + 1) * self.mark_units + ones * self.one_space_units
+                + (lengths - ones) * self.zero_space_units)
+
     def decode(self, levels: np.ndarray, units: np.ndarray) -> list[DecodedBits]:
         """Return one candidate: one bit per mark followed by a space (1 = one_space_units)."""
         lv, un = as_runs(levels, units)

@@ -25,6 +25,7 @@ import numpy as np
 
 from .._require import require, require_int, require_spec
 from ..channel import ChannelSpec, apply_channel, channel_time_map_us
+from ..channel.physical import PhysicalChannel, apply_physical, physical_time_map_us
 from ..plan import FramePlan, as_plan
 from ..pulses import PulseTrain
 from ..spec.model import FrameSpec
@@ -39,6 +40,8 @@ CHUNK_BITS = 2**18
 T = TypeVar("T")
 Decoder = Callable[[FrameSpec, PulseTrain], list]
 Progress = Callable[[int], None]
+#: what a stress run sends frames through: the pulse-level model or the physical link
+Channel = ChannelSpec | PhysicalChannel
 
 
 @dataclass(frozen=True)
@@ -76,7 +79,7 @@ class StressResult:
     """
 
     spec_name: str
-    channel: ChannelSpec
+    channel: Channel
     seed: int
     frames: int
     ok: int
@@ -162,7 +165,7 @@ def reference_decoder(spec: FrameSpec, train: PulseTrain) -> list:
 
 def run_chunk(
     spec: FrameSpec | FramePlan,
-    channel: ChannelSpec,
+    channel: Channel,
     n: int,
     seed_seq: np.random.SeedSequence,
     gap_us: float | None = None,
@@ -172,11 +175,15 @@ def run_chunk(
     plan = as_plan(spec)
     rng = np.random.default_rng(seed_seq)
     batch = random_batch(plan, n, rng, gap_us=gap_us)
-    rx = apply_channel(batch.train, channel, rng, burst_starts_us=batch.starts_us)
-    decoded = (decoder or reference_decoder)(plan.spec, rx)
     half = batch.gap_us / 2
     bounds = np.append(batch.starts_us - half, batch.ends_us[-1] + half)
-    bounds = channel_time_map_us(bounds, channel, batch.starts_us)
+    if isinstance(channel, PhysicalChannel):
+        rx = apply_physical(batch.train, channel, rng)
+        bounds = physical_time_map_us(bounds)
+    else:
+        rx = apply_channel(batch.train, channel, rng, burst_starts_us=batch.starts_us)
+        bounds = channel_time_map_us(bounds, channel, batch.starts_us)
+    decoded = (decoder or reference_decoder)(plan.spec, rx)
     counts = match_frames(batch, decoded, bounds)
     return counts + Counts(pulses=len(rx))
 
@@ -253,7 +260,7 @@ def _interrupt_as_flag() -> Iterator[threading.Event]:
 
 def run_stress(
     spec: FrameSpec | FramePlan,
-    channel: ChannelSpec,
+    channel: Channel,
     n_frames: int,
     *,
     seed: int = 0,
@@ -276,7 +283,8 @@ def run_stress(
     ``CHUNK_BITS`` transmission bits (fewer than ``chunk_frames`` frames for long frames).
     """
     require_spec(spec, "spec")
-    require(channel, ChannelSpec, "channel", "e.g. ookframe.get_preset('ideal')")
+    require(channel, (ChannelSpec, PhysicalChannel), "channel",
+            "e.g. ookframe.get_preset('ideal') or ookframe.PhysicalChannel()")
     require_int(n_frames, "n_frames")
     t0 = time.perf_counter()
     if isinstance(spec, FramePlan):
@@ -306,14 +314,14 @@ class StressInterrupted(KeyboardInterrupt):
         self.partial = partial
 
 
-def _result(spec: FrameSpec, channel: ChannelSpec, seed: int, c: Counts, chunk_frames: int,
+def _result(spec: FrameSpec, channel: Channel, seed: int, c: Counts, chunk_frames: int,
             t0: float, workers: int) -> StressResult:
     """The StressResult of the counts ``c`` (PER from integer counts: exact to the float)."""
     elapsed = time.perf_counter() - t0
     return stress_result(spec, channel, seed, c, chunk_frames, elapsed, workers)
 
 
-def stress_result(spec: FrameSpec, channel: ChannelSpec, seed: int, c: Counts,
+def stress_result(spec: FrameSpec, channel: Channel, seed: int, c: Counts,
                   chunk_frames: int, elapsed_s: float, workers: int) -> StressResult:
     """Return the StressResult of a run's summed chunk tallies ``c``."""
     elapsed = elapsed_s

@@ -10,6 +10,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..channel import ChannelSpec, impairment_names
+from ..channel.physical import PhysicalChannel
 from ..errors import ValueRangeError
 from ..plan import FramePlan, spec_of
 from ..spec.model import FrameSpec
@@ -31,27 +32,44 @@ MAX_POINTS = 200
 #: width: half a unit, wider than the decoder's default glitch filter (0.3 unit), so the
 #: glitches reach the decoder
 GLITCH_WIDTH_UNITS = 0.5
+#: what a sweep over the physical link varies: where the receiver stands
+PHYSICAL_PARAMETERS: tuple[str, ...] = ("distance_m", "rx_power_dbm")
 
 
-def channel_at(spec: FrameSpec | FramePlan, channel: ChannelSpec, name: str, value: float) -> ChannelSpec:
+def parameter_names(channel: ChannelSpec | PhysicalChannel) -> list[str]:
+    """Return the names a sweep over ``channel`` may vary."""
+    if isinstance(channel, PhysicalChannel):
+        return list(PHYSICAL_PARAMETERS)
+    return impairment_names()
+
+
+def channel_at(spec: FrameSpec | FramePlan, channel: ChannelSpec | PhysicalChannel, name: str,
+               value: float) -> ChannelSpec | PhysicalChannel:
     """Return ``channel`` with impairment ``name`` set to ``value``; varying
     ``glitch_rate_per_ms`` on a channel without ``glitch_width_us`` also sets the width to
-    ``GLITCH_WIDTH_UNITS`` of the spec's unit."""
+    ``GLITCH_WIDTH_UNITS`` of the spec's unit. A physical channel is moved to distance or
+    received power ``value``."""
+    if isinstance(channel, PhysicalChannel):
+        if name not in PHYSICAL_PARAMETERS:
+            raise ValueRangeError(f"a physical-link sweep varies one of "
+                                  f"{', '.join(PHYSICAL_PARAMETERS)}, not {name!r}")
+        return channel.at(**{name: float(value)})
     changes = {name: float(value)}
     if name == "glitch_rate_per_ms" and value > 0 and channel.glitch_width_us <= 0:
         changes["glitch_width_us"] = GLITCH_WIDTH_UNITS * spec_of(spec).unit_us
     return channel.with_(**changes)
 
 
-def parse_vary(text: str) -> tuple[str, tuple[float, ...]]:
+def parse_vary(text: str, names: Sequence[str] | None = None) -> tuple[str, tuple[float, ...]]:
     """Return (impairment, grid) from ``NAME=START:STOP:COUNT`` (COUNT points, both ends
-    included) or ``NAME=V1,V2,...``."""
+    included) or ``NAME=V1,V2,...``; NAME one of ``names`` (default: the impairments)."""
+    allowed = list(names) if names is not None else impairment_names()
     name, sep, grid = text.partition("=")
     name = name.strip()
-    if not sep or name not in impairment_names():
+    if not sep or name not in allowed:
         raise ValueRangeError(
             f"--vary {text!r}: expected NAME=START:STOP:COUNT with NAME one of "
-            f"{', '.join(impairment_names())}"
+            f"{', '.join(allowed)}"
         )
     try:
         if ":" in grid:
@@ -80,11 +98,12 @@ class SweepResult:
     parameter: str
     values: tuple[float, ...]
     specs: tuple[str, ...]
-    channel: ChannelSpec
+    channel: ChannelSpec | PhysicalChannel
     results: tuple[tuple[StressResult, ...], ...]
 
     def to_dict(self) -> dict[str, object]:
-        """Return the sweep as a JSON-ready dict."""
+        """Return the sweep as a JSON-ready dict (a physical link's points also carry
+        their received power and margin)."""
         return {
             "parameter": self.parameter,
             "values": list(self.values),
@@ -92,16 +111,25 @@ class SweepResult:
             "specs": [
                 {"spec": name, "points": [
                     {"value": v, "frames": r.frames, "ok": r.ok, "per": r.per,
-                     "per_ci95": list(r.per_ci95), "false_accepts": r.false_accepts}
+                     "per_ci95": list(r.per_ci95), "false_accepts": r.false_accepts,
+                     **_link_figures(r.channel)}
                     for v, r in zip(self.values, rows, strict=True)]}
                 for name, rows in zip(self.specs, self.results, strict=True)
             ],
         }
 
 
+def _link_figures(channel: ChannelSpec | PhysicalChannel) -> dict[str, float]:
+    """Return received power and margin of a physical channel (nothing for the
+    pulse-level model)."""
+    if not isinstance(channel, PhysicalChannel):
+        return {}
+    return {"received_dbm": channel.received_dbm, "margin_db": channel.margin_db}
+
+
 def run_sweep(
     specs: Sequence[FrameSpec | FramePlan],
-    channel: ChannelSpec,
+    channel: ChannelSpec | PhysicalChannel,
     parameter: str,
     values: Sequence[float],
     n_frames: int,
@@ -116,9 +144,9 @@ def run_sweep(
     so curves are smooth: common random numbers; channel per point by :func:`channel_at`).
     Parallel as ``run_stress``; with a pool or executor the chunks of all points are
     submitted together, so a cluster works on every point at once."""
-    if parameter not in impairment_names():
+    if parameter not in parameter_names(channel):
         raise ValueRangeError(
-            f"unknown impairment {parameter!r}; allowed: {', '.join(impairment_names())}"
+            f"unknown impairment {parameter!r}; allowed: {', '.join(parameter_names(channel))}"
         )
     specs = [spec_of(s) for s in specs]
     with pool_for(executor, workers) as pool:
@@ -139,7 +167,7 @@ def run_sweep(
 
 
 def _all_points_at_once(
-    specs: Sequence[FrameSpec], channel: ChannelSpec, parameter: str, values: Sequence[float],
+    specs: Sequence[FrameSpec], channel: ChannelSpec | PhysicalChannel, parameter: str, values: Sequence[float],
     n_frames: int, seed: int, pool: Executor, chunk_frames: int,
     progress: Callable[[int], None] | None,
 ) -> tuple[tuple[StressResult, ...], ...]:

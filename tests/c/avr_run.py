@@ -22,7 +22,12 @@ from ookframe.codegen.toolchains import (
 )
 from ookframe.frame import raw_values
 
-FIRMWARE = Path(__file__).resolve().parent / "avr" / "firmware.c"
+AVR_DIR = Path(__file__).resolve().parent / "avr"
+FIRMWARE = AVR_DIR / "firmware.c"
+TX_BUFFER_FIRMWARE = AVR_DIR / "tx_buffer.c"
+HARNESS_SOURCE = AVR_DIR / "simharness.c"
+TIMER1_COMPA_VECTOR = 11  # ATmega328P vector numbers (datasheet interrupt table, from memory)
+TIMER1_CAPT_VECTOR = 10
 SIMAVR_INCLUDE = Path("/usr/include/simavr")
 AVR_GCC = find_tool("avr-gcc")
 AVR_SIZE = find_tool("avr-size")
@@ -31,6 +36,12 @@ MISSING = [n for n, p in (("avr-gcc", AVR_GCC), ("avr-size", AVR_SIZE), ("simavr
            if p is None] + ([] if (SIMAVR_INCLUDE / "avr" / "avr_mcu_section.h").is_file()
                             else ["simavr headers (libsimavr-dev)"])
 LINK_FLAGS = ("-Wl,--undefined=_mmcu,--section-start=.mmcu=0x910000",)
+HOST_CC = find_tool("cc") or find_tool("gcc")
+LIBSIMAVR = any(Path(d, "libsimavr.so").is_file() or Path(d, "libsimavr.a").is_file()
+                for d in ("/usr/lib/x86_64-linux-gnu", "/usr/lib/aarch64-linux-gnu", "/usr/lib",
+                          "/usr/local/lib"))
+#: what the libsimavr harness needs besides MISSING (a host compiler, libsimavr, libelf)
+HARNESS_MISSING = [n for n, ok in (("cc", HOST_CC is not None), ("libsimavr", LIBSIMAVR)) if not ok]
 
 
 @dataclass(frozen=True)
@@ -70,8 +81,11 @@ def demo_values_header(emitted: Emitted, values: Mapping[str, object]) -> str:
 
 
 def build_firmware(emitted: Emitted, values: Mapping[str, object], directory: Path,
-                   *, baseline: bool = False) -> Path:
-    """Compile the firmware (or the empty baseline) with avr-gcc and the strict flags."""
+                   *, baseline: bool = False, source: Path = FIRMWARE, name: str = "",
+                   extra_defines: Mapping[str, str | None] | None = None,
+                   extra_sources: tuple[Path, ...] = ()) -> Path:
+    """Compile a test firmware (default firmware.c, or its empty baseline) with avr-gcc and
+    the strict flags, the header's tables in flash."""
     assert AVR_GCC is not None
     m = emitted.model
     (directory / emitted.filename).write_text(emitted.text)
@@ -84,8 +98,9 @@ def build_firmware(emitted: Emitted, values: Mapping[str, object], directory: Pa
         f"{P}_READ_U16(a)": "pgm_read_word(a)", f"{P}_READ_U32(a)": "pgm_read_dword(a)"}
     if baseline:
         defines["OOK_BASELINE"] = None
-    name = "baseline.elf" if baseline else "firmware.elf"
-    return compile_c(AVR_GCC, [FIRMWARE], directory / name,
+    defines.update(extra_defines or {})
+    name = name or ("baseline.elf" if baseline else "firmware.elf")
+    return compile_c(AVR_GCC, [source, *extra_sources], directory / name,
                      flags=[*STRICT_FLAGS, *AVR_FLAGS, *LINK_FLAGS],
                      include_dirs=[directory, SIMAVR_INCLUDE], defines=defines)
 
@@ -138,3 +153,92 @@ def pin_high_cycles(emitted: Emitted, trace: Path, signal: str) -> np.ndarray:
 def tx_next_cycles(emitted: Emitted, trace: Path) -> np.ndarray:
     """Return the CPU cycles of every tx_next call (CPU pin high time)."""
     return pin_high_cycles(emitted, trace, "CPU")
+
+
+@dataclass(frozen=True)
+class SimRun:
+    """What the libsimavr harness saw: interrupt cycles, pin edges and report bytes."""
+
+    isr_cycles: dict[int, np.ndarray]  # vector -> cycles of each run, vector to end of reti
+    edges: dict[str, tuple[np.ndarray, np.ndarray]]  # pin -> (levels, cycles)
+    report: list[tuple[int, int]]  # (value, cycle) written to GPIOR0
+    marks: list[tuple[int, int]]  # (value, cycle) written to GPIOR1
+    end: str
+    end_cycle: int
+
+
+def build_harness(directory: Path) -> Path:
+    """Compile tests/c/avr/simharness.c against libsimavr (host C compiler)."""
+    assert HOST_CC is not None
+    out = directory / "simharness"
+    if out.is_file():
+        return out
+    proc = subprocess.run([HOST_CC, "-O2", "-std=gnu99", str(HARNESS_SOURCE),
+                           f"-I{SIMAVR_INCLUDE}", "-lsimavr", "-lelf", "-o", str(out)],
+                          capture_output=True, text=True)
+    if proc.returncode != 0:
+        raise AssertionError(f"harness build failed: {proc.stderr[-2000:]}")
+    return out
+
+
+def simulate(harness: Path, elf: Path, *, clock_hz: int, isr: tuple[int, ...] = (),
+             watch: tuple[str, ...] = (), drive: tuple[str, Path] | None = None,
+             max_cycles: int = 2_000_000_000, timeout_s: float = 120.0) -> SimRun:
+    """Run ``elf`` in the harness and parse its report (see simharness.c)."""
+    cmd = [str(harness), str(elf), "-f", str(clock_hz), "--max-cycles", str(max_cycles)]
+    for v in isr:
+        cmd += ["--isr", str(v)]
+    for pin in watch:
+        cmd += ["--watch", pin]
+    if drive is not None:
+        cmd += ["--drive", drive[0], str(drive[1])]
+    proc = subprocess.run(cmd, capture_output=True, text=True, timeout=timeout_s,
+                          cwd=elf.parent)
+    isr_c: dict[int, list[int]] = {v: [] for v in isr}
+    edges: dict[str, tuple[list[int], list[int]]] = {p: ([], []) for p in watch}
+    report: list[tuple[int, int]] = []
+    marks: list[tuple[int, int]] = []
+    end, end_cycle = "none", 0
+    for line in proc.stdout.splitlines():
+        parts = line.split()
+        if not parts:
+            continue
+        if parts[0] == "isr":
+            isr_c[int(parts[1])].append(int(parts[2]))
+        elif parts[0] == "edge":
+            edges[parts[1]][0].append(int(parts[2]))
+            edges[parts[1]][1].append(int(parts[3]))
+        elif parts[0] == "byte":
+            report.append((int(parts[1]), int(parts[2])))
+        elif parts[0] == "mark":
+            marks.append((int(parts[1]), int(parts[2])))
+        elif parts[0] == "end":
+            end, end_cycle = parts[1], int(parts[2])
+    if end == "none":
+        raise AssertionError(f"harness failed ({proc.returncode}): {proc.stderr[-2000:]}")
+    return SimRun({v: np.asarray(c, np.int64) for v, c in isr_c.items()},
+                  {p: (np.asarray(lv, np.uint8), np.asarray(cy, np.int64))
+                   for p, (lv, cy) in edges.items()}, report, marks, end, end_cycle)
+
+
+def level_changes(levels: np.ndarray, cycles: np.ndarray) -> np.ndarray:
+    """Cycles of the real level changes of a pin (repeated notifications dropped)."""
+    prev = np.concatenate(([0], levels[:-1]))
+    return cycles[levels != prev]
+
+
+def schedule_edge_cycles(emitted: Emitted, values: Mapping[str, object]) -> np.ndarray:
+    """Cycles of every level change of the Python quantised schedule, from its first."""
+    s = tx_schedule(emitted.model, values)
+    t = emitted.model.timing
+    want = _edges(s.levels, s.ticks.astype(np.float64)) * t.prescaler
+    return (want - want[0]).astype(np.int64)
+
+
+def edge_errors_cycles(emitted: Emitted, values: Mapping[str, object], changes: np.ndarray
+                       ) -> np.ndarray:
+    """Every TX level change (cycles, from the first) minus the quantised schedule's."""
+    want = schedule_edge_cycles(emitted, values)
+    if changes.size != want.size:
+        raise AssertionError(f"TX has {changes.size} edges, the schedule {want.size}")
+    return (changes - changes[0]) - want

@@ -1,0 +1,248 @@
+"""Values of the generated C receiver (``emit --side rx``), computed from the spec and the
+reference decoder's own tables, validated before rendering.
+
+The receiver is fed one pulse per edge (``<p>_rx_edge(level, ticks)``, the level and
+timer ticks of the pulse that just ended) and decides as the reference decoder does
+(``ookframe.decode``), in integers:
+
+- glitch filter: a pulse shorter than ``decoder.glitch_fraction`` units joins the pulse
+  before it (``decode/glitch.py``);
+- clock: each edge is placed on a chip grid (unit in 1/16 tick, ``UNIT_FRAC``); a pulse's
+  run length is the allowed length (``LineCode.run_lengths`` and the head's, per level,
+  midpoint thresholds) nearest to the distance from the previous edge's grid point;
+  a phase loop and a frequency loop follow the clock while hunting, and at the sync the
+  unit is refitted over the run of well-placed edges before it (the head);
+- line code: fixed-chip block codes decode per chip phase from a chip-pattern table;
+  mark-space codes (pulse width, pulse distance) decode per (mark, space) pair;
+- sync: the preamble's last ``LEAD`` bits exactly, then the sync word with at most
+  ``sync.max_errors`` bit errors (invalid code words count as errors);
+- body: unstuffing, the length field (whitening constant applied), then the frame goes
+  to the ready queue; the main loop (``_rx_take``) de-whitens, checks and unpacks.
+
+Check-aided recovery (edge flips) is not done by the C receiver.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from ..errors import CodegenError
+from ..plan import FramePlan
+from .linecode_table import CodeTable
+from .timing import Timing
+
+#: fractional bits of the unit and residuals (unit kept in 1/16 tick)
+UNIT_FRAC = 4
+#: preamble bits just before the sync that must arrive exactly (the reference's
+#: ``head.LEAD_BITS``, shorter when the preamble is)
+LEAD_BITS = 16
+#: frequency window the receiver's unit may wander in while hunting (fraction); a little
+#: wider than the reference's search (``head.MAX_CLOCK_ERROR``)
+CLOCK_SPAN = 0.12
+#: allowed-length tables longer than this are decided by division (NRZ without stuffing)
+MAX_LADDER = 16
+#: frames held by the ready queue unless <PREFIX>_RX_QUEUE says otherwise
+DEFAULT_QUEUE = 2
+#: fewest chips of well-placed edges before the sync for the head refit of the unit
+MIN_REFIT_CHIPS = 8
+
+
+@dataclass(frozen=True)
+class RxModel:
+    """Everything the receiver templates place (literals, tables, flags)."""
+
+    family: str  # "chips" (fixed chips per block) | "pairs" (mark, space per block)
+    bits_per_block: int
+    chips_per_block: int  # chips family; 0 for pairs
+    differential: bool
+    chip_table: tuple[str, ...]  # chips family: block value per chip pattern, 0xFF invalid
+    pair_marks: tuple[int, ...]  # pairs family: allowed mark units (row index)
+    pair_spaces: tuple[int, ...]  # pairs family: allowed space units (column index)
+    pair_table: tuple[tuple[str, ...], ...]  # block value per (mark, space), 0xFF invalid
+    mark_only: tuple[str, ...]  # block value of a mark whose space ran into a gap
+    allowed: tuple[tuple[int, ...], tuple[int, ...]]  # per level (0 space, 1 mark)
+    ladder: bool  # nearest allowed length by comparisons (else by division)
+    top: int
+    cap_ratio: int  # a pulse longer than this many units ends the window
+    unit16: int
+    unit16_min: int
+    unit16_max: int
+    glitch_ticks: int
+    pattern_bits: int
+    pattern_type: str
+    pattern: str
+    sync_mask: str
+    lead_mask: str
+    max_errors: int
+    body_min_bits: int
+    body_max_bits: int
+    body_bytes: int
+    variable: bool
+    len_offset: int
+    len_width: int
+    len_weights: tuple[str, ...]
+    len_xor: tuple[int, ...]
+    len_max: int
+    len_fixed_bits: int
+    stuff_after: int
+    stuff_value: str
+    queue: int
+    recip: tuple[int, ...]  # round(256 / n) for n = 0..top (0 unused)
+    phase_shift_hunt: int
+    phase_shift_body: int
+    freq_div_hunt: int
+    freq_div_body: int
+    min_refit_chips: int
+
+    @property
+    def ram_bytes(self) -> int:
+        """Upper bound of the receiver's static RAM in bytes (state + queue), as stated in
+        the header (padding on 32-bit targets may add a few bytes)."""
+        reg = 8 if self.pattern_type == "uint64_t" else 4
+        phases = self.chips_per_block if self.family == "chips" else 1
+        state = 4 * 8 + 16 + 2 * reg * phases + self.body_bytes
+        slot = self.body_bytes + 12
+        return state + self.queue * slot + 16
+
+
+def _literal(value: int, bits: int) -> str:
+    if bits > 32:
+        return f"UINT64_C(0x{value:X})"
+    return f"0x{value:X}u"
+
+
+def _chip_table(code: CodeTable, cpb: int) -> tuple[str, ...]:
+    """Block value of every chip pattern of ``cpb`` chips (first chip in the top bit)."""
+    table = ["0xFFu"] * (1 << cpb)
+    for value, w in enumerate(code.words):
+        chips: list[int] = []
+        level = w.first_level
+        for u in w.runs_units:
+            chips += [level] * u
+            level ^= 1
+        if len(chips) != cpb:
+            raise CodegenError(f"line code {code.name!r}: block {value} has {len(chips)} chips, "
+                               f"not {cpb}; the C receiver needs a fixed chip count")
+        pat = int("".join(map(str, chips)), 2)
+        table[pat] = f"0x{value:02X}u"
+    return tuple(table)
+
+
+def _pairs(code: CodeTable, allowed: tuple[tuple[int, ...], tuple[int, ...]]
+           ) -> tuple[tuple[int, ...], tuple[int, ...], tuple[tuple[str, ...], ...], tuple[str, ...]]:
+    marks, spaces = allowed[1], allowed[0]
+    table = [["0xFFu"] * len(spaces) for _ in marks]
+    by_mark: dict[int, set[int]] = {}
+    for value, w in enumerate(code.words):
+        m, s = w.runs_units
+        if m not in marks or s not in spaces:
+            raise CodegenError(f"line code {code.name!r}: block {value} uses runs the decoder "
+                               "does not allow")
+        table[marks.index(m)][spaces.index(s)] = f"0x{value:02X}u"
+        by_mark.setdefault(m, set()).add(value)
+    mark_only = tuple(f"0x{next(iter(by_mark[m])):02X}u" if len(by_mark.get(m, ())) == 1
+                      else "0xFFu" for m in marks)
+    return marks, spaces, tuple(tuple(r) for r in table), mark_only
+
+
+def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
+    """Return the receiver values of ``plan`` (CodegenError naming what is unsupported)."""
+    from ..decode.head import head_model  # the decoder pulls in scipy: only when needed
+
+    spec = plan.spec
+    lc = plan.line_code
+    hm = head_model(spec)
+    k = code.bits_per_block
+    cpb = lc.chips_per_block
+    name = spec.line_code.name
+    if plan.head_bits.size % k:
+        raise CodegenError(f"line code {name!r}: preamble + sync is not a whole number of "
+                           f"{k}-bit blocks; the C receiver cannot align it")
+    two_run = all(len(w.runs_units) == 2 and w.first_level == 1 for w in code.words)
+    allowed = (tuple(int(x) for x in hm.runs.allowed[0]), tuple(int(x) for x in hm.runs.allowed[1]))
+    top = int(hm.runs.top)
+    if top > 255:
+        raise CodegenError(f"line code {name!r}: runs of up to {top} units; the C receiver "
+                           "handles runs of at most 255 units (use bit stuffing)")
+    chip_table: tuple[str, ...] = ()
+    pair_marks: tuple[int, ...] = ()
+    pair_spaces: tuple[int, ...] = ()
+    pair_table: tuple[tuple[str, ...], ...] = ()
+    mark_only: tuple[str, ...] = ()
+    trailer_mark = code.trailer is not None and len(code.trailer.runs_units) == 1 \
+        and code.trailer.first_level == 1
+    if two_run and not code.differential and (code.trailer is None or trailer_mark):
+        family = "pairs"
+        pair_marks, pair_spaces, pair_table, mark_only = _pairs(code, allowed)
+        cpb_out = 0
+    elif cpb is not None and 1 <= cpb <= 8 and code.trailer is None:
+        family = "chips"
+        chip_table = _chip_table(code, cpb)
+        cpb_out = cpb
+    else:
+        raise CodegenError(f"line code {name!r}: the C receiver decodes fixed-chip block codes "
+                           "(up to 8 chips) and mark-space codes; this one is neither")
+    # head pattern: lead bits of the preamble + the sync word
+    pre_bits = plan.spec.preamble.length_bits
+    sync_n = plan.sync_bits.size
+    lead_n = min(LEAD_BITS, pre_bits // 2)  # the first preamble bits may meet receiver noise
+    lead_n -= lead_n % k
+    if sync_n + lead_n > 64:
+        lead_n = max(0, 64 - sync_n)
+        lead_n -= lead_n % k
+    if sync_n > 64:
+        raise CodegenError(f"sync word of {sync_n} bits; the C receiver handles up to 64")
+    pat_bits = lead_n + sync_n
+    head = plan.head_bits
+    pat = [int(b) for b in head[pre_bits - lead_n:]]
+    value = int("".join(map(str, pat)), 2) if pat else 0
+    reg_bits = 32 if pat_bits <= 32 else 64
+    # the unit in 1/16 tick and its hunting span
+    unit16 = round(spec.unit_us / timing.tick_us * (1 << UNIT_FRAC))
+    if unit16 < 4 << UNIT_FRAC:
+        raise CodegenError(f"one unit is {spec.unit_us / timing.tick_us:.2f} timer ticks; the C "
+                           "receiver needs at least 4 (a faster timer clock or smaller prescaler)")
+    if (top + 2) * unit16 * (1 + CLOCK_SPAN) >= (1 << 30):
+        raise CodegenError("the longest run is too many timer ticks for the receiver's 32-bit "
+                           "arithmetic; use a larger prescaler")
+    glitch = int(spec.decoder.glitch_fraction * spec.unit_us / timing.tick_us + 0.5)
+    # body: length field
+    lf = plan.length_field
+    variable = plan.bytes_field is not None
+    len_offset = len_width = len_max = 0
+    weights: tuple[str, ...] = ()
+    xor: tuple[int, ...] = ()
+    if variable:
+        assert lf is not None and lf.width_bits is not None and lf.weights is not None
+        len_offset, len_width = lf.offset_bits, lf.width_bits
+        if len_width > 16:
+            raise CodegenError(f"length field '{lf.name}' is {len_width} bits; the C receiver "
+                               "reads length fields of up to 16 bits")
+        weights = tuple(f"{int(w)}u" for w in lf.weights)
+        xor = tuple(int(x) for x in plan.fields_mask[len_offset:len_offset + len_width])
+        len_max = plan.bytes_field.field.max_len_bytes  # type: ignore[union-attr]
+    body_max = plan.max_body_bits
+    if body_max > 65535:
+        raise CodegenError(f"frames of up to {body_max} body bits; the C receiver handles 65535")
+    recip = tuple(0 if n == 0 else round(256 / n) for n in range(top + 1))
+    gain = spec.decoder.loop_gain
+    body_shift = 3 if gain >= 0.04 else (4 if gain >= 0.02 else 5)
+    return RxModel(
+        family=family, bits_per_block=k, chips_per_block=cpb_out,
+        differential=code.differential, chip_table=chip_table, pair_marks=pair_marks,
+        pair_spaces=pair_spaces, pair_table=pair_table, mark_only=mark_only, allowed=allowed,
+        ladder=not hm.runs.same or top <= MAX_LADDER, top=top,
+        cap_ratio=int(hm.runs.cap_ratio), unit16=unit16,
+        unit16_min=int(unit16 * (1 - CLOCK_SPAN)), unit16_max=int(unit16 * (1 + CLOCK_SPAN)) + 1,
+        glitch_ticks=glitch, pattern_bits=pat_bits, pattern_type=f"uint{reg_bits}_t",
+        pattern=_literal(value, reg_bits),
+        sync_mask=_literal((1 << sync_n) - 1, reg_bits),
+        lead_mask=_literal(((1 << lead_n) - 1) << sync_n, reg_bits),
+        max_errors=spec.sync.max_errors, body_min_bits=plan.min_body_bits,
+        body_max_bits=body_max, body_bytes=max(1, (body_max + 7) // 8), variable=variable,
+        len_offset=len_offset, len_width=len_width, len_weights=weights, len_xor=xor,
+        len_max=len_max, len_fixed_bits=plan.min_body_bits,
+        stuff_after=code.stuff_after, stuff_value=code.stuff_value, queue=DEFAULT_QUEUE,
+        recip=recip, phase_shift_hunt=2, phase_shift_body=body_shift,
+        freq_div_hunt=8, freq_div_body=64, min_refit_chips=MIN_REFIT_CHIPS)
+

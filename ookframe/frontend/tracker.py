@@ -1,0 +1,176 @@
+"""Level trackers and the hysteresis comparator of the adaptive data slicer, vectorised.
+
+A receiver's data slicer holds the carrier level with a peak detector and the noise floor
+with a valley detector (fast attack, slow decay) and sets its threshold between them
+(common practice, no source). Here both detectors decay exponentially towards the slow
+mean ``m`` of the envelope (a one-pole average, ``lfilter``):
+
+    peak[n]   = m[n] + y[n],  y[n] = max(e[n] - m[n], d * y[n-1], 0)
+    valley[n] = m[n] - z[n],  z[n] = max(m[n] - e[n], d * z[n-1], 0)
+
+with ``d = exp(-1 / (decay_us * rate))``. The recursion ``y[n] = max(u[n], d y[n-1])``
+has the closed form ``y[n] = d^n max_k u[k] d^-k``: one ``np.maximum.accumulate``
+over ``u d^-k``, no per-sample loop (in sub-blocks short enough for ``d^-k`` to stay
+finite). The comparator's state (mark while above the high threshold, space below the low
+one, else unchanged) is the last decisive sample's side, found by a running maximum of
+the decisive indices.
+"""
+
+from __future__ import annotations
+
+import functools
+from dataclasses import dataclass
+
+import numpy as np
+from scipy import signal
+
+from .config import FrontEndConfig
+
+
+@dataclass(frozen=True)
+class TrackerState:
+    """Carried from block to block: mean filter state, peak and valley offsets (>= 0),
+    attack filter states, the comparator state and the last envelope sample."""
+
+    mean_zi: np.ndarray
+    peak_offset: float
+    valley_offset: float
+    attack_zi: np.ndarray | None
+    mark: bool
+    last_e: float
+
+
+@dataclass(frozen=True)
+class Tracked:
+    """One block's thresholds (``high``, ``low``), tracked ``carrier`` and ``floor``
+    levels, the comparator output ``marks`` and the ``squelched`` samples."""
+
+    high: np.ndarray
+    low: np.ndarray
+    carrier: np.ndarray
+    floor: np.ndarray
+    marks: np.ndarray
+    squelched: np.ndarray
+
+
+def decay_factor(time_constant_us: float, rate_hz: float) -> float:
+    """Return the per-sample factor of an exponential with ``time_constant_us`` at ``rate_hz``."""
+    return float(np.exp(-1e6 / (time_constant_us * rate_hz)))
+
+
+def start_state(first_e: float, config: FrontEndConfig, rate_hz: float) -> TrackerState:
+    """Return the state before the first sample: mean and both detectors settled at
+    ``first_e`` (``lfilter``'s ``zi`` of a one-pole average at rest at x is d * x)."""
+    attack = None
+    if config.attack_us > 0:
+        a = decay_factor(config.attack_us, rate_hz)
+        attack = np.array([[a * first_e], [a * first_e]], dtype=np.float64)
+    d = decay_factor(config.decay_us, rate_hz)
+    return TrackerState(np.array([d * first_e]), 0.0, 0.0, attack, False, float(first_e))
+
+
+#: largest exponent a sub-block's rescaling may reach (e^600 stays well inside float64)
+_MAX_EXPONENT = 600.0
+
+
+@functools.lru_cache(maxsize=16)
+def _decay_rows(d: float, length: int) -> tuple[np.ndarray, np.ndarray]:
+    """Return (d^-k, d^k) for k = 0..length-1, read-only (cached per decay factor)."""
+    k = np.arange(length, dtype=np.float64)
+    up, down = np.exp(-k * np.log(d)), np.exp(k * np.log(d))
+    up.flags.writeable = down.flags.writeable = False
+    return up, down
+
+
+def _held(u: np.ndarray, start: float, d: float) -> np.ndarray:
+    """Return ``y[n] = max(u[n], d y[n-1], 0)`` with ``y[-1] = start``.
+
+    Closed form per sub-block of ``L`` samples: ``y[k] = d^k max(start d, max_j<=k u[j]
+    d^-j)``, with ``L`` short enough that ``d^-L`` stays finite; the sub-blocks are chained
+    through their last value (a loop over sub-blocks, not samples).
+    """
+    n = u.size
+    length = int(min(n, max(1.0, _MAX_EXPONENT // max(-np.log(d), 1e-300))))
+    length = max(length, 1)
+    up, down = _decay_rows(d, length)
+    out = np.maximum(u, 0.0)
+    carry = start
+    for a in range(0, n, length):
+        seg = out[a:a + length]
+        m = seg.size
+        np.multiply(seg, up[:m], out=seg)
+        np.maximum.accumulate(seg, out=seg)
+        np.maximum(seg, carry * d, out=seg)
+        np.multiply(seg, down[:m], out=seg)
+        carry = float(seg[-1])
+    return out
+
+
+def track(e: np.ndarray, state: TrackerState, config: FrontEndConfig,
+          rate_hz: float) -> tuple[Tracked, TrackerState]:
+    """Return the slicer's view of envelope block ``e`` (sampled at ``rate_hz``) and the state
+    for the next block."""
+    if config.fixed:
+        high = np.full(e.size, float(config.threshold_high))  # type: ignore[arg-type]
+        low = np.full(e.size, float(config.threshold_low))  # type: ignore[arg-type]
+        carrier = floor = np.full(e.size, np.nan)
+        squelched = np.zeros(e.size, bool)
+        mean_zi, peak_off, valley_off, attack_zi = state.mean_zi, 0.0, 0.0, state.attack_zi
+    else:
+        d = decay_factor(config.decay_us, rate_hz)
+        m, mean_zi = signal.lfilter([1.0 - d], [1.0, -d], e, zi=state.mean_zi)
+        y = _held(e - m, state.peak_offset, d)
+        z = _held(m - e, state.valley_offset, d)
+        carrier, floor = m + y, m - z
+        attack_zi = state.attack_zi
+        if attack_zi is not None:
+            a = decay_factor(config.attack_us, rate_hz)
+            both, attack_zi = signal.lfilter([1.0 - a], [1.0, -a], np.stack((carrier, floor)),
+                                             axis=1, zi=attack_zi)
+            carrier, floor = both[0], both[1]
+        contrast = carrier - floor
+        lo_frac = config.threshold_fraction - config.hysteresis / 2
+        low = floor + lo_frac * contrast
+        high = low + config.hysteresis * contrast
+        squelched = contrast < config.min_contrast
+        if config.min_contrast > 0 and squelched.any():
+            high = np.where(squelched, np.inf, high)
+            low = np.where(squelched, np.inf, low)
+        peak_off = float(y[-1]) if y.size else state.peak_offset
+        valley_off = float(z[-1]) if z.size else state.valley_offset
+    marks = compare(e, high, low, state.mark)
+    new = TrackerState(mean_zi, peak_off, valley_off, attack_zi,
+                       bool(marks[-1]) if marks.size else state.mark,
+                       float(e[-1]) if e.size else state.last_e)
+    return Tracked(high, low, carrier, floor, marks, squelched), new
+
+
+def compare(e: np.ndarray, high: np.ndarray, low: np.ndarray, mark: bool) -> np.ndarray:
+    """Return the hysteresis comparator's output: True from a sample above ``high`` until one
+    below ``low``; ``mark`` is the state before ``e[0]``."""
+    above = e > high
+    decisive = above | (e < low)
+    idx = np.where(decisive, np.arange(e.size), -1)
+    last = np.maximum.accumulate(idx) if e.size else idx
+    return np.where(last >= 0, above[last], mark)
+
+
+def edge_positions(e: np.ndarray, tracked: Tracked, state: TrackerState) -> tuple[np.ndarray,
+                                                                              np.ndarray]:
+    """Return (index, position) of every change of the comparator output in the block: the
+    first sample of the new state and the crossing of its threshold interpolated between
+    the sample before (``state.last_e`` for the first) and it, as a fraction in (0, 1]
+    (position = index - 1 + fraction)."""
+    marks = tracked.marks
+    prev = np.concatenate(([state.mark], marks[:-1]))
+    idx = np.flatnonzero(marks != prev)
+    if idx.size == 0:
+        return idx, np.zeros(0)
+    e_prev = np.where(idx > 0, e[idx - 1], state.last_e)
+    e_now = e[idx]
+    thr = np.where(marks[idx], tracked.high[idx], tracked.low[idx])
+    step = e_now - e_prev
+    with np.errstate(divide="ignore", invalid="ignore"):
+        frac = np.where(step != 0, (thr - e_prev) / step, 1.0)
+    frac = np.clip(np.nan_to_num(frac, nan=1.0, posinf=1.0, neginf=1.0), 1e-6, 1.0)
+    return idx, idx - 1 + frac

@@ -1,0 +1,12 @@
+"""Ragged arrays: rows of different lengths laid end to end in one flat array."""
+
+from __future__ import annotations
+
+import numpy as np
+
+
+def ragged_index(starts: np.ndarray, lengths: np.ndarray) -> np.ndarray:
+    """Return the indices of the segments [starts, starts + lengths) laid end to end."""
+    lengths = np.asarray(lengths, dtype=np.int64)
+    begin = np.cumsum(lengths) - lengths
+    return np.arange(int(lengths.sum())) + np.repeat(np.asarray(starts) - begin, lengths)
