@@ -284,8 +284,13 @@ def _frame_from(spec: FrameSpec, hm: HeadModel, w: _Window, cands: list[DecodedB
 
 def oracle_frames(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,
                   cands: list[DecodedBits], levels: np.ndarray, dur: np.ndarray,
-                  t0: np.ndarray) -> list[tuple[DecodedFrame, int] | None]:
-    """Same interface as ``framer._frame_all``: every window framed on its own."""
+                  t0: np.ndarray) -> tuple[list[tuple[DecodedFrame, int] | None], np.ndarray]:
+    """Same interface as ``framer._frame_all``: every window framed on its own; and per
+    window whether its sync word was found."""
     per_window = split_candidates(runs, cands)
-    return [_frame_from(spec, hm, _window(hm, ws, k, levels, dur, t0), per_window[k])
-            for k in range(ws.first.size)]
+    frames = [_frame_from(spec, hm, _window(hm, ws, k, levels, dur, t0), per_window[k])
+              for k in range(ws.first.size)]
+    synced = np.array([any(best_sync(c.bits, c.valid, hm.lead_bits, hm.sync_bits, hm.sync_bit,
+                                     hm.sync_reach_bits, spec.sync.max_errors) is not None
+                           for c in per_window[k]) for k in range(ws.first.size)], bool)
+    return frames, synced

@@ -33,6 +33,7 @@ from .framing import frame_windows
 from .glitch import drop_glitches
 from .head import MAX_CLOCK_ERROR, HeadModel, build_head
 from .segment import burst_breaks, burst_end
+from .tail import MAX_TRAILING_UNITS, cut_trains
 from .validate import validate_train
 from .windows import WindowRuns, Windows, classify_windows, lay_out
 
@@ -155,6 +156,8 @@ def decode(spec: Receiver, train: PulseTrain, *,
         if failed:
             other, _ = _decode_clean(spec, hm, clean, cw.bursts_of(failed), grid=False)
             frames = _second_opinion(spec, frames, [f for f, _ in other])
+    if ctx.unparsed_us.size or not all(f.crc_ok for f in frames):
+        frames = _tail_opinion(spec, hm, train, frames, ctx)
     return [f for f in frames if f.crc_ok or include_bad]
 
 
@@ -186,6 +189,8 @@ class _Context:
     levels: np.ndarray
     dur: np.ndarray
     t0: np.ndarray
+    unparsed_us: np.ndarray  # estimated start of windows whose sync was found, body not read
+    unparsed_unit_us: np.ndarray  # their unit
 
 
 def _recover(spec: FrameSpec, hm: HeadModel, ctx: _Context, k: int, max_flips: int
@@ -220,7 +225,7 @@ def _recover(spec: FrameSpec, hm: HeadModel, ctx: _Context, k: int, max_flips: i
         ws1 = ctx.ws.one(k, u)
         runs = lay_out(hm, ws1, ctx.levels)
         got = _frame_all(spec, hm, ws1, runs, hm.line_code.decode(runs.levels, runs.units),
-                         ctx.levels, ctx.dur, ctx.t0)[0]
+                         ctx.levels, ctx.dur, ctx.t0)[0][0]
         if got is not None and got[0].crc_ok:
             return dataclasses.replace(got[0], corrected=len(combo))
     return None
@@ -239,6 +244,53 @@ def _second_opinion(spec: FrameSpec, frames: list[DecodedFrame], other: list[Dec
             if abs(starts[k] - f.start_us) < 2 * spec.unit_us:
                 f = good[k]
         out.append(f)
+    return out
+
+
+def _tail_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
+                  frames: list[DecodedFrame], ctx: _Context) -> list[DecodedFrame]:
+    """Return ``frames`` with every frame whose check failed replaced by the frame read
+    from the unfiltered ``train`` cut at its carrier end (``tail.cut_trains``: receiver
+    noise right after the last mark), where that frame's check passes; windows whose
+    sync word was found but whose body could not be read get the same reading and join
+    the frames where it passes. One more reading per such frame, chosen by timing alone
+    (like the second opinion)."""
+    bad = [i for i, f in enumerate(frames) if not f.crc_ok]
+    starts = np.array([f.start_us for f in frames])
+    todo: list[tuple[float, float | None, float]] = [
+        (frames[i].start_us, frames[i].end_us, frames[i].unit_us) for i in bad]
+    owner: list[int] = list(bad)
+    for t, u in zip(ctx.unparsed_us.tolist(), ctx.unparsed_unit_us.tolist(), strict=True):
+        if (starts.size and np.abs(starts - t).min() < 2 * spec.unit_us) or any(
+                abs(t - a) < 2 * spec.unit_us for a, _, _ in todo):
+            continue
+        todo.append((t, None, u))
+        owner.append(-1)
+    trailing = min(int(hm.runs.allowed[0][-1]), MAX_TRAILING_UNITS)
+    quiet_us = 2.0 * max(hm.break_us, 16 * spec.unit_us)
+    cuts = cut_trains(train, todo, trailing, quiet_us, hm.body_chip, hm.max_frame_chips)
+    if cuts.frame.size == 0:
+        return frames
+    clean = drop_glitches(cuts.train.levels, cuts.train.durations_us,
+                          spec.decoder.glitch_fraction * spec.unit_us)
+    cw = _windows(hm, clean, spec.unit_us)
+    if cw is None:
+        return frames
+    got = [f for f, _ in _decode_clean(spec, hm, clean, cw, grid=True)[0] if f.crc_ok]
+    out = list(frames)
+    extra = []
+    for f in got:
+        k = int(np.abs(cuts.start_us - f.start_us).argmin())
+        if abs(cuts.start_us[k] - f.start_us) >= 2 * spec.unit_us:
+            continue
+        f = _shifted(f, float(cuts.origin_us[k]))
+        i = owner[int(cuts.frame[k])]
+        if i >= 0:
+            out[i] = f
+        else:
+            extra.append(f)
+    if extra:
+        out = sorted(out + extra, key=lambda f: f.start_us)
     return out
 
 
@@ -296,28 +348,34 @@ def _decode_clean(spec: FrameSpec, hm: HeadModel, clean: PulseTrain, cw: _Candid
     ws = classify_windows(spec, hm, dur, first, cw.stop, cw.unit0, levels, grid=grid)
     runs = lay_out(hm, ws, levels)
     cands = hm.line_code.decode(runs.levels, runs.units)
-    results = _frame_all(spec, hm, ws, runs, cands, levels, dur, t0)
+    results, synced = _frame_all(spec, hm, ws, runs, cands, levels, dur, t0)
     frames: list[tuple[DecodedFrame, int]] = []
+    unparsed: list[int] = []
     done = -1
     for k, i in enumerate(first.tolist()):
         if i <= done:
             continue
         got = results[k]
         if got is None:
+            if synced[k]:
+                unparsed.append(k)
             continue
         frame, last = got
         if not _plausible(spec, frame):
             continue  # noise that happened to parse: later candidates may lie inside it
         done = last
         frames.append((frame, k))
-    return frames, _Context(ws, levels, dur, t0)
+    u = np.array(unparsed, np.int64)
+    unparsed_us = t0[first[u]] - int(hm.prefix_units.sum()) * ws.start_unit_us[u]
+    return frames, _Context(ws, levels, dur, t0, unparsed_us, ws.start_unit_us[u])
 
 
 def _frame_all(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,
                cands: list[DecodedBits], levels: np.ndarray, dur: np.ndarray, t0: np.ndarray
-               ) -> list[tuple[DecodedFrame, int] | None]:
+               ) -> tuple[list[tuple[DecodedFrame, int] | None], np.ndarray]:
     """Return per window (frame, train index of its last pulse), or None: every window
-    framed at once (``framing.frame_windows``)."""
+    framed at once (``framing.frame_windows``); and per window whether its sync word was
+    found."""
     bf = frame_windows(spec, hm, ws, runs, cands, dur, t0)
     out: list[tuple[DecodedFrame, int] | None] = [None] * bf.found.size
     f = np.flatnonzero(bf.found)
@@ -332,7 +390,7 @@ def _frame_all(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,
             fields=p.fields, raw=p.raw, payload_hex=p.payload_hex, crc_ok=p.check_ok,
             start_us=t_start, end_us=t_end, unit_us=u, clock_error=ce, worst_deviation=worst,
             pulses=pulses, sync_errors=se, timing_errors=te, code_errors=code), last)
-    return out
+    return out, bf.synced
 
 
 @dataclass(frozen=True)

@@ -38,7 +38,8 @@ class WindowFrames:
 
     Arrays have one entry per window (meaningless where ``found`` is False); ``parsed``
     holds the fields of the found windows, in window order. Figures as in
-    ``DecodedFrame``; ``last`` is the train index of the frame's last measured run.
+    ``DecodedFrame``; ``last`` is the train index of the frame's last measured run;
+    ``synced``: the sync word was found (whether or not the body could be read).
     """
 
     found: np.ndarray
@@ -52,6 +53,7 @@ class WindowFrames:
     sync_errors: np.ndarray
     timing_errors: np.ndarray
     code_errors: np.ndarray
+    synced: np.ndarray
 
 
 @dataclass(frozen=True)
@@ -244,6 +246,7 @@ def frame_windows(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,
     win = np.arange(n_win)
     lo_all, hi_all = st.lo[phase, win], st.hi[phase, win]
     body_at_all = pos + hm.sync_bits.size
+    synced = found.copy()
     f = np.flatnonzero(found & (hi_all - lo_all - body_at_all >= 0))
     ok, parsed, n_air, code_errors = _bodies(spec, hm, st, lo_all[f], hi_all[f],
                                              body_at_all[f])
@@ -314,4 +317,5 @@ def frame_windows(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,
         start_us=full(start_us, np.float64), end_us=full(end_us, np.float64),
         unit_us=full(unit, np.float64), worst_deviation=full(worst, np.float64),
         pulses=full(cnt, np.int64), sync_errors=sync_err,
-        timing_errors=full(timing, np.int64), code_errors=full(code_errors, np.int64))
+        timing_errors=full(timing, np.int64), code_errors=full(code_errors, np.int64),
+        synced=synced)
