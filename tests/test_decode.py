@@ -491,6 +491,7 @@ def _short_head_spec(line_code: dict, sync: int, whitening: dict | None = None,
 @given(spec_and_values(bounded=True), st.floats(-0.05, 0.05), st.integers(0, 2**32 - 1))
 @example(_short_head_spec({"name": "manchester"}, 0x40), 0.0, 118862)
 @example(_short_head_spec({"name": "manchester"}, 0x40), 0.0, 307)
+@example(_periodic_body_spec(), 0.0, 1)
 def test_tolerates_jitter_clock_error_and_noise(case, clock, seed):
     """Edges jittered by up to +-15 % of a unit, clock off by up to +-5 %, random noise
     pulses before and after (with a quiet gap): still exact (common practice, no source,
