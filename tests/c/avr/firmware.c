@@ -69,6 +69,7 @@ static bool next_pulse(uint8_t *level, ticks_t *ticks)
     return ++fake_count < 4u;
 }
 #endif
+#include "timer1_clock.h"
 
 static volatile uint8_t state; /* 0 running, 1 last pulse on air, 2 done */
 static ticks_t pending_ticks;
@@ -123,19 +124,7 @@ int main(void)
     arm_next();
     TIMSK1 = (uint8_t)(1u << OCIE1A);
     /* CTC (WGM12), prescaler from the header's timing */
-#if !defined(OOK_BASELINE) && OOK_CONST(_TIMER_PRESCALER) == 1
-    TCCR1B = (uint8_t)((1u << WGM12) | (1u << CS10));
-#elif defined(OOK_BASELINE) || OOK_CONST(_TIMER_PRESCALER) == 8
-    TCCR1B = (uint8_t)((1u << WGM12) | (1u << CS11));
-#elif OOK_CONST(_TIMER_PRESCALER) == 64
-    TCCR1B = (uint8_t)((1u << WGM12) | (1u << CS11) | (1u << CS10));
-#elif OOK_CONST(_TIMER_PRESCALER) == 256
-    TCCR1B = (uint8_t)((1u << WGM12) | (1u << CS12));
-#elif OOK_CONST(_TIMER_PRESCALER) == 1024
-    TCCR1B = (uint8_t)((1u << WGM12) | (1u << CS12) | (1u << CS10));
-#else
-#error "prescaler not available on Timer1"
-#endif
+    TCCR1B = OOK_TIMER1_CTC_CLOCK;
     sei();
     while (state != 2) {
         sleep_mode(); /* idle until the next compare match */

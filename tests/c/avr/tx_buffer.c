@@ -22,6 +22,7 @@
 
 #include OOK_HEADER
 #include "demo_values.h"
+#include "timer1_clock.h"
 
 /* ticks before the first compare match (the first, rising, edge) */
 #define LEAD_IN_TICKS 200u
@@ -56,19 +57,7 @@ int main(void)
     OCR1A = LEAD_IN_TICKS - 1u;
     TCCR1A = (uint8_t)(1u << COM1A0); /* toggle OC1A on compare match */
     TIMSK1 = (uint8_t)(1u << OCIE1A);
-#if OOK_CONST(_TIMER_PRESCALER) == 1
-    TCCR1B = (uint8_t)((1u << WGM12) | (1u << CS10));
-#elif OOK_CONST(_TIMER_PRESCALER) == 8
-    TCCR1B = (uint8_t)((1u << WGM12) | (1u << CS11));
-#elif OOK_CONST(_TIMER_PRESCALER) == 64
-    TCCR1B = (uint8_t)((1u << WGM12) | (1u << CS11) | (1u << CS10));
-#elif OOK_CONST(_TIMER_PRESCALER) == 256
-    TCCR1B = (uint8_t)((1u << WGM12) | (1u << CS12));
-#elif OOK_CONST(_TIMER_PRESCALER) == 1024
-    TCCR1B = (uint8_t)((1u << WGM12) | (1u << CS12) | (1u << CS10));
-#else
-#error "prescaler not available on Timer1"
-#endif
+    TCCR1B = OOK_TIMER1_CTC_CLOCK;
     SMCR = 0; /* idle sleep mode (SM2..0 = 0) */
     for (;;) {
         cli();
