@@ -264,3 +264,59 @@ def test_sanitized_random_edges(tmp_path, name):
     assert proc.returncode == 0, proc.stderr[-2000:]
     assert "runtime error" not in proc.stderr
     assert proc.stdout.split()[0] == "2000000"
+
+
+def _cli_json(argv: list[str]) -> tuple[int, str]:
+    import contextlib
+    import io
+
+    from ookframe.cli.main import main
+
+    buf = io.StringIO()
+    with contextlib.redirect_stdout(buf):
+        code = main(argv)
+    return code, buf.getvalue()
+
+
+@pytest.mark.slow
+@needs_gcc
+def test_sweep_and_margin_cli_decoder_c():
+    """``sweep --decoder c`` and ``margin --decoder c`` report the C receiver beside the
+    reference on the same seeds (JSON); on the ideal channel both decode every frame."""
+    import json
+
+    path = str(_example_path("gate_sensor.toml"))
+    code, text = _cli_json(["sweep", path, "--vary", "jitter_us=0,5", "--frames", "40",
+                            "--decoder", "c", "--workers", "1", "--json"])
+    assert code == 0
+    d = json.loads(text)
+    for side in ("reference", "c"):
+        pts = d[side]["specs"][0]["points"]
+        assert [p["value"] for p in pts] == [0.0, 5.0]
+        assert pts[0]["ok"] == 40
+    code, text = _cli_json(["margin", path, "--decoder", "c", "--impairments", "dropout_prob",
+                            "--target-per", "0.2", "--frames", "40", "--resolution", "0.2",
+                            "--workers", "1", "--json"])
+    assert code == 0
+    m = json.loads(text)["margins"][0]
+    assert 0.0 <= m["c_per_at_limit"] <= 1.0
+    assert len(m["c_per_ci95_at_limit"]) == 2
+
+
+@pytest.mark.parametrize("cmd", [["stress"], ["sweep", "--vary", "jitter_us=0,5"],
+                                 ["margin", "--impairments", "jitter_us"]])
+def test_decoder_c_without_compiler_is_a_clear_error(monkeypatch, tmp_path, capsys, cmd):
+    """``--decoder c`` with no C compiler: exit code non-zero, message names the problem,
+    no traceback, before any simulation runs."""
+    from ookframe.cli.main import main
+
+    monkeypatch.setenv("PATH", str(tmp_path))
+    monkeypatch.delenv("OOKFRAME_CC", raising=False)
+    host_receiver.cache_clear()
+    argv = [cmd[0], str(_example_path("gate_sensor.toml")), *cmd[1:], "--decoder", "c",
+            "--workers", "1"]
+    code = main(argv)
+    e = capsys.readouterr().err
+    assert code != 0
+    assert "no C compiler" in e
+    assert "Traceback" not in e

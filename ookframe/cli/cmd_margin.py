@@ -9,11 +9,11 @@ from rich import box
 from rich.markup import escape
 from rich.table import Table
 
-from ..stress.margin import MARGIN_IMPAIRMENTS, run_margin
+from ..stress.margin import MARGIN_IMPAIRMENTS, run_at_margins, run_margin
 from . import common, exitcodes
 from .channel_options import add_channel_arguments, channel_from_args
 from .cluster import executor_from_args
-from .cmd_stress import add_run_arguments
+from .cmd_stress import add_decoder_argument, add_run_arguments, c_decoder
 from .output import err, out, print_json, progress_enabled
 
 NAME = "margin"
@@ -32,6 +32,7 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--resolution", type=common.float_in(0, 1, lo_open=True, hi_open=True), default=0.02,
                    help="bracket width as a fraction of the search range (default 0.02)")
     add_channel_arguments(p, "ideal")
+    add_decoder_argument(p)
     add_run_arguments(p)
 
 
@@ -52,18 +53,46 @@ def run(args: argparse.Namespace) -> int:
     spec, _ = common.load(args)
     names = args.impairments
     show = progress_enabled(args)
+    decode_c = c_decoder([spec]) if args.decoder == "c" else None  # no compiler: fail first
     with executor_from_args(args) as ex:
         r = run_margin(spec, args.target_per, channel=channel_from_args(args),
                        impairments=names, n_frames=args.frames, resolution=args.resolution,
                        seed=args.seed, executor=ex, workers=args.workers,
                        chunk_frames=args.chunk_frames,
                        progress=(lambda n: err.print(f"searching {n} ...")) if show else None)
+        if decode_c is not None:
+            if show:
+                err.print("C receiver at the margins ...")
+            rc = run_at_margins(spec, r, decode_c, seed=args.seed, executor=ex,
+                                workers=args.workers, chunk_frames=args.chunk_frames)
     failed = any(row.status == "fails-at-zero" for row in r.rows)
     if args.json:
-        print_json(r.to_dict())
+        d = r.to_dict()
+        if decode_c is not None:
+            for m, x in zip(d["margins"], rc, strict=True):  # type: ignore[arg-type]
+                m["c_per_at_limit"] = x.per if x else None
+                m["c_per_ci95_at_limit"] = list(x.per_ci95) if x else None
+        print_json(d)
         return exitcodes.FAILED if failed else 0
     out.print(margin_table(spec.name, args.target_per, r))
+    if decode_c is not None:
+        out.print(parity_table(spec.name, r, rc))
     return exitcodes.FAILED if failed else 0
+
+
+def parity_table(name: str, r, rc) -> Table:
+    """PER of the reference decoder and of the C receiver at each margin, same seeds."""
+    t = Table(title=f"{name}: reference decoder vs generated C receiver at the margins "
+              f"({r.n_frames} frames, same seeds)", box=box.SIMPLE_HEAD)
+    for col in ("impairment", "at", "reference PER\n[95 % CI]", "C receiver PER\n[95 % CI]"):
+        t.add_column(escape(col), justify="left" if col == "impairment" else "right",
+                     no_wrap=True)
+    for row, x in zip(r.rows, rc, strict=True):
+        at = row.at_limit
+        ref = f"{at.per:.3g} [{at.per_ci95[0]:.3g}, {at.per_ci95[1]:.3g}]" if at else "-"
+        c = f"{x.per:.3g} [{x.per_ci95[0]:.3g}, {x.per_ci95[1]:.3g}]" if x else "-"
+        t.add_row(row.impairment, f"{row.limit:.4g}", ref, c)
+    return t
 
 
 def margin_table(name: str, target_per: float, r) -> Table:
