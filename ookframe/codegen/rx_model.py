@@ -14,7 +14,12 @@ timer ticks of the pulse that just ended) and decides as the reference decoder d
   unit is refitted over the run of well-placed edges before it (the head);
 - line code: fixed-chip block codes decode per chip phase from a chip-pattern table;
   mark-space codes (pulse width, pulse distance) decode per (mark, space) pair;
-- sync: the preamble's last ``LEAD`` bits exactly, then the sync word with at most
+- clock: while hunting the frequency loop pulls in fast for the first ``GEAR_CHIPS`` chips
+  of a run of well-placed edges, then holds steady (the reference fits one unit over the
+  head); an edge far off the grid ends the run and restarts the pull-in from the nominal
+  unit;
+- sync: the preamble's last ``LEAD`` bits with at most 4 in 16 wrong (the reference only
+  ranks sync hits by their lead errors), then the sync word with at most
   ``sync.max_errors`` bit errors (invalid code words count as errors);
 - body: unstuffing, the length field (whitening constant applied), then the frame goes
   to the ready queue; the main loop (``_rx_take``) de-whitens, checks and unpacks.
@@ -33,7 +38,7 @@ from .timing import Timing
 
 #: fractional bits of the unit and residuals (unit kept in 1/16 tick)
 UNIT_FRAC = 4
-#: preamble bits just before the sync that must arrive exactly (the reference's
+#: preamble bits just before the sync matched with the sync word (the reference's
 #: ``head.LEAD_BITS``, shorter when the preamble is)
 LEAD_BITS = 16
 #: frequency window the receiver's unit may wander in while hunting (fraction); a little
@@ -43,8 +48,25 @@ CLOCK_SPAN = 0.12
 MAX_LADDER = 16
 #: frames held by the ready queue unless <PREFIX>_RX_QUEUE says otherwise
 DEFAULT_QUEUE = 2
+#: the frequency loop's step divisor while hunting and in the body (unit += residual /
+#: (run units * divisor)); larger: a steadier but slower clock
+FREQ_DIV_HUNT = 64
+#: ... and while the run of well-placed edges is shorter than GEAR_CHIPS chips (a fast
+#: pull-in after noise or at a new transmitter clock, then a steady clock for the sync)
+FREQ_DIV_PULL_IN = 16
+GEAR_CHIPS = 16
+#: an edge that ends the run of well-placed edges also sets the unit back to nominal
+RESET_ON_BREAK = True
+FREQ_DIV_BODY = 64
+#: an edge further than this from its grid point (1/20 unit) ends the run of well-placed
+#: edges the head refit spans
+STREAK_BREAK_20THS = 9
 #: fewest chips of well-placed edges before the sync for the head refit of the unit
 MIN_REFIT_CHIPS = 8
+#: lead bits (of LEAD_BITS) that may be wrong at a sync hit: the reference decoder only
+#: ranks sync hits by their lead errors; a few allowed keep a jittered preamble edge from
+#: losing the frame while a sync hit inside random data stays unlikely
+LEAD_MAX_ERRORS_PER_16 = 4
 
 
 @dataclass(frozen=True)
@@ -74,6 +96,7 @@ class RxModel:
     sync_mask: str
     lead_mask: str
     max_errors: int
+    lead_max_errors: int
     body_min_bits: int
     body_max_bits: int
     body_bytes: int
@@ -91,8 +114,12 @@ class RxModel:
     phase_shift_hunt: int
     phase_shift_body: int
     freq_div_hunt: int
+    freq_div_pull_in: int
+    gear_chips: int
+    reset_on_break: bool
     freq_div_body: int
     min_refit_chips: int
+    streak_break_20ths: int
 
     @property
     def ram_bytes(self) -> int:
@@ -238,11 +265,13 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
         pattern=_literal(value, reg_bits),
         sync_mask=_literal((1 << sync_n) - 1, reg_bits),
         lead_mask=_literal(((1 << lead_n) - 1) << sync_n, reg_bits),
-        max_errors=spec.sync.max_errors, body_min_bits=plan.min_body_bits,
+        max_errors=spec.sync.max_errors, lead_max_errors=lead_n * LEAD_MAX_ERRORS_PER_16 // 16,
+        body_min_bits=plan.min_body_bits,
         body_max_bits=body_max, body_bytes=max(1, (body_max + 7) // 8), variable=variable,
         len_offset=len_offset, len_width=len_width, len_weights=weights, len_xor=xor,
         len_max=len_max, len_fixed_bits=plan.min_body_bits,
         stuff_after=code.stuff_after, stuff_value=code.stuff_value, queue=DEFAULT_QUEUE,
         recip=recip, phase_shift_hunt=2, phase_shift_body=body_shift,
-        freq_div_hunt=8, freq_div_body=64, min_refit_chips=MIN_REFIT_CHIPS)
+        freq_div_hunt=FREQ_DIV_HUNT, freq_div_pull_in=FREQ_DIV_PULL_IN, gear_chips=GEAR_CHIPS, reset_on_break=RESET_ON_BREAK, freq_div_body=FREQ_DIV_BODY, min_refit_chips=MIN_REFIT_CHIPS,
+        streak_break_20ths=STREAK_BREAK_20THS)
 
