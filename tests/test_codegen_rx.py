@@ -320,3 +320,70 @@ def test_decoder_c_without_compiler_is_a_clear_error(monkeypatch, tmp_path, caps
     assert code != 0
     assert "no C compiler" in e
     assert "Traceback" not in e
+
+
+def _one_edge_moved(spec, rng, shift_units: float):
+    """A clean train of ``spec`` with one edge inside the first copy's body moved by
+    ``shift_units`` (past halfway to the next grid point, so its hard decision is wrong),
+    or None when the two pulses it bounds would get too short."""
+    from ookframe.decode.head import build_head
+
+    t = encode(spec, random_values(spec, rng))
+    u = spec.unit_us
+    ends = np.cumsum(t.durations_us)
+    body_us = build_head(spec).body_chip * u
+    gaps = np.flatnonzero(t.durations_us > 10 * u)
+    stop = int(gaps[0]) if gaps.size else t.durations_us.size
+    edges = np.flatnonzero((ends[:-1] > body_us + u) & (np.arange(ends.size - 1) < stop - 2))
+    j = int(rng.choice(edges))
+    d = t.durations_us.astype(float)
+    sh = float(rng.choice([-1.0, 1.0])) * shift_units * u
+    if min(d[j] + sh, d[j + 1] - sh) < 0.5 * u:
+        return None
+    d[j] += sh
+    d[j + 1] -= sh
+    return PulseTrain(t.levels, d)
+
+
+@needs_gcc
+@pytest.mark.parametrize("name", ["hive_scale.toml", "tank_level.toml", "coldframe_vent.toml"])
+def test_check_aided_recovery_matches_reference(name):
+    """Trains with one body edge moved 0.62 unit (its hard decision wrong, 0.38 unit off
+    the grid): wherever the reference decoder corrects the frame (``corrected`` = 1), the C
+    receiver returns the same payload with the check passing and ``corrected`` = 1.
+    numpy PCG64 seed 3; the reference is ``ookframe.decode`` of this repository."""
+    spec = example_spec(name)
+    rng = np.random.default_rng(3)
+    needed = agreed = 0
+    for _ in range(80):
+        train = _one_edge_moved(spec, rng, 0.62)
+        if train is None:
+            continue
+        ref = decode(spec, train, include_bad=True)
+        if not ref or ref[0].corrected == 0:
+            continue
+        needed += 1
+        got = decode_c(spec, train)
+        assert got, "the C receiver lost the frame"
+        assert got[0].crc_ok
+        assert got[0].payload_hex == ref[0].payload_hex
+        assert got[0].corrected == ref[0].corrected
+        agreed += 1
+    assert needed >= 3  # the trains do exercise the recovery
+    print(f"{name}: {agreed} corrected frames agree with the reference")
+
+
+@needs_gcc
+def test_recovery_stays_within_the_trials():
+    """The recovery's limits are the reference's (hive_scale: CRC-16/KERMIT over 64 bits,
+    HD 4 (Koopman's CRC tables, from memory) -> 2 flips; 2**16 / 4096 = 16 trials), and on
+    a badly jittered train no frame reports more edges moved than that."""
+    spec = example_spec("hive_scale.toml")
+    e = emit_header(spec, side="rx")
+    assert e.model.rx.recovery_flips == 2
+    assert e.model.rx.recovery_trials == 16  # 2**16 / 4096
+    rng = np.random.default_rng(5)
+    t = encode(spec, random_values(spec, rng))
+    d = t.durations_us * rng.uniform(0.7, 1.3, t.durations_us.size)
+    for f in decode_c(spec, PulseTrain(t.levels, d)):
+        assert f.corrected <= 2

@@ -126,7 +126,7 @@ class HostReceiver:
         return CFrame(raw=raw, payload_hex=payload, crc_ok=ok, start_us=start_us,
                       sync_errors=q.sync_errors, code_errors=q.code_errors,
                       worst_deviation=q.worst_dev_permille / 1000,
-                      clock_error=q.clock_error_permille / 1000)
+                      clock_error=q.clock_error_permille / 1000, corrected=q.corrected)
 
 
 def build_host_receiver(spec: FrameSpec) -> Path:

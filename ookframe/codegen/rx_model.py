@@ -24,7 +24,16 @@ timer ticks of the pulse that just ended) and decides as the reference decoder d
 - body: unstuffing, the length field (whitening constant applied), then the frame goes
   to the ready queue; the main loop (``_rx_take``) de-whitens, checks and unpacks.
 
-Check-aided recovery (edge flips) is not done by the C receiver.
+Check-aided recovery (``decode.framer``'s rules, fixed-chip codes): in the body the
+receiver keeps the ``RECOVERY_EDGES`` least reliable edges (at least
+``RECOVERY_MIN_OFFSET`` unit off their grid point, both pulses they bound still of
+allowed lengths if the edge moves to the grid point on its other side) and the frame's
+chips; ``_rx_take`` tries, for a frame whose check fails, up to ``recovery_trials``
+combinations of at most ``recovery_flips`` of those edges moved (fewest first, then least
+reliable), re-decoding the chips each time, and takes the first whose check passes
+(``corrected``: edges moved). The limits are the reference's: flips = min(max_flips,
+HD - 2), trials = 2**w / 4096 for a w-bit check. Unlike the reference it ranks body edges
+only (moving a preamble edge cannot change the body). Mark-space codes get no recovery.
 """
 
 from __future__ import annotations
@@ -119,6 +128,12 @@ class RxModel:
     reset_on_break: bool
     freq_div_body: int
     min_refit_chips: int
+    recovery_flips: int  # 0: no check-aided recovery
+    recovery_trials: int
+    recovery_edges: int
+    recovery_min_offset_10ths: int
+    raw_chips: int  # body chips kept for the recovery (0 without)
+    recovery_none: str  # why there is no recovery (comment text), "" with one
     streak_break_20ths: int
 
     @property
@@ -129,6 +144,8 @@ class RxModel:
         phases = self.chips_per_block if self.family == "chips" else 1
         state = 4 * 8 + 16 + 2 * reg * phases + self.body_bytes
         slot = self.body_bytes + 12
+        if self.recovery_flips:
+            slot += (self.raw_chips + 7) // 8 + 6 + 8 * self.recovery_edges
         return state + self.queue * slot + 16
 
 
@@ -252,6 +269,24 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
     if body_max > 65535:
         raise CodegenError(f"frames of up to {body_max} body bits; the C receiver handles 65535")
     recip = tuple(0 if n == 0 else round(256 / n) for n in range(top + 1))
+    # check-aided recovery: the reference decoder's limits (decode.framer)
+    from ..decode import framer
+
+    flips = min(spec.decoder.max_flips, framer.safe_flips(spec)) if family == "chips" else 0
+    trials = int(2.0 ** spec.check.width_bits * framer.RECOVERY_FALSE_ACCEPT) \
+        if spec.check.kind != "none" else 0
+    if flips == 0 or trials == 0:
+        why = ("mark-space codes get none in C" if family == "pairs" and trials
+               and framer.safe_flips(spec) and spec.decoder.max_flips
+               else "the check's Hamming distance and width leave no safe flips")
+        flips = trials = 0
+    else:
+        why = ""
+    raw_bits = body_max + lc.max_stuffed_bits(body_max)
+    raw_chips = (raw_bits + k - 1) // k * cpb_out + cpb_out if flips else 0
+    if raw_chips > 65535:
+        raise CodegenError(f"frames of up to {raw_chips} body chips; the C receiver's "
+                           "check-aided recovery handles 65535")
     gain = spec.decoder.loop_gain
     body_shift = 3 if gain >= 0.04 else (4 if gain >= 0.02 else 5)
     return RxModel(
@@ -273,5 +308,8 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
         stuff_after=code.stuff_after, stuff_value=code.stuff_value, queue=DEFAULT_QUEUE,
         recip=recip, phase_shift_hunt=2, phase_shift_body=body_shift,
         freq_div_hunt=FREQ_DIV_HUNT, freq_div_pull_in=FREQ_DIV_PULL_IN, gear_chips=GEAR_CHIPS, reset_on_break=RESET_ON_BREAK, freq_div_body=FREQ_DIV_BODY, min_refit_chips=MIN_REFIT_CHIPS,
+        recovery_flips=flips, recovery_trials=min(trials, 255),
+        recovery_edges=framer.RECOVERY_EDGES,
+        recovery_min_offset_10ths=round(framer.RECOVERY_MIN_OFFSET * 10), raw_chips=raw_chips, recovery_none=why,
         streak_break_20ths=STREAK_BREAK_20THS)
 
