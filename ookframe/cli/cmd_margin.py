@@ -10,6 +10,7 @@ from rich.markup import escape
 from rich.table import Table
 
 from ..stress.margin import MARGIN_IMPAIRMENTS, run_at_margins, run_margin
+from ..stress.runner import copy_loss
 from . import common, exitcodes
 from .channel_options import add_channel_arguments, channel_from_args
 from .cluster import executor_from_args
@@ -69,29 +70,40 @@ def run(args: argparse.Namespace) -> int:
     if args.json:
         d = r.to_dict()
         if decode_c is not None:
-            for m, x in zip(d["margins"], rc, strict=True):  # type: ignore[arg-type]
+            for m, row, x in zip(d["margins"], r.rows, rc, strict=True):  # type: ignore[arg-type]
                 m["c_per_at_limit"] = x.per if x else None
                 m["c_per_ci95_at_limit"] = list(x.per_ci95) if x else None
+                for key, res in (("copy_loss", row.at_limit), ("c_copy_loss", x)):
+                    loss = copy_loss(res, spec.repeats) if res else None
+                    m[f"{key}_at_limit"] = loss[0] if loss else None
+                    m[f"{key}_ci95_at_limit"] = list(loss[1]) if loss else None
         print_json(d)
         return exitcodes.FAILED if failed else 0
     out.print(margin_table(spec.name, args.target_per, r))
     if decode_c is not None:
-        out.print(parity_table(spec.name, r, rc))
+        out.print(parity_table(spec.name, r, rc, spec.repeats))
     return exitcodes.FAILED if failed else 0
 
 
-def parity_table(name: str, r, rc) -> Table:
-    """PER of the reference decoder and of the C receiver at each margin, same seeds."""
+def parity_table(name: str, r, rc, repeats: int) -> Table:
+    """PER and copy loss of the reference decoder and of the C receiver at each margin,
+    same seeds (the reference's copy loss with its 95 % CI; its PER CI is in the margin
+    table above)."""
     t = Table(title=f"{name}: reference decoder vs generated C receiver at the margins "
               f"({r.n_frames} frames, same seeds)", box=box.SIMPLE_HEAD)
-    for col in ("impairment", "at", "reference PER\n[95 % CI]", "C receiver PER\n[95 % CI]"):
+    for col in ("impairment", "at", "PER\nref.", "PER\nC", "copies lost\nref. [95 % CI]",
+                "copies\nlost C"):
         t.add_column(escape(col), justify="left" if col == "impairment" else "right",
                      no_wrap=True)
     for row, x in zip(r.rows, rc, strict=True):
         at = row.at_limit
-        ref = f"{at.per:.3g} [{at.per_ci95[0]:.3g}, {at.per_ci95[1]:.3g}]" if at else "-"
-        c = f"{x.per:.3g} [{x.per_ci95[0]:.3g}, {x.per_ci95[1]:.3g}]" if x else "-"
-        t.add_row(row.impairment, f"{row.limit:.4g}", ref, c)
+        if at is None or x is None:
+            t.add_row(row.impairment, f"{row.limit:.4g}", "-", "-", "-", "-")
+            continue
+        lr, lc = copy_loss(at, repeats), copy_loss(x, repeats)
+        t.add_row(row.impairment, f"{row.limit:.4g}",
+                  f"{at.per:.2g}", f"{x.per:.2g}",
+                  f"{lr[0]:.2g} [{lr[1][0]:.2g}, {lr[1][1]:.2g}]", f"{lc[0]:.2g}")
     return t
 
 
