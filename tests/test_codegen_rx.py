@@ -387,3 +387,38 @@ def test_recovery_stays_within_the_trials():
     d = t.durations_us * rng.uniform(0.7, 1.3, t.durations_us.size)
     for f in decode_c(spec, PulseTrain(t.levels, d)):
         assert f.corrected <= 2
+
+
+PARITY_PRESETS = ("ideal", "budget-superregen", "edge-of-range-superregen", "superhet")
+
+
+@pytest.mark.slow
+@needs_gcc
+@pytest.mark.parametrize("name", EXAMPLES)
+def test_copy_loss_parity_at_presets_and_margin(name):
+    """The C receiver loses no more copies than the reference decoder's 95 % CI
+    (Clopper-Pearson) allows, on the same seeds: at every channel preset (300
+    transmissions) and at the jitter margin ``run_margin`` finds for PER < 0.05 (200
+    transmissions per point). A C receiver better than the CI's lower bound passes too."""
+    from ookframe import get_preset
+    from ookframe.stress import run_stress
+    from ookframe.stress.margin import run_at_margins, run_margin
+    from ookframe.stress.runner import copy_loss
+
+    spec = example_spec(name)
+    host_receiver(spec)
+    seen = []
+    for preset in PARITY_PRESETS:
+        ch = get_preset(preset)
+        ref = run_stress(spec, ch, 300, seed=0)
+        c = run_stress(spec, ch, 300, seed=0, decoder=decode_c)
+        (lr, (_, hi)), (lc, _) = copy_loss(ref, spec.repeats), copy_loss(c, spec.repeats)
+        seen.append(f"{preset}: ref {lr:.3f} (<= {hi:.3f}) C {lc:.3f}")
+        assert lc <= hi, seen[-1]
+    m = run_margin(spec, 0.05, impairments=["jitter_us"], n_frames=200, resolution=0.1)
+    (row,), (c,) = m.rows, run_at_margins(spec, m, decode_c)
+    assert row.at_limit is not None and c is not None
+    (lr, (_, hi)), (lc, _) = copy_loss(row.at_limit, spec.repeats), copy_loss(c, spec.repeats)
+    seen.append(f"jitter_us {row.limit:.3g}: ref {lr:.3f} (<= {hi:.3f}) C {lc:.3f}")
+    assert lc <= hi, seen[-1]
+    print(f"{name}: " + "; ".join(seen))
