@@ -5,7 +5,7 @@ from __future__ import annotations
 
 import subprocess
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
@@ -165,6 +165,9 @@ class SimRun:
     marks: list[tuple[int, int]]  # (value, cycle) written to GPIOR1
     end: str
     end_cycle: int
+    #: every isr / byte / mark line in the harness's order: (kind, value or cycles, cycle;
+    #: -1 for an isr, whose line carries no cycle)
+    events: list[tuple[str, int, int]] = field(default_factory=list)
 
 
 def build_harness(directory: Path) -> Path:
@@ -199,26 +202,30 @@ def simulate(harness: Path, elf: Path, *, clock_hz: int, isr: tuple[int, ...] = 
     report: list[tuple[int, int]] = []
     marks: list[tuple[int, int]] = []
     end, end_cycle = "none", 0
+    events: list[tuple[str, int, int]] = []
     for line in proc.stdout.splitlines():
         parts = line.split()
         if not parts:
             continue
         if parts[0] == "isr":
             isr_c[int(parts[1])].append(int(parts[2]))
+            events.append(("isr", int(parts[2]), -1))
         elif parts[0] == "edge":
             edges[parts[1]][0].append(int(parts[2]))
             edges[parts[1]][1].append(int(parts[3]))
         elif parts[0] == "byte":
             report.append((int(parts[1]), int(parts[2])))
+            events.append(("byte", int(parts[1]), int(parts[2])))
         elif parts[0] == "mark":
             marks.append((int(parts[1]), int(parts[2])))
+            events.append(("mark", int(parts[1]), int(parts[2])))
         elif parts[0] == "end":
             end, end_cycle = parts[1], int(parts[2])
     if end == "none":
         raise AssertionError(f"harness failed ({proc.returncode}): {proc.stderr[-2000:]}")
     return SimRun({v: np.asarray(c, np.int64) for v, c in isr_c.items()},
                   {p: (np.asarray(lv, np.uint8), np.asarray(cy, np.int64))
-                   for p, (lv, cy) in edges.items()}, report, marks, end, end_cycle)
+                   for p, (lv, cy) in edges.items()}, report, marks, end, end_cycle, events)
 
 
 def level_changes(levels: np.ndarray, cycles: np.ndarray) -> np.ndarray:
