@@ -69,7 +69,7 @@ def drive_lines(trains: Sequence[tuple[np.ndarray, np.ndarray]], clock_hz: int,
     cyc = LEAD_IN_CYCLES + np.rint(starts_us * clock_hz / 1e6).astype(np.int64)
     prev = np.concatenate(([0], lv[:-1]))
     change = np.flatnonzero(lv != prev)
-    text = "".join(f"{c} {v}\n" for c, v in zip(cyc[change].tolist(), lv[change].tolist()))
+    text = "".join(f"{c} {v}\n" for c, v in zip(cyc[change].tolist(), lv[change].tolist(), strict=True))
     return text, int(cyc[-1])
 
 
