@@ -83,7 +83,8 @@ def demo_values_header(emitted: Emitted, values: Mapping[str, object]) -> str:
 def build_firmware(emitted: Emitted, values: Mapping[str, object], directory: Path,
                    *, baseline: bool = False, source: Path = FIRMWARE, name: str = "",
                    extra_defines: Mapping[str, str | None] | None = None,
-                   extra_sources: tuple[Path, ...] = ()) -> Path:
+                   extra_sources: tuple[Path, ...] = (), extra_flags: tuple[str, ...] = ()
+                   ) -> Path:
     """Compile a test firmware (default firmware.c, or its empty baseline) with avr-gcc and
     the strict flags, the header's tables in flash."""
     assert AVR_GCC is not None
@@ -101,7 +102,7 @@ def build_firmware(emitted: Emitted, values: Mapping[str, object], directory: Pa
     defines.update(extra_defines or {})
     name = name or ("baseline.elf" if baseline else "firmware.elf")
     return compile_c(AVR_GCC, [source, *extra_sources], directory / name,
-                     flags=[*STRICT_FLAGS, *AVR_FLAGS, *LINK_FLAGS],
+                     flags=[*STRICT_FLAGS, *AVR_FLAGS, *LINK_FLAGS, *extra_flags],
                      include_dirs=[directory, SIMAVR_INCLUDE], defines=defines)
 
 

@@ -24,6 +24,8 @@ MARK_POLL, MARK_POLLED, MARK_TAKE, MARK_TAKEN = 1, 2, 3, 4
 LEAD_IN_CYCLES = 20_000
 #: quiet line between two driven trains, in microseconds
 GAP_US = 30_000.0
+#: link only what is used (the rx header also holds the transmitter)
+GC_FLAGS = ("-ffunction-sections", "-fdata-sections", "-Wl,--gc-sections")
 _CTYPES = {"uint8_t": ctypes.c_uint8, "int8_t": ctypes.c_int8, "uint16_t": ctypes.c_uint16,
            "int16_t": ctypes.c_int16, "uint32_t": ctypes.c_uint32, "int32_t": ctypes.c_int32,
            "uint64_t": ctypes.c_uint64, "int64_t": ctypes.c_int64}
@@ -171,13 +173,14 @@ def run_receiver(emitted: Emitted, values: Mapping[str, object],
 
 def receiver_sizes(emitted: Emitted, values: Mapping[str, object], directory: Path
                    ) -> tuple[int, int]:
-    """Return (flash, RAM) bytes of the receiver: rx_firmware.c minus its stub baseline."""
+    """Return (flash, RAM) bytes of the receiver: rx_firmware.c minus its stub baseline,
+    both linked with unused sections dropped (the header's transmitter is not counted)."""
     assert avr_run.AVR_SIZE is not None
     sizes = []
     for baseline in (False, True):
         elf = avr_run.build_firmware(emitted, values, directory, source=RX_FIRMWARE,
                                      baseline=baseline,
                                      name="rx_base.elf" if baseline else "rx_size.elf",
-                                     extra_defines=lock_defines(emitted))
+                                     extra_defines=lock_defines(emitted), extra_flags=GC_FLAGS)
         sizes.append(avr_flash_ram(section_sizes(avr_run.AVR_SIZE, elf)))
     return sizes[0][0] - sizes[1][0], sizes[0][1] - sizes[1][1]
