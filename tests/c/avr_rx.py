@@ -152,15 +152,17 @@ def _main_loop_cycles(events: list[tuple[str, int, int]]) -> tuple[np.ndarray, n
 
 def run_receiver(emitted: Emitted, values: Mapping[str, object],
                  trains: Sequence[tuple[np.ndarray, np.ndarray]], directory: Path, *,
-                 in_isr: bool = False) -> RxRun:
+                 in_isr: bool = False, baseline: bool = False) -> RxRun:
     """Build the receiver firmware (``values``: any valid field values, for the shared
-    demo_values.h), drive PB0 with ``trains`` and return its report."""
+    demo_values.h; ``baseline``: around the stub receiver), drive PB0 with ``trains`` and
+    return its report."""
     harness = avr_run.build_harness(directory)
     defines = lock_defines(emitted)
     if in_isr:
         defines["OOK_RX_IN_ISR"] = None
     elf = avr_run.build_firmware(emitted, values, directory, source=RX_FIRMWARE,
-                                 name="rx_isr.elf" if in_isr else "rx.elf",
+                                 baseline=baseline,
+                                 name=f"rx{'_isr' if in_isr else ''}{'_base' if baseline else ''}.elf",
                                  extra_defines=defines)
     text, end_cycle = drive_lines(trains, emitted.model.timing.clock_hz)
     drive = directory / "drive.txt"
