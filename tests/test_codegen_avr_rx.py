@@ -100,6 +100,18 @@ def test_vectors_file_decodes_on_the_avr(tmp_path, capsys, name):
     assert run.capt_cycles.max() <= ISR_TARGET_CYCLES
 
 
+@pytest.mark.parametrize("name", ["hive_scale.toml", "gate_sensor.toml", "tank_level.toml"])
+def test_ram_stated_in_the_header_holds_on_the_avr(tmp_path, name):
+    """The receiver's static RAM measured by avr-size (firmware minus its stub baseline)
+    is positive and at most the figure the header's comment states."""
+    spec, defaults = example_spec(name)
+    emitted = emit_header(spec, side="rx")
+    flash, ram = avr_rx.receiver_sizes(emitted, defaults, tmp_path)
+    assert f"RAM: about {emitted.model.rx.ram_bytes} bytes" in emitted.text
+    print(f"{name}: receiver flash {flash} B, RAM {ram} B (header: {emitted.model.rx.ram_bytes})")
+    assert 0 < ram <= emitted.model.rx.ram_bytes and flash > 0
+
+
 def test_readme_receiver_snippet_compiles(tmp_path):
     """The README's pasteable AVR receiver firmware compiles with avr-gcc and the strict
     warning set against the header ``emit --side rx`` writes for hive_scale."""

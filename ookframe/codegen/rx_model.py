@@ -109,7 +109,7 @@ class RxModel:
         reg = 8 if self.pattern_type == "uint64_t" else 4
         phases = self.chips_per_block if self.family == "chips" else 1
         state = 4 * 8 + 16 + 2 * reg * phases + self.body_bytes
-        slot = self.body_bytes + 12
+        slot = self.body_bytes + 12 + 8  # bits, quality (padded), worst16 and unit16
         return state + self.queue * slot + 16 + 3 * self.edges + 2
 
 
