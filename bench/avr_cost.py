@@ -103,13 +103,7 @@ def _run_buffer_rows() -> None:
 def _txbuf_isr(emitted, values, directory: Path, *, asm: bool) -> tuple[int, float, int]:
     """(worst, mean) compare ISR cycles and the worst edge error in cycles of the run buffer
     firmware, with the C ISR or the header's assembly one."""
-    harness = avr_run.build_harness(directory)
-    elf = avr_run.build_firmware(emitted, values, directory, source=avr_run.TX_BUFFER_FIRMWARE,
-                                 name="asm.elf" if asm else "c.elf",
-                                 extra_defines={"OOK_ASM_ISR": None} if asm else None)
-    run = avr_run.simulate(harness, elf, clock_hz=emitted.timing.clock_hz,
-                           isr=(avr_run.TIMER1_COMPA_VECTOR,), watch=("B1",))
-    changes = avr_run.level_changes(*run.edges["B1"])
+    run, changes = avr_run.run_tx_buffer(emitted, values, directory, asm=asm)
     err = int(np.abs(avr_run.edge_errors_cycles(emitted, values, changes)).max())
     cycles = run.isr_cycles[avr_run.TIMER1_COMPA_VECTOR]
     return int(cycles.max()), float(cycles.mean()), err

@@ -31,21 +31,28 @@ pytestmark = [pytest.mark.slow,
 TRANSMISSIONS = 2
 
 
-def _transmit(emitted, values, directory) -> PulseTrain:
-    """Run the transmitter board with ``values``; return its pin as a pulse train (µs)
-    from the first edge to the last, after checking the edges against the quantised
-    schedule (0 cycles of error)."""
-    directory.mkdir()
-    elf = avr_run.build_firmware(emitted, values, directory, source=avr_run.TX_BUFFER_FIRMWARE,
-                                 name="tx.elf", extra_defines={"OOK_ASM_ISR": None})
-    run = avr_run.simulate(avr_run.build_harness(directory), elf,
-                           clock_hz=emitted.timing.clock_hz, watch=("B1",))
-    assert run.end == "done"
-    levels, cycles = run.edges["B1"]
-    changes = avr_run.level_changes(levels, cycles)
-    np.testing.assert_array_equal(avr_run.edge_errors_cycles(emitted, values, changes), 0)
-    pulse_levels = (np.arange(changes.size - 1) % 2 == 0).astype(np.uint8)  # starts rising
-    return PulseTrain(pulse_levels, np.diff(changes) * 1e6 / emitted.timing.clock_hz)
+def _send(spec, emitted, channel_name: str, rng, directory
+          ) -> tuple[list[tuple[np.ndarray, np.ndarray]], list[dict[str, object]]]:
+    """Run the transmitter board for TRANSMISSIONS random value sets; return each one's
+    pin edges after the channel, as (levels, durations_us) for the receiver board, and the
+    raw values sent. The recorded edges are first checked against the quantised schedule
+    (0 cycles of error)."""
+    channel = get_preset(channel_name)
+    trains, sent_raw = [], []
+    for k in range(TRANSMISSIONS):
+        values = random_values(spec, rng)
+        (directory / f"tx{k}").mkdir()
+        run, changes = avr_run.run_tx_buffer(emitted, values, directory / f"tx{k}", asm=True)
+        assert run.end == "done"
+        np.testing.assert_array_equal(avr_run.edge_errors_cycles(emitted, values, changes), 0)
+        levels = (np.arange(changes.size - 1) % 2 == 0).astype(np.uint8)  # starts rising
+        sent = PulseTrain(levels, np.diff(changes) * 1e6 / emitted.timing.clock_hz)
+        received = apply_channel(sent, channel, rng)
+        assert not np.array_equal(received.durations_us[-sent.durations_us.size:],
+                                  sent.durations_us)  # the channel did change the edges
+        trains.append((received.levels, received.durations_us))
+        sent_raw.append(raw_values(spec, values))
+    return trains, sent_raw
 
 
 @pytest.mark.parametrize("name", example_names())
@@ -56,19 +63,10 @@ def test_loopback_through_the_channel(tmp_path, name):
     copy on this preset, README's measured table)."""
     spec, defaults = example_spec(name)
     emitted = emit_header(spec, side="rx")
-    rng = np.random.default_rng(5)
-    channel = get_preset("budget-superregen")
-    trains, want = [], []
-    for k in range(TRANSMISSIONS):
-        values = random_values(spec, rng)
-        sent = _transmit(emitted, values, tmp_path / f"tx{k}")
-        received = apply_channel(sent, channel, rng)
-        assert not np.array_equal(received.durations_us[-sent.durations_us.size:],
-                                  sent.durations_us)  # the channel did change the edges
-        trains.append((received.levels, received.durations_us))
-        want += [raw_values(spec, values)] * spec.repeats
+    trains, sent_raw = _send(spec, emitted, "budget-superregen", np.random.default_rng(5),
+                             tmp_path)
     rx = avr_rx.run_receiver(emitted, defaults, trains, tmp_path)
-    assert rx.frames == want
+    assert rx.frames == [v for v in sent_raw for _ in range(spec.repeats)]
     assert rx.counters["check_failures"] == 0 and rx.counters["overruns"] == 0
 
 
@@ -80,15 +78,8 @@ def test_loopback_at_the_edge_of_range(tmp_path, name):
     (3 and 5 repeats)."""
     spec, defaults = example_spec(name)
     emitted = emit_header(spec, side="rx")
-    rng = np.random.default_rng(7)
-    channel = get_preset("edge-of-range-superregen")
-    trains, sent_values = [], []
-    for k in range(TRANSMISSIONS):
-        values = random_values(spec, rng)
-        sent_values.append(raw_values(spec, values))
-        sent = _transmit(emitted, values, tmp_path / f"tx{k}")
-        received = apply_channel(sent, channel, rng)
-        trains.append((received.levels, received.durations_us))
+    trains, sent_values = _send(spec, emitted, "edge-of-range-superregen",
+                                np.random.default_rng(7), tmp_path)
     rx = avr_rx.run_receiver(emitted, defaults, trains, tmp_path)
     assert len({repr(v) for v in sent_values}) == TRANSMISSIONS  # tell them apart
     for frame in rx.frames:

@@ -43,14 +43,8 @@ def _run(tmp_path, name: str, asm: bool):
     spec, values = example_spec(name)
     emitted = emit_header(spec)
     assert emitted.model.txbuf is not None
-    harness = avr_run.build_harness(tmp_path)
-    elf = avr_run.build_firmware(emitted, values, tmp_path, source=avr_run.TX_BUFFER_FIRMWARE,
-                                 name="asm.elf" if asm else "c.elf",
-                                 extra_defines={"OOK_ASM_ISR": None} if asm else None)
-    run = avr_run.simulate(harness, elf, clock_hz=emitted.timing.clock_hz,
-                           isr=(avr_run.TIMER1_COMPA_VECTOR,), watch=("B1",))
+    run, changes = avr_run.run_tx_buffer(emitted, values, tmp_path, asm=asm)
     assert run.end == "done" and run.report[-1][0] == 0xD0
-    changes = avr_run.level_changes(*run.edges["B1"])
     errors = avr_run.edge_errors_cycles(emitted, values, changes)
     assert errors.size > 100 and np.abs(errors).max() == 0
     cycles = run.isr_cycles[avr_run.TIMER1_COMPA_VECTOR]
