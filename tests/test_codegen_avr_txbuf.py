@@ -10,6 +10,7 @@ C ISR around <prefix>_tx_step, and with the header's assembly <PREFIX>_TX_AVR_IS
 from __future__ import annotations
 
 import re
+import tomllib
 from pathlib import Path
 
 import numpy as np
@@ -25,7 +26,7 @@ from ookframe.codegen.toolchains import (
     compile_c,
     find_tool,
 )
-from ookframe.demo import example_names
+from ookframe.demo import example_names, example_text
 from ookframe.errors import CodegenError
 from tests.c import avr_run
 from tests.conftest import example_spec
@@ -162,3 +163,64 @@ def test_stated_ram_equals_sizeof(tmp_path, name):
                   flags=[*STRICT_FLAGS, *AVR_FLAGS, "-c"], include_dirs=[tmp_path],
                   defines={"OOK_HEADER": f'"{emitted.filename}"', "OOK_PREFIX": m.prefix,
                            "OOK_UPREFIX": m.PREFIX, "OOK_STREAM_BYTES": str(stream["avr"] + 1)})
+
+
+HOST_CC = find_tool("cc") or find_tool("gcc")
+TXBUF_HOST = Path(__file__).resolve().parent / "c" / "txbuf_host.c"
+
+
+def _host_steps(emitted, values, directory: Path) -> tuple[bool, list[int], int]:
+    """Build tests/c/txbuf_host.c for ``values`` with the host compiler (strict flags) and
+    return (tx_start's result, every tx_step value, busy after the last step)."""
+    import subprocess
+
+    assert HOST_CC is not None
+    m = emitted.model
+    (directory / emitted.filename).write_text(emitted.text)
+    (directory / "demo_values.h").write_text(avr_run.demo_values_header(emitted, values))
+    prog = compile_c(HOST_CC, [TXBUF_HOST], directory / "txbuf_host",
+                     flags=[*STRICT_FLAGS, "-O2"], include_dirs=[directory],
+                     defines={"OOK_HEADER": f'"{emitted.filename}"', "OOK_PREFIX": m.prefix,
+                              "OOK_UPREFIX": m.PREFIX, f"{m.PREFIX}_IMPLEMENTATION": None})
+    out = subprocess.run([str(prog)], capture_output=True, text=True, check=True,
+                         timeout=60).stdout.split("\n")
+    steps = [int(t) for t in out[1].split()] if out[0] == "start 1" else []
+    return out[0] == "start 1", steps, int(out[-2].split()[1])
+
+
+@pytest.mark.parametrize(("name", "timer_bits"), [("coldframe_vent.toml", 8),
+                                                  ("hive_scale.toml", 16),
+                                                  ("tank_level.toml", 24),
+                                                  ("gate_sensor.toml", 32)])
+def test_tx_step_sequence_on_the_host(tmp_path, name, timer_bits):
+    """On the host, for 8-, 16-, 24- and 32-bit timers (reload types uint8/16/32_t, end
+    mark the top bit), tx_step yields every edge-to-edge interval of the Python quantised
+    schedule minus 1, all repeats, the gaps included, then 0 with busy cleared."""
+    spec, values = example_spec(name)
+    emitted = emit_header(spec, TimerTarget(timer_bits=timer_bits, tx_mode="buffer"))
+    ok, steps, busy = _host_steps(emitted, values, tmp_path)
+    edges = avr_run.schedule_edge_cycles(emitted, values) // emitted.timing.prescaler
+    assert ok and busy == 0
+    assert steps == [*(np.diff(edges) - 1).tolist(), 0]
+
+
+def test_tx_start_refuses_an_interval_at_the_end_mark(tmp_path):
+    """An interval inside a copy longer than <PREFIX>_TX_MAX_INTERVAL_TICKS (32768 on a
+    16-bit timer: its reload would carry the end mark) makes tx_start return false with
+    busy 0. coldframe_vent with a 1 ms gap at 16 MHz, prescaler 1: its demo frame has
+    3-unit NRZ runs of 3 x 13333 = 39999 ticks (unit 833.3 µs), while the gap interval
+    (about 1833 µs, 29333 ticks) fits one period (arithmetic); at 8 MHz the same frame
+    goes out."""
+    from ookframe.spec_io import spec_and_defaults_from_dict
+
+    text = example_text("coldframe_vent.toml").replace("gap_us = 6000", "gap_us = 1000")
+    assert "gap_us = 1000" in text
+    spec, values = spec_and_defaults_from_dict(tomllib.loads(text))
+    fast = emit_header(spec, TimerTarget(clock_hz=16_000_000, prescalers=(1,), tx_mode="buffer"))
+    assert fast.model.txbuf is not None and fast.model.txbuf["max_interval_ticks"] == 32768
+    assert np.diff(avr_run.schedule_edge_cycles(fast, values)).max() == 39999
+    (tmp_path / "fast").mkdir()
+    assert _host_steps(fast, values, tmp_path / "fast")[::2] == (False, 0)
+    slow = emit_header(spec, TimerTarget(clock_hz=8_000_000, prescalers=(1,), tx_mode="buffer"))
+    (tmp_path / "slow").mkdir()
+    assert _host_steps(slow, values, tmp_path / "slow")[0]
