@@ -262,7 +262,7 @@ static inline probe_reload_t probe_tx_step(struct probe_txbuf *b)
     return b->gap_reload;
 }
 
-#if defined(__AVR__) && defined(__GNUC__)
+#if defined(__AVR__) && defined(__GNUC__) && !defined(__AVR_TINY__) /* not on the reduced-core tinies (no ldd) */
 /** The compare ISR in AVR assembly (avr-gcc), the same steps as probe_tx_step: the
  *  reload value goes to the 16-bit compare register ocr_reg (high byte first), and after the
  *  last copy the timer clock is stopped (tccrb_reg = 0) and buf.busy cleared. It saves r24,
