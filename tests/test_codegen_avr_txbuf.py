@@ -60,6 +60,9 @@ def test_c_isr_edges_land_on_the_quantised_schedule(tmp_path, name):
     shortest pulse."""
     _, emitted, cycles = _run(tmp_path, name, asm=False)
     shortest = min(d.ticks for d in emitted.timing.durations) * emitted.timing.prescaler
+    assert emitted.report()["run_buffer"]["shortest_interval_cycles"] == shortest  # type: ignore[index]
+    assert f"shortest interval is {shortest} CPU cycles" in " ".join(
+        line.lstrip(" *") for line in emitted.text.splitlines())
     print(f"{name}: C ISR max {cycles.max()} mean {cycles.mean():.1f} cycles")
     assert cycles.max() < shortest // 4
 

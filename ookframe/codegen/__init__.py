@@ -59,6 +59,7 @@ class Emitted:
                 "ram_bytes": dict(m.txbuf["ram"]),  # type: ignore[call-overload]
                 "entries": m.txbuf["cap"],
                 "max_interval_ticks": m.txbuf["max_interval_ticks"],
+                "shortest_interval_cycles": m.txbuf["shortest_cycles"],
                 "avr_isr_cycles": dict(m.txbuf["avr_isr_cycles"])  # type: ignore[call-overload]
                 if m.txbuf["avr_isr"] else None},
             "run_buffer_refusal": m.txbuf_refusal or None,

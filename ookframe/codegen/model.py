@@ -555,6 +555,7 @@ def _txbuf_model(target: TimerTarget, timing: Timing, code: CodeTable, max_line_
     max_interval = min(target.timer_max_ticks, 1 << (rbits - 1))
     return {"cap": cap, "reload_type": rtype, "reload_bits": rbits,
             "max_interval_ticks": max_interval,
+            "shortest_cycles": min(d.ticks for d in timing.durations) * timing.prescaler,
             "copy_end": uint_literal(1 << (rbits - 1), rbits), "ram": ram,
             "avr_isr": rbits == 16, "avr_isr_cycles": AVR_ISR_CYCLES}, ""
 

@@ -49,7 +49,9 @@
  *
  * Wiring the run buffer: the timer's output-compare hardware toggles the pin on every
  * compare match, so each edge lies exactly on the quantised tick whatever the ISR latency;
- * the ISR only has to load the next reload value before the counter reaches it.
+ * the ISR only has to load the next reload value before the counter reaches it. The
+ * shortest interval is 2000 CPU cycles: the ISR, plus whatever delays it (other
+ * interrupts, sections with interrupts off), must stay well inside that.
  *   AVR (ATmega328P Timer1, pin OC1A = PB1, prescaler 1): DDRB |= PB1 (low);
  *     probe_tx_start(&b, &fields); TCNT1 = 0; OCR1A = a lead-in of a few hundred ticks;
  *     TCCR1A = COM1A0 (toggle on match); TIMSK1 = OCIE1A; TCCR1B = WGM12 (CTC) | clock
