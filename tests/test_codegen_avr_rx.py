@@ -112,18 +112,35 @@ def test_ram_stated_in_the_header_holds_on_the_avr(tmp_path, name):
     assert 0 < ram <= emitted.model.rx.ram_bytes and flash > 0
 
 
-def test_readme_receiver_snippet_compiles(tmp_path):
+def test_readme_receiver_snippet_runs(tmp_path):
     """The README's pasteable AVR receiver firmware compiles with avr-gcc and the strict
-    warning set against the header ``emit --side rx`` writes for hive_scale."""
+    warning set against the header ``emit --side rx`` writes for hive_scale, and in the
+    simulator (its "use f..." comment replaced by a GPIOR0 write of f.hive) it reports the
+    hive number of every copy of random frames (seed 6), its capture ISR within 150 cycles."""
     text = (ROOT / "README.md").read_text()
     section = text[text.index("### Generated C receiver"):]
     snippet = re.search(r"```c\n(.*?)```", section, re.S)
     assert snippet is not None
+    code, n = re.subn(r"\{ /\* use f\.[^}]*\*/ \}", "{ GPIOR0 = f.hive; }", snippet.group(1))
+    assert n == 1
     spec, _ = example_spec("hive_scale.toml")
     emitted = emit_header(spec, side="rx")
     (tmp_path / emitted.filename).write_text(emitted.text)
     src = tmp_path / "readme_rx.c"
-    src.write_text(snippet.group(1))
-    compile_c(avr_run.AVR_GCC, [src], tmp_path / "readme_rx.elf",
-              flags=[*STRICT_FLAGS, *AVR_FLAGS], include_dirs=[tmp_path],
-              defines={"F_CPU": "8000000UL"})
+    src.write_text(code)
+    elf = compile_c(avr_run.AVR_GCC, [src], tmp_path / "readme_rx.elf",
+                    flags=[*STRICT_FLAGS, *AVR_FLAGS], include_dirs=[tmp_path],
+                    defines={"F_CPU": "8000000UL"})
+    rng = np.random.default_rng(6)
+    values = [random_values(spec, rng) for _ in range(2)]
+    trains = [(t.levels, t.durations_us) for t in (encode(spec, v) for v in values)]
+    drive, end_cycle = avr_rx.drive_lines(trains, emitted.timing.clock_hz)
+    (tmp_path / "drive.txt").write_text(drive)
+    run = avr_run.simulate(avr_run.build_harness(tmp_path), elf, clock_hz=emitted.timing.clock_hz,
+                           isr=(avr_run.TIMER1_CAPT_VECTOR,), drive=("B0", tmp_path / "drive.txt"),
+                           max_cycles=end_cycle + 10_000)
+    want = [raw_values(spec, v)["hive"] for v in values for _ in range(spec.repeats)]
+    assert [v for v, _ in run.report] == want
+    isr = run.isr_cycles[avr_run.TIMER1_CAPT_VECTOR]
+    print(f"README firmware: capture ISR max {isr.max()} mean {isr.mean():.1f} cycles")
+    assert isr.max() <= ISR_TARGET_CYCLES
