@@ -9,6 +9,7 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import signal
 
+from ._workspace import Workspace
 from .config import FrontEndConfig
 
 #: the smoothing low-pass never goes above this fraction of the (decimated) Nyquist rate
@@ -91,6 +92,7 @@ class EnvelopeStage:
         self.decimate = config.decimate
         self.smoothing = design_smoothing(config, sample_rate_hz)
         self._zi: np.ndarray | None = None
+        self._work = Workspace()
 
     def process(self, block: np.ndarray) -> tuple[np.ndarray, int]:
         """Return the envelope of ``block`` after smoothing and decimation (float64), and how
@@ -98,7 +100,8 @@ class EnvelopeStage:
         if self.mode == "baseband":
             e = block
         else:
-            e = np.abs(block)  # float32 for float32 / complex64 samples: the filter widens
+            # float32 for float32 / complex64 samples: the filter widens to float64
+            e = np.abs(block, out=self._work.get("abs", block.size, block.real.dtype))
         n_clipped = clipped(block, None if e is block else e)
         if self.invert:
             e = np.negative(e)

@@ -15,6 +15,7 @@ from dataclasses import asdict, dataclass, replace
 import numpy as np
 
 from ..pulses import PulseTrain
+from ._workspace import Workspace
 from .config import FrontEndConfig
 from .envelope import EnvelopeStage, Smoothing
 from .tracker import (
@@ -107,7 +108,7 @@ class _Tally:
         self.marks = 0
 
     def add(self, e: np.ndarray, lv: Levels, idx: np.ndarray, guard: int,
-            mark_before: bool) -> None:
+            mark_before: bool, work: Workspace) -> None:
         """Count one block whose comparator changes state at ``idx`` (from ``mark_before``);
         level figures leave out samples within ``guard`` samples of a change (the smoothed
         ramps), so floor and carrier are the plateaus. Works on the runs between changes,
@@ -123,7 +124,7 @@ class _Tally:
             if at[-1] == n:
                 at = at[:-1]
             sums = np.add.reduceat(e, at)[::2]
-            squares = np.add.reduceat(e * e, at)[::2]
+            squares = np.add.reduceat(np.multiply(e, e, out=work.get("e2", n)), at)[::2]
             counts = stops - starts
             for level, sel in ((0, ~run_mark), (1, run_mark)):
                 self.n[level] += int(counts[sel].sum())
@@ -180,6 +181,7 @@ class SampleSlicer:
         self._edge = 0.0             # position of the last edge (decimated samples)
         self._level = 0              # level of the pulse running since that edge
         self._tally = _Tally()
+        self._work = Workspace()
         self._finished = False
         self.keep_trace = keep_trace
         self.trace: tuple[np.ndarray, Tracked, int] | None = None
@@ -251,7 +253,7 @@ class SampleSlicer:
         if self._state is None:
             self._state = start_state(float(e[0]), self.config, rate)
         before = self._state
-        lv, after = levels(e, before, self.config, rate)
+        lv, after = levels(e, before, self.config, rate, self._work)
         idx = changes(e, lv.high, lv.low, before.mark)
         # every change flips the state: the first leaves before.mark
         marks_at = (np.arange(idx.size) % 2 == 0) != before.mark
@@ -260,11 +262,12 @@ class SampleSlicer:
         pos = edge_positions(e, idx, marks_at, lv.high, lv.low, before.last_e)
         pos = pos + self._out_index
         self._out_index += e.size
-        self._tally.add(e, lv, idx, self._guard, before.mark)
+        self._tally.add(e, lv, idx, self._guard, before.mark, self._work)
         if self.keep_trace:
             marks = compare(e, lv.high, lv.low, before.mark)
-            self.trace = (e, Tracked(lv.high, lv.low, lv.carrier, lv.floor, marks,
-                                     lv.squelched), self._out_index - e.size)
+            self.trace = (e, Tracked(lv.high.copy(), lv.low.copy(), lv.carrier.copy(),
+                                     lv.floor.copy(), marks, lv.squelched.copy()),
+                          self._out_index - e.size)
         if pos.size == 0:
             return _join([])
         if self._edge == 0.0 and self._tally.pulses == 0 and pos[0] <= 0.0:
@@ -296,7 +299,7 @@ class SampleSlicer:
             snr = 20 * np.log10((carrier - floor) / floor_rms) if floor_rms > 0 else np.inf
         n_thr = max(t.n_thr, 1)
         nan = float("nan")
-        n_out = max(sum(t.n), 1)
+        n_out = max(self._out_index, 1)  # every output sample (not only the steady ones)
         return SliceReport(
             sample_rate_hz=self.sample_rate_hz, envelope=self._env.mode, invert=c.invert,
             smoothing_cutoff_hz=sm.cutoff_hz, smoothing_delay_us=sm.delay_us,

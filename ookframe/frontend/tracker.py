@@ -25,6 +25,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 from scipy import signal
 
+from ._workspace import Workspace
 from .config import FrontEndConfig
 
 
@@ -83,8 +84,44 @@ def _decay_rows(d: float, length: int, sign: float = 1.0) -> tuple[np.ndarray, n
     return up, down
 
 
-def _held(u: np.ndarray, start: float, d: float, sign: float = 1.0) -> np.ndarray:
-    """Return ``y[n] = max(sign u[n], d y[n-1], 0)`` with ``y[-1] = start >= 0``.
+#: samples per chunk of ``_running_max``
+_CHUNK = 128
+
+
+def _running_max(v: np.ndarray) -> None:
+    """Replace ``v`` by its running maximum, in place (``np.maximum.accumulate``, exactly).
+
+    ``accumulate`` goes sample by sample; here each chunk's maximum comes from a fast
+    reduction and only chunks holding a new maximum of everything before them are
+    accumulated (a peak hold sees few: its input seldom tops the decayed peak); the rest
+    hold the maximum before them.
+    """
+    c = v.size // _CHUNK
+    if c < 2:
+        np.maximum.accumulate(v, out=v)
+        return
+    body = v[:c * _CHUNK].reshape(c, _CHUNK)
+    top = body.max(axis=1)
+    upto = np.maximum.accumulate(top)
+    before = np.empty(c)
+    before[0] = -np.inf
+    before[1:] = upto[:-1]
+    new = np.flatnonzero(top > before)
+    rows = body[new]
+    np.maximum.accumulate(rows, axis=1, out=rows)
+    np.maximum(rows, before[new, None], out=rows)
+    body[:] = before[:, None]
+    body[new] = rows
+    tail = v[c * _CHUNK:]
+    if tail.size:
+        tail[0] = max(tail[0], upto[-1])
+        np.maximum.accumulate(tail, out=tail)
+
+
+def _held(u: np.ndarray, start: float, d: float, sign: float = 1.0,
+          out: np.ndarray | None = None) -> np.ndarray:
+    """Return ``y[n] = max(sign u[n], d y[n-1], 0)`` with ``y[-1] = start >= 0`` (in
+    ``out`` if given).
 
     Closed form per sub-block of ``L`` samples: ``y[k] = d^k max(start d, max_j<=k u[j]
     d^-j)``, with ``L`` short enough that ``d^-L`` stays finite; the sub-blocks are chained
@@ -96,14 +133,14 @@ def _held(u: np.ndarray, start: float, d: float, sign: float = 1.0) -> np.ndarra
     length = int(min(n, max(1.0, _MAX_EXPONENT // max(-np.log(d), 1e-300))))
     length = max(length, 1)
     up, down = _decay_rows(d, length, sign)
-    out = np.empty(n, np.float64)
+    out = np.empty(n, np.float64) if out is None else out
     carry = start
     for a in range(0, n, length):
         seg = out[a:a + length]
         m = seg.size
         np.multiply(u[a:a + m], up[:m], out=seg)
         seg[0] = max(seg[0], carry * d, 0.0)
-        np.maximum.accumulate(seg, out=seg)
+        _running_max(seg)
         np.multiply(seg, down[:m], out=seg)
         carry = float(seg[-1])
     return out
@@ -121,10 +158,12 @@ class Levels:
     squelched: np.ndarray
 
 
-def levels(e: np.ndarray, state: TrackerState, config: FrontEndConfig,
-           rate_hz: float) -> tuple[Levels, TrackerState]:
+def levels(e: np.ndarray, state: TrackerState, config: FrontEndConfig, rate_hz: float,
+           work: Workspace | None = None) -> tuple[Levels, TrackerState]:
     """Return the trackers' levels and thresholds over envelope block ``e`` (sampled at
-    ``rate_hz``) and the state for the next block (the comparator's part unchanged)."""
+    ``rate_hz``) and the state for the next block (the comparator's part unchanged).
+
+    With ``work`` the arrays returned live in its buffers: valid until the next call."""
     if config.fixed:
         high = np.full(e.size, float(config.threshold_high))  # type: ignore[arg-type]
         low = np.full(e.size, float(config.threshold_low))  # type: ignore[arg-type]
@@ -132,10 +171,12 @@ def levels(e: np.ndarray, state: TrackerState, config: FrontEndConfig,
         squelched = np.zeros(e.size, bool)
         return Levels(high, low, carrier, floor, squelched), state
     d = decay_factor(config.decay_us, rate_hz)
+    work = work or Workspace()
+    n = e.size
     m, mean_zi = signal.lfilter([1.0 - d], [1.0, -d], e, zi=state.mean_zi)
-    u = e - m
-    y = _held(u, state.peak_offset, d)
-    z = _held(u, state.valley_offset, d, -1.0)  # m - e = -(e - m) exactly
+    u = np.subtract(e, m, out=work.get("u", n))
+    y = _held(u, state.peak_offset, d, 1.0, work.get("y", n))
+    z = _held(u, state.valley_offset, d, -1.0, work.get("z", n))  # m - e = -(e - m) exactly
     peak_off = float(y[-1]) if y.size else state.peak_offset
     valley_off = float(z[-1]) if z.size else state.valley_offset
     carrier = np.add(m, y, out=y)
@@ -146,13 +187,13 @@ def levels(e: np.ndarray, state: TrackerState, config: FrontEndConfig,
         both, attack_zi = signal.lfilter([1.0 - a], [1.0, -a], np.stack((carrier, floor)),
                                          axis=1, zi=attack_zi)
         carrier, floor = both[0], both[1]
-    contrast = carrier - floor
+    contrast = np.subtract(carrier, floor, out=m)  # the mean is spent
     lo_frac = config.threshold_fraction - config.hysteresis / 2
     low = np.multiply(contrast, lo_frac, out=u)
     np.add(floor, low, out=low)
-    high = np.multiply(contrast, config.hysteresis)
+    high = np.multiply(contrast, config.hysteresis, out=work.get("high", n))
     np.add(low, high, out=high)
-    squelched = contrast < config.min_contrast
+    squelched = np.less(contrast, config.min_contrast, out=work.get("squelched", n, np.bool_))
     if config.min_contrast > 0 and squelched.any():
         high[squelched] = np.inf
         low[squelched] = np.inf
