@@ -121,8 +121,7 @@ def test_raw_files_written_by_numpy(tmp_path, fmt, sample_type, dtype, offset, s
 @pytest.mark.parametrize("sample_type,dtype,offset,scale", [
     ("u8", np.uint8, 127.5, 127.5), ("s8", np.int8, 0.0, 128.0), ("s16", "<i2", 0.0, 32768.0)])
 def test_every_integer_code_reads_exactly(tmp_path, sample_type, dtype, offset, scale):
-    """Every code of an integer raw type (the 8-bit ones through a look-up table) reads as
-    float32 arithmetic gives it, (float32(raw) - offset) * float32(1 / scale), and within
+    """Every code of an integer raw type reads as float32 arithmetic gives it, (float32(raw) - offset) * float32(1 / scale), and within
     two float32 roundings (2^-23 relative) of (raw - offset) / scale in float64; I/Q pairs
     the same."""
     info = np.iinfo(np.dtype(dtype))
