@@ -157,12 +157,14 @@ class SampleSlicer:
     ``finish()`` the last one; ``report()`` the levels and thresholds (any time).
 
     ``sample_rate_hz`` is the input rate; ``is_complex`` says whether samples are I/Q. With
-    ``keep_trace`` each ``feed`` also keeps the last block's envelope, thresholds and
-    comparator output in ``trace`` (for plots).
+    ``trace_window = (start, stop)`` (input sample indices) the slicer also keeps, for those
+    samples only, the per-sample view a plot needs (``trace_pieces``: input samples or
+    their magnitude, envelope, thresholds, levels, comparator output); blocks outside the
+    window take the fast path as always.
     """
 
     def __init__(self, config: FrontEndConfig, sample_rate_hz: float, is_complex: bool,
-                 *, keep_trace: bool = False) -> None:
+                 *, trace_window: tuple[int, int] | None = None) -> None:
         if not isinstance(config, FrontEndConfig):
             raise TypeError(f"config must be a FrontEndConfig, got {type(config).__name__}")
         if not np.isfinite(sample_rate_hz) or sample_rate_hz <= 0:
@@ -183,8 +185,9 @@ class SampleSlicer:
         self._tally = _Tally()
         self._work = Workspace()
         self._finished = False
-        self.keep_trace = keep_trace
-        self.trace: tuple[np.ndarray, Tracked, int] | None = None
+        self.trace_window = trace_window
+        #: (first input index, samples or |samples|, first output index, envelope, Tracked)
+        self.trace_pieces: list[tuple[int, np.ndarray, int, np.ndarray, Tracked]] = []
         self._us_per_out = 1e6 * q / self.sample_rate_hz
         #: samples next to an edge left out of the level figures: 1.5 rise times, >= 1
         self._guard = max(1, int(np.ceil(1.5 * self._env.smoothing.rise_us / self._us_per_out)))
@@ -244,6 +247,7 @@ class SampleSlicer:
             yield t
 
     def _run(self, x: np.ndarray) -> PulseTrain:
+        first_in = self._n_in
         self._n_in += x.size
         e, n_clipped = self._env.process(x)
         self._tally.clipped += n_clipped
@@ -263,11 +267,8 @@ class SampleSlicer:
         pos = pos + self._out_index
         self._out_index += e.size
         self._tally.add(e, lv, idx, self._guard, before.mark, self._work)
-        if self.keep_trace:
-            marks = compare(e, lv.high, lv.low, before.mark)
-            self.trace = (e, Tracked(lv.high.copy(), lv.low.copy(), lv.carrier.copy(),
-                                     lv.floor.copy(), marks, lv.squelched.copy()),
-                          self._out_index - e.size)
+        if self.trace_window is not None:
+            self._keep_trace(first_in, x, e, lv, before.mark)
         if pos.size == 0:
             return _join([])
         if self._edge == 0.0 and self._tally.pulses == 0 and pos[0] <= 0.0:
@@ -285,6 +286,22 @@ class SampleSlicer:
         self._level = int(marks_at[-1])
         self._count(train)
         return train
+
+    def _keep_trace(self, first_in: int, x: np.ndarray, e: np.ndarray, lv: Levels,
+                    mark_before: bool) -> None:
+        """Keep the per-sample view of the part of this block inside the trace window."""
+        start, stop = self.trace_window  # type: ignore[misc]
+        lo, hi = max(start - first_in, 0), min(stop - first_in, x.size)
+        if lo >= hi:
+            return
+        q = self.config.decimate
+        j0, j1 = -(-lo // q), -(-hi // q)  # output samples j (input first_in + j q) inside
+        marks = compare(e, lv.high, lv.low, mark_before)
+        view = Tracked(*(a[j0:j1].copy() for a in (lv.high, lv.low, lv.carrier, lv.floor)),
+                       marks[j0:j1], lv.squelched[j0:j1].copy())
+        raw = np.abs(x[lo:hi]) if np.iscomplexobj(x) else np.array(x[lo:hi])
+        self.trace_pieces.append((first_in + lo, raw.astype(np.float64), first_in // q + j0,
+                                  e[j0:j1].copy(), view))
 
     def _count(self, train: PulseTrain) -> None:
         self._tally.pulses += len(train)
