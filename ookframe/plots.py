@@ -139,12 +139,10 @@ def _drawn(t: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Return (t, y) as drawn: the line itself, or its min and max per bucket when long."""
     if y.size <= MAX_LINE_POINTS:
         return t, y
-    k = -(-y.size // (MAX_LINE_POINTS // 2))
-    m = y.size // k
-    body = y[:m * k].reshape(m, k)
-    lo_hi = np.stack((body.min(axis=1), body.max(axis=1)), axis=1).ravel()
-    at = np.repeat(t[:m * k:k], 2)
-    return at, lo_hi
+    starts = np.arange(0, y.size, -(-y.size // (MAX_LINE_POINTS // 2)))
+    lo_hi = np.stack((np.minimum.reduceat(y, starts), np.maximum.reduceat(y, starts)),
+                     axis=1).ravel()
+    return np.repeat(t[starts], 2), lo_hi
 
 
 def capture_figure(trace, title: str) -> Figure:
