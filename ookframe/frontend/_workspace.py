@@ -18,3 +18,11 @@ class Workspace:
         if a is None or a.size < n or a.dtype != dtype:
             a = self._arrays[name] = np.empty(n, dtype)
         return a[:n]
+
+    def zeros(self, name: str, n: int, dtype: type = np.float64) -> np.ndarray:
+        """Return ``n`` zeros of the array ``name``, kept zero (callers must not write it)."""
+        a = self._arrays.get(name)
+        if a is None or a.size < n or a.dtype != dtype:
+            a = self._arrays[name] = np.zeros(n, dtype)
+            a.flags.writeable = False
+        return a[:n]

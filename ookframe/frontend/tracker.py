@@ -193,7 +193,12 @@ def levels(e: np.ndarray, state: TrackerState, config: FrontEndConfig, rate_hz: 
     np.add(floor, low, out=low)
     high = np.multiply(contrast, config.hysteresis, out=work.get("high", n))
     np.add(low, high, out=high)
-    squelched = np.less(contrast, config.min_contrast, out=work.get("squelched", n, np.bool_))
+    if config.min_contrast == 0 and attack_zi is None:
+        # carrier m + y >= m >= floor m - z also after rounding (y, z >= 0): contrast >= 0
+        squelched = work.zeros("none_squelched", n, np.bool_)
+    else:
+        squelched = np.less(contrast, config.min_contrast,
+                            out=work.get("squelched", n, np.bool_))
     if config.min_contrast > 0 and squelched.any():
         high[squelched] = np.inf
         low[squelched] = np.inf
