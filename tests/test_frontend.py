@@ -114,12 +114,17 @@ def test_comparator_hysteresis():
 @given(seed=st.integers(0, 2**32 - 1), n=st.integers(1, 3000), ramp=st.floats(0.0, 0.01))
 def test_running_max_equals_accumulate(seed, n, ramp):
     """The chunked running maximum is np.maximum.accumulate exactly (numpy 2.x), on noise
-    with a rising trend (many chunks with a new maximum) or none (few)."""
+    with a rising trend (many chunks with a new maximum) or none (few); with a scale row
+    it is that times the scale, also exactly."""
     rng = np.random.default_rng(seed)
     v = rng.standard_normal(n) + ramp * np.arange(n)
     got = v.copy()
     _running_max(got)
     assert np.array_equal(got, np.maximum.accumulate(v))
+    scale = rng.uniform(0.5, 1.0, n)
+    got = v.copy()
+    _running_max(got, scale)
+    assert np.array_equal(got, np.maximum.accumulate(v) * scale)
 
 
 @settings(max_examples=60, deadline=None)

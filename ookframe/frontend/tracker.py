@@ -88,17 +88,20 @@ def _decay_rows(d: float, length: int, sign: float = 1.0) -> tuple[np.ndarray, n
 _CHUNK = 128
 
 
-def _running_max(v: np.ndarray) -> None:
-    """Replace ``v`` by its running maximum, in place (``np.maximum.accumulate``, exactly).
+def _running_max(v: np.ndarray, scale: np.ndarray | None = None) -> None:
+    """Replace ``v`` by its running maximum, in place (``np.maximum.accumulate``, exactly),
+    times ``scale`` (same length) when given.
 
     ``accumulate`` goes sample by sample; here each chunk's maximum comes from a fast
     reduction and only chunks holding a new maximum of everything before them are
     accumulated (a peak hold sees few: its input seldom tops the decayed peak); the rest
-    hold the maximum before them.
+    hold the maximum before them, written with the scaling in the same pass.
     """
     c = v.size // _CHUNK
     if c < 2:
         np.maximum.accumulate(v, out=v)
+        if scale is not None:
+            np.multiply(v, scale, out=v)
         return
     body = v[:c * _CHUNK].reshape(c, _CHUNK)
     top = body.max(axis=1)
@@ -110,12 +113,19 @@ def _running_max(v: np.ndarray) -> None:
     rows = body[new]
     np.maximum.accumulate(rows, axis=1, out=rows)
     np.maximum(rows, before[new, None], out=rows)
-    body[:] = before[:, None]
+    if scale is None:
+        body[:] = before[:, None]
+    else:
+        factors = scale[:c * _CHUNK].reshape(c, _CHUNK)
+        np.multiply(before[:, None], factors, out=body)
+        np.multiply(rows, factors[new], out=rows)
     body[new] = rows
     tail = v[c * _CHUNK:]
     if tail.size:
         tail[0] = max(tail[0], upto[-1])
         np.maximum.accumulate(tail, out=tail)
+        if scale is not None:
+            np.multiply(tail, scale[c * _CHUNK:], out=tail)
 
 
 def _held(u: np.ndarray, start: float, d: float, sign: float = 1.0,
@@ -140,8 +150,7 @@ def _held(u: np.ndarray, start: float, d: float, sign: float = 1.0,
         m = seg.size
         np.multiply(u[a:a + m], up[:m], out=seg)
         seg[0] = max(seg[0], carry * d, 0.0)
-        _running_max(seg)
-        np.multiply(seg, down[:m], out=seg)
+        _running_max(seg, down[:m])  # y = d^k times the running maximum
         carry = float(seg[-1])
     return out
 
