@@ -121,6 +121,27 @@ def test_capture_figure_draws_the_trace(tmp_path, kind):
     _assert_nontrivial_png(plots.figure_png(fig))
 
 
+def test_capture_figure_fixed_thresholds_and_squelch(tmp_path):
+    """Fixed thresholds track no levels: no carrier or floor line, the thresholds drawn at
+    their values; squelched samples (thresholds at +inf) are gaps (NaN) in the lines."""
+    from ookframe.captures.sampled import sampled_info
+    from ookframe.frontend import FrontEndConfig, trace_capture
+    from tests.test_frontend_trace import physical_wav
+
+    path, _ = physical_wav(tmp_path / "c.wav")
+    info = sampled_info(path)
+    tr, _ = trace_capture(info, FrontEndConfig(threshold_high=0.4, threshold_low=0.3),
+                          span_s=0.02)
+    lines = _lines(plots.capture_figure(tr, "fixed").get_axes()[0])
+    assert "carrier" not in lines and "floor" not in lines
+    assert set(lines["threshold high"].get_ydata()) == {0.4}
+    tr, _ = trace_capture(info, FrontEndConfig(min_contrast=0.2), span_s=0.02)
+    lines = _lines(plots.capture_figure(tr, "squelch").get_axes()[0])
+    assert np.isinf(tr.high).any() and np.isfinite(tr.high).any()
+    drawn = lines["threshold high"].get_ydata()
+    assert np.array_equal(np.isnan(drawn), np.isinf(tr.high))
+
+
 def test_long_lines_keep_their_extremes():
     """A line longer than MAX_LINE_POINTS is drawn as each bucket's minimum and maximum:
     at most MAX_LINE_POINTS points, the same overall minimum and maximum (a spike at the
