@@ -214,7 +214,7 @@ class SampleSlicer:
             n_full = buf.size // self._block * self._block
             for i in range(0, n_full, self._block):
                 pieces.append(self._run(buf[i:i + self._block]))
-            rest = buf[n_full:]
+            rest = buf[n_full:].copy() if buf is x else buf[n_full:]  # not the caller's
             self._pending, self._pending_n = ([rest] if rest.size else []), rest.size
         return _join(pieces)
 
