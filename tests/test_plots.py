@@ -179,6 +179,7 @@ def test_cli_plot_capture(capsys, tmp_path):
             (["plot", "--what", "capture", "--capture", str(path), "--start-ms", "9999"],
              "outside the capture"),
             (["plot", "--what", "capture"], "--capture"),
+            ([*args[:5], "--set", "hive=3"], "not for --what capture"),
             (["plot", HIVE, "--what", "timing", "--capture", str(path)], "only for --what "
              "capture"),
             (["plot", "--what", "timing"], "needs a SPEC")):

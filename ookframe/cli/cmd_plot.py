@@ -52,6 +52,9 @@ def _check_combination(args: argparse.Namespace) -> None:
         if args.capture is None:
             raise ValueRangeError("--what capture needs --capture CAPTURE (a .wav, .iq or "
                                   ".raw file)")
+        if args.sets or args.payload is not None:
+            raise ValueRangeError("--set/--payload: not for --what capture (the frames are "
+                                  "the capture's)")
         return
     if args.spec is None:
         raise ValueRangeError(f"--what {args.what} needs a SPEC")
