@@ -40,7 +40,8 @@ class _Quality(ctypes.Structure):
 
 class _Counters(ctypes.Structure):
     _fields_ = [("frames_seen", ctypes.c_uint16), ("check_failures", ctypes.c_uint16),
-                ("overruns", ctypes.c_uint16), ("cut", ctypes.c_uint16)]
+                ("overruns", ctypes.c_uint16), ("cut", ctypes.c_uint16),
+                ("edge_overruns", ctypes.c_uint16)]
 
 
 @dataclass(frozen=True)
@@ -103,6 +104,7 @@ class HostReceiver:
         self._invariants = getattr(self.lib, f"{p}_rx_invariants")
         self._invariants.restype = ctypes.c_uint8
         self._counters = getattr(self.lib, f"{p}_rx_counters")
+        self._poll = getattr(self.lib, f"{p}_rx_poll")
         from ..decode.head import head_model
         self.body_chip = head_model(spec).body_chip
 
@@ -136,6 +138,10 @@ class HostReceiver:
         """``<p>_rx_idle()``."""
         self._idle()
 
+    def poll(self) -> None:
+        """``<p>_rx_poll()``: decode the edges queued by ``edge`` / ``idle``."""
+        self._poll()
+
     def ready(self) -> bool:
         """``<p>_rx_ready()``."""
         return bool(self._ready())
@@ -155,7 +161,8 @@ class HostReceiver:
         return int(self._invariants())
 
     def counters(self) -> dict[str, int]:
-        """``<p>_rx_counters()``: frames seen, check failures, overruns, frames cut."""
+        """``<p>_rx_counters()``: frames seen, check failures, overruns, frames cut, edges
+        lost to a full edge FIFO."""
         c = _Counters()
         self._counters(ctypes.byref(c))
         return {name: int(getattr(c, name)) for name, _ in _Counters._fields_}

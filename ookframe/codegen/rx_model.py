@@ -24,6 +24,10 @@ timer ticks of the pulse that just ended) and decides as the reference decoder d
 - body: unstuffing, the length field (whitening constant applied), then the frame goes
   to the ready queue; the main loop (``_rx_take``) de-whitens, checks and unpacks.
 
+``_rx_edge`` itself only queues the pulse in an edge FIFO; the decisions above run in
+``_rx_poll`` (called by ``_rx_ready`` and ``_rx_take``) in the main loop, so the capture
+ISR stays a few tens of cycles on an 8-bit MCU.
+
 Check-aided recovery (``decode.framer``'s rules, fixed-chip codes): in the body the
 receiver keeps the ``RECOVERY_EDGES`` least reliable edges (at least
 ``RECOVERY_MIN_OFFSET`` unit off their grid point, both pulses they bound still of
@@ -80,6 +84,9 @@ BODY_SHIFT_EXTRA = -1
 #: an edge further than this from its grid point (1/20 unit) ends the run of well-placed
 #: edges the head refit spans
 STREAK_BREAK_20THS = 9
+#: entries of the edge FIFO between rx_edge (ISR) and rx_poll (main loop) unless
+#: <PREFIX>_RX_EDGES says otherwise
+DEFAULT_EDGES = 16
 #: fewest chips of well-placed edges before the sync for the head refit of the unit
 MIN_REFIT_CHIPS = 8
 #: lead bits (of LEAD_BITS) that may be wrong at a sync hit: the reference decoder only
@@ -129,6 +136,7 @@ class RxModel:
     stuff_after: int
     stuff_value: str
     queue: int
+    edges: int
     recip: tuple[int, ...]  # round(256 / n) for n = 0..top (0 unused)
     phase_shift_hunt: int
     phase_shift_body: int
@@ -150,15 +158,15 @@ class RxModel:
 
     @property
     def ram_bytes(self) -> int:
-        """Upper bound of the receiver's static RAM in bytes (state + queue), as stated in
+        """Upper bound of the receiver's static RAM in bytes (state, queue, edge FIFO), as in
         the header (padding on 32-bit targets may add a few bytes)."""
         reg = 8 if self.pattern_type == "uint64_t" else 4
         phases = self.chips_per_block if self.family == "chips" else 1
         state = 4 * 8 + 16 + 2 * reg * phases + self.body_bytes
-        slot = self.body_bytes + 12
+        slot = self.body_bytes + 12 + 8  # bits, quality (padded), worst16 and unit16
         if self.recovery_flips:
             slot += (self.raw_chips + 7) // 8 + 6 + 8 * self.recovery_edges
-        return state + self.queue * slot + 16
+        return state + self.queue * slot + 16 + 3 * self.edges + 2
 
 
 def _literal(value: int, bits: int) -> str:
@@ -319,6 +327,7 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
         len_offset=len_offset, len_width=len_width, len_weights=weights, len_xor=xor,
         len_max=len_max, len_fixed_bits=plan.min_body_bits,
         stuff_after=code.stuff_after, stuff_value=code.stuff_value, queue=DEFAULT_QUEUE,
+        edges=DEFAULT_EDGES,
         recip=recip, phase_shift_hunt=2, phase_shift_body=body_shift,
         freq_div_hunt=FREQ_DIV_HUNT, freq_div_pull_in=FREQ_DIV_PULL_IN, gear_chips=GEAR_CHIPS,
         reset_on_break=RESET_ON_BREAK, unit16_keep_min=unit16 * (100 - KEEP_SPAN_PCT) // 100,
