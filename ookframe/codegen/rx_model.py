@@ -16,8 +16,8 @@ timer ticks of the pulse that just ended) and decides as the reference decoder d
   mark-space codes (pulse width, pulse distance) decode per (mark, space) pair;
 - clock: while hunting the frequency loop pulls in fast for the first ``GEAR_CHIPS`` chips
   of a run of well-placed edges, then holds steady (the reference fits one unit over the
-  head); an edge far off the grid ends the run and restarts the pull-in from the nominal
-  unit;
+  head); an edge far off the grid ends the run and restarts the pull-in (from the
+  nominal unit when the unit has wandered more than ``KEEP_SPAN_PCT`` off it);
 - sync: the preamble's last ``LEAD`` bits with at most 4 in 16 wrong (the reference only
   ranks sync hits by their lead errors), then the sync word with at most
   ``sync.max_errors`` bit errors (invalid code words count as errors);
@@ -61,8 +61,8 @@ CLOCK_SPAN = 0.12
 MAX_LADDER = 16
 #: frames held by the ready queue unless <PREFIX>_RX_QUEUE says otherwise
 DEFAULT_QUEUE = 2
-#: the frequency loop's step divisor while hunting and in the body (unit += residual /
-#: (run units * divisor)); larger: a steadier but slower clock
+#: the frequency loop's step divisor while hunting (unit += residual / (run units *
+#: divisor)); larger: a steadier but slower clock
 FREQ_DIV_HUNT = 64
 #: ... and while the run of well-placed edges is shorter than GEAR_CHIPS chips (a fast
 #: pull-in after noise or at a new transmitter clock, then a steady clock for the sync)
@@ -75,6 +75,7 @@ GEAR_CHIPS = 16
 #: tank_level's copies on edge-of-range-superregen)
 RESET_ON_BREAK = True
 KEEP_SPAN_PCT = 6
+#: the frequency loop's step divisor in the body
 FREQ_DIV_BODY = 64
 #: added to the body phase loop's shift worked out from ``decoder.loop_gain``: -1 (a
 #: phase loop twice as fast) follows a drifting clock as the reference's grid phase does
