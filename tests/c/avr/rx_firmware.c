@@ -5,17 +5,17 @@
  * level and tick length of the pulse that just ended and moves compare B to the idle time
  * after the edge; compare B calls <prefix>_rx_idle once, then keeps moving itself and the
  * last capture time on, so that the quiet pulse's ticks stay above the idle time without
- * wrapping (a flag-free stand-in for saturating at 0xFFFF). A pulse shorter than the capture ISR (its second edge came before
- * the edge select was flipped) is seen on the pin after the flip and queued as ending
- * then, so the capture edge stays in step with the line.
- * With -DOOK_RX_IN_ISR the capture ISR also runs <prefix>_rx_poll (decoding in the ISR,
+ * wrapping (a flag-free stand-in for saturating at 0xFFFF). A pulse shorter than the
+ * capture ISR (its second edge came before the edge select was flipped) is seen on the pin
+ * after the flip and queued as ending then, so the capture edge stays in step with the
+ * line. With -DOOK_RX_IN_ISR the capture ISR also runs <prefix>_rx_poll (decoding in the ISR,
  * for comparison).
  *
  * Main loop, per wake-up: GPIOR1 = 1, <prefix>_rx_poll(), GPIOR1 = 2; then for each ready
  * frame GPIOR1 = 3, <prefix>_rx_take, GPIOR1 = 4, and the report on GPIOR0: 0xA5, the bytes
  * of struct <prefix>_fields, the bytes of struct <prefix>_rx_counters. A capture ISR run
- * that also queues a missed edge writes GPIOR1 = 5. The baseline build
- * (OOK_BASELINE) has the same timer code and a stub receiver (avr-size difference).
+ * that also queues a missed edge writes GPIOR1 = 5. The baseline build (OOK_BASELINE)
+ * has the same timer code around a stub receiver (avr-size difference, ISR cycles).
  * Build like firmware.c (see tests/c/avr_run.py); run under tests/c/avr/simharness.c.
  */
 #include <avr/interrupt.h>
