@@ -33,7 +33,7 @@ from .framing import frame_windows
 from .glitch import drop_glitches
 from .head import MAX_CLOCK_ERROR, HeadModel, build_head
 from .segment import burst_breaks, burst_end
-from .tail import MAX_TRAILING_UNITS, cut_trains
+from .tail import MAX_TRAILING_UNITS, CutTrains, cut_trains, join_spans
 from .validate import validate_train
 from .windows import WindowRuns, Windows, classify_windows, lay_out
 
@@ -158,6 +158,7 @@ def decode(spec: Receiver, train: PulseTrain, *,
             frames = _second_opinion(spec, frames, [f for f, _ in other])
     if ctx.unparsed_us.size or not all(f.crc_ok for f in frames):
         frames = _tail_opinion(spec, hm, train, frames, ctx)
+    frames = _low_filter_opinion(spec, hm, train, clean, cw, frames)
     return [f for f in frames if f.crc_ok or include_bad]
 
 
@@ -269,18 +270,9 @@ def _tail_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
     trailing = min(int(hm.runs.allowed[0][-1]), MAX_TRAILING_UNITS)
     quiet_us = 2.0 * max(hm.break_us, 16 * spec.unit_us)
     cuts = cut_trains(train, todo, trailing, quiet_us, hm.body_chip, hm.max_frame_chips)
-    if cuts.frame.size == 0:
-        return frames
-    clean = drop_glitches(cuts.train.levels, cuts.train.durations_us,
-                          spec.decoder.glitch_fraction * spec.unit_us)
-    cw = _windows(hm, clean, spec.unit_us)
-    if cw is None:
-        return frames
-    got = [f for f, _ in _decode_clean(spec, hm, clean, cw, grid=True)[0] if f.crc_ok]
     out = list(frames)
     extra = []
-    for f in got:
-        k = int(np.abs(cuts.start_us - f.start_us).argmin())
+    for f, k in _read_pieces(spec, hm, cuts, spec.decoder.glitch_fraction * spec.unit_us):
         if abs(cuts.start_us[k] - f.start_us) >= 2 * spec.unit_us:
             continue
         f = _shifted(f, float(cuts.origin_us[k]))
@@ -292,6 +284,88 @@ def _tail_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
     if extra:
         out = sorted(out + extra, key=lambda f: f.start_us)
     return out
+
+
+#: units a frame read from joined pieces may start before its piece (pieces lie at least
+#: 32 units apart)
+PIECE_SLACK_UNITS = 8
+
+
+def _read_pieces(spec: FrameSpec, hm: HeadModel, cuts: CutTrains, min_us: float
+                 ) -> list[tuple[DecodedFrame, int]]:
+    """Return the frames whose check passes in the joined pieces ``cuts.train`` glitch
+    filtered at ``min_us`` (times in the joined train), each with the piece it lies in
+    (the last whose ``start_us`` is at most ``PIECE_SLACK_UNITS`` after the frame's start:
+    a first chip that merged with the quiet before it is extrapolated)."""
+    if cuts.frame.size == 0:
+        return []
+    clean = drop_glitches(cuts.train.levels, cuts.train.durations_us, min_us)
+    cw = _windows(hm, clean, spec.unit_us)
+    if cw is None:
+        return []
+    out = []
+    for f, _ in _decode_clean(spec, hm, clean, cw, grid=True)[0]:
+        k = int(np.searchsorted(cuts.start_us, f.start_us + PIECE_SLACK_UNITS * spec.unit_us)) - 1
+        if f.crc_ok and k >= 0:
+            out.append((f, k))
+    return out
+
+
+#: glitch filter of the low-filter opinion, as a fraction of the spec's: heavy edge jitter
+#: shrinks 1-unit pulses below the filter (two edges 0.35 unit inwards leave 0.3 unit)
+LOW_FILTER_FRACTION = 0.5
+
+
+def _low_filter_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
+                        clean: PulseTrain, cw: _CandidateWindows,
+                        frames: list[DecodedFrame]) -> list[DecodedFrame]:
+    """Return ``frames`` with the candidate windows of ``clean`` that no frame whose check
+    passes covers read once more from the unfiltered ``train`` with the glitch filter at
+    ``LOW_FILTER_FRACTION`` of the spec's, where the filter dropped a pulse at least that
+    long within a frame's reach (``stream_span_us``) of the window: a dropped 1-unit pulse
+    joins its neighbours into a run the code does not have (even a burst break). A frame
+    found there whose check passes replaces a failed frame starting within 2 units of it,
+    or joins the frames when it overlaps none; frames whose check passes are never
+    replaced. Glitches shorter than the lower filter still never reach the chip grid; the
+    check vouches for the rest (one more reading per such window, like the other
+    opinions)."""
+    min_us = spec.decoder.glitch_fraction * spec.unit_us
+    low_us = LOW_FILTER_FRACTION * min_us
+    d = train.durations_us
+    short = np.flatnonzero((d >= low_us) & (d < min_us))
+    if short.size == 0:
+        return frames
+    t = cw.t0[cw.first]
+    for f in frames:
+        if f.crc_ok:
+            t = t[(t < f.start_us) | (t > f.end_us)]
+    if t.size == 0:
+        return frames
+    # the signature may match anywhere before the sync word
+    lead_us = (hm.sync_chip + 4) * spec.unit_us * (1 + MAX_CLOCK_ERROR)
+    a_us, b_us = t - lead_us, t + stream_span_us(hm)
+    t_short = np.concatenate(([0.0], np.cumsum(d)[:-1]))[short]
+    keep = np.searchsorted(t_short, b_us) > np.searchsorted(t_short, a_us)
+    a_us, b_us = a_us[keep], b_us[keep]
+    if a_us.size == 0:
+        return frames
+    new = np.concatenate(([True], a_us[1:] > np.maximum.accumulate(b_us)[:-1]))
+    spans = list(zip(a_us[new].tolist(),
+                     np.maximum.reduceat(b_us, np.flatnonzero(new)).tolist(), strict=True))
+    quiet_us = 2.0 * max(hm.break_us, 16 * spec.unit_us)
+    cuts = join_spans(train, spans, quiet_us)
+    starts = np.array([f.start_us for f in frames])
+    out = list(frames)
+    for f, k in _read_pieces(spec, hm, cuts, low_us):
+        f = _shifted(f, float(cuts.origin_us[k]))
+        near = np.flatnonzero(np.abs(starts - f.start_us) < 2 * spec.unit_us)
+        if near.size:
+            if not out[int(near[0])].crc_ok:
+                out[int(near[0])] = f
+            continue
+        if not any(g.start_us < f.end_us and f.start_us < g.end_us for g in out):
+            out.append(f)
+    return sorted(out, key=lambda f: f.start_us)
 
 
 @dataclass(frozen=True, eq=False)
