@@ -314,58 +314,118 @@ def _read_pieces(spec: FrameSpec, hm: HeadModel, cuts: CutTrains, min_us: float
 #: glitch filter of the low-filter opinion, as a fraction of the spec's: heavy edge jitter
 #: shrinks 1-unit pulses below the filter (two edges 0.35 unit inwards leave 0.3 unit)
 LOW_FILTER_FRACTION = 0.5
+#: pulses on each side of a dropped pulse of which all but one must be longer than the
+#: filter, and none shorter than the lower filter, for the low-filter opinion to look for
+#: a frame around it (receiver noise, pulses of the order of the filter, seldom has 15 of
+#: 16 that long and none shorter; a jittered frame nearly always)
+ANCHOR_CONTEXT_PULSES = 8
+#: units at either end of a passing frame where a dropped pulse is taken for receiver noise
+#: hugging the carrier, not for a shrunk pulse of the frame
+ANCHOR_EDGE_UNITS = 1.5
+
+
+def _holds(frame: DecodedFrame, times_us: np.ndarray) -> bool:
+    """True when one of ``times_us`` (sorted) lies within ``frame``."""
+    i = int(np.searchsorted(times_us, frame.start_us))
+    return i < times_us.size and times_us[i] <= frame.end_us
 
 
 def _low_filter_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
                         clean: PulseTrain, cw: _CandidateWindows,
                         frames: list[DecodedFrame]) -> list[DecodedFrame]:
-    """Return ``frames`` with the candidate windows of ``clean`` that no frame whose check
-    passes covers read once more from the unfiltered ``train`` with the glitch filter at
-    ``LOW_FILTER_FRACTION`` of the spec's, where the filter dropped a pulse at least that
-    long within a frame's reach (``stream_span_us``) of the window: a dropped 1-unit pulse
-    joins its neighbours into a run the code does not have (even a burst break). A frame
-    found there whose check passes replaces a failed frame starting within 2 units of it,
-    or joins the frames when it overlaps none; frames whose check passes are never
-    replaced. Glitches shorter than the lower filter still never reach the chip grid; the
-    check vouches for the rest (one more reading per such window, like the other
-    opinions)."""
+    """Return ``frames`` with stretches of the unfiltered ``train`` read once more with the
+    glitch filter at ``LOW_FILTER_FRACTION`` of the spec's: heavy edge jitter shrinks a
+    1-unit pulse below the filter, which joins its neighbours into a run the code does not
+    have (even a burst break) or shifts the head. Read again: a frame's reach
+    (``stream_span_us``) after every candidate window of ``clean`` that no frame whose
+    check passes covers, where the filter dropped a pulse at least the lower width; a
+    frame's reach either side of every dropped pulse amid kept ones (``_shrunk_us``) that
+    no frame covers; and the frame itself where one whose check passes holds such a pulse.
+
+    A frame found there whose check passes replaces the frames it overlaps when all of
+    theirs failed, or joins the frames when it overlaps none; it replaces a frame whose
+    check passes only where that frame holds a dropped pulse and has the same fields
+    (times from the reading that kept every pulse) or a larger worst deviation. Glitches
+    shorter than the lower filter still never reach the chip grid; the check vouches for
+    the rest (one more reading per stretch, like the other opinions)."""
     min_us = spec.decoder.glitch_fraction * spec.unit_us
     low_us = LOW_FILTER_FRACTION * min_us
     d = train.durations_us
     short = np.flatnonzero((d >= low_us) & (d < min_us))
     if short.size == 0:
         return frames
-    t = cw.t0[cw.first]
-    for f in frames:
-        if f.crc_ok:
-            t = t[(t < f.start_us) | (t > f.end_us)]
-    if t.size == 0:
-        return frames
+    t_short = np.concatenate(([0.0], np.cumsum(d)[:-1]))[short]
+    t_alone = _shrunk_us(d, short, t_short, min_us, low_us)
+    passed = [f for f in frames if f.crc_ok]
+    f_start = np.array([f.start_us for f in passed])
+    f_end = np.array([f.end_us for f in passed])
     # the signature may match anywhere before the sync word
     lead_us = (hm.sync_chip + 4) * spec.unit_us * (1 + MAX_CLOCK_ERROR)
-    a_us, b_us = t - lead_us, t + stream_span_us(hm)
-    t_short = np.concatenate(([0.0], np.cumsum(d)[:-1]))[short]
-    keep = np.searchsorted(t_short, b_us) > np.searchsorted(t_short, a_us)
-    a_us, b_us = a_us[keep], b_us[keep]
+    span_us = stream_span_us(hm)
+    t = cw.t0[cw.first]
+    j = np.searchsorted(f_start, t, side="right") - 1
+    t = t[(j < 0) | (t > f_end[np.maximum(j, 0)])] if passed else t
+    keep = np.searchsorted(t_short, t + span_us) > np.searchsorted(t_short, t - lead_us)
+    t = t[keep]
+    # a dropped pulse from a lead before a passing frame to its end: the frame holds it
+    # (re-read that frame) unless it lies within EDGE_UNITS of the frame's first or last
+    # chip, where receiver noise hugs the carrier (ignored)
+    j = np.searchsorted(f_start - lead_us, t_alone, side="right") - 1
+    near = held = np.zeros(t_alone.size, bool)
+    if passed:
+        jj = np.maximum(j, 0)
+        near = (j >= 0) & (t_alone <= f_end[jj])
+        edge_us = ANCHOR_EDGE_UNITS * spec.unit_us
+        held = near & (t_alone >= f_start[jj] + edge_us) & (t_alone <= f_end[jj] - edge_us)
+    t_held = t_alone[held]
+    free = t_alone[~near]
+    a_us = np.concatenate((t - lead_us, free - span_us - lead_us, f_start[j[held]] - lead_us))
+    b_us = np.concatenate((t + span_us, free + span_us, f_end[j[held]] + 2 * spec.unit_us))
     if a_us.size == 0:
         return frames
+    order = np.argsort(a_us, kind="stable")
+    a_us, b_us = a_us[order], b_us[order]
     new = np.concatenate(([True], a_us[1:] > np.maximum.accumulate(b_us)[:-1]))
     spans = list(zip(a_us[new].tolist(),
                      np.maximum.reduceat(b_us, np.flatnonzero(new)).tolist(), strict=True))
     quiet_us = 2.0 * max(hm.break_us, 16 * spec.unit_us)
     cuts = join_spans(train, spans, quiet_us)
     starts = np.array([f.start_us for f in frames])
+    reach = np.maximum.accumulate(np.array([f.end_us for f in frames]))
     out = list(frames)
+    gone: set[int] = set()
+    extra = []
     for f, k in _read_pieces(spec, hm, cuts, low_us):
         f = _shifted(f, float(cuts.origin_us[k]))
-        near = np.flatnonzero(np.abs(starts - f.start_us) < 2 * spec.unit_us)
-        if near.size:
-            if not out[int(near[0])].crc_ok:
-                out[int(near[0])] = f
-            continue
-        if not any(g.start_us < f.end_us and f.start_us < g.end_us for g in out):
-            out.append(f)
-    return sorted(out, key=lambda f: f.start_us)
+        lo = int(np.searchsorted(reach, f.start_us, side="right"))
+        hi = int(np.searchsorted(starts, f.end_us, side="left"))
+        hit = [i for i in range(lo, hi) if i not in gone
+               and out[i].start_us < f.end_us and f.start_us < out[i].end_us]
+        if all(not out[i].crc_ok for i in hit):
+            gone.update(hit)
+            extra.append(f)
+        elif len(hit) == 1 and _holds(g := out[hit[0]], t_held) and (
+                g.raw == f.raw or f.worst_deviation < g.worst_deviation):
+            out[hit[0]] = f
+    return sorted([f for i, f in enumerate(out) if i not in gone] + extra,
+                  key=lambda f: f.start_us)
+
+
+def _shrunk_us(d: np.ndarray, short: np.ndarray, t_short: np.ndarray, min_us: float,
+               low_us: float) -> np.ndarray:
+    """Return the start times of the pulses ``short`` (indices into durations ``d``,
+    starting at ``t_short``) that lie amid pulses the filter keeps: of the
+    ``ANCHOR_CONTEXT_PULSES`` on each side all but one at least ``min_us`` and none shorter
+    than ``low_us`` (a shrunk pulse, not receiver noise); beyond the train's ends: idle."""
+    n = ANCHOR_CONTEXT_PULSES
+    pad = np.full(n, np.inf)  # the idle before and after the train
+    d = np.concatenate((pad, d, pad))
+    long_ = np.concatenate(([0], np.cumsum(d >= min_us)))
+    tiny = np.concatenate(([0], np.cumsum(d < low_us)))
+    i = short + n
+    ok = ((long_[i + n + 1] - long_[i + 1] + long_[i] - long_[i - n] >= 2 * n - 1)
+          & (tiny[i + n + 1] == tiny[i - n]))
+    return t_short[ok]
 
 
 @dataclass(frozen=True, eq=False)
