@@ -113,7 +113,10 @@ def decode(spec: Receiver, train: PulseTrain, *,
     edges' places on the chip grid, one line-code decode, then framing (sync search with
     the allowed bit errors, unstuffing, fields and check, times). A frame whose check
     fails is decoded once more duration by duration with the drift-tracking loop, and the
-    result replaces it where its check passes.
+    result replaces it where its check passes; then, where noise hugs the frame's end, from
+    the train cut at its carrier end; then, where the glitch filter dropped a pulse that
+    heavy jitter may have shrunk, with the filter at half its width
+    (``_low_filter_opinion``).
     Repeats are separate frames, each with its own ``start_us``; the search goes on after
     the end of every decoded frame. Frames whose check fails are included unless
     ``include_bad`` is False (default: the spec's ``decoder.report_bad_check``); a frame
