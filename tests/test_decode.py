@@ -581,6 +581,21 @@ def test_glitches_between_the_two_filter_widths_change_no_frame():
     assert frames == decode(spec, tx)
 
 
+def test_glitches_on_the_cheap_link_preset_keep_every_copy():
+    """Glitches 0.05..0.15 unit wide at 0.02 per unit on top of ``budget-superregen``
+    (whose mark bias lifts some over the low-filter opinion's 0.15 unit): every copy of
+    600 greenhouse_probe transmissions right and no false accept. Regression: replacing
+    passing frames that held such a glitch by their low-filter reading lost copies to
+    moved starts and other payloads."""
+    from ookframe import get_preset, run_stress
+    spec, _ = example_spec("greenhouse_probe")
+    ch = get_preset("budget-superregen").with_(
+        glitch_rate_per_ms=0.02 * 1000.0 / spec.unit_us, glitch_width_us=0.1 * spec.unit_us)
+    r = run_stress(spec, ch, 600, seed=1)
+    assert r.copies_ok == 600 * spec.repeats
+    assert r.false_accepts == 0
+
+
 def test_sync_bit_errors_up_to_the_allowance():
     """hive_scale allows 1 sync bit error: 1 flipped sync bit decodes, 2 do not."""
     spec, values = example_spec("hive_scale")

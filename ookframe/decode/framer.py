@@ -325,6 +325,10 @@ ANCHOR_CONTEXT_PULSES = 8
 #: units at either end of a passing frame where a dropped pulse is taken for receiver noise
 #: hugging the carrier, not for a shrunk pulse of the frame
 ANCHOR_EDGE_UNITS = 1.5
+#: a passing frame holding a dropped pulse is replaced by the low-filter reading only when
+#: one of its pulses lies at least this far (units) from every grid point: the pulse the
+#: filter dropped is missing from it (a frame that filtered a true glitch fits the grid)
+REREAD_WORST_DEVIATION = 0.5
 
 
 def _holds(frame: DecodedFrame, times_us: np.ndarray) -> bool:
@@ -347,8 +351,9 @@ def _low_filter_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
 
     A frame found there whose check passes replaces the frames it overlaps when all of
     theirs failed, or joins the frames when it overlaps none; it replaces a frame whose
-    check passes only where that frame holds a dropped pulse and has the same fields
-    (times from the reading that kept every pulse) or a larger worst deviation. Glitches
+    check passes only where that frame holds a dropped pulse and a pulse at least
+    ``REREAD_WORST_DEVIATION`` off the grid, and has the same fields (times from the
+    reading that kept every pulse) or a smaller worst deviation. Glitches
     shorter than the lower filter still never reach the chip grid; the check vouches for
     the rest (one more reading per stretch, like the other opinions)."""
     min_us = spec.decoder.glitch_fraction * spec.unit_us
@@ -407,8 +412,9 @@ def _low_filter_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
         if all(not out[i].crc_ok for i in hit):
             gone.update(hit)
             extra.append(f)
-        elif len(hit) == 1 and _holds(g := out[hit[0]], t_held) and (
-                g.raw == f.raw or f.worst_deviation < g.worst_deviation):
+        elif (len(hit) == 1 and _holds(g := out[hit[0]], t_held)
+              and g.worst_deviation >= REREAD_WORST_DEVIATION
+              and (g.raw == f.raw or f.worst_deviation < g.worst_deviation)):
             out[hit[0]] = f
     return sorted([f for i, f in enumerate(out) if i not in gone] + extra,
                   key=lambda f: f.start_us)
