@@ -511,18 +511,24 @@ def test_tolerates_jitter_clock_error_and_noise(case, clock, seed):
         assert f.worst_deviation < 0.5
 
 
+def with_glitches(tx: PulseTrain, n: int, width_us: float, rng: np.random.Generator
+                  ) -> PulseTrain:
+    """Return ``tx`` with ``n`` of its pulses (not the first or last 5) cut in the middle
+    by a pulse of the other level ``width_us`` long."""
+    lv, du = tx.levels.tolist(), tx.durations_us.tolist()
+    for k in sorted(rng.choice(np.arange(5, len(tx) - 5), n, replace=False), reverse=True):
+        a = du[k] / 2 - width_us / 2
+        lv[k:k + 1] = [lv[k], 1 - lv[k], lv[k]]
+        du[k:k + 1] = [a, width_us, du[k] - a - width_us]
+    return PulseTrain(np.array(lv), np.array(du))
+
+
 def test_glitches_inside_frames_are_filtered():
     spec, values = example_spec("greenhouse_probe")
     rng = np.random.default_rng(8)
     tx = frame.encode(spec, values)
     # cut 12 pulses of the frame with a 0.1-unit pulse of the other level
-    lv, du = tx.levels.tolist(), tx.durations_us.tolist()
-    for k in sorted(rng.choice(np.arange(5, len(tx) - 5), 12, replace=False), reverse=True):
-        g = 0.1 * spec.unit_us
-        a = du[k] / 2 - g / 2
-        lv[k:k + 1] = [lv[k], 1 - lv[k], lv[k]]
-        du[k:k + 1] = [a, g, du[k] - a - g]
-    glitchy = PulseTrain(np.array(lv), np.array(du))
+    glitchy = with_glitches(tx, 12, 0.1 * spec.unit_us, rng)
     assert len(glitchy) == len(tx) + 24
     assert_exact(spec, values, decode(spec, glitchy))
 
@@ -566,17 +572,11 @@ def test_pulse_codes_read_through_40_percent_edge_jitter(name):
 
 def test_glitches_between_the_two_filter_widths_change_no_frame():
     """Glitches of 0.2 unit (under the 0.3-unit filter, over the low-filter opinion's
-    0.15) cut 12 pulses of each copy: the first reading, which filters them, stands."""
+    0.15) cut 12 pulses of the 5 copies: the first reading, which filters them, stands."""
     spec, values = example_spec("gate_sensor")
     rng = np.random.default_rng(9)
     tx = frame.encode(spec, values)
-    lv, du = tx.levels.tolist(), tx.durations_us.tolist()
-    for k in sorted(rng.choice(np.arange(5, len(tx) - 5), 12, replace=False), reverse=True):
-        g = 0.2 * spec.unit_us
-        a = du[k] / 2 - g / 2
-        lv[k:k + 1] = [lv[k], 1 - lv[k], lv[k]]
-        du[k:k + 1] = [a, g, du[k] - a - g]
-    frames = decode(spec, PulseTrain(np.array(lv), np.array(du)))
+    frames = decode(spec, with_glitches(tx, 12, 0.2 * spec.unit_us, rng))
     assert_exact(spec, values, frames)
     assert frames == decode(spec, tx)
 

@@ -103,7 +103,7 @@ def join_spans(train: PulseTrain, spans: list[tuple[float, float]], quiet_us: fl
     """Return the pieces ``[a_us, b_us)`` of ``train`` (``b_us`` rounded up to the pulse
     boundary at or after it), each after and followed by ``quiet_us`` of space, laid end to
     end; ``frame[k]`` is the index in ``spans`` of piece k and ``start_us[k]`` its ``a_us``
-    in the joined train (pieces with no whole pulse are left out)."""
+    in the joined train (pieces holding no part of a pulse are left out)."""
     edges = np.concatenate(([0.0], np.cumsum(train.durations_us)))
     lv_parts: list[np.ndarray] = []
     du_parts: list[np.ndarray] = []
@@ -112,7 +112,7 @@ def join_spans(train: PulseTrain, spans: list[tuple[float, float]], quiet_us: fl
     for k, (a_us, b_us) in enumerate(spans):
         a_us = max(a_us, 0.0)
         a = max(int(np.searchsorted(edges, a_us, side="right")) - 1, 0)
-        b = int(np.searchsorted(edges, b_us, side="left"))  # pulses [a, b) end by b_us
+        b = min(int(np.searchsorted(edges, b_us, side="left")), len(train))  # [a, b)
         if b <= a:
             continue
         du = train.durations_us[a:b].copy()
