@@ -362,7 +362,8 @@ def _low_filter_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
     short = np.flatnonzero((d >= low_us) & (d < min_us))
     if short.size == 0:
         return frames
-    t_short = np.concatenate(([0.0], np.cumsum(d)[:-1]))[short]
+    edges_us = np.concatenate(([0.0], np.cumsum(d)))
+    t_short = edges_us[short]
     t_alone = _shrunk_us(d, short, t_short, min_us, low_us)
     passed = [f for f in frames if f.crc_ok]
     f_start = np.array([f.start_us for f in passed])
@@ -397,7 +398,7 @@ def _low_filter_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
     spans = list(zip(a_us[new].tolist(),
                      np.maximum.reduceat(b_us, np.flatnonzero(new)).tolist(), strict=True))
     quiet_us = 2.0 * max(hm.break_us, 16 * spec.unit_us)
-    cuts = join_spans(train, spans, quiet_us)
+    cuts = join_spans(train, spans, quiet_us, edges_us)
     starts = np.array([f.start_us for f in frames])
     reach = np.maximum.accumulate(np.array([f.end_us for f in frames]))
     out = list(frames)
@@ -426,15 +427,12 @@ def _shrunk_us(d: np.ndarray, short: np.ndarray, t_short: np.ndarray, min_us: fl
     starting at ``t_short``) that lie amid pulses the filter keeps: of the
     ``ANCHOR_CONTEXT_PULSES`` on each side all but one at least ``min_us`` and none shorter
     than ``low_us`` (a shrunk pulse, not receiver noise); beyond the train's ends: idle."""
-    n = ANCHOR_CONTEXT_PULSES
-    pad = np.full(n, np.inf)  # the idle before and after the train
-    d = np.concatenate((pad, d, pad))
-    long_ = np.concatenate(([0], np.cumsum(d >= min_us)))
-    tiny = np.concatenate(([0], np.cumsum(d < low_us)))
-    i = short + n
-    ok = ((long_[i + n + 1] - long_[i + 1] + long_[i] - long_[i - n] >= 2 * n - 1)
-          & (tiny[i + n + 1] == tiny[i - n]))
-    return t_short[ok]
+    keep = np.arange(short.size)
+    for n in (2, ANCHOR_CONTEXT_PULSES):  # the 2 either side first: most noise fails there
+        j = short[keep][:, None] + np.concatenate((np.arange(-n, 0), np.arange(1, n + 1)))
+        ctx = np.where((j >= 0) & (j < d.size), d[np.clip(j, 0, d.size - 1)], np.inf)
+        keep = keep[((ctx >= min_us).sum(axis=1) >= 2 * n - 1) & ~(ctx < low_us).any(axis=1)]
+    return t_short[keep]
 
 
 @dataclass(frozen=True, eq=False)

@@ -98,13 +98,15 @@ def carrier_end_us(edges_us: np.ndarray, levels: np.ndarray, start_us: float,
     return float(edges_us[i0 + int(np.flatnonzero(fall)[-1])])
 
 
-def join_spans(train: PulseTrain, spans: list[tuple[float, float]], quiet_us: float
-               ) -> CutTrains:
+def join_spans(train: PulseTrain, spans: list[tuple[float, float]], quiet_us: float,
+               edges_us: np.ndarray | None = None) -> CutTrains:
     """Return the pieces ``[a_us, b_us)`` of ``train`` (``b_us`` rounded up to the pulse
     boundary at or after it), each after and followed by ``quiet_us`` of space, laid end to
     end; ``frame[k]`` is the index in ``spans`` of piece k and ``start_us[k]`` its ``a_us``
-    in the joined train (pieces holding no part of a pulse are left out)."""
-    edges = np.concatenate(([0.0], np.cumsum(train.durations_us)))
+    in the joined train (pieces holding no part of a pulse are left out). ``edges_us``:
+    the train's pulse boundaries (its start times plus its end) when the caller has them."""
+    edges = (np.concatenate(([0.0], np.cumsum(train.durations_us))) if edges_us is None
+             else edges_us)
     lv_parts: list[np.ndarray] = []
     du_parts: list[np.ndarray] = []
     origins, which, starts = [], [], []
@@ -148,7 +150,7 @@ def cut_trains(train: PulseTrain, frames: list[tuple[float, float | None, float]
         if cut is not None:
             spans.append((start_us - lead_units * unit_us, cut))
             owner.append(k)
-    cuts = join_spans(train, spans, quiet_us)
+    cuts = join_spans(train, spans, quiet_us, edges)
     own = np.array(owner, np.int64)[cuts.frame]
     first = np.array([frames[k][0] for k in own.tolist()])
     return CutTrains(cuts.train, cuts.origin_us, own, first - cuts.origin_us)
