@@ -116,7 +116,10 @@ def decode(spec: Receiver, train: PulseTrain, *,
     result replaces it where its check passes; then, where noise hugs the frame's end, from
     the train cut at its carrier end; then, where the glitch filter dropped a pulse that
     heavy jitter may have shrunk, with the filter at half its width
-    (``_low_filter_opinion``).
+    (``_low_filter_opinion``). Each opinion is one more reading of a stretch the first
+    could not vouch for, taken only where the check passes: its false-accept risk is that
+    of one more frame (2**-w for a w-bit check), and stress counts what it accepts like
+    any other frame.
     Repeats are separate frames, each with its own ``start_us``; the search goes on after
     the end of every decoded frame. Frames whose check fails are included unless
     ``include_bad`` is False (default: the spec's ``decoder.report_bad_check``); a frame
