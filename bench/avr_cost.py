@@ -1,6 +1,9 @@
 """AVR cost of the generated C: flash/RAM (avr-size, firmware minus an empty baseline),
 cycles per tx_next and per pack (measured in simavr by pin toggles), and the worst TX edge
-error against the Python quantised schedule, in CPU cycles. Receiver: capture ISR cycles
+error against the Python quantised schedule, in CPU cycles. Run buffer transmitter
+(tests/c/avr/tx_buffer.c in the libsimavr harness): RAM of both transmitters as the header
+states it, compare ISR cycles (vector to end of reti) with the C ISR and with
+<PREFIX>_TX_AVR_ISR, and the worst edge error. Receiver: capture ISR cycles
 per edge (worst, mean; libsimavr harness, vector to end of reti), idle ISR, main-loop
 cycles per frame (rx_poll + rx_take between GPIOR1 markers, ISR time removed), flash/RAM
 (tests/c/avr/rx_firmware.c minus its stub-receiver baseline). Cortex-M0+ compile sizes of
@@ -8,8 +11,9 @@ both sides (arm-none-eabi-gcc -mcpu=cortex-m0plus -mthumb -Os, object sections).
 
 Run: python bench/avr_cost.py   (skips with a message when avr-gcc or simavr is missing)
 Ratio: tx_next cycles / the baseline stub's cycles measured the same way in the same run;
-receiver: the worst ISR with the decoding done inside the ISR (rx_poll called there, the
-way a receiver without the edge FIFO works) / the worst ISR with the FIFO, same run.
+run buffer: assembly ISR worst / C ISR worst, same run; receiver: the worst ISR with the
+decoding done inside the ISR (rx_poll called there, the way a receiver without the edge
+FIFO works) / the worst ISR with the FIFO, same run.
 """
 
 from __future__ import annotations
@@ -76,10 +80,40 @@ def main() -> int:
     print("flash/RAM: frame code and its buffers (frame bytes + tx state); cycles include the "
           "2-cycle pin write closing each measurement")
     if not avr_run.HARNESS_MISSING:
+        _run_buffer_rows()
         _receiver_rows()
         _receiver_noise_rows()
     _cortex_m0plus_rows()
     return 0
+
+
+def _run_buffer_rows() -> None:
+    """Print the run buffer transmitter's RAM, ISR cycles and edge error per example."""
+    print("\nrun buffer transmitter, compare ISR cycles from vector to end of reti (C / asm)")
+    print(f"{'spec':<22}{'buf RAM':>8}{'stream RAM':>11}{'C max':>7}{'C mean':>8}"
+          f"{'asm max':>8}{'asm mean':>9}{'ratio':>7}{'edge err cyc':>13}")
+    for name in example_names():
+        spec, values = _example(name)
+        emitted = emit_header(spec, TimerTarget(tx_mode="buffer"))
+        with tempfile.TemporaryDirectory() as d:
+            c_max, c_mean, c_err = _txbuf_isr(emitted, values, Path(d), asm=False)
+            a_max, a_mean, a_err = _txbuf_isr(emitted, values, Path(d), asm=True)
+        buf = emitted.model.txbuf
+        assert buf is not None
+        print(f"{spec.name:<22}{buf['ram']['avr']:>8}{emitted.model.stream_ram['avr']:>11}"
+              f"{c_max:>7}{c_mean:>8.1f}{a_max:>8}{a_mean:>9.1f}{a_max / c_max:>7.2f}"
+              f"{max(c_err, a_err):>13}")
+    print("RAM in bytes on AVR as the header states it (struct <prefix>_txbuf; struct <prefix>_tx "
+          "+ frame bytes)")
+
+
+def _txbuf_isr(emitted, values, directory: Path, *, asm: bool) -> tuple[int, float, int]:
+    """(worst, mean) compare ISR cycles and the worst edge error in cycles of the run buffer
+    firmware, with the C ISR or the header's assembly one."""
+    run, changes = avr_run.run_tx_buffer(emitted, values, directory, asm=asm)
+    err = int(np.abs(avr_run.edge_errors_cycles(emitted, values, changes)).max())
+    cycles = run.isr_cycles[avr_run.TIMER1_COMPA_VECTOR]
+    return int(cycles.max()), float(cycles.mean()), err
 
 
 def _example(name: str):

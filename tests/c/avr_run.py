@@ -250,3 +250,17 @@ def edge_errors_cycles(emitted: Emitted, values: Mapping[str, object], changes: 
     if changes.size != want.size:
         raise AssertionError(f"TX has {changes.size} edges, the schedule {want.size}")
     return (changes - changes[0]) - want
+
+
+def run_tx_buffer(emitted: Emitted, values: Mapping[str, object], directory: Path, *,
+                  asm: bool) -> tuple[SimRun, np.ndarray]:
+    """Build tests/c/avr/tx_buffer.c for ``values`` (``asm``: with the header's assembly
+    <PREFIX>_TX_AVR_ISR, else the C ISR around tx_step), run it in the harness timing the
+    compare ISR and watching OC1A (PB1); return the run and the cycles of PB1's level
+    changes."""
+    elf = build_firmware(emitted, values, directory, source=TX_BUFFER_FIRMWARE,
+                         name="txb_asm.elf" if asm else "txb_c.elf",
+                         extra_defines={"OOK_ASM_ISR": None} if asm else None)
+    run = simulate(build_harness(directory), elf, clock_hz=emitted.timing.clock_hz,
+                   isr=(TIMER1_COMPA_VECTOR,), watch=("B1",))
+    return run, level_changes(*run.edges["B1"])
