@@ -31,7 +31,7 @@ from .._require import require_int, require_spec, require_train
 from ..channel.linkfile import Estimate, LinkFile
 from ..channel.model import ChannelSpec
 from ..decode import decode
-from ..errors import CaptureError
+from ..errors import CaptureError, ValueRangeError
 from ..plan import compile_plan
 from ..pulses import PulseTrain, merge_runs
 from ..spec.model import FrameSpec
@@ -79,14 +79,22 @@ class Calibration:
                 "counts": dict(self.counts)}
 
 
-def calibrate(spec: FrameSpec, train: PulseTrain, *, seed: int = 0) -> Calibration:
+def calibrate(spec: FrameSpec, train: PulseTrain, *, seed: int = 0,
+              settle_us: float | None = None) -> Calibration:
     """Return the link's impairments measured from ``train``, a capture holding frames of
-    ``spec``; ``seed`` seeds the bootstrap intervals. ``CaptureError`` when no frame with a
-    passing check is found (nothing to measure against)."""
+    ``spec``; ``seed`` seeds the bootstrap intervals. ``settle_us``: the ideal time from
+    each frame's start whose edges are matched but left out of the fits and the figures
+    (default: the preamble, over which a receiver's data slicer settles; 0: every edge).
+    ``CaptureError`` when no frame with a passing check is found (nothing to measure
+    against)."""
     require_spec(spec, "spec")
     require_train(train, "train")
     require_int(seed, "seed")
     plan = compile_plan(spec)
+    if settle_us is None:
+        settle_us = preamble_us(plan)
+    elif not (isinstance(settle_us, int | float) and 0 <= settle_us < 1e12):
+        raise ValueRangeError(f"settle_us: must be a number >= 0, got {settle_us!r}")
     rng = np.random.default_rng(seed)
     frames = decode(spec, train, include_bad=True)
     good = [f for f in frames if f.crc_ok]
@@ -97,7 +105,7 @@ def calibrate(spec: FrameSpec, train: PulseTrain, *, seed: int = 0) -> Calibrati
             "their check): nothing to calibrate against; check the spec and the capture")
     cap = CaptureEdges.of(train)
     fits = fit_frames(plan, cap, [f.fields for f in good], np.array([f.start_us for f in good]),
-                      np.array([f.unit_us for f in good]))
+                      np.array([f.unit_us for f in good]), settle_us=settle_us)
     n_ok = int(fits.ok.sum())
     if n_ok == 0:
         raise CaptureError(f"{len(good)} frame(s) decoded but none had {12} edges matching "
@@ -143,8 +151,15 @@ def calibrate(spec: FrameSpec, train: PulseTrain, *, seed: int = 0) -> Calibrati
               ("edges_outliers", fits.outliers),
               ("ideal_edges_unmatched", int(np.sum((fits.match < 0) & fits.ok[fits.ideal.frame]))),
               ("capture_ms", round(merged.total_us / 1000.0, 6)),
+              ("settle_us", round(float(settle_us), 6)),
               ("capture_resolution_us", resolution))
     return Calibration(channel, tuple(out.estimates), tuple(out.unknown), tuple(warn), counts)
+
+
+def preamble_us(plan) -> float:
+    """Return the ideal duration of the plan's preamble, µs (the slicer's settling time
+    that ``calibrate`` leaves out by default)."""
+    return float(plan.spec.preamble.length_bits * plan.line_code.units_per_bit * plan.unit_us)
 
 
 class _Collect:
@@ -257,6 +272,17 @@ def _clock(fits: FrameFits, good, repeats: int, gap_us: float, unit_us: float,
     whole = sizes[burst] == repeats
     n_whole = int(np.sum(sizes == repeats))
     sigma2 = fits.sigma_us ** 2
+    if repeats > 2 and n_whole >= 2:
+        nominal = np.zeros(ok.size)
+        for j in range(1, ok.size):
+            if pos[j]:
+                nominal[j] = nominal[j - 1] + n_chips[j - 1] * unit_us + gap_us
+        # one ideal time for every frame, where the fits are surest (their mid-point)
+        ref_us = float(np.median(tau_mid))
+        at_ref = fits.predict(ok, np.full(ok.size, ref_us))
+        by_starts = est.clock_from_starts(at_ref[whole], nominal[whole] + ref_us, burst[whole])
+        if by_starts is not None:
+            return list(by_starts)
     if repeats > 1 and n_whole >= 2 and int(whole.sum()) >= 6:
         first = np.zeros(burst.max() + 1)
         first[burst[pos == 0]] = start[pos == 0]
