@@ -292,3 +292,35 @@ def test_wav_capture_through_the_front_end(tmp_path):
         e = cal.estimate(name)
         assert inside(e, value, WIDEN_999), (name, e.value, e.ci95, value)
     assert "quant_step_us" in dict(cal.unknown)
+
+
+def test_cli_calibrates_a_rendered_wav(tmp_path, capsys):
+    """``render`` writes the link's envelope as a WAV with a 2000 ppm slow clock;
+    ``calibrate`` reads it through the front end and finds that clock error (99.9 %
+    interval), says which front end made the pulses, and writes a channel file."""
+    import json
+
+    from ookframe.channel import load_link
+    from ookframe.cli.main import main
+
+    wav = tmp_path / "hive.wav"
+    spec = str(EX / "hive_scale.toml")
+    assert main(["render", spec, "-o", str(wav), "--rx-power-dbm", "-70", "--transmissions",
+                 "8", "--clock-ppm", "2000", "--sample-rate", "500000", "--idle-ms",
+                 "5"]) == 0
+    link = tmp_path / "link.toml"
+    capsys.readouterr()
+    assert main(["calibrate", spec, str(wav), "-o", str(link), "--json"]) == 0
+    captured = capsys.readouterr()
+    d = json.loads(captured.out)
+    assert "front end:" in captured.err
+    e = load_link(link).estimate("clock_error_pct")
+    assert inside(e, 0.2, WIDEN_999), (e.value, e.ci95)
+    assert d["estimates"]["clock_error_pct"]["value"] == pytest.approx(e.value)
+    assert main(["calibrate", spec, str(wav), "--signal", "x"]) != 0  # VCD-only option
+    pins = tmp_path / "pin.csv"
+    assert main(["render", spec, "-o", str(pins), "--rx-power-dbm", "-70"]) == 0
+    capsys.readouterr()
+    assert main(["calibrate", spec, str(pins), "--smooth-us", "3"]) != 0
+    err = capsys.readouterr().err
+    assert "--smooth-us applies to sampled captures" in err and "Traceback" not in err
