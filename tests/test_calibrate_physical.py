@@ -217,6 +217,22 @@ def test_quench_rate_sets_the_output_step():
     assert cal.channel.quant_step_us == pytest.approx(4.0, rel=1e-6)
 
 
+def test_slicer_settling_shows_in_the_preamble_marks():
+    """The cheap receiver's slicer threshold climbs from the idle level over the preamble
+    (its slow average, 2 ms), so the preamble's marks come out longer than the settled
+    ones: calibrate reports them apart, and their interval lies above the settled bias;
+    with the settling time set to 0 the preamble's marks pull the mark bias up."""
+    rng = np.random.default_rng(21)
+    b = random_batch(PLAN, 4, rng)
+    ch = PhysicalChannel(tx=TX_A, distance_m=None, rx_power_dbm=STRONG_DBM)
+    pin = apply_physical(b.train, ch, rng, burst_starts_us=b.starts_us)
+    cal = calibrate(HIVE, pin)
+    settled, early = cal.estimate("mark_bias_us"), cal.estimate("settling_mark_bias_us")
+    assert early.ci95[0] > settled.ci95[1] + 1.0, (early.ci95, settled.ci95)
+    assert calibrate(HIVE, pin, settle_us=0).estimate("mark_bias_us").value > settled.ci95[1]
+    assert "settling_mark_bias_us" in dict(calibrate(HIVE, pin, settle_us=0).unknown)
+
+
 def test_jitter_grows_as_the_received_power_falls():
     """Edge jitter is no single parameter of the physical model (detector noise through
     the data filter, threshold ripple with the data): honestly checked only for its trend,

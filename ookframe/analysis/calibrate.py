@@ -6,7 +6,8 @@ matches its ideal edges with the captured ones and fits each frame
 interval and the number of edges, pulses or frames it rests on (:mod:`.link_estimates`):
 
 * mark bias: mean error of the mark lengths (captured - fitted ideal; positive = marks
-  longer, as ``ChannelSpec.mark_bias_us``);
+  longer, as ``ChannelSpec.mark_bias_us``), after the settling time (default the
+  preamble, where a receiver's slicer settles; its marks' bias is reported apart);
 * edge jitter: residual scatter of the fitted edges, its shape (Gaussian or uniform);
 * clock error and drift: the frames' clock scales (with repeats: a line through the
   frames of whole transmissions against the time since the transmission began; else the
@@ -126,6 +127,7 @@ def calibrate(spec: FrameSpec, train: PulseTrain, *, seed: int = 0,
 
     out.add(est.mean_t("mark_bias_us", _mark_errors(fits, cap), "marks", "us",
                        "captured mark length - fitted ideal length"))
+    out.add(_settling_bias(fits, cap, settle_us))
     quant = est.quantisation(_equal_pulse_diffs(fits, cap, plan.unit_us), resolution,
                              fits.sigma_us)
     out.add(quant)
@@ -225,6 +227,24 @@ def _mark_errors(fits: FrameFits, cap: CaptureEdges) -> np.ndarray:
     measured = t[fits.match[i + 1]] - t[fits.match[i]]
     ideal = fits.predict(f, fits.ideal.tau_us[i + 1]) - fits.predict(f, fits.ideal.tau_us[i])
     return measured - ideal
+
+
+def _settling_bias(fits: FrameFits, cap: CaptureEdges, settle_us: float
+                   ) -> Estimate | est.Blind:
+    """Return the mean error of the marks inside the settling time (matched, not fitted;
+    against the frame's fit): how much longer a receiver still settling makes them."""
+    name = "settling_mark_bias_us"
+    if settle_us <= 0:
+        return est.Blind(name, "settle_us is 0: every edge is in the fits")
+    f, m = fits.ideal.frame, fits.match
+    i = np.flatnonzero((m[:-1] >= 0) & (m[1:] >= 0) & (f[:-1] == f[1:]) & fits.ideal.rising[:-1]
+                       & (fits.ideal.tau_us[1:] < settle_us))
+    i = i[fits.ok[f[i]]]
+    measured = cap.t_us[m[i + 1]] - cap.t_us[m[i]]
+    ideal = fits.predict(f[i], fits.ideal.tau_us[i + 1]) - fits.predict(f[i], fits.ideal.tau_us[i])
+    return est.mean_t(name, measured - ideal, "marks", "us",
+                      f"marks in the first {settle_us:g} µs of each frame (the receiver's "
+                      "settling; not in the channel model): compare with mark_bias_us")
 
 
 def _equal_pulse_diffs(fits: FrameFits, cap: CaptureEdges, unit_us: float) -> np.ndarray:
