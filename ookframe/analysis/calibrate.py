@@ -198,14 +198,41 @@ def _channel(out: _Collect, jit: est.JitterFit) -> ChannelSpec:
     values["jitter_us"] = max(values.get("jitter_us", 0.0), 0.0)
     if "quant_step_us" in values and values["quant_step_us"] < 0.01:
         values.pop("quant_step_us")
-    if values.get("glitch_rate_per_ms", 0.0) > 0 and values.get("glitch_width_us", 0.0) <= 0:
-        values["glitch_width_us"] = 1.0
+    if values.get("glitch_width_us", 0.0) <= 0:
+        _glitches_off(out, values)
     if abs(values.get("clock_error_pct", 0.0)) >= 50:
         values.pop("clock_error_pct")
     for k in ("idle_noise_mean_us", "idle_quiet_us", "glitch_width_us", "glitch_rate_per_ms"):
         if k in values and values[k] <= 0:
             values.pop(k)
     return ChannelSpec(**values)
+
+
+def _glitches_off(out: _Collect, values: dict[str, Any]) -> None:
+    """Turn glitches off in ``values`` when no glitch width was measured (the model needs
+    one, and a made-up width would be a guess written as a measurement), saying why in
+    the warnings and in the rate estimate's note; the width leaves the unknowns (it is not
+    a default standing in for a figure the model uses: glitches are off)."""
+    values.pop("glitch_width_us", None)
+    rate_ms = float(values.pop("glitch_rate_per_ms", 0.0))
+    why = dict(out.unknown).get("glitch_width_us", "no glitch width measured")
+    out.unknown = [(k, r) for k, r in out.unknown if k != "glitch_width_us"]
+    i, rate = next(((i, e) for i, e in enumerate(out.estimates)
+                    if e.name == "glitch_rate_per_ms"), (None, None))
+    bound = f"; fewer than {rate.ci95[1]:.3g} per ms at 95 %" if rate and rate.ci95 else ""
+    if rate_ms > 0:
+        reason = (f"{rate.n if rate else 'some'} glitch(es) counted from unmatched toggles "
+                  f"inside frames ({rate_ms:.3g} per ms) but none with both edges, so no "
+                  "width could be measured")
+    else:
+        reason = why + bound
+    out.warnings.append(f"glitches are off in the channel file (glitch_rate_per_ms = 0): "
+                        f"{reason}; stress with this file models no glitches")
+    if rate is not None and i is not None and rate_ms > 0:
+        note = "; ".join(x for x in (rate.note, "not used: glitches are off, no width "
+                                     "measured") if x)
+        out.estimates[i] = Estimate(rate.name, rate.value, rate.ci95, rate.method, rate.n,
+                                    rate.basis, rate.unit, note, rate.tests)
 
 
 # --- per-edge views of the fit ---------------------------------------------------------------
