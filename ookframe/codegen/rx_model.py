@@ -86,8 +86,8 @@ BODY_SHIFT_EXTRA = -1
 #: edges the head refit spans
 STREAK_BREAK_20THS = 9
 #: entries of the edge FIFO between rx_edge (ISR) and rx_poll (main loop) unless
-#: <PREFIX>_RX_EDGES says otherwise
-DEFAULT_EDGES = 16
+#: <PREFIX>_RX_EDGE_FIFO says otherwise
+DEFAULT_EDGE_FIFO = 16
 #: fewest chips of well-placed edges before the sync for the head refit of the unit
 MIN_REFIT_CHIPS = 8
 #: lead bits (of LEAD_BITS) that may be wrong at a sync hit: the reference decoder only
@@ -137,7 +137,7 @@ class RxModel:
     stuff_after: int
     stuff_value: str
     queue: int
-    edges: int
+    edge_fifo: int
     recip: tuple[int, ...]  # round(256 / n) for n = 0..top (0 unused)
     phase_shift_hunt: int
     phase_shift_body: int
@@ -167,7 +167,7 @@ class RxModel:
         slot = self.body_bytes + 12 + 8  # bits, quality (padded), worst16 and unit16
         if self.recovery_flips:
             slot += (self.raw_chips + 7) // 8 + 6 + 8 * self.recovery_edges
-        return state + self.queue * slot + 16 + 3 * self.edges + 2
+        return state + self.queue * slot + 16 + 3 * self.edge_fifo + 2
 
 
 def _literal(value: int, bits: int) -> str:
@@ -328,7 +328,7 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
         len_offset=len_offset, len_width=len_width, len_weights=weights, len_xor=xor,
         len_max=len_max, len_fixed_bits=plan.min_body_bits,
         stuff_after=code.stuff_after, stuff_value=code.stuff_value, queue=DEFAULT_QUEUE,
-        edges=DEFAULT_EDGES,
+        edge_fifo=DEFAULT_EDGE_FIFO,
         recip=recip, phase_shift_hunt=2, phase_shift_body=body_shift,
         freq_div_hunt=FREQ_DIV_HUNT, freq_div_pull_in=FREQ_DIV_PULL_IN, gear_chips=GEAR_CHIPS,
         reset_on_break=RESET_ON_BREAK, unit16_keep_min=unit16 * (100 - KEEP_SPAN_PCT) // 100,

@@ -26,11 +26,11 @@ import numpy as np
 from .._require import require, require_int, require_spec
 from ..channel import ChannelSpec, apply_channel, channel_time_map_us
 from ..channel.physical import PhysicalChannel, apply_physical, physical_time_map_us
+from ..intervals import clopper_pearson
 from ..plan import FramePlan, as_plan
 from ..pulses import PulseTrain
 from ..spec.model import FrameSpec
 from .batch import Batch, random_batch
-from .stats import clopper_pearson
 
 DEFAULT_CHUNK_FRAMES = 500
 #: most transmission bits in one chunk: long frames get fewer frames per chunk, so the
@@ -205,8 +205,8 @@ def run_chunk(
     half = batch.gap_us / 2
     bounds = np.append(batch.starts_us - half, batch.ends_us[-1] + half)
     if isinstance(channel, PhysicalChannel):
-        rx = apply_physical(batch.train, channel, rng)
-        bounds = physical_time_map_us(bounds)
+        rx = apply_physical(batch.train, channel, rng, burst_starts_us=batch.starts_us)
+        bounds = physical_time_map_us(bounds, channel, batch.starts_us)
     else:
         rx = apply_channel(batch.train, channel, rng, burst_starts_us=batch.starts_us)
         bounds = channel_time_map_us(bounds, channel, batch.starts_us)
