@@ -417,18 +417,10 @@ def test_copy_loss_parity_at_presets(name):
 
 
 MANCHESTER_JITTER_GAP = pytest.mark.xfail(
-    strict=True, reason="Manchester under heavy jitter: the C receiver's unit at the sync "
-    "is off by about 0.66 % (the reference's head fit 0.12 %) because one far-off edge "
-    "ends the run its refit spans; open in issue 10")
-#: mark-space codes: the reference's low-filter reading (the glitch filter halved where
-#: no frame passes) keeps short pulses jitter shrank; the C receiver has one reading
-LOW_FILTER_GAP = pytest.mark.xfail(
-    strict=True, reason="PWM / pulse distance under heavy jitter: the reference's "
-    "low-filter reading (glitch filter halved where no frame passes) has no C "
-    "counterpart; halving the C filter loses 2-7x the copies on edge-of-range; open in "
-    "issue 10")
-JITTER_GAPS = {"hive_scale.toml": MANCHESTER_JITTER_GAP, "gate_sensor.toml": LOW_FILTER_GAP,
-               "greenhouse_probe.toml": LOW_FILTER_GAP}
+    strict=True, reason="Manchester under heavy jitter (31 us at seed 0): the C receiver "
+    "loses 1.5 % of copies, the reference 0.2 %; not the unit at the sync (the nominal unit "
+    "there loses as many): lost copies slip in the body or miss the sync; open in issue 10")
+JITTER_GAPS = {"hive_scale.toml": MANCHESTER_JITTER_GAP}
 
 
 @pytest.mark.slow
