@@ -21,6 +21,10 @@ class NoCheck:
         """Return 0 (there is no check value)."""
         return 0
 
+    def compute_rows(self, data: np.ndarray) -> np.ndarray:
+        """Return 0 per row (uint64)."""
+        return np.zeros(np.shape(data)[0], np.uint64)
+
 
 @dataclass(frozen=True)
 class Sum8:
@@ -33,6 +37,10 @@ class Sum8:
         """Return the 8-bit sum of ``data`` (0..255)."""
         return sum(data) & 0xFF
 
+    def compute_rows(self, data: np.ndarray) -> np.ndarray:
+        """Return the 8-bit sum of every row of the (n x bytes) uint8 ``data`` (uint64)."""
+        return np.asarray(data, np.uint8).sum(axis=1, dtype=np.uint64) & np.uint64(0xFF)
+
 
 @dataclass(frozen=True)
 class Xor8:
@@ -44,6 +52,11 @@ class Xor8:
     def compute(self, data: bytes) -> int:
         """Return the XOR of every byte of ``data`` (0..255)."""
         return reduce(xor, data, 0)
+
+    def compute_rows(self, data: np.ndarray) -> np.ndarray:
+        """Return the XOR of the bytes of every row of the (n x bytes) uint8 ``data``."""
+        d = np.asarray(data, np.uint8)
+        return np.bitwise_xor.reduce(d, axis=1, initial=0).astype(np.uint64)
 
 
 @dataclass(frozen=True)
@@ -63,3 +76,10 @@ class Fletcher16:
         sum1 = int(d.sum()) % 255
         sum2 = int(d @ np.arange(d.size, 0, -1, dtype=np.int64)) % 255
         return (sum2 << 8) | sum1
+
+    def compute_rows(self, data: np.ndarray) -> np.ndarray:
+        """Return the Fletcher-16 value of every row of the (n x bytes) uint8 ``data``."""
+        d = np.asarray(data, np.uint8).astype(np.int64)
+        sum1 = d.sum(axis=1) % 255
+        sum2 = d @ np.arange(d.shape[1], 0, -1, dtype=np.int64) % 255
+        return ((sum2 << 8) | sum1).astype(np.uint64)
