@@ -32,6 +32,8 @@ from ookframe.stress.batch import random_batch
 EXAMPLES = Path(ookframe.__file__).resolve().parent / "examples"
 TRANSMISSIONS = 300
 STRESS_FRAMES = 1500
+#: transmissions per stress chunk, below every chunk limit (so the counts do not depend on it)
+STRESS_CHUNK = 100
 SEEDS = (0, 1)
 
 
@@ -74,7 +76,8 @@ def snapshot() -> tuple[dict[str, object], float]:
                 t_dec += time.process_time() - t0
                 out[f"{spec.name}/{cname}/{seed}"] = [
                     _plain(dataclasses.asdict(f)) for f in frames]
-        r = run_stress(spec, PRESETS["budget-superregen"], STRESS_FRAMES, seed=3)
+        r = run_stress(spec, PRESETS["budget-superregen"], STRESS_FRAMES, seed=3,
+                       chunk_frames=STRESS_CHUNK)
         counts = {f.name: getattr(r, f.name) for f in dataclasses.fields(r) if f.compare
                   and f.name != "channel"}
         out[f"{spec.name}/stress"] = _plain(counts)

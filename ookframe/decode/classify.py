@@ -419,7 +419,8 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
     p_start = np.cumsum(lengths) - lengths
     pulse_edge = np.arange(d.size) + np.repeat(e_start - p_start, lengths) + 1  # end edge
     t = np.zeros(int(n_edges.sum()))
-    t[pulse_edge] = d / u_pulse  # durations in (tracked) units
+    ratio = d / u_pulse  # durations in (tracked) units
+    t[pulse_edge] = ratio
     cs = np.cumsum(t)
     x = cs - np.repeat(cs[e_start], n_edges)
     keep = np.ones(x.size)
@@ -444,9 +445,9 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
         c, residual = _repair(c, residual, grid, pulse_edge, n, ok, levels, table)
         n = (c[pulse_edge] - c[start_edge]).astype(np.int64)
         ok = is_allowed(n, levels, table)
-    ratio = d / u_pulse
-    fallback, _ = nearest_runs(ratio, levels, table)
-    n = np.where(ok, n, fallback)
+    bad = np.flatnonzero(~ok)
+    if bad.size:
+        n[bad] = nearest_runs(ratio[bad], levels[bad], table)[0]
     ar = np.abs(residual)
     if capped is not None:
         ar[pulse_edge[capped]] = 0.0
