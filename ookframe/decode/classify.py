@@ -302,15 +302,23 @@ class _Segments:
     [start, stop) of its segment (worked out once for several moving windows)."""
 
     def __init__(self, lengths: np.ndarray) -> None:
-        self.start = np.repeat(np.cumsum(lengths) - lengths, lengths)
-        self.stop = self.start + np.repeat(lengths, lengths)
+        first = np.cumsum(lengths) - lengths
+        self.start = np.repeat(first, lengths)
+        self.stop = np.repeat(first + lengths, lengths)
         self.i = np.arange(self.start.size)
+        self._hi: dict[int, np.ndarray] = {}
 
     def bounds(self, before: int, after: int) -> tuple[np.ndarray, np.ndarray]:
         """Bounds of the ``before`` elements before each element, itself and ``after``
-        after it, within its segment."""
-        return (np.maximum(self.i - before, self.start),
-                np.minimum(self.i + (after + 1), self.stop))
+        after it, within its segment (the upper bound kept for other ranges)."""
+        lo = self.i - before
+        np.maximum(lo, self.start, out=lo)
+        hi = self._hi.get(after)
+        if hi is None:
+            hi = self.i + (after + 1)
+            np.minimum(hi, self.stop, out=hi)
+            self._hi[after] = hi
+        return lo, hi
 
 
 def _moving_sum(x: np.ndarray, bounds: tuple[np.ndarray, np.ndarray]) -> np.ndarray:
@@ -379,10 +387,11 @@ def _unwrap(p: np.ndarray) -> np.ndarray:
     step = dd[big]
     mod = np.mod(step + 0.5, 1.0) - 0.5
     mod[(mod == -0.5) & (step > 0)] = 0.5
-    correct = np.zeros(dd.size)
-    correct[big] = mod - step
+    # the running sum of the corrections (zero between them: the same sums as a cumsum
+    # over every step), held constant from each corrected step to the next
+    level = np.concatenate(([0.0], np.cumsum(mod - step)))
     out = p.copy()
-    out[1:] = p[1:] + np.cumsum(correct)
+    out[1:] = p[1:] + np.repeat(level, np.diff(np.concatenate(([0], big, [dd.size]))))
     return out
 
 
