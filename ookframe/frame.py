@@ -362,7 +362,26 @@ def parse_frames(spec: SpecOrPlan, bodies: np.ndarray | Sequence[np.ndarray]) ->
     the end of its frame. Entry ``i`` of the result is what ``parse_frame`` gives for row i.
     """
     p = as_plan(spec)
-    rx, avail = _rows_matrix(bodies, p.max_body_bits)
+    return _parse(p, *_rows_matrix(bodies, p.max_body_bits))
+
+
+def parse_ragged(spec: SpecOrPlan, bits: np.ndarray, lengths: np.ndarray) -> ParsedFrames:
+    """Return :func:`parse_frames` of the rows laid end to end in ``bits`` (uint8), row i
+    holding ``lengths[i]`` bits (no list of rows is built)."""
+    p = as_plan(spec)
+    width = p.max_body_bits
+    lengths = np.asarray(lengths, dtype=np.int64)
+    avail = np.minimum(lengths, width)
+    rx = np.zeros((lengths.size, width), np.uint8)
+    row = np.repeat(np.arange(lengths.size), avail)
+    col = np.arange(row.size) - np.repeat(np.cumsum(avail) - avail, avail)
+    rx[row, col] = np.asarray(bits, dtype=np.uint8)[
+        np.repeat(np.cumsum(lengths) - lengths, avail) + col]
+    return _parse(p, rx, avail)
+
+
+def _parse(p: FramePlan, rx: np.ndarray, avail: np.ndarray) -> ParsedFrames:
+    """:func:`parse_frames` of the (n x max body bits) rows ``rx`` with ``avail`` bits each."""
     n_cb = p.n_check_bits
     plain = rx[:, :p.max_field_bits] ^ p.fields_mask
     got = _read(p, plain, avail, n_cb)

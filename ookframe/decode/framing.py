@@ -15,7 +15,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..frame import ParsedFrame, parse_frames
+from ..frame import ParsedFrame, parse_frames, parse_ragged
 from ..linecodes import DecodedBits
 from ..spec.model import FrameSpec
 from .head import HeadModel
@@ -186,8 +186,7 @@ def _bodies(spec: FrameSpec, hm: HeadModel, st: _Streams, lo: np.ndarray, hi: np
     starts = lo + body_at
     received, n_rx = lc.unstuff_rows(st.bits[ragged_index(starts, hi - starts)], hi - starts)
     at = np.cumsum(n_rx) - n_rx
-    bodies = np.split(received, at[1:]) if lo.size else []
-    rows = parse_frames(hm.plan, bodies).frames() if bodies else []
+    rows = parse_ragged(hm.plan, received, n_rx).frames() if lo.size else []
     got = np.array([p is not None for p in rows], bool)
     i = np.flatnonzero(got)
     n_bits = np.array([p.n_bits for p in rows if p is not None], np.int64)
