@@ -326,7 +326,9 @@ def _moving_sum(x: np.ndarray, bounds: tuple[np.ndarray, np.ndarray]) -> np.ndar
     cs = np.empty(x.size + 1, x.dtype)
     cs[0] = 0
     np.cumsum(x, out=cs[1:])
-    return cs[bounds[1]] - cs[bounds[0]]
+    out = cs[bounds[1]]
+    out -= cs[bounds[0]]
+    return out
 
 
 def is_allowed(n: np.ndarray, levels: np.ndarray, table: RunTable) -> np.ndarray:
@@ -375,8 +377,16 @@ def _phasor_sum(x: np.ndarray, dropped: np.ndarray, bounds: tuple[np.ndarray, np
     z = np.empty(x.size, np.complex128)
     np.cos(turn, out=z.real)
     np.sin(turn, out=z.imag)
+    del turn
     z[dropped] = 0.0
     return _moving_sum(z, bounds)
+
+
+def _turns(z: np.ndarray) -> np.ndarray:
+    """Return ``np.angle(z) / (2 * np.pi)``: the phase of every phasor in turns."""
+    out = np.angle(z)
+    out /= 2 * np.pi
+    return out
 
 
 def _unwrap(p: np.ndarray) -> np.ndarray:
@@ -427,11 +437,13 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
     e_start = np.cumsum(n_edges) - n_edges
     p_start = np.cumsum(lengths) - lengths
     pulse_edge = np.arange(d.size) + np.repeat(e_start - p_start, lengths) + 1  # end edge
-    t = np.zeros(int(n_edges.sum()))
+    # (temporaries are overwritten in place and dropped early where the arithmetic stays
+    # the same: fewer fresh pages per call)
+    x = np.zeros(int(n_edges.sum()))
     ratio = d / u_pulse  # durations in (tracked) units
-    t[pulse_edge] = ratio
-    cs = np.cumsum(t)
-    x = cs - np.repeat(cs[e_start], n_edges)
+    x[pulse_edge] = ratio
+    np.cumsum(x, out=x)
+    x -= np.repeat(x[e_start], n_edges)
     keep = np.ones(x.size)
     dropped = pulse_edge[capped] if capped is not None else np.zeros(0, np.int64)
     keep[dropped] = 0.0
@@ -440,11 +452,23 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
     b, a = 2 * half_window, LOOK_AHEAD
     segments = _Segments(n_edges)
     near, wide = segments.bounds(4, a), segments.bounds(b, a)
-    rough = _unwrap(np.angle(_phasor_sum(x, dropped, near)) / (2 * np.pi))
-    trend = _moving_sum(rough * keep, wide) / np.maximum(_moving_sum(keep, wide), 1.0)
-    phase = trend + np.angle(_phasor_sum(x - trend, dropped, wide)) / (2 * np.pi)
+    del segments
+    rough = _turns(_phasor_sum(x, dropped, near))
+    rough = _unwrap(rough)
+    kept = _moving_sum(keep, wide)
+    np.maximum(kept, 1.0, out=kept)
+    rough *= keep
+    trend = _moving_sum(rough, wide)
+    del rough
+    trend /= kept
+    del kept
+    phase = _turns(_phasor_sum(x - trend, dropped, wide))
+    phase += trend
+    del trend
     phase = _unwrap(phase)  # a step of the rough phase must not move the grid
-    grid = x - phase
+    grid = x
+    grid -= phase
+    del phase
     c = np.rint(grid)
     residual = grid - c
     start_edge = pulse_edge - 1
