@@ -368,23 +368,27 @@ def _repair(c: np.ndarray, residual: np.ndarray, grid: np.ndarray, pulse_edge: n
     return c, grid - c
 
 
-def _phasor_sum(x: np.ndarray, dropped: np.ndarray, bounds: tuple[np.ndarray, np.ndarray]
-                ) -> np.ndarray:
-    """Return the moving sums of the unit phasors of the fractional parts of ``x`` over
-    the ``_ragged_bounds`` ranges, those at the indices ``dropped`` left out (cos and sin
-    into one complex array: the values of ``np.exp(2j * np.pi * x)``, at less cost)."""
+def _phase_turns(x: np.ndarray, dropped: np.ndarray, bounds: tuple[np.ndarray, np.ndarray]
+                 ) -> np.ndarray:
+    """Return the angle in turns of the moving sums of the unit phasors of the fractional
+    parts of ``x`` over the ``_ragged_bounds`` ranges, those at the indices ``dropped``
+    left out: ``np.angle(S) / (2 * np.pi)`` for S the sums of ``np.exp(2j * np.pi * x)``.
+
+    The cosine and sine parts are summed as two real arrays (complex sums add the parts
+    separately, so the values are the same) and the angle is their ``arctan2`` (as
+    ``np.angle`` takes it), at less memory than one complex array.
+    """
     turn = 2 * np.pi * x
-    z = np.empty(x.size, np.complex128)
-    np.cos(turn, out=z.real)
-    np.sin(turn, out=z.imag)
-    del turn
-    z[dropped] = 0.0
-    return _moving_sum(z, bounds)
-
-
-def _turns(z: np.ndarray) -> np.ndarray:
-    """Return ``np.angle(z) / (2 * np.pi)``: the phase of every phasor in turns."""
-    out = np.angle(z)
+    re = np.cos(turn)
+    np.sin(turn, out=turn)
+    im = turn
+    re[dropped] = 0.0
+    im[dropped] = 0.0
+    s_re = _moving_sum(re, bounds)
+    del re
+    s_im = _moving_sum(im, bounds)
+    del im
+    out = np.arctan2(s_im, s_re)
     out /= 2 * np.pi
     return out
 
@@ -453,7 +457,7 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
     segments = _Segments(n_edges)
     near, wide = segments.bounds(4, a), segments.bounds(b, a)
     del segments
-    rough = _turns(_phasor_sum(x, dropped, near))
+    rough = _phase_turns(x, dropped, near)
     rough = _unwrap(rough)
     kept = _moving_sum(keep, wide)
     np.maximum(kept, 1.0, out=kept)
@@ -462,7 +466,7 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
     del rough
     trend /= kept
     del kept
-    phase = _turns(_phasor_sum(x - trend, dropped, wide))
+    phase = _phase_turns(x - trend, dropped, wide)
     phase += trend
     del trend
     phase = _unwrap(phase)  # a step of the rough phase must not move the grid
