@@ -58,12 +58,27 @@ def nearest_runs(ratio: np.ndarray, levels: np.ndarray, table: RunTable
         units = units.astype(np.int64)
     else:  # both levels looked up over the whole array (cheaper than masked parts)
         a0, a1 = table.allowed
-        units = np.where(levels == 1, a1[np.searchsorted(table.mids[1], r)],
-                         a0[np.searchsorted(table.mids[0], r)])
+        units = np.where(levels == 1, a1[_rank(table.mids[1], r)], a0[_rank(table.mids[0], r)])
     beyond = r > table.cap_ratio
     if beyond.any():
         units[beyond] = np.rint(r[beyond]).astype(np.int64)
     return units, np.abs(r - units)
+
+
+#: sorted arrays up to this long are ranked by comparisons, not a binary search
+_FEW_THRESHOLDS = 4
+
+
+def _rank(mids: np.ndarray, r: np.ndarray) -> np.ndarray:
+    """Return ``np.searchsorted(mids, r)`` (how many thresholds lie below each value; NaN
+    after all of them). For a few thresholds, as their count less the thresholds at or
+    above the value (NaN is at or below none): one comparison per threshold."""
+    if mids.size > _FEW_THRESHOLDS:
+        return np.searchsorted(mids, r)
+    rank = np.full(r.shape, mids.size, np.intp)
+    for m in mids.tolist():
+        rank -= r <= m
+    return rank
 
 
 def run_margin(ratio: np.ndarray, levels: np.ndarray, units: np.ndarray, table: RunTable
