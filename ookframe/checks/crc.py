@@ -182,21 +182,23 @@ class Crc(CrcParams):
                 r = ((r << 8) & mask) ^ t[((r << 8) >> w) ^ b]
         return self._finish(r)
 
-    def compute_rows(self, data: np.ndarray) -> np.ndarray:
-        """Return the CRC of every row of the (n x bytes) uint8 ``data`` as uint64: the
-        256-entry table algorithm run down the columns, all rows at once."""
+    def compute_rows(self, data: np.ndarray, n_bytes: np.ndarray | None = None) -> np.ndarray:
+        """Return the CRC of every row of the (n x bytes) uint8 ``data`` (its first
+        ``n_bytes`` bytes) as uint64: the 256-entry table algorithm run down the columns,
+        all rows at once (a row's register stays as it is past its own bytes)."""
         d = np.asarray(data, dtype=np.uint8)
         t = np.array(self.table(256), np.uint64)
         w = self.width
         r = np.full(d.shape[0], reflect(self.init, w) if self.refin else self.init, np.uint64)
         eight, mask = np.uint64(8), np.uint64(self.mask)
-        for b in d.T.astype(np.uint64):
+        for j, b in enumerate(d.T.astype(np.uint64)):
             if self.refin:
-                r = (r >> eight) ^ t[(r ^ b) & np.uint64(0xFF)]
+                nxt = (r >> eight) ^ t[(r ^ b) & np.uint64(0xFF)]
             elif w >= 8:  # (r << 8) >> w, without the bits shifted out of 64
-                r = ((r << eight) & mask) ^ t[(r >> np.uint64(w - 8)) ^ b]
+                nxt = ((r << eight) & mask) ^ t[(r >> np.uint64(w - 8)) ^ b]
             else:
-                r = ((r << eight) & mask) ^ t[((r << eight) >> np.uint64(w)) ^ b]
+                nxt = ((r << eight) & mask) ^ t[((r << eight) >> np.uint64(w)) ^ b]
+            r = nxt if n_bytes is None else np.where(j < n_bytes, nxt, r)
         if self.refin != self.refout:
             r = _reflect_rows(r, w)
         return r ^ np.uint64(self.xorout)
