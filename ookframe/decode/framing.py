@@ -196,8 +196,9 @@ def _bodies(spec: FrameSpec, hm: HeadModel, st: _Streams, lo: np.ndarray, hi: np
     ok[i] = True
     parsed = [rows[k] for k in i.tolist()]
     n_air[i] = n
-    bad = np.concatenate(([0], np.cumsum(~st.valid)))
-    code[i] = bad[starts[i] + n] - bad[starts[i]]
+    # invalid codewords among each frame's own bits (not a running count over every stream)
+    frame_of = np.repeat(np.arange(i.size), n)
+    code[i] = np.bincount(frame_of[~st.valid[ragged_index(starts[i], n)]], minlength=i.size)
     return ok, parsed, n_air, code
 
 
