@@ -1,9 +1,19 @@
 """AVR cost of the generated C: flash/RAM (avr-size, firmware minus an empty baseline),
 cycles per tx_next and per pack (measured in simavr by pin toggles), and the worst TX edge
-error against the Python quantised schedule, in CPU cycles.
+error against the Python quantised schedule, in CPU cycles. Run buffer transmitter
+(tests/c/avr/tx_buffer.c in the libsimavr harness): RAM of both transmitters as the header
+states it, compare ISR cycles (vector to end of reti) with the C ISR and with
+<PREFIX>_TX_AVR_ISR, and the worst edge error. Receiver: capture ISR cycles
+per edge (worst, mean; libsimavr harness, vector to end of reti), idle ISR, main-loop
+cycles per frame (rx_poll + rx_take between GPIOR1 markers, ISR time removed), flash/RAM
+(tests/c/avr/rx_firmware.c minus its stub-receiver baseline). Cortex-M0+ compile sizes of
+both sides (arm-none-eabi-gcc -mcpu=cortex-m0plus -mthumb -Os, object sections).
 
 Run: python bench/avr_cost.py   (skips with a message when avr-gcc or simavr is missing)
-Ratio: tx_next cycles / the baseline stub's cycles measured the same way in the same run.
+Ratio: tx_next cycles / the baseline stub's cycles measured the same way in the same run;
+run buffer: assembly ISR worst / C ISR worst, same run; receiver: the worst ISR with the
+decoding done inside the ISR (rx_poll called there, the way a receiver without the edge
+FIFO works) / the worst ISR with the FIFO, same run.
 """
 
 from __future__ import annotations
@@ -19,9 +29,20 @@ ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
 from ookframe.codegen import TimerTarget, emit_header  # noqa: E402
+from ookframe.codegen.toolchains import (  # noqa: E402
+    CORTEX_M0PLUS_FLAGS,
+    STRICT_FLAGS,
+    compile_c,
+    find_tool,
+    section_sizes,
+)
 from ookframe.demo import example_names, example_text  # noqa: E402
+from ookframe.frame import encode, random_values, raw_values  # noqa: E402
 from ookframe.spec_io import spec_and_defaults_from_dict  # noqa: E402
-from tests.c import avr_run  # noqa: E402
+from tests.c import avr_run, avr_rx  # noqa: E402
+
+#: transmissions of random values per example in the receiver run (numpy PCG64, seed 0)
+RX_TRANSMISSIONS = 3
 
 
 def main() -> int:
@@ -52,7 +73,114 @@ def main() -> int:
                   f"{err_cycles:>13.0f}")
     print("flash/RAM: frame code and its buffers (frame bytes + tx state); cycles include the "
           "2-cycle pin write closing each measurement")
+    if not avr_run.HARNESS_MISSING:
+        _run_buffer_rows()
+        _receiver_rows()
+    _cortex_m0plus_rows()
     return 0
+
+
+def _run_buffer_rows() -> None:
+    """Print the run buffer transmitter's RAM, ISR cycles and edge error per example."""
+    print("\nrun buffer transmitter, compare ISR cycles from vector to end of reti (C / asm)")
+    print(f"{'spec':<22}{'buf RAM':>8}{'stream RAM':>11}{'C max':>7}{'C mean':>8}"
+          f"{'asm max':>8}{'asm mean':>9}{'ratio':>7}{'edge err cyc':>13}")
+    for name in example_names():
+        spec, values = _example(name)
+        emitted = emit_header(spec, TimerTarget(tx_mode="buffer"))
+        with tempfile.TemporaryDirectory() as d:
+            c_max, c_mean, c_err = _txbuf_isr(emitted, values, Path(d), asm=False)
+            a_max, a_mean, a_err = _txbuf_isr(emitted, values, Path(d), asm=True)
+        buf = emitted.model.txbuf
+        assert buf is not None
+        print(f"{spec.name:<22}{buf['ram']['avr']:>8}{emitted.model.stream_ram['avr']:>11}"
+              f"{c_max:>7}{c_mean:>8.1f}{a_max:>8}{a_mean:>9.1f}{a_max / c_max:>7.2f}"
+              f"{max(c_err, a_err):>13}")
+    print("RAM in bytes on AVR as the header states it (struct <prefix>_txbuf; struct <prefix>_tx "
+          "+ frame bytes)")
+
+
+def _txbuf_isr(emitted, values, directory: Path, *, asm: bool) -> tuple[int, float, int]:
+    """(worst, mean) compare ISR cycles and the worst edge error in cycles of the run buffer
+    firmware, with the C ISR or the header's assembly one."""
+    run, changes = avr_run.run_tx_buffer(emitted, values, directory, asm=asm)
+    err = int(np.abs(avr_run.edge_errors_cycles(emitted, values, changes)).max())
+    cycles = run.isr_cycles[avr_run.TIMER1_COMPA_VECTOR]
+    return int(cycles.max()), float(cycles.mean()), err
+
+
+def _example(name: str):
+    return spec_and_defaults_from_dict(tomllib.loads(example_text(name)))
+
+
+def _receiver_rows() -> None:
+    """Print the receiver's AVR figures per example (see the module docstring)."""
+    print(f"\nreceiver, ATmega328P @ 8 MHz: {RX_TRANSMISSIONS} transmissions of random values "
+          "per example (seed 0), ICP1 driven at exact cycles")
+    print(f"{'spec':<18}{'frames':>8}{'ISR max':>8}{'mean':>7}{'idle ISR':>9}"
+          f"{'main cyc/frame':>15}{'CPU %':>6}{'take cyc':>9}{'flash':>7}{'RAM':>5}"
+          f"{'in-ISR max':>11}{'frames':>7}{'ratio':>7}{'stub ISR':>9}")
+    for name in example_names():
+        spec, defaults = _example(name)
+        emitted = emit_header(spec, side="rx")
+        rng = np.random.default_rng(0)
+        want, trains = [], []
+        for _ in range(RX_TRANSMISSIONS):
+            values = random_values(spec, rng)
+            t = encode(spec, values)
+            trains.append((t.levels, t.durations_us))
+            want += [raw_values(spec, values)] * spec.repeats
+        with tempfile.TemporaryDirectory() as d:
+            fifo = avr_rx.run_receiver(emitted, defaults, trains, Path(d))
+            in_isr = avr_rx.run_receiver(emitted, defaults, trains, Path(d), in_isr=True)
+            stub = avr_rx.run_receiver(emitted, defaults, trains, Path(d), baseline=True)
+            flash, ram = avr_rx.receiver_sizes(emitted, defaults, Path(d))
+        ok = sum(a == b for a, b in zip(fifo.frames, want, strict=False))
+        ok_isr = sum(a == b for a, b in zip(in_isr.frames, want, strict=False))
+        per_frame = fifo.main_cycles_total / max(1, len(fifo.frames))
+        air_cycles = sum(float(np.sum(du)) for _, du in trains) * emitted.timing.clock_hz / 1e6
+        load_pct = 100 * fifo.main_cycles_total / air_cycles
+        worst = int(fifo.capt_cycles.max())
+        worst_isr = int(max(in_isr.capt_cycles.max(), in_isr.idle_cycles.max()))
+        print(f"{spec.name:<18}{f'{ok}/{len(want)}':>8}{worst:>8}{fifo.capt_cycles.mean():>7.1f}"
+              f"{int(fifo.idle_cycles.max()):>9}{per_frame:>15.0f}{load_pct:>6.0f}"
+              f"{fifo.take_cycles.mean():>9.0f}"
+              f"{flash:>7}{ram:>5}{worst_isr:>11}{f'{ok_isr}/{len(want)}':>7}"
+              f"{worst_isr / worst:>7.1f}{int(stub.capt_cycles.max()):>9}")
+    print("ISR: capture ISR, vector to end of reti (target <= 150 cycles); in-ISR: the same "
+          "firmware decoding in the ISR (edges it misses lose frames); stub ISR: the same "
+          "capture ISR around a stub receiver; main cyc/frame: rx_poll "
+          "+ rx_take per frame; CPU %: main-loop cycles / air time of the trains; flash/RAM: "
+          "receiver code, tables, state, queue and edge FIFO (unused sections dropped)")
+
+
+def _cortex_m0plus_rows() -> None:
+    """Print Cortex-M0+ object sizes of the transmitter and the receiver per example."""
+    gcc, size = find_tool("arm-none-eabi-gcc"), find_tool("arm-none-eabi-size")
+    if gcc is None or size is None:
+        print("\nCortex-M0+: skipped (arm-none-eabi-gcc / arm-none-eabi-size missing)")
+        return
+    print("\nCortex-M0+ (arm-none-eabi-gcc -mcpu=cortex-m0plus -mthumb -Os, compile only); "
+          "bytes, flash = .text + .rodata + .data, RAM = .data + .bss")
+    print(f"{'spec':<18}{'tx flash':>9}{'tx RAM':>7}{'rx flash':>9}{'rx RAM':>7}")
+    for name in example_names():
+        spec, _ = _example(name)
+        row = []
+        with tempfile.TemporaryDirectory() as d:
+            for side in ("tx", "rx"):
+                e = emit_header(spec, side=side)
+                (Path(d) / e.filename).write_text(e.text)
+                src = Path(d) / f"{side}.c"
+                src.write_text(f'#define {e.model.PREFIX}_IMPLEMENTATION\n#include "{e.filename}"\n')
+                obj = compile_c(gcc, [src], Path(d) / f"{side}.o",
+                                flags=[*STRICT_FLAGS, *CORTEX_M0PLUS_FLAGS], include_dirs=[d])
+                sec = section_sizes(size, obj)
+                flash = sum(v for k, v in sec.items() if k.startswith((".text", ".rodata", ".data")))
+                ram = sum(v for k, v in sec.items() if k.startswith((".data", ".bss")))
+                row.append((flash, ram))
+        (tf, tr), (rf, rr) = row
+        print(f"{spec.name:<18}{tf:>9}{tr:>7}{rf - tf:>9}{rr - tr:>7}")
+    print("rx: the rx header's object minus the tx header's (the rx header holds both sides)")
 
 
 def _baseline_stub_cycles(emitted, values, directory: Path) -> float:

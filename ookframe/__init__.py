@@ -27,6 +27,8 @@ _LAZY: dict[str, tuple[str, str]] = {
     "iter_sliced": (".frontend", "iter_sliced"),
     "slice_capture": (".frontend", "slice_capture"),
     "slice_samples": (".frontend", "slice_samples"),
+    "SliceTrace": (".frontend", "SliceTrace"),
+    "trace_capture": (".frontend", "trace_capture"),
     "PRESETS": (".channel", "PRESETS"),
     "ChannelSpec": (".channel", "ChannelSpec"),
     "apply_channel": (".channel", "apply_channel"),

@@ -1,4 +1,5 @@
-"""Figures of a frame design (matplotlib, Agg): timing diagram and baseband PSD as PNG bytes.
+"""Figures of a frame design (matplotlib, Agg): timing diagram and baseband PSD as PNG bytes;
+and a sampled capture through the front end (samples, envelope, thresholds, pulses).
 
 Figures are built with the object-oriented API (``matplotlib.figure.Figure``), so no global
 pyplot state or interactive backend is touched.
@@ -127,6 +128,66 @@ def psd_figure(spec: FrameSpec, rng: np.random.Generator) -> Figure:
                  "ideal rectangular keying", fontsize=10)
     ax.grid(True, alpha=0.3)
     return fig
+
+
+#: points drawn per line at most; longer lines are drawn as the minimum and maximum of each
+#: of half as many buckets (every spike stays visible)
+MAX_LINE_POINTS = 20_000
+
+
+def _drawn(t: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Return (t, y) as drawn: the line itself, or its min and max per bucket when long."""
+    if y.size <= MAX_LINE_POINTS:
+        return t, y
+    starts = np.arange(0, y.size, -(-y.size // (MAX_LINE_POINTS // 2)))
+    lo_hi = np.stack((np.minimum.reduceat(y, starts), np.maximum.reduceat(y, starts)),
+                     axis=1).ravel()
+    return np.repeat(t[starts], 2), lo_hi
+
+
+def capture_figure(trace, title: str) -> Figure:
+    """Return a two-panel figure of a ``SliceTrace`` against ms from the capture start: top,
+    the samples (their magnitude for I/Q), the smoothed envelope, the high and low
+    thresholds and the tracked carrier and floor; bottom, the sliced pulses."""
+    fig = Figure(figsize=(11, 6), layout="constrained")
+    top, bottom = fig.subplots(2, 1, sharex=True, height_ratios=(3, 1))
+    ms = 1e3
+    label = "|I + jQ|" if trace.is_complex else "samples"
+    top.plot(*_scaled(_drawn(trace.sample_time_s, trace.samples), ms), color="0.7",
+             linewidth=0.6, label=label)
+    t_env = trace.envelope_time_s
+    for name, y, style in (
+            ("envelope", trace.envelope, {"color": "tab:blue", "linewidth": 1.0}),
+            ("threshold high", trace.high, {"color": "tab:red", "linewidth": 0.9}),
+            ("threshold low", trace.low, {"color": "tab:orange", "linewidth": 0.9}),
+            ("carrier", trace.carrier, {"color": "tab:green", "linewidth": 0.7,
+                                        "linestyle": ":"}),
+            ("floor", trace.floor, {"color": "tab:purple", "linewidth": 0.7,
+                                    "linestyle": ":"})):
+        if not np.isfinite(y).any():
+            continue  # fixed thresholds track no levels; all squelched has no threshold
+        y = np.where(np.isfinite(y), y, np.nan)  # squelched (+inf): a gap in the line
+        top.plot(*_scaled(_drawn(t_env, y), ms), label=name, **style)
+    top.set_ylabel("full scale 1.0")
+    top.legend(loc="upper right", fontsize=8, ncols=3)
+    top.grid(True, alpha=0.3)
+    top.set_title(title, fontsize=10)
+    p = trace.pulses
+    edges_us = trace.pulses_start_us + np.concatenate(([0.0], np.cumsum(p.durations_us)))
+    if len(p):
+        lv = np.append(p.levels, p.levels[-1]).astype(float)
+        bottom.step(edges_us / 1e3, lv, where="post", color="black", linewidth=1.0,
+                    label="sliced pulses")
+    bottom.set_xlim(trace.start_s * ms, trace.stop_s * ms)
+    bottom.set_ylim(-0.15, 1.15)
+    bottom.set_yticks([0, 1], ["space", "mark"])
+    bottom.set_xlabel("time from the capture start (ms)")
+    bottom.set_title(f"sliced pulses: {len(p)} in the window", fontsize=9)
+    return fig
+
+
+def _scaled(tv: tuple[np.ndarray, np.ndarray], factor: float) -> tuple[np.ndarray, np.ndarray]:
+    return tv[0] * factor, tv[1]
 
 
 def figure_png(fig: Figure, dpi: int = 110) -> bytes:

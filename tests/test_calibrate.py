@@ -45,6 +45,11 @@ def test_one_capture_recovers_every_parameter():
         assert e is not None and e.n > 0, name
         assert e.contains(getattr(TRUE, name)), (name, e.value, e.ci95)
     assert cal.estimate("jitter_kind").value == "gauss"
+    # the pulse-level model biases every mark alike: the preamble's marks (left out of the
+    # fits as a receiver's settling time) show the same bias
+    assert cal.estimate("settling_mark_bias_us").contains(TRUE.mark_bias_us)
+    assert calibrate(spec, train, settle_us=0).estimate("mark_bias_us").contains(
+        TRUE.mark_bias_us)
     assert abs(cal.channel.idle_quiet_us - 3000) < 100
     assert cal.estimate("glitch_rate_per_ms").ci95[1] > 0
 
@@ -93,3 +98,50 @@ def test_capture_without_frames_is_a_clear_error(tmp_path, capsys):
         dropout_prob=1.0), np.random.default_rng(0)))
     assert main(["calibrate", HIVE, str(cap)]) == 4
     assert "nothing to calibrate" in capsys.readouterr().err
+
+
+def test_no_glitch_seen_turns_glitches_off(tmp_path, capsys):
+    """A capture with no glitches writes glitches off (rate 0, no made-up width), with a
+    warning naming why in the file and on stderr; the width is not listed as unknown."""
+    spec, train = capture(ChannelSpec(jitter_us=3.0), 6, 2)
+    cal = calibrate(spec, train)
+    assert cal.channel.glitch_rate_per_ms == 0 and cal.channel.glitch_width_us == 0
+    assert "glitch_width_us" not in dict(cal.unknown)
+    (warning,) = [w for w in cal.warnings if "glitches are off" in w]
+    assert "no glitch seen" in warning and "per ms at 95 %" in warning
+    cap = tmp_path / "cap.csv"
+    write_capture(cap, train)
+    link = tmp_path / "link.toml"
+    assert main(["calibrate", HIVE, str(cap), "-o", str(link)]) == 0
+    assert "warning: glitches are off" in capsys.readouterr().err
+    text = link.read_text()
+    assert "# WARNING: glitches are off" in text and "glitch_width_us = 0.0  # model default" \
+        in text
+    got = load_link(link)
+    assert got.channel.glitch_rate_per_ms == 0 and got.warnings == cal.warnings
+
+
+def test_glitches_without_a_width_are_turned_off():
+    """Unmatched toggles counted as glitches but none with both edges (no width): glitches
+    are off rather than on with a guessed width; the warning says so, the rate estimate
+    stays with a note, and the channel file marks its value as not the measured one."""
+    from types import SimpleNamespace
+
+    from ookframe.analysis import calibrate as cal_module
+    from ookframe.analysis import link_estimates as est
+    from ookframe.channel.linkfile import Estimate, LinkFile, link_to_toml
+
+    out = cal_module._Collect()
+    out.add(Estimate("jitter_us", 3.0, (2.9, 3.1), "chi-square", 900, "edges", "us"))
+    out.add(est.rate_per_ms("glitch_rate_per_ms", 1, 4000.0, "ms of frames"))
+    out.add(est.Blind("glitch_width_us", "one unmatched toggle: no width"))
+    channel = cal_module._channel(out, SimpleNamespace(shape=None))
+    assert channel.glitch_rate_per_ms == 0 and channel.glitch_width_us == 0
+    assert channel.jitter_us == 3.0
+    (warning,) = out.warnings
+    assert "glitches are off" in warning and "no width could be measured" in warning
+    rate = next(e for e in out.estimates if e.name == "glitch_rate_per_ms")
+    assert rate.value == 0.25 and "not used" in rate.note
+    text = link_to_toml(LinkFile(channel, tuple(out.estimates), tuple(out.unknown),
+                                 tuple(out.warnings)))
+    assert "glitch_rate_per_ms = 0.0  # not the measured value" in text

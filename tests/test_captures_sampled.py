@@ -118,6 +118,42 @@ def test_raw_files_written_by_numpy(tmp_path, fmt, sample_type, dtype, offset, s
     assert np.array_equal(np.fromfile(out, dtype=dtype), raw)
 
 
+@pytest.mark.parametrize("sample_type,dtype,offset,scale", [
+    ("u8", np.uint8, 127.5, 127.5), ("s8", np.int8, 0.0, 128.0), ("s16", "<i2", 0.0, 32768.0)])
+def test_every_integer_code_reads_exactly(tmp_path, sample_type, dtype, offset, scale):
+    """Every code of an integer raw type reads as float32 arithmetic gives it, (float32(raw) - offset) * float32(1 / scale), and within
+    two float32 roundings (2^-23 relative) of (raw - offset) / scale in float64; I/Q pairs
+    the same."""
+    info = np.iinfo(np.dtype(dtype))
+    raw = np.arange(info.min, info.max + 1).astype(dtype)
+    raw.tofile(tmp_path / "c.raw")
+    raw.tofile(tmp_path / "c.iq")
+    want = (raw.astype(np.float32) - np.float32(offset)) * np.float32(1.0 / scale)
+    got, _ = read_samples(tmp_path / "c.raw", sample_rate_hz=1e6, sample_type=sample_type)
+    assert got.dtype == np.float32 and np.array_equal(got, want)
+    exact = (raw.astype(np.float64) - offset) / scale
+    assert np.all(np.abs(got - exact) <= 2.0**-23 * np.abs(exact))
+    iq, _ = read_samples(tmp_path / "c.iq", sample_rate_hz=1e6, sample_type=sample_type)
+    assert np.array_equal(iq.real, want[0::2]) and np.array_equal(iq.imag, want[1::2])
+
+
+def test_pcm16_wav_reads_as_libsndfile_floats(tmp_path):
+    """A 16-bit WAV holding every code reads exactly as soundfile.read(dtype="float32")
+    gives it (libsndfile's own conversion, value / 32768), each channel and as I/Q."""
+    import soundfile as sf
+
+    codes = np.arange(-32768, 32768, dtype=np.int16)
+    pairs = np.stack((codes, codes[::-1]), axis=1)
+    path = tmp_path / "c.wav"
+    sf.write(path, pairs, 48000, subtype="PCM_16")
+    ref = sf.read(path, dtype="float32", always_2d=True)[0]
+    for ch in (0, 1):
+        got, _ = read_samples(path, channel=ch)
+        assert got.dtype == np.float32 and np.array_equal(got, ref[:, ch])
+    iq, _ = read_samples(path, channel="iq")
+    assert np.array_equal(iq.real, ref[:, 0]) and np.array_equal(iq.imag, ref[:, 1])
+
+
 def test_sample_type_from_name(tmp_path):
     """A name like capture.s16.iq gives the sample type; the option overrides it."""
     path = tmp_path / "gate.s16.iq"

@@ -32,6 +32,7 @@ from ookframe.channel.physical import (
     idle_output_mean,
     noise_floor_dbm,
     path_loss_db,
+    physical_time_map_us,
     pin_samples,
     quench_output,
     receive_carriers,
@@ -151,6 +152,48 @@ def test_envelope_rises_and_rings_down_exponentially() -> None:
     assert got[14] == pytest.approx(1 - math.exp(-1.0))  # one start-up time constant
     assert got[112] == pytest.approx(math.exp(-1.0), rel=1e-6)  # one ring-down constant
     assert got[163] < 1 - math.exp(-3 / 4.0) + 1e-9  # the 3 µs mark never reaches full
+
+
+def test_transmitter_clock_scales_the_keyed_train() -> None:
+    """An MCU clock off by E ppm sends every duration 1 + E 1e-6 times too long; a drift D
+    ppm/s from each transmission start gives durations (1 + E 1e-6)(1 + D 1e-6 u) at u
+    seconds in (integrated: the pulse-level channel's clock map, tx_time_map_us)."""
+    train = PulseTrain(np.array([1, 0, 1, 0], np.uint8), np.array([500.0, 500.0, 1e6, 500.0]))
+    fast = Transmitter(clock_ppm=-250.0).keyed(train)
+    np.testing.assert_allclose(fast.durations_us, train.durations_us * (1 - 250e-6))
+    np.testing.assert_array_equal(fast.levels, train.levels)
+    assert Transmitter().keyed(train) is train
+    tx = Transmitter(clock_ppm=100.0, drift_ppm_per_s=1000.0)
+    ends = np.cumsum(tx.keyed(train, burst_starts_us=np.array([0.0, 1000.0])).durations_us)
+    k = 1 + 100e-6
+    u = 1e6 / 1e6  # the third pulse lasts 1 s from the second transmission's start
+    assert ends[2] - ends[1] == pytest.approx(k * 1e6 * (1 + 1000e-6 * u / 2), rel=1e-12)
+    assert ends[1] == pytest.approx(k * 1000.0 * (1 + 1000e-6 * 1e-3 / 2), rel=1e-12)
+    for bad in ({"clock_ppm": 6e4}, {"drift_ppm_per_s": -5e4}, {"clock_ppm": math.nan}):
+        with pytest.raises(ValueRangeError):
+            Transmitter(**bad)
+
+
+def test_clock_error_moves_the_receivers_edges() -> None:
+    """Through the whole link (strong signal) the decoded frames follow the clock: the
+    time from the first frame's start to the last one's scales by 1 + E 1e-6 (6.4 ms
+    longer here, found within 15 µs: a few edge-jitter sigmas of the decoder's fitted
+    frame starts), the chip by the same; the stress runner's map says so too."""
+    spec = _spec()
+    b = random_batch(of.compile_plan(spec), 2, np.random.default_rng(3))
+    spans, units = {}, {}
+    for ppm in (0.0, 20000.0):
+        ch = PhysicalChannel(Transmitter(clock_ppm=ppm), distance_m=None, rx_power_dbm=-60.0)
+        pin = apply_physical(b.train, ch, np.random.default_rng(4))
+        assert pin.total_us == pytest.approx(b.train.total_us * (1 + ppm * 1e-6))
+        frames = [f for f in of.decode_frames(spec, pin) if f.crc_ok]
+        assert len(frames) == 6  # two transmissions of three repeats
+        spans[ppm] = frames[-1].start_us - frames[0].start_us
+        units[ppm] = np.mean([f.unit_us for f in frames])
+        mapped = physical_time_map_us(b.starts_us, ch, b.starts_us)
+        np.testing.assert_allclose(mapped, b.starts_us * (1 + ppm * 1e-6))
+    assert spans[20000.0] == pytest.approx(spans[0.0] * 1.02, abs=15.0)
+    assert units[20000.0] / units[0.0] == pytest.approx(1.02, abs=2e-3)
 
 
 def test_two_carriers_add_their_powers() -> None:

@@ -55,3 +55,46 @@ def test_emit_refusals_leave_nothing_behind(capsys, tmp_path):
     assert not out_dir.exists()
     code, _, err = run(capsys, "emit", HIVE, "-o", str(out_dir), "--prescalers", "1,x")
     assert code == exitcodes.USAGE and "comma-separated" in err
+
+
+def test_emit_tx_mode_and_ram_of_both_transmitters(capsys, tmp_path):
+    """--tx-mode stream leaves the run buffer out, buffer and auto put it in; --json gives
+    the RAM of both transmitters either way (the figures are held to sizeof by
+    tests/test_codegen_avr_txbuf.py), the text report prints them on one line."""
+    reports = {}
+    for mode in ("auto", "buffer", "stream"):
+        code, out, _ = run(capsys, "emit", HIVE, "-o", str(tmp_path / mode), "--tx-mode", mode,
+                           "--json")
+        assert code == 0
+        reports[mode] = json.loads(out)
+        header = (tmp_path / mode / "hive_scale.h").read_text()
+        assert ("bool hive_scale_tx_start(" in header) == (mode != "stream")
+        assert reports[mode]["tx_mode"] == mode
+        assert reports[mode]["streaming"]["ram_bytes"]["avr"] > 0
+    assert reports["auto"]["run_buffer"] == reports["buffer"]["run_buffer"]
+    buf = reports["buffer"]["run_buffer"]
+    assert buf["ram_bytes"]["avr"] > reports["buffer"]["streaming"]["ram_bytes"]["avr"]
+    assert buf["avr_isr_cycles"]["worst"] <= 50
+    assert reports["stream"]["run_buffer"] is None
+    assert reports["stream"]["run_buffer_refusal"] is None
+    code, out, _ = run(capsys, "emit", HIVE, "-o", str(tmp_path / "text"))
+    assert code == 0 and f"run buffer RAM {buf['ram_bytes']['avr']} B" in out
+
+
+def test_emit_tx_mode_buffer_refused_when_the_gap_needs_several_periods(capsys, tmp_path):
+    """A 9 s gap is longer than one 16-bit timer period at any prescaler (70,312.5 ticks of
+    128 µs at 8 MHz / 1024; arithmetic): auto falls back to streaming and says why; buffer
+    is refused with that reason, exit CODEGEN, nothing written."""
+    spec = tmp_path / "long.toml"
+    spec.write_text((EXAMPLES / "hive_scale.toml").read_text().replace("gap_us = 8000",
+                                                                     "gap_us = 9000000"))
+    code, out, _ = run(capsys, "emit", str(spec), "-o", str(tmp_path / "auto"), "--json")
+    report = json.loads(out)
+    assert code == 0 and report["run_buffer"] is None
+    assert "repeat gap" in report["run_buffer_refusal"]
+    code, _, err = run(capsys, "emit", str(spec), "-o", str(tmp_path / "buf"), "--tx-mode",
+                       "buffer")
+    assert code == exitcodes.CODEGEN and "--tx-mode buffer" in err and "repeat gap" in err
+    assert "Traceback" not in err and not (tmp_path / "buf").exists()
+    code, _, err = run(capsys, "emit", HIVE, "-o", str(tmp_path / "x"), "--tx-mode", "ring")
+    assert code == exitcodes.USAGE and "--tx-mode" in err

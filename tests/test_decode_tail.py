@@ -14,7 +14,7 @@ import pytest
 
 from ookframe import frame
 from ookframe.decode.framer import decode
-from ookframe.decode.tail import carrier_end_us
+from ookframe.decode.tail import carrier_end_us, join_spans
 from ookframe.linecodes import LINE_CODES
 from ookframe.pulses import PulseTrain, merge_runs
 from ookframe.spec_io import load_spec, spec_from_dict
@@ -79,3 +79,23 @@ def test_carrier_end_is_the_last_clean_falling_edge():
     levels = np.array([1, 0, 1, 0, 1, 0, 1, 0], np.uint8)
     assert carrier_end_us(edges, levels, 0.0, 100.0, 400.0, 1) == 300.0
     assert carrier_end_us(edges, levels, 0.0, 100.0, None, 1, 0, 10) == 300.0
+
+
+def test_joined_spans_map_back_to_the_train():
+    """Pieces [a, b) of a train laid end to end, each after and before 1000 µs of quiet:
+    each starts exactly at a and ends at the first pulse boundary at or after b, and
+    origin_us maps its times back; a span past the train's end is left out."""
+    train = PulseTrain(np.array([1, 0, 1, 0, 1, 0], np.uint8),
+                       np.array([100.0, 200.0, 300.0, 100.0, 50.0, 250.0]))
+    spans = [(50.0, 300.0), (320.0, 330.0), (600.0, 650.0), (1200.0, 1300.0)]
+    cuts = join_spans(train, spans, 1000.0)
+    assert cuts.frame.tolist() == [0, 1, 2]
+    assert cuts.train.levels.tolist() == [0, 1, 0, 0, 0, 1, 0, 0, 0, 0]
+    assert cuts.train.durations_us.tolist() == [1000.0, 50.0, 200.0, 1000.0,
+                                                1000.0, 280.0, 1000.0,
+                                                1000.0, 100.0, 1000.0]
+    assert cuts.start_us.tolist() == [1000.0, 3250.0, 5530.0]
+    t = np.concatenate(([0.0], np.cumsum(cuts.train.durations_us)))
+    for k, (a_us, b_us) in enumerate([(50.0, 300.0), (320.0, 600.0), (600.0, 700.0)]):
+        assert cuts.start_us[k] + cuts.origin_us[k] == a_us
+        assert np.isin(b_us - cuts.origin_us[k], t)

@@ -29,7 +29,15 @@ from ookframe.frontend import (
     slice_samples,
 )
 from ookframe.frontend import slicer as slicer_module
-from ookframe.frontend.tracker import compare, decay_factor, start_state, track
+from ookframe.frontend.envelope import EnvelopeStage
+from ookframe.frontend.tracker import (
+    _running_max,
+    changes,
+    compare,
+    decay_factor,
+    start_state,
+    track,
+)
 from ookframe.pulses import PulseTrain, merge_runs
 from tests.conftest import example_spec
 from tests.sampled_signals import baseband_capture, iq_capture, keying, tone_capture
@@ -100,6 +108,88 @@ def test_comparator_hysteresis():
     got = compare(e, np.full(e.size, 0.7), np.full(e.size, 0.2), False)
     assert got.tolist() == [False, False, True, True, True, False, False, True, True]
     assert compare(e[1:], np.full(8, 0.7), np.full(8, 0.2), True).tolist()[:4] == [True] * 4
+
+
+@settings(max_examples=60, deadline=None)
+@given(seed=st.integers(0, 2**32 - 1), n=st.integers(1, 3000), ramp=st.floats(0.0, 0.01))
+def test_running_max_equals_accumulate(seed, n, ramp):
+    """The chunked running maximum is np.maximum.accumulate exactly (numpy 2.x), on noise
+    with a rising trend (many chunks with a new maximum) or none (few); with a scale row
+    it is that times the scale, also exactly."""
+    rng = np.random.default_rng(seed)
+    v = rng.standard_normal(n) + ramp * np.arange(n)
+    got = v.copy()
+    _running_max(got)
+    assert np.array_equal(got, np.maximum.accumulate(v))
+    scale = rng.uniform(0.5, 1.0, n)
+    got = v.copy()
+    _running_max(got, scale)
+    assert np.array_equal(got, np.maximum.accumulate(v) * scale)
+
+
+@settings(max_examples=60, deadline=None)
+@given(seed=st.integers(0, 2**32 - 1), n=st.integers(1, 600), mark=st.booleans(),
+       squelch=st.booleans())
+def test_changes_are_where_the_comparator_changes(seed, n, mark, squelch):
+    """changes() lists exactly the samples where compare()'s output differs from the sample
+    before (``mark`` before the first), also where squelched samples hold both thresholds
+    at +inf (every sample below: space)."""
+    rng = np.random.default_rng(seed)
+    e = np.cumsum(rng.normal(0, 0.2, n))
+    low = rng.normal(0, 0.5, n)
+    high = low + rng.uniform(0, 0.5, n)
+    if squelch:
+        off = rng.random(n) < 0.3
+        high[off] = low[off] = np.inf
+    marks = compare(e, high, low, mark)
+    want = np.flatnonzero(marks != np.concatenate(([mark], marks[:-1])))
+    assert np.array_equal(changes(e, high, low, mark), want)
+
+
+@pytest.mark.parametrize("cfg", [
+    FrontEndConfig(decay_us=2000.0),
+    FrontEndConfig(decay_us=400.0, attack_us=30.0, min_contrast=0.05),
+    FrontEndConfig(decay_us=2000.0, decimate=3),
+])
+def test_fast_path_equals_per_sample_view(cfg):
+    """The slicer's fast path (changes only, level sums over runs) gives the train and the
+    report that the per-sample view gives: track()'s comparator output (held to the
+    per-sample loop above), its changes with the crossing interpolated linearly between
+    the samples around them, and the level figures over per-sample masks leaving out every
+    sample within the guard of a change."""
+    rng = np.random.default_rng(7)
+    spec, values = GATE
+    rate = 250_000.0
+    x = iq_capture(ookframe.encode(spec, values), rate, 9.0, rng).astype(np.complex64)
+    with mock.patch.object(slicer_module, "BLOCK_SAMPLES", 1 << 30):  # one block
+        got, rep = slice_samples(x, rate, cfg)
+    env = EnvelopeStage(cfg, rate, True)
+    e, _ = env.process(x)
+    out_rate = rate / cfg.decimate
+    t, _ = track(e, start_state(float(e[0]), cfg, out_rate), cfg, out_rate)
+    prev = np.concatenate(([False], t.marks[:-1]))
+    idx = np.flatnonzero(t.marks != prev)
+    thr = np.where(t.marks[idx], t.high[idx], t.low[idx])
+    e_prev = np.where(idx > 0, e[np.maximum(idx - 1, 0)], e[0])
+    frac = np.clip((thr - e_prev) / (e[idx] - e_prev), 1e-6, 1.0)
+    bounds = np.concatenate(([0.0], idx - 1 + frac, [e.size]))
+    if idx.size and idx[0] == 0:  # the capture starts in a mark
+        bounds = np.delete(bounds, 1)
+    us = 1e6 / out_rate
+    assert np.array_equal(got.levels[1:], t.marks[idx].astype(np.uint8))
+    np.testing.assert_allclose(got.durations_us, np.diff(bounds) * us, rtol=0, atol=1e-9)
+    guard = max(1, int(np.ceil(1.5 * env.smoothing.rise_us / us)))
+    near = np.zeros(e.size, bool)
+    for i in idx:
+        near[max(i - guard, 0):i + guard + 1] = True
+    for level, name in ((0, "floor"), (1, "carrier")):
+        v = e[(t.marks == bool(level)) & ~near]
+        np.testing.assert_allclose(getattr(rep, f"{name}_level"), v.mean(), rtol=1e-12)
+        np.testing.assert_allclose(getattr(rep, f"{name}_rms"), v.std(), rtol=1e-9)
+    ok = ~t.squelched
+    assert rep.squelched_fraction == t.squelched.mean()
+    np.testing.assert_allclose(rep.threshold_high_mean, t.high[ok].mean(), rtol=1e-12)
+    assert rep.threshold_low_min == t.low[ok].min() and rep.threshold_high_max == t.high[ok].max()
 
 
 # --------------------------------------------------------------------------- streaming

@@ -84,3 +84,23 @@ def test_render_writes_captures_the_decoder_reads(capsys, tmp_path):
     assert main(["render", TANK, "-o", str(wav), "--rx-power-dbm", "-95"]) != 0  # exists
     assert main(["render", TANK, "-o", str(tmp_path / "x.png")]) != 0
     assert "Traceback" not in capsys.readouterr().err
+
+
+def test_clock_options_reach_the_transmitter(capsys):
+    from ookframe.cli.main import build_parser
+    from ookframe.cli.physical_options import FIELDS, physical_from_args
+
+    args = build_parser()[0].parse_args(["stress", TANK, "--channel", "physical",
+                                      "--clock-ppm", "-1500", "--drift-ppm-per-s", "30",
+                                      "--startup-tau-us", "6", "--quench-hz", "500000"])
+    ch = physical_from_args(args)
+    assert (ch.tx.clock_ppm, ch.tx.drift_ppm_per_s, ch.tx.startup_tau_us) == (-1500, 30, 6)
+    assert ch.rx.quench_hz == 500000
+    parts = {"tx": ch.tx, "path": ch.path, "rx": ch.rx}
+    for part, name in FIELDS.values():  # every table row names a real field
+        assert hasattr(parts[part], name), (part, name)
+    d = run_json(capsys, "stress", TANK, "--channel", "physical", "--rx-power-dbm", "-80",
+                 "--clock-ppm", "3000", "--frames", "30", "--workers", "1", "--json")
+    assert d["channel"]["tx"]["clock_ppm"] == 3000 and d["per"] < 0.2
+    assert main(["stress", TANK, "--channel", "physical", "--clock-ppm", "60000"]) != 0
+    assert "Traceback" not in capsys.readouterr().err

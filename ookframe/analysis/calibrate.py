@@ -6,7 +6,8 @@ matches its ideal edges with the captured ones and fits each frame
 interval and the number of edges, pulses or frames it rests on (:mod:`.link_estimates`):
 
 * mark bias: mean error of the mark lengths (captured - fitted ideal; positive = marks
-  longer, as ``ChannelSpec.mark_bias_us``);
+  longer, as ``ChannelSpec.mark_bias_us``), after the settling time (default the
+  preamble, where a receiver's slicer settles; its marks' bias is reported apart);
 * edge jitter: residual scatter of the fitted edges, its shape (Gaussian or uniform);
 * clock error and drift: the frames' clock scales (with repeats: a line through the
   frames of whole transmissions against the time since the transmission began; else the
@@ -31,7 +32,7 @@ from .._require import require_int, require_spec, require_train
 from ..channel.linkfile import Estimate, LinkFile
 from ..channel.model import ChannelSpec
 from ..decode import decode
-from ..errors import CaptureError
+from ..errors import CaptureError, ValueRangeError
 from ..plan import compile_plan
 from ..pulses import PulseTrain, merge_runs
 from ..spec.model import FrameSpec
@@ -79,14 +80,22 @@ class Calibration:
                 "counts": dict(self.counts)}
 
 
-def calibrate(spec: FrameSpec, train: PulseTrain, *, seed: int = 0) -> Calibration:
+def calibrate(spec: FrameSpec, train: PulseTrain, *, seed: int = 0,
+              settle_us: float | None = None) -> Calibration:
     """Return the link's impairments measured from ``train``, a capture holding frames of
-    ``spec``; ``seed`` seeds the bootstrap intervals. ``CaptureError`` when no frame with a
-    passing check is found (nothing to measure against)."""
+    ``spec``; ``seed`` seeds the bootstrap intervals. ``settle_us``: the ideal time from
+    each frame's start whose edges are matched but left out of the fits and the figures
+    (default: the preamble, over which a receiver's data slicer settles; 0: every edge).
+    ``CaptureError`` when no frame with a passing check is found (nothing to measure
+    against)."""
     require_spec(spec, "spec")
     require_train(train, "train")
     require_int(seed, "seed")
     plan = compile_plan(spec)
+    if settle_us is None:
+        settle_us = preamble_us(plan)
+    elif not (isinstance(settle_us, int | float) and 0 <= settle_us < 1e12):
+        raise ValueRangeError(f"settle_us: must be a number >= 0, got {settle_us!r}")
     rng = np.random.default_rng(seed)
     frames = decode(spec, train, include_bad=True)
     good = [f for f in frames if f.crc_ok]
@@ -97,7 +106,7 @@ def calibrate(spec: FrameSpec, train: PulseTrain, *, seed: int = 0) -> Calibrati
             "their check): nothing to calibrate against; check the spec and the capture")
     cap = CaptureEdges.of(train)
     fits = fit_frames(plan, cap, [f.fields for f in good], np.array([f.start_us for f in good]),
-                      np.array([f.unit_us for f in good]))
+                      np.array([f.unit_us for f in good]), settle_us=settle_us)
     n_ok = int(fits.ok.sum())
     if n_ok == 0:
         raise CaptureError(f"{len(good)} frame(s) decoded but none had {12} edges matching "
@@ -118,6 +127,7 @@ def calibrate(spec: FrameSpec, train: PulseTrain, *, seed: int = 0) -> Calibrati
 
     out.add(est.mean_t("mark_bias_us", _mark_errors(fits, cap), "marks", "us",
                        "captured mark length - fitted ideal length"))
+    out.add(_settling_bias(fits, cap, settle_us))
     quant = est.quantisation(_equal_pulse_diffs(fits, cap, plan.unit_us), resolution,
                              fits.sigma_us)
     out.add(quant)
@@ -143,8 +153,15 @@ def calibrate(spec: FrameSpec, train: PulseTrain, *, seed: int = 0) -> Calibrati
               ("edges_outliers", fits.outliers),
               ("ideal_edges_unmatched", int(np.sum((fits.match < 0) & fits.ok[fits.ideal.frame]))),
               ("capture_ms", round(merged.total_us / 1000.0, 6)),
+              ("settle_us", round(float(settle_us), 6)),
               ("capture_resolution_us", resolution))
     return Calibration(channel, tuple(out.estimates), tuple(out.unknown), tuple(warn), counts)
+
+
+def preamble_us(plan) -> float:
+    """Return the ideal duration of the plan's preamble, µs (the slicer's settling time
+    that ``calibrate`` leaves out by default)."""
+    return float(plan.spec.preamble.length_bits * plan.line_code.units_per_bit * plan.unit_us)
 
 
 class _Collect:
@@ -181,14 +198,41 @@ def _channel(out: _Collect, jit: est.JitterFit) -> ChannelSpec:
     values["jitter_us"] = max(values.get("jitter_us", 0.0), 0.0)
     if "quant_step_us" in values and values["quant_step_us"] < 0.01:
         values.pop("quant_step_us")
-    if values.get("glitch_rate_per_ms", 0.0) > 0 and values.get("glitch_width_us", 0.0) <= 0:
-        values["glitch_width_us"] = 1.0
+    if values.get("glitch_width_us", 0.0) <= 0:
+        _glitches_off(out, values)
     if abs(values.get("clock_error_pct", 0.0)) >= 50:
         values.pop("clock_error_pct")
     for k in ("idle_noise_mean_us", "idle_quiet_us", "glitch_width_us", "glitch_rate_per_ms"):
         if k in values and values[k] <= 0:
             values.pop(k)
     return ChannelSpec(**values)
+
+
+def _glitches_off(out: _Collect, values: dict[str, Any]) -> None:
+    """Turn glitches off in ``values`` when no glitch width was measured (the model needs
+    one, and a made-up width would be a guess written as a measurement), saying why in
+    the warnings and in the rate estimate's note; the width leaves the unknowns (it is not
+    a default standing in for a figure the model uses: glitches are off)."""
+    values.pop("glitch_width_us", None)
+    rate_ms = float(values.pop("glitch_rate_per_ms", 0.0))
+    why = dict(out.unknown).get("glitch_width_us", "no glitch width measured")
+    out.unknown = [(k, r) for k, r in out.unknown if k != "glitch_width_us"]
+    i, rate = next(((i, e) for i, e in enumerate(out.estimates)
+                    if e.name == "glitch_rate_per_ms"), (None, None))
+    bound = f"; fewer than {rate.ci95[1]:.3g} per ms at 95 %" if rate and rate.ci95 else ""
+    if rate_ms > 0:
+        reason = (f"{rate.n if rate else 'some'} glitch(es) counted from unmatched toggles "
+                  f"inside frames ({rate_ms:.3g} per ms) but none with both edges, so no "
+                  "width could be measured")
+    else:
+        reason = why + bound
+    out.warnings.append(f"glitches are off in the channel file (glitch_rate_per_ms = 0): "
+                        f"{reason}; stress with this file models no glitches")
+    if rate is not None and i is not None and rate_ms > 0:
+        note = "; ".join(x for x in (rate.note, "not used: glitches are off, no width "
+                                     "measured") if x)
+        out.estimates[i] = Estimate(rate.name, rate.value, rate.ci95, rate.method, rate.n,
+                                    rate.basis, rate.unit, note, rate.tests)
 
 
 # --- per-edge views of the fit ---------------------------------------------------------------
@@ -210,6 +254,24 @@ def _mark_errors(fits: FrameFits, cap: CaptureEdges) -> np.ndarray:
     measured = t[fits.match[i + 1]] - t[fits.match[i]]
     ideal = fits.predict(f, fits.ideal.tau_us[i + 1]) - fits.predict(f, fits.ideal.tau_us[i])
     return measured - ideal
+
+
+def _settling_bias(fits: FrameFits, cap: CaptureEdges, settle_us: float
+                   ) -> Estimate | est.Blind:
+    """Return the mean error of the marks inside the settling time (matched, not fitted;
+    against the frame's fit): how much longer a receiver still settling makes them."""
+    name = "settling_mark_bias_us"
+    if settle_us <= 0:
+        return est.Blind(name, "settle_us is 0: every edge is in the fits")
+    f, m = fits.ideal.frame, fits.match
+    i = np.flatnonzero((m[:-1] >= 0) & (m[1:] >= 0) & (f[:-1] == f[1:]) & fits.ideal.rising[:-1]
+                       & (fits.ideal.tau_us[1:] < settle_us))
+    i = i[fits.ok[f[i]]]
+    measured = cap.t_us[m[i + 1]] - cap.t_us[m[i]]
+    ideal = fits.predict(f[i], fits.ideal.tau_us[i + 1]) - fits.predict(f[i], fits.ideal.tau_us[i])
+    return est.mean_t(name, measured - ideal, "marks", "us",
+                      f"marks in the first {settle_us:g} µs of each frame (the receiver's "
+                      "settling; not in the channel model): compare with mark_bias_us")
 
 
 def _equal_pulse_diffs(fits: FrameFits, cap: CaptureEdges, unit_us: float) -> np.ndarray:
@@ -257,6 +319,17 @@ def _clock(fits: FrameFits, good, repeats: int, gap_us: float, unit_us: float,
     whole = sizes[burst] == repeats
     n_whole = int(np.sum(sizes == repeats))
     sigma2 = fits.sigma_us ** 2
+    if repeats > 2 and n_whole >= 2:
+        nominal = np.zeros(ok.size)
+        for j in range(1, ok.size):
+            if pos[j]:
+                nominal[j] = nominal[j - 1] + n_chips[j - 1] * unit_us + gap_us
+        # one ideal time for every frame, where the fits are surest (their mid-point)
+        ref_us = float(np.median(tau_mid))
+        at_ref = fits.predict(ok, np.full(ok.size, ref_us))
+        by_starts = est.clock_from_starts(at_ref[whole], nominal[whole] + ref_us, burst[whole])
+        if by_starts is not None:
+            return list(by_starts)
     if repeats > 1 and n_whole >= 2 and int(whole.sum()) >= 6:
         first = np.zeros(burst.max() + 1)
         first[burst[pos == 0]] = start[pos == 0]

@@ -174,10 +174,14 @@ def _solve(ideal: IdealEdges, t_cap: np.ndarray, used: np.ndarray, n_frames: int
 
 
 def fit_frames(plan: FramePlan, cap: CaptureEdges, values: list[dict[str, object]],
-               start_us: np.ndarray, unit_us: np.ndarray) -> FrameFits:
+               start_us: np.ndarray, unit_us: np.ndarray, settle_us: float = 0.0
+               ) -> FrameFits:
     """Return the matched edges and fits of the frames with field ``values`` that the
-    decoder found at ``start_us`` with chip ``unit_us`` (capture times)."""
+    decoder found at ``start_us`` with chip ``unit_us`` (capture times). Ideal edges
+    earlier than ``settle_us`` into a frame are matched but left out of the fit (a
+    receiver's slicer settles there)."""
     ideal = IdealEdges.of(plan, values)
+    settled = ideal.tau_us >= settle_us
     n = len(values)
     f = ideal.frame
     scale = np.asarray(unit_us, float) / plan.unit_us
@@ -186,7 +190,7 @@ def fit_frames(plan: FramePlan, cap: CaptureEdges, values: list[dict[str, object
     t_cap = cap.t_us
     for rnd in range(3):  # match, fit, predict with the fit and match again
         match = _nearest_same_polarity(cap, t_pred, ideal.rising, tol)
-        used = _one_to_one(match)
+        used = _one_to_one(match) & settled
         coef, tau_mid, inv, n_used, ok = _solve(ideal, t_cap[match[used]], used, n)
         used &= ok[f]
         if rnd < 2:

@@ -312,6 +312,46 @@ def clock_from_bursts(b_mid: np.ndarray, v_s: np.ndarray, n_bursts: int
                      method + " (slope)", int(b_mid.size), basis, "% per s"))
 
 
+def clock_from_starts(start_us: np.ndarray, nominal_us: np.ndarray, burst: np.ndarray
+                      ) -> tuple[Estimate, Estimate] | None:
+    """Return (clock error %, drift %/s) from the captured times ``start_us`` of one
+    point of each frame of whole transmissions, ``nominal_us`` (µs, ideal) after their
+    transmission ``burst`` (labels) began: least squares ``start = c_burst + k N + q N^2``
+    (one intercept per transmission; the drift d = 2 q / k is the clock's change per µs
+    of the pulse-level model's ``(1 + e)(1 + d u)``), t-intervals with n - bursts - 2
+    degrees of freedom. Receiver delays that repeat from frame to frame (slicer settling
+    over the preamble, fixed patterns such as the sync word) cancel here, where they
+    would bend each frame's own fit. None when the terms cannot be told apart (fewer than
+    3 frames per transmission, or too few degrees of freedom)."""
+    _, b = np.unique(burst, return_inverse=True)
+    n_b = int(b.max()) + 1 if b.size else 0
+    dof = start_us.size - n_b - 2
+    if n_b < 2 or dof < 3:
+        return None
+    x = np.stack((nominal_us / 1e6, (nominal_us / 1e6) ** 2, start_us), axis=1)
+    counts = np.bincount(b, minlength=n_b)
+    means = np.stack([np.bincount(b, x[:, j], n_b) for j in range(3)], axis=1) / counts[:, None]
+    x = x - means[b]  # within each transmission: the intercepts drop out
+    a, y = x[:, :2], x[:, 2]
+    ata = a.T @ a
+    if np.linalg.cond(ata) > 1e12:
+        return None
+    coef = np.linalg.solve(ata, a.T @ y)
+    e = y - a @ coef
+    cov = float(np.sum(e * e)) / dof * np.linalg.inv(ata)
+    t = _t(dof)
+    k, q = float(coef[0]) / 1e6, float(coef[1]) / 1e12  # start in µs per µs and per µs^2
+    hk, hq = t * math.sqrt(cov[0, 0]) / 1e6, t * math.sqrt(cov[1, 1]) / 1e12
+    scale = 100.0 * 2.0 * 1e6 / k  # q -> % per s
+    basis = f"frames in {n_b} whole transmissions"
+    method = ("least-squares fit of the frames' start times against their nominal time "
+              "since the transmission started (one intercept per transmission), t-interval")
+    return (Estimate("clock_error_pct", 100 * (k - 1), (100 * (k - hk - 1), 100 * (k + hk - 1)),
+                     method + " (linear term)", int(start_us.size), basis, "%"),
+            Estimate("drift_pct_per_s", scale * q, (scale * (q - hq), scale * (q + hq)),
+                     method + " (quadratic term)", int(start_us.size), basis, "% per s"))
+
+
 def per_frame(name: str, x: np.ndarray, se: np.ndarray, unit: str, what: str
               ) -> Estimate | Blind:
     """Return the mean of per-frame figures ``x``: a t-interval over frames when there

@@ -266,9 +266,13 @@ def link_to_toml(link: LinkFile, header: tuple[str, ...] = ()) -> str:
         v = getattr(link.channel, f.name)
         e = link.estimate(f.name)
         why = dict(link.unknown).get(f.name)
-        note = f"  # measured, see [estimates.{f.name}]" if e is not None else \
-            ("  # not measured: see [unknown]" if why is not None else
-             ("  # model default" if v == getattr(base, f.name) else ""))
+        if e is not None and e.value != v:
+            note = f"  # not the measured value, see [estimates.{f.name}] and [link] warnings"
+        elif e is not None:
+            note = f"  # measured, see [estimates.{f.name}]"
+        else:
+            note = "  # not measured: see [unknown]" if why is not None else \
+                ("  # model default" if v == getattr(base, f.name) else "")
         lines.append(f"{f.name} = {_toml(v)}{note}")
     for e in link.estimates:
         lines += ["", f"[estimates.{e.name}]", f"value = {_toml(e.value)}"]

@@ -7,8 +7,8 @@ from pathlib import Path
 
 from rich.table import Table
 
-from . import common
-from .cmd_decode import CAPTURE_FORMATS
+from . import common, sampled_options
+from .cmd_decode import CAPTURE_FORMATS, pulse_source
 from .output import check_writable, err, out, print_json, write_atomic
 
 NAME = "calibrate"
@@ -18,29 +18,43 @@ HELP = "measure a link (bias, jitter, clock, quantisation, idle noise, glitches)
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
     common.add_spec_argument(p)
-    p.add_argument("capture", metavar="CAPTURE", help="capture file: .csv, .json or .vcd")
-    p.add_argument("--format", choices=CAPTURE_FORMATS, default=None, dest="capture_format",
+    p.add_argument("capture", metavar="CAPTURE", help="capture file: pulses in .csv, .json "
+                   "or .vcd; samples in .wav, .iq (raw I/Q) or .raw (raw real), sliced by the "
+                   "front end")
+    p.add_argument("--format", choices=CAPTURE_FORMATS + sampled_options.SAMPLED_FORMATS,
+                   default=None, dest="capture_format",
                    help="capture format, overriding the file extension")
     p.add_argument("--signal", metavar="NAME", help="VCD signal to read")
     p.add_argument("--seed", type=common.SEED, default=0,
                    help="seed of the bootstrap intervals (default 0)")
+    p.add_argument("--settle-us", type=common.float_in(0, 1e9), default=None, metavar="T",
+                   help="time into each frame whose edges are left out of the fits, µs (a "
+                   "receiver's slicer settles there; default: the preamble's length)")
     common.add_output_arguments(p)
     common.add_json_argument(p)
+    sampled_options.add_reader_arguments(p)
+    sampled_options.add_frontend_arguments(p)
 
 
 def run(args: argparse.Namespace) -> int:
     from .. import __version__
     from ..analysis.calibrate import calibrate
-    from ..captures import read_capture
     from ..channel.linkfile import link_to_toml
+    from ..pulses import concat
 
     spec, _ = common.load(args)
     if args.output:
         check_writable(args.output, args.force)
-    train = read_capture(args.capture, signal=args.signal, fmt=args.capture_format)
-    cal = calibrate(spec, train, seed=args.seed)
-    source = (("spec", str(args.spec)), ("capture", str(args.capture)),
-              ("tool", f"ookframe {__version__} calibrate"), ("seed", args.seed))
+    chunks, reports = pulse_source(args, spec)
+    train = concat(list(chunks()))
+    cal = calibrate(spec, train, seed=args.seed, settle_us=args.settle_us)
+    source: tuple[tuple[str, str | int | float], ...] = (
+        ("spec", str(args.spec)), ("capture", str(args.capture)),
+        ("tool", f"ookframe {__version__} calibrate"), ("seed", args.seed))
+    if reports:
+        line = sampled_options.report_line(reports[-1])
+        source += (("front_end", line),)
+        err.print(line, markup=False)
     link = cal.link(source)
     header = (f"ookframe channel file: {spec.name} link measured from {Path(args.capture).name}",
               "use it with: ookframe stress SPEC --channel THIS_FILE (also sweep, margin, "

@@ -63,7 +63,7 @@ CHUNK_PULSES = 250_000
 def run(args: argparse.Namespace) -> int:
     from ..decode import decode_stream
     spec, _ = common.load(args)
-    chunks, reports = _pulse_source(args, spec)
+    chunks, reports = pulse_source(args, spec)
     frames = list(decode_stream(spec, chunks(), include_bad=not args.good_only))
     if reports:
         err.print(sampled_options.report_line(reports[-1]), markup=False)
@@ -84,7 +84,7 @@ def run(args: argparse.Namespace) -> int:
     return 0
 
 
-def _pulse_source(args: argparse.Namespace, spec):
+def pulse_source(args: argparse.Namespace, spec):
     """Return (a function returning a fresh iterator over the capture's pulse pieces, the
     list the front end's report of each pass is appended to; empty for pulse captures)."""
     from ..captures.sampled import sampled_format

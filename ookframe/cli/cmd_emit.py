@@ -8,7 +8,7 @@ from pathlib import Path
 from rich.table import Table
 
 from ..codegen import CRC_IMPLS, DEFAULT_PRESCALERS, TimerTarget, emit_header
-from ..codegen.timing import DEFAULT_CLOCK_HZ, DEFAULT_TIMER_BITS, DEFAULT_TOLERANCE
+from ..codegen.timing import DEFAULT_CLOCK_HZ, DEFAULT_TIMER_BITS, DEFAULT_TOLERANCE, TX_MODES
 from ..errors import excerpt
 from . import common
 from .output import check_writable, err, out, print_json, write_atomic
@@ -43,6 +43,11 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--tolerance-pct", type=float, default=100 * DEFAULT_TOLERANCE, metavar="PCT",
                    help="refuse when any duration is off by more than PCT %% after "
                    f"quantisation (default {100 * DEFAULT_TOLERANCE:g})")
+    p.add_argument("--tx-mode", choices=TX_MODES, default="auto",
+                   help="buffer: also the run buffer transmitter (<prefix>_tx_start fills timer "
+                   "reload values, the compare ISR loads the next; refused when the timer cannot "
+                   "hold it); stream: the streaming tx_next only (least RAM, for long frames); "
+                   "auto (default): buffer when possible, else stream")
     p.add_argument("--side", choices=("tx", "rx", "both"), default="tx",
                    help="tx: the transmitter (default); rx / both: the transmitter plus the "
                    "receiver (<PREFIX>_rx_*, behind <PREFIX>_WANT_RX, default on)")
@@ -64,11 +69,26 @@ def report_table(report: dict) -> Table:
     return t
 
 
+def _ram_line(report: dict) -> str:
+    """Return the RAM of both transmitters as one line of the text report."""
+    stream = report["streaming"]["ram_bytes"]
+    text = (f"streaming transmitter RAM {stream['avr']} B (8-bit AVR) / {stream['arm32']} B "
+            "(32-bit MCU); ")
+    buf = report["run_buffer"]
+    if buf is None:
+        return text + f"run buffer not generated ({report['run_buffer_refusal'] or '--tx-mode stream'})"
+    text += (f"run buffer RAM {buf['ram_bytes']['avr']} B / {buf['ram_bytes']['arm32']} B "
+             f"({buf['entries']} entries)")
+    if buf["avr_isr_cycles"]:
+        text += f", AVR assembly ISR at most {buf['avr_isr_cycles']['worst']} cycles"
+    return text
+
+
 def run(args: argparse.Namespace) -> int:
     spec, _ = common.load(args)
     target = TimerTarget(clock_hz=args.mcu_clock_hz, timer_bits=args.timer_bits,
                          prescalers=tuple(args.prescalers), tolerance=args.tolerance_pct / 100,
-                         crc_impl=args.crc_impl)
+                         crc_impl=args.crc_impl, tx_mode=args.tx_mode)
     emitted = emit_header(spec, target, side=args.side)  # everything is computed before anything is written
     path = Path(args.output_dir) / emitted.filename
     check_writable(path, args.force)
@@ -81,6 +101,7 @@ def run(args: argparse.Namespace) -> int:
         out.print(f"pulse type {report['ticks_type']}, longest pulse {report['max_pulse_ticks']} "
                   f"ticks; frame up to {report['max_frame_bits']} bits"
                   + (f"; CRC code {report['crc_impl']}" if report["crc_impl"] else ""))
+        out.print(_ram_line(report))
         periods = report["gap_timer_periods"]
         if len(periods) > 1:
             out.print(f"repeat gap longer than one {report['timer_bits']}-bit timer period: sent "

@@ -57,14 +57,17 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     common.add_json_argument(p)
 
 
-def _train(args: argparse.Namespace, spec, defaults) -> PulseTrain:
+def _train(args: argparse.Namespace, spec, defaults) -> tuple[PulseTrain, np.ndarray]:
+    """Return the train to send and the start (µs) of each transmission in it."""
     values = common.values_from_args(spec, defaults, args)
     one = encode(spec, values)
-    idle = PulseTrain(np.zeros(1, np.uint8), np.array([args.idle_ms * 1000.0]))
+    idle_us = args.idle_ms * 1000.0
+    starts = idle_us + np.arange(args.transmissions) * (one.total_us + spec.gap_us)
     body = concat([one] * args.transmissions, spec.gap_us)
     if args.idle_ms <= 0:
-        return body
-    return concat([idle, body, idle])
+        return body, starts
+    idle = PulseTrain(np.zeros(1, np.uint8), np.array([idle_us]))
+    return concat([idle, body, idle]), starts
 
 
 def run(args: argparse.Namespace) -> int:
@@ -80,12 +83,12 @@ def run(args: argparse.Namespace) -> int:
     if not path.resolve().parent.is_dir():
         raise ValueRangeError(f"--output {args.output}: folder does not exist")
     ch = physical_options.physical_from_args(args)
-    train = _train(args, spec, defaults)
+    train, starts = _train(args, spec, defaults)
     rng = np.random.default_rng(args.seed)
     sample_type = args.sample_type or ("s16" if sampled == "wav" or len(path.suffixes) < 2
                                        else None)
     if pulse_file or (sampled == "wav" and args.wav == "pin"):
-        pin = apply_physical(train, ch, rng)
+        pin = apply_physical(train, ch, rng, burst_starts_us=starts)
         if pulse_file:
             write_capture(path, pin)
         else:
@@ -93,7 +96,8 @@ def run(args: argparse.Namespace) -> int:
                           args.sample_rate, sample_type=sample_type)
         what = "the receiver's data pin"
     else:
-        x = render_baseband(train, ch, args.sample_rate, rng, offset_hz=args.offset_hz)
+        x = render_baseband(train, ch, args.sample_rate, rng, offset_hz=args.offset_hz,
+                            burst_starts_us=starts)
         kind = "iq" if sampled == "iq" else "envelope" if sampled == "raw" else args.wav
         write_samples(path, scaled_samples(x, kind), args.sample_rate,
                       sample_type=sample_type)

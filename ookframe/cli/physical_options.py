@@ -7,6 +7,7 @@ import argparse
 
 from ..cautions import RANGE_CAUTION
 from ..channel.physical import (
+    MAX_CLOCK_PPM,
     RECEIVERS,
     PathModel,
     PhysicalChannel,
@@ -23,6 +24,7 @@ PHYSICAL = "physical"
 
 _DB = common.float_in(-300, 300)
 _POSITIVE = common.float_in(0, 1e12, lo_open=True)
+_PPM = common.float_in(-MAX_CLOCK_PPM, MAX_CLOCK_PPM, lo_open=True, hi_open=True)
 
 
 def channel_or(args: argparse.Namespace, pulse_level):
@@ -62,6 +64,12 @@ def add_physical_arguments(p: argparse.ArgumentParser, *, position: bool = True)
                    help=f"transmitter start-up time constant, µs [{tx.startup_tau_us:g}]")
     g.add_argument("--ringdown-tau-us", type=_POSITIVE, metavar="T",
                    help=f"transmitter ring-down time constant, µs [{tx.ringdown_tau_us:g}]")
+    g.add_argument("--clock-ppm", type=_PPM, metavar="E",
+                   help="error of the transmitter's MCU clock, ppm (+: every duration "
+                   f"longer) [{tx.clock_ppm:g}]")
+    g.add_argument("--drift-ppm-per-s", type=_PPM, metavar="D",
+                   help="drift of that clock from the start of each transmission, ppm per "
+                   f"s [{tx.drift_ppm_per_s:g}]")
     g.add_argument("--path-exponent", type=common.float_in(1, 8), metavar="N",
                    help="log-distance path-loss exponent beyond --reference-m (2: free "
                    "space) [2]")
@@ -87,35 +95,46 @@ def add_physical_arguments(p: argparse.ArgumentParser, *, position: bool = True)
                    help=f"receiver data filter corner, Hz [{rx.data_filter_hz:g}]")
 
 
+#: option destination -> (part of the channel, field): the options that set one field
+#: each (--tx-power-mw and --sensitivity-dbm are converted first, below)
+FIELDS: dict[str, tuple[str, str]] = {
+    "tx_power_dbm": ("tx", "power_dbm"),
+    "tx_antenna_dbi": ("tx", "antenna_gain_dbi"),
+    "frequency_hz": ("tx", "frequency_hz"),
+    "startup_tau_us": ("tx", "startup_tau_us"),
+    "ringdown_tau_us": ("tx", "ringdown_tau_us"),
+    "clock_ppm": ("tx", "clock_ppm"),
+    "drift_ppm_per_s": ("tx", "drift_ppm_per_s"),
+    "path_exponent": ("path", "exponent"),
+    "reference_m": ("path", "reference_m"),
+    "extra_loss_db": ("path", "extra_loss_db"),
+    "rx_antenna_dbi": ("rx", "antenna_gain_dbi"),
+    "noise_figure_db": ("rx", "noise_figure_db"),
+    "bandwidth_hz": ("rx", "bandwidth_hz"),
+    "quench_hz": ("rx", "quench_hz"),
+    "slicer_tau_us": ("rx", "slicer_tau_us"),
+    "data_filter_hz": ("rx", "data_filter_hz"),
+}
+
+
 def physical_from_args(args: argparse.Namespace, *, distance_m: float | None = None
                        ) -> PhysicalChannel:
     """Return the physical channel the options describe (at ``--distance-m`` or
     ``--rx-power-dbm``; default ``distance_m`` or 10 m)."""
-    tx_changes: dict[str, float] = {}
+    changes: dict[str, dict[str, float]] = {"tx": {}, "path": {}, "rx": {}}
     if getattr(args, "tx_power_mw", None) is not None:
-        tx_changes["power_dbm"] = mw_to_dbm(args.tx_power_mw)
-    for opt, name in (("tx_power_dbm", "power_dbm"), ("tx_antenna_dbi", "antenna_gain_dbi"),
-                      ("frequency_hz", "frequency_hz"), ("startup_tau_us", "startup_tau_us"),
-                      ("ringdown_tau_us", "ringdown_tau_us")):
+        changes["tx"]["power_dbm"] = mw_to_dbm(args.tx_power_mw)
+    for opt, (part, name) in FIELDS.items():
         if getattr(args, opt, None) is not None:
-            tx_changes[name] = getattr(args, opt)
-    path_changes = {name: getattr(args, opt) for opt, name in (
-        ("path_exponent", "exponent"), ("reference_m", "reference_m"),
-        ("extra_loss_db", "extra_loss_db")) if getattr(args, opt, None) is not None}
-    rx = get_receiver(args.receiver)
-    rx_changes = {name: getattr(args, opt) for opt, name in (
-        ("rx_antenna_dbi", "antenna_gain_dbi"), ("noise_figure_db", "noise_figure_db"),
-        ("bandwidth_hz", "bandwidth_hz"), ("quench_hz", "quench_hz"),
-        ("slicer_tau_us", "slicer_tau_us"), ("data_filter_hz", "data_filter_hz"))
-        if getattr(args, opt, None) is not None}
+            changes[part][name] = getattr(args, opt)
     sensitivity = getattr(args, "sensitivity_dbm", None)
     try:
-        rx = rx.with_(**rx_changes)
+        rx = get_receiver(args.receiver).with_(**changes["rx"])
         if sensitivity is not None:
             rx = rx.with_sensitivity(sensitivity)
-        tx = Transmitter(**tx_changes)
-        path = PathModel(**path_changes)
-    except TypeError as e:  # pragma: no cover - option names are fixed above
+        tx = Transmitter(**changes["tx"])
+        path = PathModel(**changes["path"])
+    except TypeError as e:  # pragma: no cover - field names are fixed above
         raise ValueRangeError(str(e)) from None
     rx_power = getattr(args, "rx_power_dbm", None)
     if rx_power is not None:

@@ -54,6 +54,16 @@ class Emitted:
             "durations": t.table(),
             "max_frame_bits": m.max_frame_bits,
             "gap_timer_periods": list(t.gap_piece_ticks()),
+            "tx_mode": m.target.tx_mode,
+            "run_buffer": None if m.txbuf is None else {
+                "ram_bytes": dict(m.txbuf["ram"]),  # type: ignore[call-overload]
+                "entries": m.txbuf["cap"],
+                "max_interval_ticks": m.txbuf["max_interval_ticks"],
+                "shortest_interval_cycles": m.txbuf["shortest_cycles"],
+                "avr_isr_cycles": dict(m.txbuf["avr_isr_cycles"])  # type: ignore[call-overload]
+                if m.txbuf["avr_isr"] else None},
+            "run_buffer_refusal": m.txbuf_refusal or None,
+            "streaming": {"ram_bytes": dict(m.stream_ram)},
         }
 
 

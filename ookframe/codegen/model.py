@@ -25,6 +25,10 @@ from .timing import TimerTarget, Timing, quantise
 
 #: bump when the generated API changes incompatibly (checked by <PREFIX>_REQUIRE_API_VERSION)
 API_VERSION = 1
+#: cycles of <PREFIX>_TX_AVR_ISR from its vector (the table's jmp) to the end of reti on
+#: an ATmega328P, by path; counted from the instruction timings of the AVR instruction set
+#: manual (from memory) and measured by tests/test_codegen_avr_txbuf.py
+AVR_ISR_CYCLES = {"edge": 40, "copy_end": 49, "stop": 39, "worst": 49}
 #: runs merged into one tx_next pulse for codes whose words can chain without limit
 CHAIN_CAP = 8
 
@@ -544,10 +548,16 @@ def _txbuf_model(target: TimerTarget, timing: Timing, code: CodeTable, max_line_
     runs = blocks * code.max_runs + (len(code.trailer.runs_units) if code.trailer else 0)
     cap = runs + 1
     rtype = _uint_type(target.timer_bits)
+    rbits = _type_bits(rtype)
     members = [("ptr", 1), (rtype, 1), ("uint8_t", 2), (rtype, cap)]
     ram = {abi: struct_size(members, abi) for abi in _TYPE_LAYOUT}
-    return {"cap": cap, "reload_type": rtype, "reload_bits": _type_bits(rtype),
-            "max_interval_ticks": target.timer_max_ticks, "ram": ram, "avr_isr": False}, ""
+    # the end mark is the reload type's top bit, so a copy's intervals stay below it
+    max_interval = min(target.timer_max_ticks, 1 << (rbits - 1))
+    return {"cap": cap, "reload_type": rtype, "reload_bits": rbits,
+            "max_interval_ticks": max_interval,
+            "shortest_cycles": min(d.ticks for d in timing.durations) * timing.prescaler,
+            "copy_end": uint_literal(1 << (rbits - 1), rbits), "ram": ram,
+            "avr_isr": rbits == 16, "avr_isr_cycles": AVR_ISR_CYCLES}, ""
 
 
 def _gap_model(timing: Timing) -> dict[str, object]:

@@ -19,6 +19,10 @@ timer ticks of the pulse that just ended) and decides as the reference decoder d
 - body: unstuffing, the length field (whitening constant applied), then the frame goes
   to the ready queue; the main loop (``_rx_take``) de-whitens, checks and unpacks.
 
+``_rx_edge`` itself only queues the pulse in an edge FIFO; the decisions above run in
+``_rx_poll`` (called by ``_rx_ready`` and ``_rx_take``) in the main loop, so the capture
+ISR stays a few tens of cycles on an 8-bit MCU.
+
 Check-aided recovery (edge flips) is not done by the C receiver.
 """
 
@@ -43,6 +47,9 @@ CLOCK_SPAN = 0.12
 MAX_LADDER = 16
 #: frames held by the ready queue unless <PREFIX>_RX_QUEUE says otherwise
 DEFAULT_QUEUE = 2
+#: entries of the edge FIFO between rx_edge (ISR) and rx_poll (main loop) unless
+#: <PREFIX>_RX_EDGES says otherwise
+DEFAULT_EDGES = 16
 #: fewest chips of well-placed edges before the sync for the head refit of the unit
 MIN_REFIT_CHIPS = 8
 
@@ -87,6 +94,7 @@ class RxModel:
     stuff_after: int
     stuff_value: str
     queue: int
+    edges: int
     recip: tuple[int, ...]  # round(256 / n) for n = 0..top (0 unused)
     phase_shift_hunt: int
     phase_shift_body: int
@@ -96,13 +104,13 @@ class RxModel:
 
     @property
     def ram_bytes(self) -> int:
-        """Upper bound of the receiver's static RAM in bytes (state + queue), as stated in
+        """Upper bound of the receiver's static RAM in bytes (state, queue, edge FIFO), as in
         the header (padding on 32-bit targets may add a few bytes)."""
         reg = 8 if self.pattern_type == "uint64_t" else 4
         phases = self.chips_per_block if self.family == "chips" else 1
         state = 4 * 8 + 16 + 2 * reg * phases + self.body_bytes
-        slot = self.body_bytes + 12
-        return state + self.queue * slot + 16
+        slot = self.body_bytes + 12 + 8  # bits, quality (padded), worst16 and unit16
+        return state + self.queue * slot + 16 + 3 * self.edges + 2
 
 
 def _literal(value: int, bits: int) -> str:
@@ -243,6 +251,7 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
         len_offset=len_offset, len_width=len_width, len_weights=weights, len_xor=xor,
         len_max=len_max, len_fixed_bits=plan.min_body_bits,
         stuff_after=code.stuff_after, stuff_value=code.stuff_value, queue=DEFAULT_QUEUE,
+        edges=DEFAULT_EDGES,
         recip=recip, phase_shift_hunt=2, phase_shift_body=body_shift,
         freq_div_hunt=8, freq_div_body=64, min_refit_chips=MIN_REFIT_CHIPS)
 

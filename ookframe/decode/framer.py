@@ -33,7 +33,7 @@ from .framing import frame_windows
 from .glitch import drop_glitches
 from .head import MAX_CLOCK_ERROR, HeadModel, build_head
 from .segment import burst_breaks, burst_end
-from .tail import MAX_TRAILING_UNITS, cut_trains
+from .tail import MAX_TRAILING_UNITS, CutTrains, cut_trains, join_spans
 from .validate import validate_train
 from .windows import WindowRuns, Windows, classify_windows, lay_out
 
@@ -113,7 +113,13 @@ def decode(spec: Receiver, train: PulseTrain, *,
     edges' places on the chip grid, one line-code decode, then framing (sync search with
     the allowed bit errors, unstuffing, fields and check, times). A frame whose check
     fails is decoded once more duration by duration with the drift-tracking loop, and the
-    result replaces it where its check passes.
+    result replaces it where its check passes; then, where noise hugs the frame's end, from
+    the train cut at its carrier end; then, where the glitch filter dropped a pulse that
+    heavy jitter may have shrunk, with the filter at half its width
+    (``_low_filter_opinion``). Each opinion is one more reading of a stretch the first
+    could not vouch for, taken only where the check passes: its false-accept risk is that
+    of one more frame (2**-w for a w-bit check), and stress counts what it accepts like
+    any other frame.
     Repeats are separate frames, each with its own ``start_us``; the search goes on after
     the end of every decoded frame. Frames whose check fails are included unless
     ``include_bad`` is False (default: the spec's ``decoder.report_bad_check``); a frame
@@ -158,6 +164,7 @@ def decode(spec: Receiver, train: PulseTrain, *,
             frames = _second_opinion(spec, frames, [f for f, _ in other])
     if ctx.unparsed_us.size or not all(f.crc_ok for f in frames):
         frames = _tail_opinion(spec, hm, train, frames, ctx)
+    frames = _low_filter_opinion(spec, hm, train, clean, cw, frames)
     return [f for f in frames if f.crc_ok or include_bad]
 
 
@@ -269,18 +276,9 @@ def _tail_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
     trailing = min(int(hm.runs.allowed[0][-1]), MAX_TRAILING_UNITS)
     quiet_us = 2.0 * max(hm.break_us, 16 * spec.unit_us)
     cuts = cut_trains(train, todo, trailing, quiet_us, hm.body_chip, hm.max_frame_chips)
-    if cuts.frame.size == 0:
-        return frames
-    clean = drop_glitches(cuts.train.levels, cuts.train.durations_us,
-                          spec.decoder.glitch_fraction * spec.unit_us)
-    cw = _windows(hm, clean, spec.unit_us)
-    if cw is None:
-        return frames
-    got = [f for f, _ in _decode_clean(spec, hm, clean, cw, grid=True)[0] if f.crc_ok]
     out = list(frames)
     extra = []
-    for f in got:
-        k = int(np.abs(cuts.start_us - f.start_us).argmin())
+    for f, k in _read_pieces(spec, hm, cuts, spec.decoder.glitch_fraction * spec.unit_us):
         if abs(cuts.start_us[k] - f.start_us) >= 2 * spec.unit_us:
             continue
         f = _shifted(f, float(cuts.origin_us[k]))
@@ -292,6 +290,152 @@ def _tail_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
     if extra:
         out = sorted(out + extra, key=lambda f: f.start_us)
     return out
+
+
+#: units a frame read from joined pieces may start before its piece (pieces lie at least
+#: 32 units apart)
+PIECE_SLACK_UNITS = 8
+
+
+def _read_pieces(spec: FrameSpec, hm: HeadModel, cuts: CutTrains, min_us: float
+                 ) -> list[tuple[DecodedFrame, int]]:
+    """Return the frames whose check passes in the joined pieces ``cuts.train`` glitch
+    filtered at ``min_us`` (times in the joined train), each with the piece it lies in
+    (the last whose ``start_us`` is at most ``PIECE_SLACK_UNITS`` after the frame's start:
+    a first chip that merged with the quiet before it is extrapolated)."""
+    if cuts.frame.size == 0:
+        return []
+    clean = drop_glitches(cuts.train.levels, cuts.train.durations_us, min_us)
+    cw = _windows(hm, clean, spec.unit_us)
+    if cw is None:
+        return []
+    out = []
+    for f, _ in _decode_clean(spec, hm, clean, cw, grid=True)[0]:
+        k = int(np.searchsorted(cuts.start_us, f.start_us + PIECE_SLACK_UNITS * spec.unit_us)) - 1
+        if f.crc_ok and k >= 0:
+            out.append((f, k))
+    return out
+
+
+#: glitch filter of the low-filter opinion, as a fraction of the spec's: heavy edge jitter
+#: shrinks 1-unit pulses below the filter (two edges 0.35 unit inwards leave 0.3 unit)
+LOW_FILTER_FRACTION = 0.5
+#: pulses on each side of a dropped pulse of which all but one must be longer than the
+#: filter, and none shorter than the lower filter, for the low-filter opinion to look for
+#: a frame around it (receiver noise, pulses of the order of the filter, seldom has 15 of
+#: 16 that long and none shorter; a jittered frame nearly always)
+ANCHOR_CONTEXT_PULSES = 8
+#: units at either end of a passing frame where a dropped pulse is taken for receiver noise
+#: hugging the carrier, not for a shrunk pulse of the frame
+ANCHOR_EDGE_UNITS = 1.5
+#: a passing frame holding a dropped pulse is replaced by the low-filter reading only when
+#: one of its pulses lies at least this far (units) from every grid point: the pulse the
+#: filter dropped is missing from it (a frame that filtered a true glitch fits the grid)
+REREAD_WORST_DEVIATION = 0.5
+
+
+def _holds(frame: DecodedFrame, times_us: np.ndarray) -> bool:
+    """True when one of ``times_us`` (sorted) lies within ``frame``."""
+    i = int(np.searchsorted(times_us, frame.start_us))
+    return i < times_us.size and times_us[i] <= frame.end_us
+
+
+def _low_filter_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
+                        clean: PulseTrain, cw: _CandidateWindows,
+                        frames: list[DecodedFrame]) -> list[DecodedFrame]:
+    """Return ``frames`` with stretches of the unfiltered ``train`` read once more with the
+    glitch filter at ``LOW_FILTER_FRACTION`` of the spec's: heavy edge jitter shrinks a
+    1-unit pulse below the filter, which joins its neighbours into a run the code does not
+    have (even a burst break) or shifts the head. Read again: a frame's reach
+    (``stream_span_us``) after every candidate window of ``clean`` that no frame whose
+    check passes covers, where the filter dropped a pulse at least the lower width; a
+    frame's reach either side of every dropped pulse amid kept ones (``_shrunk_us``) that
+    no frame covers; and the frame itself where one whose check passes holds such a pulse.
+
+    A frame found there whose check passes replaces the frames it overlaps when all of
+    theirs failed, or joins the frames when it overlaps none; it replaces a frame whose
+    check passes only where that frame holds a dropped pulse and a pulse at least
+    ``REREAD_WORST_DEVIATION`` off the grid, and has the same fields (times from the
+    reading that kept every pulse) or a smaller worst deviation. Glitches
+    shorter than the lower filter still never reach the chip grid; the check vouches for
+    the rest (one more reading per stretch, like the other opinions)."""
+    min_us = spec.decoder.glitch_fraction * spec.unit_us
+    low_us = LOW_FILTER_FRACTION * min_us
+    d = train.durations_us
+    short = np.flatnonzero((d >= low_us) & (d < min_us))
+    if short.size == 0:
+        return frames
+    edges_us = np.concatenate(([0.0], np.cumsum(d)))
+    t_short = edges_us[short]
+    t_alone = _shrunk_us(d, short, t_short, min_us, low_us)
+    passed = [f for f in frames if f.crc_ok]
+    f_start = np.array([f.start_us for f in passed])
+    f_end = np.array([f.end_us for f in passed])
+    # the signature may match anywhere before the sync word
+    lead_us = (hm.sync_chip + 4) * spec.unit_us * (1 + MAX_CLOCK_ERROR)
+    span_us = stream_span_us(hm)
+    t = cw.t0[cw.first]
+    j = np.searchsorted(f_start, t, side="right") - 1
+    t = t[(j < 0) | (t > f_end[np.maximum(j, 0)])] if passed else t
+    keep = np.searchsorted(t_short, t + span_us) > np.searchsorted(t_short, t - lead_us)
+    t = t[keep]
+    # a dropped pulse from a lead before a passing frame to its end: the frame holds it
+    # (re-read that frame) unless it lies within EDGE_UNITS of the frame's first or last
+    # chip, where receiver noise hugs the carrier (ignored)
+    j = np.searchsorted(f_start - lead_us, t_alone, side="right") - 1
+    near = held = np.zeros(t_alone.size, bool)
+    if passed:
+        jj = np.maximum(j, 0)
+        near = (j >= 0) & (t_alone <= f_end[jj])
+        edge_us = ANCHOR_EDGE_UNITS * spec.unit_us
+        held = near & (t_alone >= f_start[jj] + edge_us) & (t_alone <= f_end[jj] - edge_us)
+    t_held = t_alone[held]
+    free = t_alone[~near]
+    a_us = np.concatenate((t - lead_us, free - span_us - lead_us, f_start[j[held]] - lead_us))
+    b_us = np.concatenate((t + span_us, free + span_us, f_end[j[held]] + 2 * spec.unit_us))
+    if a_us.size == 0:
+        return frames
+    order = np.argsort(a_us, kind="stable")
+    a_us, b_us = a_us[order], b_us[order]
+    new = np.concatenate(([True], a_us[1:] > np.maximum.accumulate(b_us)[:-1]))
+    spans = list(zip(a_us[new].tolist(),
+                     np.maximum.reduceat(b_us, np.flatnonzero(new)).tolist(), strict=True))
+    quiet_us = 2.0 * max(hm.break_us, 16 * spec.unit_us)
+    cuts = join_spans(train, spans, quiet_us, edges_us)
+    starts = np.array([f.start_us for f in frames])
+    reach = np.maximum.accumulate(np.array([f.end_us for f in frames]))
+    out = list(frames)
+    gone: set[int] = set()
+    extra = []
+    for f, k in _read_pieces(spec, hm, cuts, low_us):
+        f = _shifted(f, float(cuts.origin_us[k]))
+        lo = int(np.searchsorted(reach, f.start_us, side="right"))
+        hi = int(np.searchsorted(starts, f.end_us, side="left"))
+        hit = [i for i in range(lo, hi) if i not in gone
+               and out[i].start_us < f.end_us and f.start_us < out[i].end_us]
+        if all(not out[i].crc_ok for i in hit):
+            gone.update(hit)
+            extra.append(f)
+        elif (len(hit) == 1 and _holds(g := out[hit[0]], t_held)
+              and g.worst_deviation >= REREAD_WORST_DEVIATION
+              and (g.raw == f.raw or f.worst_deviation < g.worst_deviation)):
+            out[hit[0]] = f
+    return sorted([f for i, f in enumerate(out) if i not in gone] + extra,
+                  key=lambda f: f.start_us)
+
+
+def _shrunk_us(d: np.ndarray, short: np.ndarray, t_short: np.ndarray, min_us: float,
+               low_us: float) -> np.ndarray:
+    """Return the start times of the pulses ``short`` (indices into durations ``d``,
+    starting at ``t_short``) that lie amid pulses the filter keeps: of the
+    ``ANCHOR_CONTEXT_PULSES`` on each side all but one at least ``min_us`` and none shorter
+    than ``low_us`` (a shrunk pulse, not receiver noise); beyond the train's ends: idle."""
+    keep = np.arange(short.size)
+    for n in (2, ANCHOR_CONTEXT_PULSES):  # the 2 either side first: most noise fails there
+        j = short[keep][:, None] + np.concatenate((np.arange(-n, 0), np.arange(1, n + 1)))
+        ctx = np.where((j >= 0) & (j < d.size), d[np.clip(j, 0, d.size - 1)], np.inf)
+        keep = keep[((ctx >= min_us).sum(axis=1) >= 2 * n - 1) & ~(ctx < low_us).any(axis=1)]
+    return t_short[keep]
 
 
 @dataclass(frozen=True, eq=False)

@@ -35,12 +35,13 @@ MAX_TRAILING_UNITS = 8
 
 @dataclass(frozen=True, eq=False)
 class CutTrains:
-    """Trains cut at their carrier end, laid end to end with quiet gaps.
+    """Pieces of a train (frames cut at their carrier end, bursts) laid end to end with
+    quiet gaps.
 
     train: the joined train; origin_us[k]: time in the original train of the joined
-    train's time 0 for cut k (add it to times found there); frame[k]: index of the frame
-    (in the caller's list) cut k belongs to; start_us[k]: that frame's start in the
-    joined train.
+    train's time 0 for piece k (add it to times found there); frame[k]: index of the frame
+    or span (in the caller's list) piece k belongs to; start_us[k]: where that frame or
+    span starts in the joined train.
     """
 
     train: PulseTrain
@@ -97,36 +98,33 @@ def carrier_end_us(edges_us: np.ndarray, levels: np.ndarray, start_us: float,
     return float(edges_us[i0 + int(np.flatnonzero(fall)[-1])])
 
 
-def cut_trains(train: PulseTrain, frames: list[tuple[float, float | None, float]],
-               trailing_units: int, quiet_us: float, body_chip: int = 0, max_chips: int = 0,
-               lead_units: float = 2.0) -> CutTrains:
-    """Return, for every frame ``(start_us, end_us or None, unit_us)`` whose carrier end is
-    found (:func:`carrier_end_us`), the unfiltered ``train`` from ``lead_units`` before
-    the frame's start to its carrier end, after and followed by ``quiet_us`` of space;
-    the pieces laid end to end."""
-    edges = np.concatenate(([0.0], np.cumsum(train.durations_us)))
+def join_spans(train: PulseTrain, spans: list[tuple[float, float]], quiet_us: float,
+               edges_us: np.ndarray | None = None) -> CutTrains:
+    """Return the pieces ``[a_us, b_us)`` of ``train`` (``b_us`` rounded up to the pulse
+    boundary at or after it), each after and followed by ``quiet_us`` of space, laid end to
+    end; ``frame[k]`` is the index in ``spans`` of piece k and ``start_us[k]`` its ``a_us``
+    in the joined train (pieces holding no part of a pulse are left out). ``edges_us``:
+    the train's pulse boundaries (its start times plus its end) when the caller has them."""
+    edges = (np.concatenate(([0.0], np.cumsum(train.durations_us))) if edges_us is None
+             else edges_us)
     lv_parts: list[np.ndarray] = []
     du_parts: list[np.ndarray] = []
     origins, which, starts = [], [], []
     t = 0.0
-    for k, (start_us, end_us, unit_us) in enumerate(frames):
-        cut = carrier_end_us(edges, train.levels, start_us, unit_us, end_us, trailing_units,
-                             body_chip, max_chips)
-        if cut is None:
-            continue
-        a_us = max(start_us - lead_units * unit_us, 0.0)
+    for k, (a_us, b_us) in enumerate(spans):
+        a_us = max(a_us, 0.0)
         a = max(int(np.searchsorted(edges, a_us, side="right")) - 1, 0)
-        b = int(np.searchsorted(edges, cut, side="left"))  # pulses [a, b) end by the cut
+        b = min(int(np.searchsorted(edges, b_us, side="left")), len(train))  # [a, b)
         if b <= a:
             continue
         du = train.durations_us[a:b].copy()
-        du[0] -= a_us - edges[a]  # start exactly lead_units before the frame
+        du[0] -= a_us - edges[a]  # start exactly at a_us
         if du[0] <= 0:
             continue
         lv_parts += [np.zeros(1, np.uint8), train.levels[a:b], np.zeros(1, np.uint8)]
         du_parts += [np.full(1, quiet_us), du, np.full(1, quiet_us)]
         origins.append(a_us - (t + quiet_us))
-        starts.append(start_us - origins[-1])
+        starts.append(t + quiet_us)
         which.append(k)
         t += 2 * quiet_us + float(du.sum())
     if not lv_parts:
@@ -134,3 +132,25 @@ def cut_trains(train: PulseTrain, frames: list[tuple[float, float | None, float]
         return CutTrains(empty, np.zeros(0), np.zeros(0, np.int64), np.zeros(0))
     return CutTrains(PulseTrain(np.concatenate(lv_parts), np.concatenate(du_parts)),
                      np.array(origins), np.array(which, np.int64), np.array(starts))
+
+
+def cut_trains(train: PulseTrain, frames: list[tuple[float, float | None, float]],
+               trailing_units: int, quiet_us: float, body_chip: int = 0, max_chips: int = 0,
+               lead_units: float = 2.0) -> CutTrains:
+    """Return, for every frame ``(start_us, end_us or None, unit_us)`` whose carrier end is
+    found (:func:`carrier_end_us`), the unfiltered ``train`` from ``lead_units`` before
+    the frame's start to its carrier end, after and followed by ``quiet_us`` of space;
+    the pieces laid end to end (:func:`join_spans`; ``start_us[k]``: the frame's start in
+    the joined train)."""
+    edges = np.concatenate(([0.0], np.cumsum(train.durations_us)))
+    spans, owner = [], []
+    for k, (start_us, end_us, unit_us) in enumerate(frames):
+        cut = carrier_end_us(edges, train.levels, start_us, unit_us, end_us, trailing_units,
+                             body_chip, max_chips)
+        if cut is not None:
+            spans.append((start_us - lead_units * unit_us, cut))
+            owner.append(k)
+    cuts = join_spans(train, spans, quiet_us, edges)
+    own = np.array(owner, np.int64)[cuts.frame]
+    first = np.array([frames[k][0] for k in own.tolist()])
+    return CutTrains(cuts.train, cuts.origin_us, own, first - cuts.origin_us)

@@ -12,10 +12,11 @@ from .slicer import SampleSlicer, SliceReport, _join
 
 
 def open_slicer(info: SampledInfo, config: FrontEndConfig | None = None, *,
-                keep_trace: bool = False) -> SampleSlicer:
-    """Return a slicer for the capture ``info`` describes (its rate and sample kind)."""
+                trace_window: tuple[int, int] | None = None) -> SampleSlicer:
+    """Return a slicer for the capture ``info`` describes (its rate and sample kind);
+    ``trace_window`` as in ``SampleSlicer``."""
     return SampleSlicer(config or FrontEndConfig(), info.sample_rate_hz, info.is_complex,
-                        keep_trace=keep_trace)
+                        trace_window=trace_window)
 
 
 def iter_sliced(info: SampledInfo, slicer: SampleSlicer,

@@ -9,12 +9,17 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import signal
 
+from ._workspace import Workspace
 from .config import FrontEndConfig
 
 #: the smoothing low-pass never goes above this fraction of the (decimated) Nyquist rate
 ANTI_ALIAS_FRACTION = 0.4
 #: filter order of the smoothing low-pass (Bessel: no ringing on pulse edges)
 SMOOTH_ORDER = 2
+#: a sample at or beyond this fraction of full scale counts as clipped
+CLIP_LEVEL = 0.999
+#: |I + jQ| below this cannot hold a clipped part (margin for hypot's last-bit rounding)
+_CLIP_SCREEN = CLIP_LEVEL * (1.0 - 1e-6)
 
 
 @dataclass(frozen=True)
@@ -87,20 +92,44 @@ class EnvelopeStage:
         self.decimate = config.decimate
         self.smoothing = design_smoothing(config, sample_rate_hz)
         self._zi: np.ndarray | None = None
+        self._work = Workspace()
 
-    def process(self, block: np.ndarray) -> np.ndarray:
-        """Return the envelope of ``block`` after smoothing and decimation."""
+    def process(self, block: np.ndarray) -> tuple[np.ndarray, int]:
+        """Return the envelope of ``block`` after smoothing and decimation (float64), and how
+        many samples of ``block`` reach full scale (``clipped``)."""
         if self.mode == "baseband":
-            e = block.astype(np.float64)
+            e = block
         else:
-            e = np.abs(block).astype(np.float64)
+            # float32 for float32 / complex64 samples: the filter widens to float64
+            e = np.abs(block, out=self._work.get("abs", block.size, block.real.dtype))
+        n_clipped = clipped(block, None if e is block else e)
         if self.invert:
-            np.negative(e, out=e)
+            e = np.negative(e)
         sos = self.smoothing.sos
         if sos is not None and e.size:
             if self._zi is None:  # start settled on the first sample: no start-up transient
-                self._zi = signal.sosfilt_zi(sos) * e[0]
-            e, self._zi = signal.sosfilt(sos, e, zi=self._zi)
+                self._zi = signal.sosfilt_zi(sos) * float(e[0])
+            e, self._zi = signal.sosfilt(sos, e, zi=self._zi)  # float64 out, as float64 in
+        else:
+            e = e.astype(np.float64)
         if self.decimate > 1:
             e = e[::self.decimate]
-        return e
+        return e, n_clipped
+
+
+def clipped(x: np.ndarray, magnitude: np.ndarray | None = None) -> int:
+    """Return how many samples of ``x`` reach full scale (either part of an I/Q sample);
+    ``magnitude`` (|x|, if already made) screens out blocks with no sample near it."""
+    if x.size == 0:
+        return 0
+    if np.iscomplexobj(x):
+        mag = np.abs(x) if magnitude is None else magnitude
+        near = np.flatnonzero(mag >= _CLIP_SCREEN) if mag.max() >= _CLIP_SCREEN else None
+        if near is None or near.size == 0:
+            return 0
+        v = x[near]
+        return int(np.count_nonzero((np.abs(v.real) >= CLIP_LEVEL) |
+                                    (np.abs(v.imag) >= CLIP_LEVEL)))
+    if x.max() < CLIP_LEVEL and x.min() > -CLIP_LEVEL:
+        return 0
+    return int(np.count_nonzero(np.abs(x) >= CLIP_LEVEL))

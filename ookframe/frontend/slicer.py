@@ -10,19 +10,27 @@ capture in any pieces gives exactly the train of feeding it whole.
 from __future__ import annotations
 
 from collections.abc import Iterable, Iterator
-from dataclasses import asdict, dataclass
+from dataclasses import asdict, dataclass, replace
 
 import numpy as np
 
 from ..pulses import PulseTrain
+from ._workspace import Workspace
 from .config import FrontEndConfig
 from .envelope import EnvelopeStage, Smoothing
-from .tracker import Tracked, TrackerState, edge_positions, start_state, track
+from .tracker import (
+    Levels,
+    Tracked,
+    TrackerState,
+    changes,
+    compare,
+    edge_positions,
+    levels,
+    start_state,
+)
 
 #: samples per internal block (before decimation; rounded up to a multiple of it)
 BLOCK_SAMPLES = 1 << 17
-#: a sample at or beyond this fraction of full scale counts as clipped
-CLIP_LEVEL = 0.999
 
 
 @dataclass(frozen=True)
@@ -99,23 +107,42 @@ class _Tally:
         self.pulses = 0
         self.marks = 0
 
-    def add(self, e: np.ndarray, t: Tracked, guard: int, mark_before: bool) -> None:
-        """Count one block; level figures leave out samples within ``guard`` samples of an
-        edge (the smoothed ramps), so floor and carrier are the plateaus."""
-        steady = ~_near_edge(t.marks, guard, mark_before)
-        for level, sel in ((0, ~t.marks & steady), (1, t.marks & steady)):
-            v = e[sel]
-            self.n[level] += v.size
-            self.s[level] += float(v.sum())
-            self.s2[level] += float(np.dot(v, v))
-        ok = ~t.squelched
-        self.squelched += int(t.squelched.sum())
-        if ok.any():
-            for acc, thr in ((self.hi, t.high[ok]), (self.lo, t.low[ok])):
+    def add(self, e: np.ndarray, lv: Levels, idx: np.ndarray, guard: int,
+            mark_before: bool, work: Workspace) -> None:
+        """Count one block whose comparator changes state at ``idx`` (from ``mark_before``);
+        level figures leave out samples within ``guard`` samples of a change (the smoothed
+        ramps), so floor and carrier are the plateaus. Works on the runs between changes,
+        not on a per-sample mask."""
+        n = e.size
+        starts = np.concatenate(([0], idx + (guard + 1)))
+        stops = np.concatenate((idx - guard, [n]))
+        run_mark = (np.arange(starts.size) % 2 == 1) != mark_before
+        keep = stops > starts
+        starts, stops, run_mark = starts[keep], stops[keep], run_mark[keep]
+        if starts.size:
+            at = np.stack((starts, stops), axis=1).ravel()
+            if at[-1] == n:
+                at = at[:-1]
+            sums = np.add.reduceat(e, at)[::2]
+            squares = np.add.reduceat(np.multiply(e, e, out=work.get("e2", n)), at)[::2]
+            counts = stops - starts
+            for level, sel in ((0, ~run_mark), (1, run_mark)):
+                self.n[level] += int(counts[sel].sum())
+                self.s[level] += float(sums[sel].sum())
+                self.s2[level] += float(squares[sel].sum())
+        n_squelched = int(np.count_nonzero(lv.squelched))
+        self.squelched += n_squelched
+        if n_squelched < n:
+            if n_squelched:
+                ok = ~lv.squelched
+                pairs = ((self.hi, lv.high[ok]), (self.lo, lv.low[ok]))
+            else:
+                pairs = ((self.hi, lv.high), (self.lo, lv.low))
+            for acc, thr in pairs:
                 acc[0] += float(thr.sum())
                 acc[1] = min(acc[1], float(thr.min()))
                 acc[2] = max(acc[2], float(thr.max()))
-            self.n_thr += int(ok.sum())
+            self.n_thr += n - n_squelched
 
     def level(self, lv: int) -> tuple[float, float]:
         n = self.n[lv]
@@ -130,12 +157,14 @@ class SampleSlicer:
     ``finish()`` the last one; ``report()`` the levels and thresholds (any time).
 
     ``sample_rate_hz`` is the input rate; ``is_complex`` says whether samples are I/Q. With
-    ``keep_trace`` each ``feed`` also keeps the last block's envelope, thresholds and
-    comparator output in ``trace`` (for plots).
+    ``trace_window = (start, stop)`` (input sample indices) the slicer also keeps, for those
+    samples only, the per-sample view a plot needs (``trace_pieces``: input samples or
+    their magnitude, envelope, thresholds, levels, comparator output); blocks outside the
+    window take the fast path as always.
     """
 
     def __init__(self, config: FrontEndConfig, sample_rate_hz: float, is_complex: bool,
-                 *, keep_trace: bool = False) -> None:
+                 *, trace_window: tuple[int, int] | None = None) -> None:
         if not isinstance(config, FrontEndConfig):
             raise TypeError(f"config must be a FrontEndConfig, got {type(config).__name__}")
         if not np.isfinite(sample_rate_hz) or sample_rate_hz <= 0:
@@ -154,9 +183,11 @@ class SampleSlicer:
         self._edge = 0.0             # position of the last edge (decimated samples)
         self._level = 0              # level of the pulse running since that edge
         self._tally = _Tally()
+        self._work = Workspace()
         self._finished = False
-        self.keep_trace = keep_trace
-        self.trace: tuple[np.ndarray, Tracked, int] | None = None
+        self.trace_window = trace_window
+        #: (first input index, samples or |samples|, first output index, envelope, Tracked)
+        self.trace_pieces: list[tuple[int, np.ndarray, int, np.ndarray, Tracked]] = []
         self._us_per_out = 1e6 * q / self.sample_rate_hz
         #: samples next to an edge left out of the level figures: 1.5 rise times, >= 1
         self._guard = max(1, int(np.ceil(1.5 * self._env.smoothing.rise_us / self._us_per_out)))
@@ -179,11 +210,11 @@ class SampleSlicer:
         self._pending_n += x.size
         pieces = []
         if self._pending_n >= self._block:
-            buf = np.concatenate(self._pending)
+            buf = x if len(self._pending) == 1 else np.concatenate(self._pending)
             n_full = buf.size // self._block * self._block
             for i in range(0, n_full, self._block):
                 pieces.append(self._run(buf[i:i + self._block]))
-            rest = buf[n_full:]
+            rest = buf[n_full:].copy() if buf is x else buf[n_full:]  # not the caller's
             self._pending, self._pending_n = ([rest] if rest.size else []), rest.size
         return _join(pieces)
 
@@ -216,40 +247,61 @@ class SampleSlicer:
             yield t
 
     def _run(self, x: np.ndarray) -> PulseTrain:
-        self._tally.clipped += _clipped(x)
+        first_in = self._n_in
         self._n_in += x.size
-        e = self._env.process(x)
+        e, n_clipped = self._env.process(x)
+        self._tally.clipped += n_clipped
         if e.size == 0:
             return _join([])
+        rate = self.sample_rate_hz / self.config.decimate
         if self._state is None:
-            self._state = start_state(float(e[0]), self.config,
-                                      self.sample_rate_hz / self.config.decimate)
+            self._state = start_state(float(e[0]), self.config, rate)
         before = self._state
-        tracked, self._state = track(e, before, self.config, self.sample_rate_hz /
-                                     self.config.decimate)
-        idx, pos = edge_positions(e, tracked, before)
+        lv, after = levels(e, before, self.config, rate, self._work)
+        idx = changes(e, lv.high, lv.low, before.mark)
+        # every change flips the state: the first leaves before.mark
+        marks_at = (np.arange(idx.size) % 2 == 0) != before.mark
+        self._state = replace(after, mark=bool(marks_at[-1]) if idx.size else before.mark,
+                              last_e=float(e[-1]))
+        pos = edge_positions(e, idx, marks_at, lv.high, lv.low, before.last_e)
         pos = pos + self._out_index
         self._out_index += e.size
-        self._tally.add(e, tracked, self._guard, before.mark)
-        if self.keep_trace:
-            self.trace = (e, tracked, self._out_index - e.size)
+        self._tally.add(e, lv, idx, self._guard, before.mark, self._work)
+        if self.trace_window is not None:
+            self._keep_trace(first_in, x, e, lv, before.mark)
         if pos.size == 0:
             return _join([])
         if self._edge == 0.0 and self._tally.pulses == 0 and pos[0] <= 0.0:
             # the capture starts in a mark: no zero-length space before it
-            self._level = int(tracked.marks[idx[0]])
-            pos, idx = pos[1:], idx[1:]
+            self._level = int(marks_at[0])
+            pos, marks_at = pos[1:], marks_at[1:]
             if pos.size == 0:
                 return _join([])
         bounds = np.concatenate(([self._edge], pos))
-        levels = np.empty(pos.size, np.uint8)
-        levels[0] = self._level
-        levels[1:] = tracked.marks[idx[:-1]]
-        train = PulseTrain(levels, np.diff(bounds) * self._us_per_out)
+        levels_out = np.empty(pos.size, np.uint8)
+        levels_out[0] = self._level
+        levels_out[1:] = marks_at[:-1]
+        train = PulseTrain(levels_out, np.diff(bounds) * self._us_per_out)
         self._edge = float(pos[-1])
-        self._level = int(tracked.marks[idx[-1]])
+        self._level = int(marks_at[-1])
         self._count(train)
         return train
+
+    def _keep_trace(self, first_in: int, x: np.ndarray, e: np.ndarray, lv: Levels,
+                    mark_before: bool) -> None:
+        """Keep the per-sample view of the part of this block inside the trace window."""
+        start, stop = self.trace_window  # type: ignore[misc]
+        lo, hi = max(start - first_in, 0), min(stop - first_in, x.size)
+        if lo >= hi:
+            return
+        q = self.config.decimate
+        j0, j1 = -(-lo // q), -(-hi // q)  # output samples j (input first_in + j q) inside
+        marks = compare(e, lv.high, lv.low, mark_before)
+        view = Tracked(*(a[j0:j1].copy() for a in (lv.high, lv.low, lv.carrier, lv.floor)),
+                       marks[j0:j1], lv.squelched[j0:j1].copy())
+        raw = np.abs(x[lo:hi]) if np.iscomplexobj(x) else np.array(x[lo:hi])
+        self.trace_pieces.append((first_in + lo, raw.astype(np.float64), first_in // q + j0,
+                                  e[j0:j1].copy(), view))
 
     def _count(self, train: PulseTrain) -> None:
         self._tally.pulses += len(train)
@@ -264,7 +316,7 @@ class SampleSlicer:
             snr = 20 * np.log10((carrier - floor) / floor_rms) if floor_rms > 0 else np.inf
         n_thr = max(t.n_thr, 1)
         nan = float("nan")
-        n_out = max(sum(t.n), 1)
+        n_out = max(self._out_index, 1)  # every output sample (not only the steady ones)
         return SliceReport(
             sample_rate_hz=self.sample_rate_hz, envelope=self._env.mode, invert=c.invert,
             smoothing_cutoff_hz=sm.cutoff_hz, smoothing_delay_us=sm.delay_us,
@@ -284,26 +336,6 @@ class SampleSlicer:
             squelched_fraction=t.squelched / n_out, clipped_fraction=t.clipped /
             max(self._n_in, 1), n_samples=self._n_in,
             duration_s=self._n_in / self.sample_rate_hz, pulses=t.pulses, marks=t.marks)
-
-
-def _near_edge(marks: np.ndarray, guard: int, mark_before: bool) -> np.ndarray:
-    """Return True for the samples within ``guard`` samples of a change of ``marks``."""
-    change = np.empty(marks.size, bool)
-    change[0] = marks[0] != mark_before
-    np.not_equal(marks[1:], marks[:-1], out=change[1:])
-    c = np.concatenate(([0], np.cumsum(change)))
-    n = np.arange(marks.size)
-    hi = np.minimum(n + guard + 1, marks.size)
-    lo = np.maximum(n - guard, 0)
-    return c[hi] - c[lo] > 0
-
-
-def _clipped(x: np.ndarray) -> int:
-    """Return how many samples of ``x`` reach full scale (either part of an I/Q sample)."""
-    if np.iscomplexobj(x):
-        return int(np.count_nonzero((np.abs(x.real) >= CLIP_LEVEL) |
-                                    (np.abs(x.imag) >= CLIP_LEVEL)))
-    return int(np.count_nonzero(np.abs(x) >= CLIP_LEVEL))
 
 
 def _join(trains: list[PulseTrain]) -> PulseTrain:

@@ -200,8 +200,8 @@ def run_chunk(
     half = batch.gap_us / 2
     bounds = np.append(batch.starts_us - half, batch.ends_us[-1] + half)
     if isinstance(channel, PhysicalChannel):
-        rx = apply_physical(batch.train, channel, rng)
-        bounds = physical_time_map_us(bounds)
+        rx = apply_physical(batch.train, channel, rng, burst_starts_us=batch.starts_us)
+        bounds = physical_time_map_us(bounds, channel, batch.starts_us)
     else:
         rx = apply_channel(batch.train, channel, rng, burst_starts_us=batch.starts_us)
         bounds = channel_time_map_us(bounds, channel, batch.starts_us)

@@ -5,7 +5,7 @@ from __future__ import annotations
 
 import subprocess
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
@@ -83,7 +83,8 @@ def demo_values_header(emitted: Emitted, values: Mapping[str, object]) -> str:
 def build_firmware(emitted: Emitted, values: Mapping[str, object], directory: Path,
                    *, baseline: bool = False, source: Path = FIRMWARE, name: str = "",
                    extra_defines: Mapping[str, str | None] | None = None,
-                   extra_sources: tuple[Path, ...] = ()) -> Path:
+                   extra_sources: tuple[Path, ...] = (), extra_flags: tuple[str, ...] = ()
+                   ) -> Path:
     """Compile a test firmware (default firmware.c, or its empty baseline) with avr-gcc and
     the strict flags, the header's tables in flash."""
     assert AVR_GCC is not None
@@ -101,7 +102,7 @@ def build_firmware(emitted: Emitted, values: Mapping[str, object], directory: Pa
     defines.update(extra_defines or {})
     name = name or ("baseline.elf" if baseline else "firmware.elf")
     return compile_c(AVR_GCC, [source, *extra_sources], directory / name,
-                     flags=[*STRICT_FLAGS, *AVR_FLAGS, *LINK_FLAGS],
+                     flags=[*STRICT_FLAGS, *AVR_FLAGS, *LINK_FLAGS, *extra_flags],
                      include_dirs=[directory, SIMAVR_INCLUDE], defines=defines)
 
 
@@ -165,6 +166,9 @@ class SimRun:
     marks: list[tuple[int, int]]  # (value, cycle) written to GPIOR1
     end: str
     end_cycle: int
+    #: every isr / byte / mark line in the harness's order: (kind, value or cycles, cycle;
+    #: -1 for an isr, whose line carries no cycle)
+    events: list[tuple[str, int, int]] = field(default_factory=list)
 
 
 def build_harness(directory: Path) -> Path:
@@ -199,26 +203,30 @@ def simulate(harness: Path, elf: Path, *, clock_hz: int, isr: tuple[int, ...] = 
     report: list[tuple[int, int]] = []
     marks: list[tuple[int, int]] = []
     end, end_cycle = "none", 0
+    events: list[tuple[str, int, int]] = []
     for line in proc.stdout.splitlines():
         parts = line.split()
         if not parts:
             continue
         if parts[0] == "isr":
             isr_c[int(parts[1])].append(int(parts[2]))
+            events.append(("isr", int(parts[2]), -1))
         elif parts[0] == "edge":
             edges[parts[1]][0].append(int(parts[2]))
             edges[parts[1]][1].append(int(parts[3]))
         elif parts[0] == "byte":
             report.append((int(parts[1]), int(parts[2])))
+            events.append(("byte", int(parts[1]), int(parts[2])))
         elif parts[0] == "mark":
             marks.append((int(parts[1]), int(parts[2])))
+            events.append(("mark", int(parts[1]), int(parts[2])))
         elif parts[0] == "end":
             end, end_cycle = parts[1], int(parts[2])
     if end == "none":
         raise AssertionError(f"harness failed ({proc.returncode}): {proc.stderr[-2000:]}")
     return SimRun({v: np.asarray(c, np.int64) for v, c in isr_c.items()},
                   {p: (np.asarray(lv, np.uint8), np.asarray(cy, np.int64))
-                   for p, (lv, cy) in edges.items()}, report, marks, end, end_cycle)
+                   for p, (lv, cy) in edges.items()}, report, marks, end, end_cycle, events)
 
 
 def level_changes(levels: np.ndarray, cycles: np.ndarray) -> np.ndarray:
@@ -242,3 +250,17 @@ def edge_errors_cycles(emitted: Emitted, values: Mapping[str, object], changes: 
     if changes.size != want.size:
         raise AssertionError(f"TX has {changes.size} edges, the schedule {want.size}")
     return (changes - changes[0]) - want
+
+
+def run_tx_buffer(emitted: Emitted, values: Mapping[str, object], directory: Path, *,
+                  asm: bool) -> tuple[SimRun, np.ndarray]:
+    """Build tests/c/avr/tx_buffer.c for ``values`` (``asm``: with the header's assembly
+    <PREFIX>_TX_AVR_ISR, else the C ISR around tx_step), run it in the harness timing the
+    compare ISR and watching OC1A (PB1); return the run and the cycles of PB1's level
+    changes."""
+    elf = build_firmware(emitted, values, directory, source=TX_BUFFER_FIRMWARE,
+                         name="txb_asm.elf" if asm else "txb_c.elf",
+                         extra_defines={"OOK_ASM_ISR": None} if asm else None)
+    run = simulate(build_harness(directory), elf, clock_hz=emitted.timing.clock_hz,
+                   isr=(TIMER1_COMPA_VECTOR,), watch=("B1",))
+    return run, level_changes(*run.edges["B1"])

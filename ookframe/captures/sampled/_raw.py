@@ -57,9 +57,26 @@ def raw_info(path: str | os.PathLike[str], name: str, values_per_sample: int,
                        is_complex=values_per_sample == 2)
 
 
+def _converter(sample_type: str):
+    """Return raw values -> float32 at full scale 1.0 for ``sample_type``: ``(float32(raw) -
+    offset) * float32(1 / scale)``, converting while subtracting (no separate cast pass)."""
+    _, offset, scale = RAW_SAMPLE_TYPES[sample_type]
+    off, inv = np.float32(offset), np.float32(1.0 / scale)
+    if offset:
+        def shifted(raw: np.ndarray) -> np.ndarray:
+            x = np.subtract(raw, off, dtype=np.float32)
+            x *= inv
+            return x
+        return shifted
+    if scale != 1.0:
+        return lambda raw: np.multiply(raw, inv, dtype=np.float32)
+    return lambda raw: raw.astype(np.float32, copy=False)
+
+
 def raw_iter(info: SampledInfo, block_samples: int) -> Iterator[np.ndarray]:
     """Yield the samples of a raw capture in blocks, scaled to full scale 1.0."""
-    code, offset, scale = RAW_SAMPLE_TYPES[info.sample_type]
+    code = RAW_SAMPLE_TYPES[info.sample_type][0]
+    convert = _converter(info.sample_type)
     per = 2 if info.is_complex else 1
     try:
         fh = open(info.path, "rb")
@@ -73,11 +90,7 @@ def raw_iter(info: SampledInfo, block_samples: int) -> Iterator[np.ndarray]:
             raw = np.fromfile(fh, dtype=code, count=n * per)
             if raw.size != n * per:
                 raise CaptureError(f"{info.path}: the file got shorter while being read")
-            x = raw.astype(np.float32)
-            if offset:
-                x -= np.float32(offset)
-            if scale != 1.0:
-                x *= np.float32(1.0 / scale)
+            x = convert(raw)
             yield x.view(np.complex64) if per == 2 else x
             left -= n
 

@@ -23,6 +23,7 @@ from .capture import (
 from .carrier import Carrier, KeyedEnvelope, carriers_on_grid, render_carriers
 from .model import (
     LICENCE_FREE_433_MW,
+    MAX_CLOCK_PPM,
     RECEIVERS,
     PathModel,
     PhysicalChannel,
@@ -48,6 +49,7 @@ __all__ = [
     "write_iq",
     "write_wav",
     "LICENCE_FREE_433_MW",
+    "MAX_CLOCK_PPM",
     "RECEIVERS",
     "Carrier",
     "KeyedEnvelope",

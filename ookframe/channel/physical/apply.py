@@ -16,19 +16,24 @@ def apply_physical(
     *, burst_starts_us: np.ndarray | None = None,
 ) -> PulseTrain:
     """Return the receiver's data pin for ``train`` keyed by ``channel.tx`` and received
-    at ``channel.received_dbm``: same timeline as the input (times are not shifted; edges
-    lie on the receiver's quench grid), noise output wherever no carrier is received.
-    ``burst_starts_us`` is accepted for the runner's interface and unused (the physical
-    model has no clock error)."""
+    at ``channel.received_dbm``: the input's timeline as the transmitter's clock times it
+    (``channel.tx.time_map_us``, drift from each of ``burst_starts_us``, nominal times;
+    default one transmission from 0), edges on the receiver's quench grid, noise output
+    wherever no carrier is received."""
     require_train(train, "train")
     require(channel, PhysicalChannel, "channel", "e.g. ookframe.PhysicalChannel()")
     require_rng(rng, "rng")
     if len(train) == 0:
         return train
-    carrier = Carrier(train, channel.received_dbm, channel.tx)
-    return receive_carriers([carrier], channel.rx, train.total_us, rng)
+    keyed = channel.tx.keyed(train, burst_starts_us)
+    carrier = Carrier(keyed, channel.received_dbm, channel.tx)
+    return receive_carriers([carrier], channel.rx, keyed.total_us, rng)
 
 
-def physical_time_map_us(t_us: np.ndarray) -> np.ndarray:
-    """Return output times of input times: the physical model keeps the timeline."""
-    return np.asarray(t_us, dtype=np.float64)
+def physical_time_map_us(t_us: np.ndarray, channel: PhysicalChannel | None = None,
+                         burst_starts_us: np.ndarray | None = None) -> np.ndarray:
+    """Return where (µs, in the output of ``apply_physical``) input times ``t_us`` end up:
+    the transmitter's clock map (the receiver's delays of a few µs left out); the times
+    themselves without a channel."""
+    t = np.asarray(t_us, dtype=np.float64)
+    return t if channel is None else channel.tx.time_map_us(t, burst_starts_us)

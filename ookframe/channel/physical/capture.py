@@ -31,21 +31,25 @@ HEADROOM = 0.8
 def render_baseband(
     train: PulseTrain, channel: PhysicalChannel, sample_rate_hz: float,
     rng: np.random.Generator, *, offset_hz: float = 0.0, noise: bool = True,
+    burst_starts_us: np.ndarray | None = None,
 ) -> np.ndarray:
     """Return the complex baseband (complex64, sqrt(mW): ``|x|**2`` is the power in mW) of
     ``train`` keyed by ``channel.tx`` at ``channel.received_dbm``, sampled at
     ``sample_rate_hz`` over the train's duration, carrier ``offset_hz`` from the tuning,
     random carrier phase, with thermal noise (kT at 290 K + the receiver's noise figure,
-    over the sample rate) unless ``noise`` is False."""
+    over the sample rate) unless ``noise`` is False. The key is timed by the transmitter's
+    clock (``channel.tx.time_map_us``, drift from each of ``burst_starts_us``), so the
+    capture lasts the keyed train's duration."""
     require_train(train, "train")
     require(channel, PhysicalChannel, "channel", "e.g. ookframe.PhysicalChannel()")
     require_rng(rng, "rng")
     if not 1e3 <= sample_rate_hz <= 1e9:
         raise ValueRangeError(f"sample_rate_hz: must be in 1e3..1e9, got {sample_rate_hz!r}")
-    carrier = Carrier(train, channel.received_dbm, channel.tx, offset_hz=offset_hz,
+    keyed = channel.tx.keyed(train, burst_starts_us)
+    carrier = Carrier(keyed, channel.received_dbm, channel.tx, offset_hz=offset_hz,
                       phase_rad=float(rng.uniform(0, 2 * np.pi)))
     density = thermal_noise_dbm_per_hz() + channel.rx.noise_figure_db if noise else None
-    return render_carriers([carrier], sample_rate_hz, train.total_us, rng, density)
+    return render_carriers([carrier], sample_rate_hz, keyed.total_us, rng, density)
 
 
 def baseband_snr_db(channel: PhysicalChannel, sample_rate_hz: float) -> float:

@@ -83,8 +83,10 @@ class KeyedEnvelope:
 @dataclass(frozen=True, eq=False)
 class Carrier:
     """One keyed carrier as it arrives at the receiver: ``train`` keyed from
-    ``start_us`` by ``tx``, at ``power_dbm`` (received, keyed on), ``offset_hz`` from
-    the receiver's tuning, with carrier phase ``phase_rad`` at time 0."""
+    ``start_us`` by ``tx`` (its start-up and ring-down; the train's durations as sent,
+    the clock already applied by ``Transmitter.keyed``), at ``power_dbm`` (received,
+    keyed on), ``offset_hz`` from the receiver's tuning, with carrier phase ``phase_rad``
+    at time 0."""
 
     train: PulseTrain
     power_dbm: float

@@ -10,8 +10,15 @@ from __future__ import annotations
 import math
 from dataclasses import asdict, dataclass, field, fields, replace
 
+import numpy as np
+
 from ...errors import ValueRangeError
+from ...pulses import PulseTrain
+from ..impairments import tx_time_map_us
 from . import budget
+
+#: largest clock error and drift of a transmitter, ppm (5 %: beyond any working oscillator)
+MAX_CLOCK_PPM = 50000.0
 
 #: most power of a licence-free 433.05-434.79 MHz non-specific short-range device in
 #: Europe: 10 mW e.r.p. (ERC Recommendation 70-03, Annex 1); other regions differ
@@ -48,6 +55,11 @@ class Transmitter:
     antenna_gain_dbi: transmit antenna gain (small loop or printed antennas are well below
       0 dBi; common practice, no source).
     frequency_hz: carrier frequency.
+    clock_ppm: error of the MCU clock that times the key, ppm (every duration sent is
+      ``1 + clock_ppm * 1e-6`` times its nominal length; a crystal is within tens of ppm,
+      an uncalibrated RC oscillator within a few percent; common practice, no source).
+    drift_ppm_per_s: linear drift of that clock from the start of each transmission, ppm
+      per second (warm-up of an RC oscillator; common practice, no source).
     """
 
     power_dbm: float = 10.0
@@ -55,10 +67,38 @@ class Transmitter:
     ringdown_tau_us: float = 2.0
     antenna_gain_dbi: float = 0.0
     frequency_hz: float = 433.92e6
+    clock_ppm: float = 0.0
+    drift_ppm_per_s: float = 0.0
 
     def __post_init__(self) -> None:
-        _check(self, signed=frozenset({"power_dbm", "antenna_gain_dbi"}),
+        _check(self, signed=frozenset({"power_dbm", "antenna_gain_dbi", "clock_ppm",
+                                       "drift_ppm_per_s"}),
                positive=frozenset({"startup_tau_us", "ringdown_tau_us", "frequency_hz"}))
+        if abs(self.clock_ppm) >= MAX_CLOCK_PPM:
+            raise ValueRangeError(f"transmitter.clock_ppm: must be in (-{MAX_CLOCK_PPM:g}, "
+                                  f"{MAX_CLOCK_PPM:g}), got {self.clock_ppm!r}")
+        if abs(self.drift_ppm_per_s) >= MAX_CLOCK_PPM:
+            raise ValueRangeError(f"transmitter.drift_ppm_per_s: must be in "
+                                  f"(-{MAX_CLOCK_PPM:g}, {MAX_CLOCK_PPM:g}), got "
+                                  f"{self.drift_ppm_per_s!r}")
+
+    def time_map_us(self, t_us: np.ndarray, burst_starts_us: np.ndarray | None = None
+                    ) -> np.ndarray:
+        """Return the times (µs) at which this transmitter's clock sends nominal times
+        ``t_us``: scale ``(1 + clock_ppm 1e-6)(1 + drift_ppm_per_s 1e-6 u)``, u the seconds
+        since the current transmission began (``burst_starts_us``, nominal; default one
+        transmission from 0), integrated (the pulse-level channel's clock map)."""
+        return tx_time_map_us(t_us, self.clock_ppm * 1e-4, self.drift_ppm_per_s * 1e-4,
+                              burst_starts_us)
+
+    def keyed(self, train: PulseTrain, burst_starts_us: np.ndarray | None = None
+              ) -> PulseTrain:
+        """Return ``train`` as this transmitter keys it: durations timed by its clock
+        (``time_map_us``); the train itself when the clock is exact."""
+        if not (self.clock_ppm or self.drift_ppm_per_s) or len(train) == 0:
+            return train
+        ends = self.time_map_us(np.cumsum(train.durations_us), burst_starts_us)
+        return PulseTrain(train.levels, np.diff(ends, prepend=0.0))
 
     @staticmethod
     def from_mw(power_mw: float, **kw: float) -> Transmitter:

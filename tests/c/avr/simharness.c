@@ -8,6 +8,10 @@
  *   end STATE C    the run stopped (done, crashed, cycles) at cycle C
  * and drives an input pin with edges read from a file (lines "CYCLE LEVEL", ascending
  * cycles) at those exact cycles, through a simavr cycle timer.
+ * simavr runs its peripherals and cycle timers between instructions: a pin change made by a
+ * timer is stamped (and a driven edge lands) at the end of the instruction in progress,
+ * up to a few cycles late while the CPU runs code, exact while it sleeps. The test
+ * firmwares therefore sleep between interrupts.
  *
  * Build: cc -O2 simharness.c -I/usr/include/simavr -lsimavr -lelf -o simharness
  * Run:   simharness FIRMWARE.elf [-m atmega328p] [-f 8000000] [--isr V]... [--watch B1]...

@@ -1,0 +1,188 @@
+"""The generated receiver on a simulated ATmega328P: build tests/c/avr/rx_firmware.c, drive
+ICP1 (PB0) with a pulse train at exact CPU cycles through the libsimavr harness, and read
+back the decoded fields and the cycle figures (shared by tests/test_codegen_avr_rx.py and
+bench/avr_cost.py)."""
+
+from __future__ import annotations
+
+import ctypes
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from ookframe.codegen import Emitted
+from ookframe.codegen.toolchains import avr_flash_ram, section_sizes
+from tests.c import avr_run
+
+RX_FIRMWARE = avr_run.AVR_DIR / "rx_firmware.c"
+TIMER1_COMPB_VECTOR = 12  # ATmega328P vector numbers (datasheet interrupt table, from memory)
+REPORT_START = 0xA5
+MARK_POLL, MARK_POLLED, MARK_TAKE, MARK_TAKEN = 1, 2, 3, 4
+#: CPU cycles before the first driven edge (reset, rx_init, timer set-up are long done)
+LEAD_IN_CYCLES = 20_000
+#: quiet line between two driven trains, in microseconds
+GAP_US = 30_000.0
+#: link only what is used (the rx header also holds the transmitter)
+GC_FLAGS = ("-ffunction-sections", "-fdata-sections", "-Wl,--gc-sections")
+_CTYPES = {"uint8_t": ctypes.c_uint8, "int8_t": ctypes.c_int8, "uint16_t": ctypes.c_uint16,
+           "int16_t": ctypes.c_int16, "uint32_t": ctypes.c_uint32, "int32_t": ctypes.c_int32,
+           "uint64_t": ctypes.c_uint64, "int64_t": ctypes.c_int64}
+
+
+class _Counters(ctypes.LittleEndianStructure):
+    _pack_ = 1
+    _fields_ = [("frames_seen", ctypes.c_uint16), ("check_failures", ctypes.c_uint16),
+                ("overruns", ctypes.c_uint16), ("cut", ctypes.c_uint16),
+                ("edge_overruns", ctypes.c_uint16)]
+
+
+def fields_struct(emitted: Emitted) -> type[ctypes.LittleEndianStructure]:
+    """Return struct <prefix>_fields as avr-gcc lays it out (byte aligned, little endian)."""
+    members: list[tuple[str, object]] = []
+    for f in emitted.model.fields:
+        if f.kind == "bytes":
+            members.append((f.name, ctypes.c_uint8 * f.max_len_bytes))
+        else:
+            members.append((f.name, _CTYPES[f.c_type]))
+    return type("AvrFields", (ctypes.LittleEndianStructure,), {"_pack_": 1, "_fields_": members})
+
+
+def lock_defines(emitted: Emitted) -> dict[str, str | None]:
+    """The receiver's atomic-section macros for AVR (save SREG, cli; restore SREG)."""
+    P = emitted.model.PREFIX
+    return {f"{P}_RX_LOCK()": "uint8_t ook_sreg = SREG; cli()",
+            f"{P}_RX_UNLOCK()": "SREG = ook_sreg"}
+
+
+def drive_lines(trains: Sequence[tuple[np.ndarray, np.ndarray]], clock_hz: int,
+                gap_us: float = GAP_US) -> tuple[str, int]:
+    """Return the harness's drive file ("CYCLE LEVEL" per level change) for ``trains``
+    ((levels, durations_us) each) laid end to end with ``gap_us`` of quiet line after each,
+    and the cycle at which the last one has ended. Times are rounded to whole cycles from
+    the running sum, so they do not drift."""
+    lv_parts, du_parts = [], []
+    for levels, durations in trains:
+        lv_parts += [np.asarray(levels, np.uint8), np.zeros(1, np.uint8)]
+        du_parts += [np.asarray(durations, np.float64), np.array([gap_us])]
+    lv = np.concatenate(lv_parts)
+    starts_us = np.concatenate(([0.0], np.cumsum(np.concatenate(du_parts))))
+    cyc = LEAD_IN_CYCLES + np.rint(starts_us * clock_hz / 1e6).astype(np.int64)
+    prev = np.concatenate(([0], lv[:-1]))
+    change = np.flatnonzero(lv != prev)
+    text = "".join(f"{c} {v}\n" for c, v in zip(cyc[change].tolist(), lv[change].tolist(), strict=True))
+    return text, int(cyc[-1])
+
+
+@dataclass(frozen=True)
+class RxRun:
+    """What the receiver firmware reported and what it cost."""
+
+    frames: list[dict[str, object]]  # raw field values, in the order decoded
+    counters: dict[str, int]  # the counters after the last frame (empty when none)
+    capt_cycles: np.ndarray  # each capture ISR, vector to end of reti
+    idle_cycles: np.ndarray  # each compare B (idle) ISR
+    poll_cycles: np.ndarray  # each main-loop rx_poll call, ISR time inside removed
+    take_cycles: np.ndarray  # each rx_ready + rx_take that gave a frame, ISR time removed
+    main_cycles_total: int  # every marked main-loop interval (polls and takes), ISRs removed
+
+
+def _parse(run: avr_run.SimRun, emitted: Emitted) -> RxRun:
+    fields_t = fields_struct(emitted)
+    nf, nc = ctypes.sizeof(fields_t), ctypes.sizeof(_Counters)
+    data = [v for v, _ in run.report]
+    frames: list[dict[str, object]] = []
+    counters: dict[str, int] = {}
+    i = 0
+    while i < len(data):
+        if data[i] != REPORT_START or i + 1 + nf + nc > len(data):
+            raise AssertionError(f"report out of step at byte {i}: {data[i:i + 8]}")
+        f = fields_t.from_buffer_copy(bytes(data[i + 1:i + 1 + nf]))
+        c = _Counters.from_buffer_copy(bytes(data[i + 1 + nf:i + 1 + nf + nc]))
+        frames.append(_raw(emitted, f))
+        counters = {name: int(getattr(c, name)) for name, _ in _Counters._fields_}
+        i += 1 + nf + nc
+    poll, take, total = _main_loop_cycles(run.events)
+    return RxRun(frames, counters, run.isr_cycles[avr_run.TIMER1_CAPT_VECTOR],
+                 run.isr_cycles[TIMER1_COMPB_VECTOR], poll, take, total)
+
+
+def _raw(emitted: Emitted, f: ctypes.Structure) -> dict[str, object]:
+    raw: dict[str, object] = {}
+    length = 0
+    for cf in emitted.model.fields:
+        if cf.kind == "int":
+            raw[cf.name] = int(getattr(f, cf.name))
+            if cf.role == "length":
+                length = int(raw[cf.name])
+    for cf in emitted.model.fields:
+        if cf.kind == "bytes":
+            raw[cf.name] = bytes(getattr(f, cf.name)[:length])
+    return raw
+
+
+def _main_loop_cycles(events: list[tuple[str, int, int]]) -> tuple[np.ndarray, np.ndarray, int]:
+    """Cycles of each rx_poll and of each rx_ready + rx_take that gave a frame (between the
+    GPIOR1 markers, less the ISR cycles that fell inside), and of every marked interval."""
+    poll: list[int] = []
+    take: list[int] = []
+    total = 0
+    open_mark, start, isr_inside, last_take = 0, 0, 0, -1
+    for kind, value, cycle in events:
+        if kind == "isr":
+            if open_mark:
+                isr_inside += value
+        elif kind == "byte":
+            if last_take >= 0:  # the take just closed gave a frame
+                take.append(last_take)
+                last_take = -1
+        elif value in (MARK_POLL, MARK_TAKE):
+            open_mark, start, isr_inside, last_take = value, cycle, 0, -1
+        elif open_mark and value == open_mark + 1:
+            spent = cycle - start - isr_inside
+            total += spent
+            if open_mark == MARK_POLL:
+                poll.append(spent)
+            else:
+                last_take = spent
+            open_mark = 0
+    return np.asarray(poll, np.int64), np.asarray(take, np.int64), total
+
+
+def run_receiver(emitted: Emitted, values: Mapping[str, object],
+                 trains: Sequence[tuple[np.ndarray, np.ndarray]], directory: Path, *,
+                 in_isr: bool = False, baseline: bool = False) -> RxRun:
+    """Build the receiver firmware (``values``: any valid field values, for the shared
+    demo_values.h; ``baseline``: around the stub receiver), drive PB0 with ``trains`` and
+    return its report."""
+    harness = avr_run.build_harness(directory)
+    defines = lock_defines(emitted)
+    if in_isr:
+        defines["OOK_RX_IN_ISR"] = None
+    elf = avr_run.build_firmware(emitted, values, directory, source=RX_FIRMWARE,
+                                 baseline=baseline,
+                                 name=f"rx{'_isr' if in_isr else ''}{'_base' if baseline else ''}.elf",
+                                 extra_defines=defines)
+    text, end_cycle = drive_lines(trains, emitted.model.timing.clock_hz)
+    drive = directory / "drive.txt"
+    drive.write_text(text)
+    run = avr_run.simulate(harness, elf, clock_hz=emitted.model.timing.clock_hz,
+                           isr=(avr_run.TIMER1_CAPT_VECTOR, TIMER1_COMPB_VECTOR),
+                           drive=("B0", drive), max_cycles=end_cycle + 10_000, timeout_s=300)
+    return _parse(run, emitted)
+
+
+def receiver_sizes(emitted: Emitted, values: Mapping[str, object], directory: Path
+                   ) -> tuple[int, int]:
+    """Return (flash, RAM) bytes of the receiver: rx_firmware.c minus its stub baseline,
+    both linked with unused sections dropped (the header's transmitter is not counted)."""
+    assert avr_run.AVR_SIZE is not None
+    sizes = []
+    for baseline in (False, True):
+        elf = avr_run.build_firmware(emitted, values, directory, source=RX_FIRMWARE,
+                                     baseline=baseline,
+                                     name="rx_base.elf" if baseline else "rx_size.elf",
+                                     extra_defines=lock_defines(emitted), extra_flags=GC_FLAGS)
+        sizes.append(avr_flash_ram(section_sizes(avr_run.AVR_SIZE, elf)))
+    return sizes[0][0] - sizes[1][0], sizes[0][1] - sizes[1][1]
