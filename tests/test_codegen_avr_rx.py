@@ -65,12 +65,11 @@ def test_random_values_decode_on_the_avr(tmp_path, name):
     run = avr_rx.run_receiver(emitted, defaults, trains, tmp_path)
     assert run.frames == want
     assert run.counters["check_failures"] == 0 and run.counters["edge_overruns"] == 0
-    assert run.capt_cycles.size == _changes(trains)
+    assert run.capt_cycles.size == _changes(trains) and not run.capt_two_edges.any()
     print(f"{name}: capture ISR max {run.capt_cycles.max()} mean {run.capt_cycles.mean():.1f}, "
           f"idle ISR max {run.idle_cycles.max()}, main loop "
           f"{run.main_cycles_total / len(want):.0f} cycles/frame")
-    assert run.capt_cycles.max() <= ISR_TARGET_CYCLES
-    assert run.idle_cycles.max() <= ISR_TARGET_CYCLES
+    _isr_within_target(run)
 
 
 @pytest.mark.parametrize("name", EXAMPLES)
@@ -87,6 +86,7 @@ def test_vectors_file_decodes_on_the_avr(tmp_path, capsys, name):
     trains = [(np.asarray(v["levels"], np.uint8), np.asarray(v["durations_us"], np.float64))
               for v in vectors]
     run = avr_rx.run_receiver(emit_header(spec, side="rx"), defaults, trains, tmp_path)
+    _isr_within_target(run)
     expected = [{k: (bytes.fromhex(x) if isinstance(x, str) else x)
                  for k, x in v["expected_raw"].items()} for v in vectors]
     got = list(run.frames)
@@ -97,7 +97,50 @@ def test_vectors_file_decodes_on_the_avr(tmp_path, capsys, name):
         assert k >= 1, f"no frame for {want}; next frames {got[:2]}"
         got = got[k:]
     assert got == []
-    assert run.capt_cycles.max() <= ISR_TARGET_CYCLES
+
+
+@pytest.mark.parametrize("name", ["hive_scale.toml", "gate_sensor.toml",
+                                  "greenhouse_probe.toml"])
+def test_edge_of_range_frames_equal_the_host_build(tmp_path, capsys, monkeypatch, name):
+    """Through the edge-of-range-superregen channel (``ookframe vectors``, seed 9: jitter,
+    clock error, glitches, dropouts, idle noise with pulses shorter than the capture ISR)
+    the 8-bit build decodes the same frames as the host build of the same header
+    (``host_rx``: 32-bit int against the AVR's 16), so no int-width difference changes a
+    decision."""
+    from ookframe.codegen.host_rx import host_receiver
+    from ookframe.pulses import PulseTrain
+
+    monkeypatch.setenv("OOKFRAME_CACHE", str(tmp_path / "rx-cache"))
+    host_receiver.cache_clear()
+
+    spec, defaults = example_spec(name)
+    out = tmp_path / "vectors.json"
+    assert main(["vectors", str(ROOT / "ookframe" / "examples" / name), "--count", "6",
+                 "--seed", "9", "--preset", "edge-of-range-superregen", "-o", str(out)]) == 0
+    capsys.readouterr()
+    vectors = json.loads(out.read_text())["vectors"]
+    trains = [(np.asarray(v["levels"], np.uint8), np.asarray(v["durations_us"], np.float64))
+              for v in vectors]
+    run = avr_rx.run_receiver(emit_header(spec, side="rx"), defaults, trains, tmp_path)
+    lv = np.concatenate([np.append(levels, 0) for levels, _ in trains]).astype(np.uint8)
+    du = np.concatenate([np.append(d, avr_rx.GAP_US) for _, d in trains])
+    host = [f.raw for f in host_receiver(spec).decode(PulseTrain(lv, du)) if f.crc_ok]
+    print(f"{name}: {len(run.frames)} frames on the AVR, {len(host)} on the host, "
+          f"{int(run.capt_two_edges.sum())} two-edge ISR runs, counters {run.counters}")
+    assert len(host) >= len(vectors) and run.frames == host
+    _isr_within_target(run)
+
+
+def _isr_within_target(run: avr_rx.RxRun) -> None:
+    """Every capture ISR run within the target per edge it queued (a run that also caught
+    an edge missed while it ran queues two), and the idle ISR within it."""
+    one = run.capt_cycles[~run.capt_two_edges]
+    two = run.capt_cycles[run.capt_two_edges]
+    print(f"capture ISR one edge max {one.max()} mean {one.mean():.1f}; two edges "
+          f"{two.size} runs, max {two.max() if two.size else 0}")
+    assert one.max() <= ISR_TARGET_CYCLES
+    assert two.size == 0 or two.max() <= 2 * ISR_TARGET_CYCLES
+    assert run.idle_cycles.max() <= ISR_TARGET_CYCLES
 
 
 @pytest.mark.parametrize("name", ["hive_scale.toml", "gate_sensor.toml", "tank_level.toml"])

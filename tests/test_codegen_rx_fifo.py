@@ -57,11 +57,11 @@ def _frames(rx, api) -> list[dict[str, object]]:
 @pytest.mark.parametrize("name", ["hive_scale.toml", "gate_sensor.toml", "coldframe_vent.toml"])
 def test_polling_once_per_full_fifo_gives_the_same_frames(name):
     """Random values (numpy PCG64 seed 4): every copy comes back whether rx_poll runs after
-    each edge or only when <PREFIX>_RX_EDGES edges are queued; no edge is lost."""
+    each edge or only when <PREFIX>_RX_EDGE_FIFO edges are queued; no edge is lost."""
     spec, _ = example_spec(name)
     rx = host_receiver(spec)
     api = _api(rx)
-    depth = rx.model.rx.edges
+    depth = rx.model.rx.edge_fifo
     rng = np.random.default_rng(4)
     values = [random_values(spec, rng) for _ in range(3)]
     want = [raw_values(spec, v) for v in values for _ in range(spec.repeats)]
@@ -83,12 +83,12 @@ def test_polling_once_per_full_fifo_gives_the_same_frames(name):
 
 
 def test_full_fifo_counts_lost_edges():
-    """<PREFIX>_RX_EDGES + 5 edges without a poll: 5 edge overruns; the queued edges are
+    """<PREFIX>_RX_EDGE_FIFO + 5 edges without a poll: 5 edge overruns; the queued edges are
     freed by the next poll, after which an edge is queued again."""
     spec, _ = example_spec("hive_scale.toml")
     rx = host_receiver(spec)
     api = _api(rx)
-    depth = rx.model.rx.edges
+    depth = rx.model.rx.edge_fifo
     api["init"]()
     for i in range(depth + 5):
         api["edge"](i & 1, 250)

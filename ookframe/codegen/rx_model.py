@@ -48,8 +48,8 @@ MAX_LADDER = 16
 #: frames held by the ready queue unless <PREFIX>_RX_QUEUE says otherwise
 DEFAULT_QUEUE = 2
 #: entries of the edge FIFO between rx_edge (ISR) and rx_poll (main loop) unless
-#: <PREFIX>_RX_EDGES says otherwise
-DEFAULT_EDGES = 16
+#: <PREFIX>_RX_EDGE_FIFO says otherwise
+DEFAULT_EDGE_FIFO = 16
 #: fewest chips of well-placed edges before the sync for the head refit of the unit
 MIN_REFIT_CHIPS = 8
 
@@ -94,7 +94,7 @@ class RxModel:
     stuff_after: int
     stuff_value: str
     queue: int
-    edges: int
+    edge_fifo: int
     recip: tuple[int, ...]  # round(256 / n) for n = 0..top (0 unused)
     phase_shift_hunt: int
     phase_shift_body: int
@@ -110,7 +110,7 @@ class RxModel:
         phases = self.chips_per_block if self.family == "chips" else 1
         state = 4 * 8 + 16 + 2 * reg * phases + self.body_bytes
         slot = self.body_bytes + 12 + 8  # bits, quality (padded), worst16 and unit16
-        return state + self.queue * slot + 16 + 3 * self.edges + 2
+        return state + self.queue * slot + 16 + 3 * self.edge_fifo + 2
 
 
 def _literal(value: int, bits: int) -> str:
@@ -251,7 +251,7 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
         len_offset=len_offset, len_width=len_width, len_weights=weights, len_xor=xor,
         len_max=len_max, len_fixed_bits=plan.min_body_bits,
         stuff_after=code.stuff_after, stuff_value=code.stuff_value, queue=DEFAULT_QUEUE,
-        edges=DEFAULT_EDGES,
+        edge_fifo=DEFAULT_EDGE_FIFO,
         recip=recip, phase_shift_hunt=2, phase_shift_body=body_shift,
         freq_div_hunt=8, freq_div_body=64, min_refit_chips=MIN_REFIT_CHIPS)
 

@@ -26,11 +26,11 @@ import numpy as np
 from .._require import require, require_int, require_spec
 from ..channel import ChannelSpec, apply_channel, channel_time_map_us
 from ..channel.physical import PhysicalChannel, apply_physical, physical_time_map_us
+from ..intervals import clopper_pearson
 from ..plan import FramePlan, as_plan
 from ..pulses import PulseTrain
 from ..spec.model import FrameSpec
 from .batch import Batch, random_batch
-from .stats import clopper_pearson
 
 DEFAULT_CHUNK_FRAMES = 500
 #: most chips (symbol units, ``max_frame_bits * units_per_bit`` per copy) of transmissions

@@ -166,8 +166,8 @@ class SimRun:
     marks: list[tuple[int, int]]  # (value, cycle) written to GPIOR1
     end: str
     end_cycle: int
-    #: every isr / byte / mark line in the harness's order: (kind, value or cycles, cycle;
-    #: -1 for an isr, whose line carries no cycle)
+    #: every isr / byte / mark line in the harness's order: (kind, value, cycle), for an
+    #: isr (kind, its cycles, its vector)
     events: list[tuple[str, int, int]] = field(default_factory=list)
 
 
@@ -210,7 +210,7 @@ def simulate(harness: Path, elf: Path, *, clock_hz: int, isr: tuple[int, ...] = 
             continue
         if parts[0] == "isr":
             isr_c[int(parts[1])].append(int(parts[2]))
-            events.append(("isr", int(parts[2]), -1))
+            events.append(("isr", int(parts[2]), int(parts[1])))
         elif parts[0] == "edge":
             edges[parts[1]][0].append(int(parts[2]))
             edges[parts[1]][1].append(int(parts[3]))

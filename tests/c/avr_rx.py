@@ -19,7 +19,7 @@ from tests.c import avr_run
 RX_FIRMWARE = avr_run.AVR_DIR / "rx_firmware.c"
 TIMER1_COMPB_VECTOR = 12  # ATmega328P vector numbers (datasheet interrupt table, from memory)
 REPORT_START = 0xA5
-MARK_POLL, MARK_POLLED, MARK_TAKE, MARK_TAKEN = 1, 2, 3, 4
+MARK_POLL, MARK_POLLED, MARK_TAKE, MARK_TAKEN, MARK_TWO_EDGES = 1, 2, 3, 4, 5
 #: CPU cycles before the first driven edge (reset, rx_init, timer set-up are long done)
 LEAD_IN_CYCLES = 20_000
 #: quiet line between two driven trains, in microseconds
@@ -82,6 +82,7 @@ class RxRun:
     frames: list[dict[str, object]]  # raw field values, in the order decoded
     counters: dict[str, int]  # the counters after the last frame (empty when none)
     capt_cycles: np.ndarray  # each capture ISR, vector to end of reti
+    capt_two_edges: np.ndarray  # bool per capture ISR run: it also queued a missed edge
     idle_cycles: np.ndarray  # each compare B (idle) ISR
     poll_cycles: np.ndarray  # each main-loop rx_poll call, ISR time inside removed
     take_cycles: np.ndarray  # each rx_ready + rx_take that gave a frame, ISR time removed
@@ -105,7 +106,22 @@ def _parse(run: avr_run.SimRun, emitted: Emitted) -> RxRun:
         i += 1 + nf + nc
     poll, take, total = _main_loop_cycles(run.events)
     return RxRun(frames, counters, run.isr_cycles[avr_run.TIMER1_CAPT_VECTOR],
+                 _two_edge_runs(run.events, run.isr_cycles[avr_run.TIMER1_CAPT_VECTOR].size),
                  run.isr_cycles[TIMER1_COMPB_VECTOR], poll, take, total)
+
+
+def _two_edge_runs(events: list[tuple[str, int, int]], n: int) -> np.ndarray:
+    """Which capture ISR runs wrote the two-edges marker (the next ISR line after it)."""
+    out = np.zeros(n, bool)
+    i, pending = 0, False
+    for kind, value, where in events:
+        if kind == "mark" and value == MARK_TWO_EDGES:
+            pending = True
+        elif kind == "isr" and where == avr_run.TIMER1_CAPT_VECTOR and i < n:
+            out[i] = pending
+            pending = False
+            i += 1
+    return out
 
 
 def _raw(emitted: Emitted, f: ctypes.Structure) -> dict[str, object]:

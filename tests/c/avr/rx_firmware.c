@@ -3,15 +3,19 @@
  * Timer1 runs free (normal mode) at the header's prescaler; the receiver's data pin is ICP1
  * (PB0). The capture ISR flips the capture edge (ICES1) each time, gives the receiver the
  * level and tick length of the pulse that just ended and moves compare B to the idle time
- * after the edge; compare B calls <prefix>_rx_idle once and marks the next pulse as
- * saturated (0xFFFF).
- * With -DOOK_RX_IN_ISR the capture ISR also runs <prefix>_rx_poll (decoding in the ISR,
+ * after the edge; compare B calls <prefix>_rx_idle once, then keeps moving itself and the
+ * last capture time on, so that the quiet pulse's ticks stay above the idle time without
+ * wrapping (a flag-free stand-in for saturating at 0xFFFF). A pulse shorter than the
+ * capture ISR (its second edge came before the edge select was flipped) is seen on the pin
+ * after the flip and queued as ending then, so the capture edge stays in step with the
+ * line. With -DOOK_RX_IN_ISR the capture ISR also runs <prefix>_rx_poll (decoding in the ISR,
  * for comparison).
  *
  * Main loop, per wake-up: GPIOR1 = 1, <prefix>_rx_poll(), GPIOR1 = 2; then for each ready
  * frame GPIOR1 = 3, <prefix>_rx_take, GPIOR1 = 4, and the report on GPIOR0: 0xA5, the bytes
- * of struct <prefix>_fields, the bytes of struct <prefix>_rx_counters. The baseline build
- * (OOK_BASELINE) has the same timer code and a stub receiver (avr-size difference).
+ * of struct <prefix>_fields, the bytes of struct <prefix>_rx_counters. A capture ISR run
+ * that also queues a missed edge writes GPIOR1 = 5. The baseline build (OOK_BASELINE)
+ * has the same timer code around a stub receiver (avr-size difference, ISR cycles).
  * Build like firmware.c (see tests/c/avr_run.py); run under tests/c/avr/simharness.c.
  */
 #include <avr/interrupt.h>
@@ -32,6 +36,7 @@
 #define OOK_MARK_POLLED 2u
 #define OOK_MARK_TAKE 3u
 #define OOK_MARK_TAKEN 4u
+#define OOK_MARK_TWO_EDGES 5u /* this capture ISR run also queues a missed edge */
 
 #ifdef OOK_BASELINE
 /* the same firmware around a receiver that does nothing */
@@ -83,19 +88,33 @@ static void stub_counters(struct stub_counters *c) { c->x = 0u; }
 #define RX_COUNTERS_OF OOK_FN(_rx_counters)
 #endif
 
+/* compare B moves on by this much while the line stays quiet, so that ICR1 - last_capture
+ * stays between the idle time and 0xFFFF however long the quiet lasts */
+#define OOK_QUIET_STEP ((uint16_t)((0xFFFFu - OOK_IDLE_TICKS) / 2u))
+typedef char ook_assert_idle_fits[(OOK_IDLE_TICKS < 0xF000u) ? 1 : -1];
+
 static uint16_t last_capture;
-static bool saturated = true; /* the line was quiet longer than the idle time */
 
 ISR(TIMER1_CAPT_vect)
 {
     uint16_t now = ICR1;
-    uint8_t ended = (uint8_t)((TCCR1B & (1u << ICES1)) ? 0u : 1u); /* rising: a space ended */
-    TCCR1B = (uint8_t)(TCCR1B ^ (1u << ICES1));
+    uint8_t control = TCCR1B;
+    uint8_t ended = (uint8_t)((control & (1u << ICES1)) ? 0u : 1u); /* rising: a space ended */
+    TCCR1B = (uint8_t)(control ^ (1u << ICES1));
     TIFR1 = (uint8_t)(1u << ICF1); /* changing the edge may set ICF1 */
     OCR1B = (uint16_t)(now + OOK_IDLE_TICKS); /* compare B: the line went quiet */
-    RX_EDGE(ended, saturated ? 0xFFFFu : (uint16_t)(now - last_capture));
+    RX_EDGE(ended, (uint16_t)(now - last_capture));
     last_capture = now;
-    saturated = false;
+    if ((uint8_t)((PINB & (1u << PB0)) != 0u) == ended) {
+        /* the line went back before the other edge was armed (a pulse shorter than this
+         * ISR): queue that pulse as ending now and wait for this edge direction again */
+        uint16_t back = TCNT1;
+        TCCR1B = control;
+        TIFR1 = (uint8_t)(1u << ICF1);
+        GPIOR1 = OOK_MARK_TWO_EDGES;
+        RX_EDGE((uint8_t)(ended ^ 1u), (uint16_t)(back - now));
+        last_capture = back;
+    }
 #ifdef OOK_RX_IN_ISR
     RX_POLL();
 #endif
@@ -103,13 +122,16 @@ ISR(TIMER1_CAPT_vect)
 
 ISR(TIMER1_COMPB_vect)
 {
-    if (!saturated) { /* then once per timer period while quiet, nothing to do */
-        saturated = true;
+    uint16_t at = OCR1B;
+    if ((uint16_t)(at - last_capture) == OOK_IDLE_TICKS) { /* first time in this quiet spell */
         RX_IDLE();
 #ifdef OOK_RX_IN_ISR
         RX_POLL();
 #endif
+    } else {
+        last_capture = (uint16_t)(last_capture + OOK_QUIET_STEP);
     }
+    OCR1B = (uint16_t)(at + OOK_QUIET_STEP);
 }
 
 static void report(const void *p, size_t n)
@@ -130,6 +152,7 @@ int main(void)
     RX_INIT();
     TCCR1A = 0;
     TCNT1 = 0;
+    OCR1B = OOK_IDLE_TICKS; /* as if an edge came at 0: the quiet spell logic starts in step */
     TIFR1 = (uint8_t)((1u << ICF1) | (1u << OCF1B));
     TIMSK1 = (uint8_t)((1u << ICIE1) | (1u << OCIE1B));
     TCCR1B = (uint8_t)((1u << ICES1) | OOK_TIMER1_CLOCK); /* the line idles low */
