@@ -125,7 +125,9 @@ def _edge_line(d: np.ndarray, r: np.ndarray) -> tuple[np.ndarray, np.ndarray, np
     so a worst offset right at a ``FIT_STEP`` boundary) depends on the whole matrix, so
     the rows are not split or filtered before it.
     """
-    t = np.concatenate((np.zeros((d.shape[0], 1)), np.cumsum(d, axis=1)), axis=1)
+    t = np.empty((d.shape[0], r.size + 1))
+    t[:, 0] = 0.0
+    np.cumsum(d, axis=1, out=t[:, 1:])  # the running sums of each row, written in place
     c = np.concatenate(([0.0], np.cumsum(r)))
     cm = c.mean()
     tm = t.mean(axis=1)
