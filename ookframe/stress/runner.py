@@ -111,6 +111,14 @@ class StressResult:
         return d
 
 
+def copy_loss(r: StressResult, repeats: int) -> tuple[float, tuple[float, float]]:
+    """Return the fraction of copies (``r.frames * repeats``) not decoded right and its
+    95 % Clopper-Pearson interval."""
+    n = r.frames * repeats
+    lost = max(n - r.copies_ok, 0)
+    return (lost / n if n else 0.0), clopper_pearson(lost, n)
+
+
 def match_frames(batch: Batch, decoded: Sequence, time_map_us: np.ndarray) -> Counts:
     """Return the tallies of ``decoded`` frames (objects with ``start_us``, ``crc_ok`` and
     ``payload_hex``, such as ``DecodedFrame``) against the sent ``batch``.
