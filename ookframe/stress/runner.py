@@ -327,12 +327,12 @@ def run_stress(
             "e.g. ookframe.get_preset('ideal') or ookframe.PhysicalChannel()")
     require_int(n_frames, "n_frames")
     t0 = time.perf_counter()
-    # compiled once per run: every chunk gets the decoder constants (plan included)
-    receiver = compile_receiver(spec) if decoder is None else as_plan(spec)
-    spec = spec.spec if isinstance(spec, FramePlan) else spec
-    chunk_frames = min(chunk_frames, chunk_limit(receiver))
+    spec_only = spec.spec if isinstance(spec, FramePlan) else spec
     c = Counts()
-    try:
+    try:  # Ctrl-C anywhere from here on gives the partial result (none counted yet at first)
+        # compiled once per run: every chunk gets the decoder constants (plan included)
+        receiver = compile_receiver(spec) if decoder is None else as_plan(spec)
+        chunk_frames = min(chunk_frames, chunk_limit(receiver))
         sizes = chunk_plan(n_frames, chunk_frames)
         seqs = np.random.SeedSequence(seed).spawn(len(sizes))
         args = [(receiver, channel, n, q, gap_us, decoder)
@@ -343,9 +343,10 @@ def run_stress(
                 if progress is not None:
                     progress(counts.frames)
     except KeyboardInterrupt:
-        raise StressInterrupted(_result(spec, channel, seed, c, chunk_frames, t0,
+        raise StressInterrupted(_result(spec_only, channel, seed, c, chunk_frames, t0,
                                         workers if executor is None else 0)) from None
-    return _result(spec, channel, seed, c, chunk_frames, t0, workers if executor is None else 0)
+    return _result(spec_only, channel, seed, c, chunk_frames, t0,
+                   workers if executor is None else 0)
 
 
 class StressInterrupted(KeyboardInterrupt):
