@@ -474,7 +474,15 @@ MANCHESTER_JITTER_GAP = pytest.mark.xfail(
     strict=True, reason="Manchester under heavy jitter (31 us at seed 0): the C receiver "
     "loses 1.5 % of copies, the reference 0.2 %; not the unit at the sync (the nominal unit "
     "there loses as many): lost copies slip in the body or miss the sync; open in issue 10")
-JITTER_GAPS = {"hive_scale.toml": MANCHESTER_JITTER_GAP}
+#: tank_level (3-of-6 chips): the C receiver is unchanged and loses 0.013 of the copies
+#: at 17.4 us (seed 0) as before; the reference's second opinions (duration-by-duration
+#: re-reading of windows without a passing frame, main 77d5384 / a8e5d63) now lose none
+#: (<= 0.009). Its lost copies slip in the body like hive_scale's
+CHIP_SLIP_GAP = pytest.mark.xfail(
+    strict=True, reason="3-of-6 under heavy jitter: the reference's re-reading of failed "
+    "windows now decodes every copy at 17.4 us; the C receiver's 0.013 lost copies slip in "
+    "the body (code errors after one far-off edge); open in issue 10")
+JITTER_GAPS = {"hive_scale.toml": MANCHESTER_JITTER_GAP, "tank_level.toml": CHIP_SLIP_GAP}
 
 
 @pytest.mark.slow
