@@ -18,6 +18,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .bits import from_raw, uint_matrix_to_bits
+from .checks.base import check_rows
 from .plan import FramePlan, as_plan
 from .ragged import ragged_index
 from .spec.model import FrameSpec
@@ -161,14 +162,11 @@ def check_bits_batch(spec: FrameSpec | FramePlan, fields: np.ndarray, n_field_bi
         covered_parts.append(fields)
     covered = np.concatenate(covered_parts, axis=1)
     packed = np.packbits(covered, axis=1)
-    compute = plan.check.compute  # type: ignore[union-attr]
-    if plan.is_fixed or not covers_fields:
-        values = np.fromiter((compute(row.tobytes()) for row in packed), np.uint64, n)
-    else:  # each frame's own bytes: zero padding past its bits only fills whole bytes
+    n_bytes = None
+    if not (plan.is_fixed or not covers_fields):
+        # each frame's own bytes: zero padding past its bits only fills whole bytes
         n_bytes = (n_field_bits + (plan.sync_bits.size if plan.check_covers_sync else 0) + 7) // 8
-        values = np.fromiter((compute(row[:k].tobytes())
-                              for row, k in zip(packed, n_bytes.tolist(), strict=True)),
-                             np.uint64, n)
+    values = check_rows(plan.check, packed, n_bytes)  # type: ignore[arg-type]
     return uint_matrix_to_bits(values, cw, spec.bit_order, spec.check.byte_order)
 
 

@@ -12,13 +12,14 @@ from __future__ import annotations
 import difflib
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
-from decimal import Decimal
+from decimal import Decimal, getcontext
 
 import numpy as np
 
 from . import batch as _batch
 from ._require import require_rng, require_spec, require_values
 from .bits import from_raw, to_blob, to_raw, to_signed, to_unsigned
+from .checks.base import check_rows
 from .errors import ValueRangeError, excerpt
 from .plan import FramePlan, as_plan, spec_of
 from .pulses import PulseTrain, chips_to_train, concat
@@ -257,28 +258,33 @@ class ParsedFrames:
         """Return every frame as :func:`parse_frame` gives it (None where not complete)."""
         p = self.plan
         names = [fp.field.name for fp in p.fields]
-        raws = []
+        raws, phys = [], []
         for fp, col in zip(p.fields, self.raw, strict=True):
             if isinstance(col, tuple):
                 raws.append(col)
-            elif fp.field.signed:
-                raws.append([to_signed(u, fp.field.width_bits) for u in col.tolist()])
-            else:
-                raws.append(col.tolist())
+                phys.append([b.hex() for b in col])
+                continue
+            values = col.tolist()
+            if fp.field.signed:
+                w = fp.field.width_bits
+                values = [to_signed(u, w) for u in values]
+            raws.append(values)
+            phys.append(values if fp.scale is None else _scaled(values, fp.scale, fp.offset))
         w = 2 * self.payload.shape[1]
         hexes = self.payload.tobytes().hex()
         n_fb = self.n_bits - p.n_check_bits
         out: list[ParsedFrame | None] = []
-        rows = zip(zip(*raws, strict=True), self.check_ok.tolist(), self.complete.tolist(),
-                   n_fb.tolist(), strict=True)
-        for i, (values, ok, complete, k) in enumerate(rows):
+        rows = zip(zip(*raws, strict=True), zip(*phys, strict=True), self.check_ok.tolist(),
+                   self.complete.tolist(), n_fb.tolist(), strict=True)
+        n_cb = p.n_check_bits
+        for i, (values, physical, ok, complete, k) in enumerate(rows):
             if not complete:
                 out.append(None)
                 continue
-            raw = dict(zip(names, values, strict=True))
-            out.append(ParsedFrame(fields=_physical(p, raw), raw=raw,
+            out.append(ParsedFrame(fields=dict(zip(names, physical, strict=True)),
+                                   raw=dict(zip(names, values, strict=True)),
                                    payload_hex=hexes[i * w:i * w + 2 * ((k + 7) // 8)],
-                                   check_ok=ok, n_bits=k + p.n_check_bits))
+                                   check_ok=ok, n_bits=k + n_cb))
         return out
 
 
@@ -356,7 +362,26 @@ def parse_frames(spec: SpecOrPlan, bodies: np.ndarray | Sequence[np.ndarray]) ->
     the end of its frame. Entry ``i`` of the result is what ``parse_frame`` gives for row i.
     """
     p = as_plan(spec)
-    rx, avail = _rows_matrix(bodies, p.max_body_bits)
+    return _parse(p, *_rows_matrix(bodies, p.max_body_bits))
+
+
+def parse_ragged(spec: SpecOrPlan, bits: np.ndarray, lengths: np.ndarray) -> ParsedFrames:
+    """Return :func:`parse_frames` of the rows laid end to end in ``bits`` (uint8), row i
+    holding ``lengths[i]`` bits (no list of rows is built)."""
+    p = as_plan(spec)
+    width = p.max_body_bits
+    lengths = np.asarray(lengths, dtype=np.int64)
+    avail = np.minimum(lengths, width)
+    rx = np.zeros((lengths.size, width), np.uint8)
+    row = np.repeat(np.arange(lengths.size), avail)
+    col = np.arange(row.size) - np.repeat(np.cumsum(avail) - avail, avail)
+    rx[row, col] = np.asarray(bits, dtype=np.uint8)[
+        np.repeat(np.cumsum(lengths) - lengths, avail) + col]
+    return _parse(p, rx, avail)
+
+
+def _parse(p: FramePlan, rx: np.ndarray, avail: np.ndarray) -> ParsedFrames:
+    """:func:`parse_frames` of the (n x max body bits) rows ``rx`` with ``avail`` bits each."""
     n_cb = p.n_check_bits
     plain = rx[:, :p.max_field_bits] ^ p.fields_mask
     got = _read(p, plain, avail, n_cb)
@@ -368,7 +393,7 @@ def parse_frames(spec: SpecOrPlan, bodies: np.ndarray | Sequence[np.ndarray]) ->
         else:
             cb = rx[np.arange(n)[:, None], n_fb[:, None] + np.arange(n_cb)]
             cb ^= p.check_masks[(n_fb - p.min_field_bits) // 8]
-        sent = np.dot(cb, p.check_weights).tolist()  # type: ignore[arg-type]
+        sent = np.dot(cb, p.check_weights)  # type: ignore[arg-type]
         covered = got.plain
         n_sync = p.sync_bits.size if p.check_covers_sync else 0
         if n_sync:
@@ -376,12 +401,10 @@ def parse_frames(spec: SpecOrPlan, bodies: np.ndarray | Sequence[np.ndarray]) ->
             covered[:, :n_sync] = p.sync_bits
             covered[:, n_sync:] = got.plain
         packed = np.packbits(covered, axis=1)
-        n_bytes = ((n_fb + n_sync + 7) // 8).tolist()
-        keep = (1 << n_cb) - 1
-        compute = p.check.compute  # type: ignore[union-attr]
-        ok = np.array([ready and s == compute(row[:k].tobytes()) & keep
-                       for s, row, k, ready in zip(sent, packed, n_bytes, got.readable.tolist(),
-                                                   strict=True)], dtype=bool).reshape(-1)
+        n_bytes = None if p.is_fixed else (n_fb + n_sync + 7) // 8
+        keep = np.uint64((1 << n_cb) - 1)
+        value = check_rows(p.check, packed, n_bytes) & keep  # type: ignore[arg-type]
+        ok = got.readable & (sent == value)
     else:
         ok = got.readable.copy()
     return ParsedFrames(p, tuple(got.raw), np.packbits(got.plain, axis=1), ok, n_fb + n_cb,
@@ -429,8 +452,31 @@ def _physical(p: FramePlan, raw: Mapping[str, object]) -> dict[str, object]:
         elif fp.scale is None:
             out[fp.name] = int(r)  # type: ignore[call-overload]
         else:
-            out[fp.name] = float(Decimal(int(r)) * fp.scale + fp.offset)  # type: ignore[call-overload,operator]
+            out[fp.name] = _scaled([int(r)], fp.scale, fp.offset)[0]  # type: ignore[call-overload]
     return out
+
+
+def _scaled(raws: list[int], scale: Decimal, offset: Decimal | None) -> list[float]:
+    """Return ``float(Decimal(r) * scale + offset)`` for every raw int ``r``.
+
+    When every product and sum is exact in the current decimal context (within its
+    precision), the value is the exact rational r * scale + offset rounded once to a float,
+    which Python's int / int division gives directly (correctly rounded); else Decimal.
+    """
+    off = Decimal(0) if offset is None else offset
+    sn, sd = scale.as_integer_ratio()
+    on, od = off.as_integer_ratio()
+    es, eo = scale.as_tuple().exponent, off.as_tuple().exponent
+    top = max((abs(r) for r in raws), default=0)
+    limit = 10 ** getcontext().prec
+    if isinstance(es, int) and isinstance(eo, int):
+        cs = abs(int(scale.scaleb(-es)))  # the coefficients: scale = cs * 10**es
+        co = abs(int(off.scaleb(-eo)))
+        m = min(es, eo)
+        if top * cs < limit and top * cs * 10 ** (es - m) + co * 10 ** (eo - m) < limit:
+            num_s, num_o, den = sn * od, on * sd, sd * od
+            return [(r * num_s + num_o) / den for r in raws]
+    return [float(Decimal(r) * scale + off) for r in raws]
 
 
 def physical_values(spec: SpecOrPlan, raw: Mapping[str, object]) -> dict[str, object]:

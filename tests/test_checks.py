@@ -192,6 +192,44 @@ def test_all_algorithms_agree_with_crccheck(c: Crc, data: bytes) -> None:
     assert c.compute_bitwise(data) == expected
 
 
+@settings(max_examples=150, deadline=None)
+@given(c=crc_st(), rows=st.lists(st.binary(min_size=7, max_size=7), min_size=1, max_size=12))
+def test_compute_rows_agrees_with_crccheck(c: Crc, rows: list[bytes]) -> None:
+    """Crc.compute_rows (the 256-table algorithm down the columns of a rows x bytes array,
+    any parameters, refin != refout too; whole rows and each row's first n bytes) gives
+    every row's value of crccheck 1.3.x's generic Crc."""
+    import numpy as np
+
+    data = np.frombuffer(b"".join(rows), np.uint8).reshape(len(rows), 7)
+    got = c.compute_rows(data)
+    assert got.dtype == np.uint64
+    assert got.tolist() == [crccheck_generic(c).calc(r) for r in rows]
+    n_bytes = np.arange(len(rows)) % 8  # rows of 0..7 bytes
+    assert c.compute_rows(data, n_bytes).tolist() == [
+        crccheck_generic(c).calc(r[:k]) for r, k in zip(rows, n_bytes.tolist(), strict=True)]
+
+
+@pytest.mark.parametrize("name", ["sum8", "xor8", "fletcher16"])
+def test_checksum_rows_agree_with_crccheck(name: str) -> None:
+    """Sum8 / Xor8 / Fletcher16 compute_rows, and check_rows over rows of different
+    lengths, give each row's value of crccheck 1.3.x's Checksum8 / ChecksumXor8, and for
+    Fletcher-16 of the running-sum definition (Fletcher 1982, RFC 1146 8-bit form)."""
+    import numpy as np
+
+    from ookframe.checks.base import check_rows
+
+    ours = {"sum8": Sum8(), "xor8": Xor8(), "fletcher16": Fletcher16()}[name]
+    theirs = {"sum8": crccheck.checksum.Checksum8.calc,
+              "xor8": crccheck.checksum.ChecksumXor8.calc,
+              "fletcher16": fletcher16_reference}[name]
+    rng = np.random.default_rng(5)
+    data = rng.integers(0, 256, (60, 40), dtype=np.uint8)
+    assert ours.compute_rows(data).tolist() == [theirs(r.tobytes()) for r in data]
+    n_bytes = rng.integers(0, 41, 60)
+    assert check_rows(ours, data, n_bytes).tolist() == [
+        theirs(r[:k].tobytes()) for r, k in zip(data, n_bytes.tolist(), strict=True)]
+
+
 def test_crcmod_route_is_used_where_it_applies(monkeypatch: pytest.MonkeyPatch) -> None:
     """compute uses crcmod for widths 8/16/24/32/64 with refin == refout and our tables
     otherwise (crcmod 1.7 documents only those widths and a single rev flag)."""

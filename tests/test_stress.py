@@ -173,3 +173,20 @@ def test_decoder_tolerance_claims_hold(name, kind):
     r = run_stress(spec, ch, 150, seed=21, chunk_frames=75)
     assert r.ok == r.frames, r
     assert r.false_accepts == 0
+
+
+@pytest.mark.parametrize("name", ["hive_scale.toml", "gate_sensor.toml", "tank_level.toml"])
+def test_chunks_are_bounded_by_chips(name):
+    """A chunk holds at most CHUNK_CHIPS chips of transmissions (most bits per copy x the
+    line code's units per bit x copies), and never more than chunk_frames; the limit is
+    what the run reports and the counts add up to the frames asked for."""
+    from ookframe.stress.runner import CHUNK_CHIPS, chunk_limit
+
+    spec, _ = example_spec(name)
+    plan = compile_plan(spec)
+    chips = spec.max_frame_bits * plan.line_code.units_per_bit * spec.repeats
+    limit = chunk_limit(spec)
+    assert limit * chips <= CHUNK_CHIPS < (limit + 1) * chips
+    r = run_stress(spec, ChannelSpec(), limit + 3, seed=1)
+    assert r.chunk_frames == min(500, limit) and r.frames == limit + 3 and r.ok == r.frames
+    assert run_stress(spec, ChannelSpec(), 5, seed=1, chunk_frames=2).chunk_frames == 2

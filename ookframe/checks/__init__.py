@@ -1,8 +1,10 @@
 """Error checks: CRCs (Rocksoft model, catalogue of published models) and checksums.
 
-``make_check(CheckSpec)`` returns an object with ``kind``, ``width_bits`` and
-``compute(data: bytes) -> int``. Adding a check: one class in its own module with those
-three members, plus one line in ``registry.CHECKS``.
+``make_check(CheckSpec)`` returns an object with ``kind``, ``width_bits``,
+``compute(data: bytes) -> int`` and ``compute_rows(rows) -> uint64 array`` (every row of a
+frames x bytes array at once; ``base.check_rows`` handles rows of several lengths). Adding
+a check: one class in its own module with those four members, plus one line in
+``registry.CHECKS``.
 """
 
 from .base import Check

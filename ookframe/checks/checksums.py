@@ -9,6 +9,8 @@ from typing import ClassVar
 
 import numpy as np
 
+from .base import row_mask
+
 
 @dataclass(frozen=True)
 class NoCheck:
@@ -20,6 +22,10 @@ class NoCheck:
     def compute(self, data: bytes) -> int:
         """Return 0 (there is no check value)."""
         return 0
+
+    def compute_rows(self, data: np.ndarray, n_bytes: np.ndarray | None = None) -> np.ndarray:
+        """Return 0 per row (uint64)."""
+        return np.zeros(np.shape(data)[0], np.uint64)
 
 
 @dataclass(frozen=True)
@@ -33,6 +39,12 @@ class Sum8:
         """Return the 8-bit sum of ``data`` (0..255)."""
         return sum(data) & 0xFF
 
+    def compute_rows(self, data: np.ndarray, n_bytes: np.ndarray | None = None) -> np.ndarray:
+        """Return the 8-bit sum of every row of the (n x bytes) uint8 ``data`` (its first
+        ``n_bytes`` bytes), as uint64."""
+        d = row_mask(np.asarray(data, np.uint8), n_bytes)
+        return d.sum(axis=1, dtype=np.uint64) & np.uint64(0xFF)
+
 
 @dataclass(frozen=True)
 class Xor8:
@@ -44,6 +56,12 @@ class Xor8:
     def compute(self, data: bytes) -> int:
         """Return the XOR of every byte of ``data`` (0..255)."""
         return reduce(xor, data, 0)
+
+    def compute_rows(self, data: np.ndarray, n_bytes: np.ndarray | None = None) -> np.ndarray:
+        """Return the XOR of the bytes of every row of the (n x bytes) uint8 ``data`` (its
+        first ``n_bytes`` bytes)."""
+        d = row_mask(np.asarray(data, np.uint8), n_bytes)
+        return np.bitwise_xor.reduce(d, axis=1, initial=0).astype(np.uint64)
 
 
 @dataclass(frozen=True)
@@ -63,3 +81,13 @@ class Fletcher16:
         sum1 = int(d.sum()) % 255
         sum2 = int(d @ np.arange(d.size, 0, -1, dtype=np.int64)) % 255
         return (sum2 << 8) | sum1
+
+    def compute_rows(self, data: np.ndarray, n_bytes: np.ndarray | None = None) -> np.ndarray:
+        """Return the Fletcher-16 value of every row of the (n x bytes) uint8 ``data`` (its
+        first ``n_bytes`` bytes): sum2 weighs byte i of a row of n bytes by n - i."""
+        d = row_mask(np.asarray(data, np.uint8), n_bytes).astype(np.int64)
+        m = d.shape[1]
+        n = np.full(d.shape[0], m, np.int64) if n_bytes is None else n_bytes
+        sum1 = d.sum(axis=1) % 255
+        sum2 = (d * (n[:, None] - np.arange(m))).sum(axis=1) % 255
+        return ((sum2 << 8) | sum1).astype(np.uint64)

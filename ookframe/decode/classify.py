@@ -58,12 +58,27 @@ def nearest_runs(ratio: np.ndarray, levels: np.ndarray, table: RunTable
         units = units.astype(np.int64)
     else:  # both levels looked up over the whole array (cheaper than masked parts)
         a0, a1 = table.allowed
-        units = np.where(levels == 1, a1[np.searchsorted(table.mids[1], r)],
-                         a0[np.searchsorted(table.mids[0], r)])
+        units = np.where(levels == 1, a1[_rank(table.mids[1], r)], a0[_rank(table.mids[0], r)])
     beyond = r > table.cap_ratio
     if beyond.any():
         units[beyond] = np.rint(r[beyond]).astype(np.int64)
     return units, np.abs(r - units)
+
+
+#: sorted arrays up to this long are ranked by comparisons, not a binary search
+_FEW_THRESHOLDS = 4
+
+
+def _rank(mids: np.ndarray, r: np.ndarray) -> np.ndarray:
+    """Return ``np.searchsorted(mids, r)`` (how many thresholds lie below each value; NaN
+    after all of them). For a few thresholds, as their count less the thresholds at or
+    above the value (NaN is at or below none): one comparison per threshold."""
+    if mids.size > _FEW_THRESHOLDS:
+        return np.searchsorted(mids, r)
+    rank = np.full(r.shape, mids.size, np.intp)
+    for m in mids.tolist():
+        rank -= r <= m
+    return rank
 
 
 def run_margin(ratio: np.ndarray, levels: np.ndarray, units: np.ndarray, table: RunTable
@@ -302,15 +317,23 @@ class _Segments:
     [start, stop) of its segment (worked out once for several moving windows)."""
 
     def __init__(self, lengths: np.ndarray) -> None:
-        self.start = np.repeat(np.cumsum(lengths) - lengths, lengths)
-        self.stop = self.start + np.repeat(lengths, lengths)
+        first = np.cumsum(lengths) - lengths
+        self.start = np.repeat(first, lengths)
+        self.stop = np.repeat(first + lengths, lengths)
         self.i = np.arange(self.start.size)
+        self._hi: dict[int, np.ndarray] = {}
 
     def bounds(self, before: int, after: int) -> tuple[np.ndarray, np.ndarray]:
         """Bounds of the ``before`` elements before each element, itself and ``after``
-        after it, within its segment."""
-        return (np.maximum(self.i - before, self.start),
-                np.minimum(self.i + (after + 1), self.stop))
+        after it, within its segment (the upper bound kept for other ranges)."""
+        lo = self.i - before
+        np.maximum(lo, self.start, out=lo)
+        hi = self._hi.get(after)
+        if hi is None:
+            hi = self.i + (after + 1)
+            np.minimum(hi, self.stop, out=hi)
+            self._hi[after] = hi
+        return lo, hi
 
 
 def _moving_sum(x: np.ndarray, bounds: tuple[np.ndarray, np.ndarray]) -> np.ndarray:
@@ -318,7 +341,9 @@ def _moving_sum(x: np.ndarray, bounds: tuple[np.ndarray, np.ndarray]) -> np.ndar
     cs = np.empty(x.size + 1, x.dtype)
     cs[0] = 0
     np.cumsum(x, out=cs[1:])
-    return cs[bounds[1]] - cs[bounds[0]]
+    out = cs[bounds[1]]
+    out -= cs[bounds[0]]
+    return out
 
 
 def is_allowed(n: np.ndarray, levels: np.ndarray, table: RunTable) -> np.ndarray:
@@ -358,17 +383,29 @@ def _repair(c: np.ndarray, residual: np.ndarray, grid: np.ndarray, pulse_edge: n
     return c, grid - c
 
 
-def _phasor_sum(x: np.ndarray, dropped: np.ndarray, bounds: tuple[np.ndarray, np.ndarray]
-                ) -> np.ndarray:
-    """Return the moving sums of the unit phasors of the fractional parts of ``x`` over
-    the ``_ragged_bounds`` ranges, those at the indices ``dropped`` left out (cos and sin
-    into one complex array: the values of ``np.exp(2j * np.pi * x)``, at less cost)."""
+def _phase_turns(x: np.ndarray, dropped: np.ndarray, bounds: tuple[np.ndarray, np.ndarray]
+                 ) -> np.ndarray:
+    """Return the angle in turns of the moving sums of the unit phasors of the fractional
+    parts of ``x`` over the ``_ragged_bounds`` ranges, those at the indices ``dropped``
+    left out: ``np.angle(S) / (2 * np.pi)`` for S the sums of ``np.exp(2j * np.pi * x)``.
+
+    The cosine and sine parts are summed as two real arrays (complex sums add the parts
+    separately, so the values are the same) and the angle is their ``arctan2`` (as
+    ``np.angle`` takes it), at less memory than one complex array.
+    """
     turn = 2 * np.pi * x
-    z = np.empty(x.size, np.complex128)
-    np.cos(turn, out=z.real)
-    np.sin(turn, out=z.imag)
-    z[dropped] = 0.0
-    return _moving_sum(z, bounds)
+    re = np.cos(turn)
+    np.sin(turn, out=turn)
+    im = turn
+    re[dropped] = 0.0
+    im[dropped] = 0.0
+    s_re = _moving_sum(re, bounds)
+    del re
+    s_im = _moving_sum(im, bounds)
+    del im
+    out = np.arctan2(s_im, s_re)
+    out /= 2 * np.pi
+    return out
 
 
 def _unwrap(p: np.ndarray) -> np.ndarray:
@@ -379,10 +416,11 @@ def _unwrap(p: np.ndarray) -> np.ndarray:
     step = dd[big]
     mod = np.mod(step + 0.5, 1.0) - 0.5
     mod[(mod == -0.5) & (step > 0)] = 0.5
-    correct = np.zeros(dd.size)
-    correct[big] = mod - step
+    # the running sum of the corrections (zero between them: the same sums as a cumsum
+    # over every step), held constant from each corrected step to the next
+    level = np.concatenate(([0.0], np.cumsum(mod - step)))
     out = p.copy()
-    out[1:] = p[1:] + np.cumsum(correct)
+    out[1:] = p[1:] + np.repeat(level, np.diff(np.concatenate(([0], big, [dd.size]))))
     return out
 
 
@@ -418,10 +456,13 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
     e_start = np.cumsum(n_edges) - n_edges
     p_start = np.cumsum(lengths) - lengths
     pulse_edge = np.arange(d.size) + np.repeat(e_start - p_start, lengths) + 1  # end edge
-    t = np.zeros(int(n_edges.sum()))
-    t[pulse_edge] = d / u_pulse  # durations in (tracked) units
-    cs = np.cumsum(t)
-    x = cs - np.repeat(cs[e_start], n_edges)
+    # (temporaries are overwritten in place and dropped early where the arithmetic stays
+    # the same: fewer fresh pages per call)
+    x = np.zeros(int(n_edges.sum()))
+    ratio = d / u_pulse  # durations in (tracked) units
+    x[pulse_edge] = ratio
+    np.cumsum(x, out=x)
+    x -= np.repeat(x[e_start], n_edges)
     keep = np.ones(x.size)
     dropped = pulse_edge[capped] if capped is not None else np.zeros(0, np.int64)
     keep[dropped] = 0.0
@@ -430,11 +471,23 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
     b, a = 2 * half_window, LOOK_AHEAD
     segments = _Segments(n_edges)
     near, wide = segments.bounds(4, a), segments.bounds(b, a)
-    rough = _unwrap(np.angle(_phasor_sum(x, dropped, near)) / (2 * np.pi))
-    trend = _moving_sum(rough * keep, wide) / np.maximum(_moving_sum(keep, wide), 1.0)
-    phase = trend + np.angle(_phasor_sum(x - trend, dropped, wide)) / (2 * np.pi)
+    del segments
+    rough = _phase_turns(x, dropped, near)
+    rough = _unwrap(rough)
+    kept = _moving_sum(keep, wide)
+    np.maximum(kept, 1.0, out=kept)
+    rough *= keep
+    trend = _moving_sum(rough, wide)
+    del rough
+    trend /= kept
+    del kept
+    phase = _phase_turns(x - trend, dropped, wide)
+    phase += trend
+    del trend
     phase = _unwrap(phase)  # a step of the rough phase must not move the grid
-    grid = x - phase
+    grid = x
+    grid -= phase
+    del phase
     c = np.rint(grid)
     residual = grid - c
     start_edge = pulse_edge - 1
@@ -444,9 +497,9 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
         c, residual = _repair(c, residual, grid, pulse_edge, n, ok, levels, table)
         n = (c[pulse_edge] - c[start_edge]).astype(np.int64)
         ok = is_allowed(n, levels, table)
-    ratio = d / u_pulse
-    fallback, _ = nearest_runs(ratio, levels, table)
-    n = np.where(ok, n, fallback)
+    bad = np.flatnonzero(~ok)
+    if bad.size:
+        n[bad] = nearest_runs(ratio[bad], levels[bad], table)[0]
     ar = np.abs(residual)
     if capped is not None:
         ar[pulse_edge[capped]] = 0.0

@@ -44,9 +44,11 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
     if cand.size == 0:
         return cand.astype(np.int64), np.zeros(0)
     d = durations_us[cand[:, None] + np.arange(k)]
-    unit, worst = _edge_fit(d, r)
-    ok = np.abs(unit / unit_us - 1.0) <= clock_error
-    ok &= worst < MAX_EDGE_OFFSET
+    unit, offset = _edge_line(d, r)
+    ok = np.abs(unit / unit_us - 1.0) <= clock_error  # cheap: before the edge offsets
+    cand, d, unit = cand[ok], d[ok], unit[ok]
+    worst = _worst_edge(d, r, unit, offset[ok])
+    ok = worst < MAX_EDGE_OFFSET
     if k < SHORT_SIGNATURE_RUNS:  # few runs say little: every duration must fit as well
         got, _ = nearest_runs(d / unit[:, None], np.broadcast_to(sig_levels, d.shape), table)
         ok &= (got == sig_units).all(axis=1)
@@ -114,16 +116,36 @@ def _spans_fit(cand: np.ndarray, durations_us: np.ndarray, r: np.ndarray, max_un
     return cand
 
 
-def _edge_fit(d: np.ndarray, r: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Return per row (unit in µs, largest distance of an edge from the fitted grid in
-    units) of the least-squares line of edge time over chip count for rows of durations
-    ``d`` with run lengths ``r``."""
-    t = np.concatenate((np.zeros((d.shape[0], 1)), np.cumsum(d, axis=1)), axis=1)
+def _edge_line(d: np.ndarray, r: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Return per row (unit in µs: NaN unless positive, offset of the first edge from the
+    line in units) of the least-squares line of edge time over chip count for rows of
+    durations ``d`` with run lengths ``r``.
+
+    Edge j lies at t_j = d_0 + ... + d_(j-1), so the sums over edges the fit needs are
+    sums over durations with fixed weights: sum_j t_j (c_j - mean c) = d @ W with
+    W_i = sum_(j > i) (c_j - mean c), and sum_j t_j = d @ (k - i): one matrix product,
+    no edge times.
+    """
+    k = r.size
     c = np.concatenate(([0.0], np.cumsum(r)))
-    cm = c.mean()
-    tm = t.mean(axis=1)
-    slope = ((t - tm[:, None]) @ (c - cm)) / ((c - cm) @ (c - cm))
+    w = c - c.mean()
+    weights = np.empty((k, 2))
+    weights[:, 0] = np.cumsum(w[::-1])[::-1][1:] / (w @ w)
+    weights[:, 1] = np.arange(k, 0, -1) / (k + 1.0)
+    slope, tm = (d @ weights).T
     unit = np.where(slope > 0, slope, np.nan)
-    offset = (tm - slope * cm) / unit
-    worst = np.abs(t / unit[:, None] - offset[:, None] - c).max(axis=1)
-    return unit, worst
+    offset = (tm - slope * c.mean()) / unit
+    return unit, offset
+
+
+def _worst_edge(d: np.ndarray, r: np.ndarray, unit: np.ndarray, offset: np.ndarray
+                ) -> np.ndarray:
+    """Return per row the largest distance (units) of an edge from the line ``unit``,
+    ``offset`` (see :func:`_edge_line`) for rows of durations ``d`` with run lengths ``r``."""
+    c = np.cumsum(r)
+    t = np.cumsum(d, axis=1)
+    t /= unit[:, None]
+    t -= offset[:, None]
+    t -= c
+    np.abs(t, out=t)
+    return np.maximum(t.max(axis=1, initial=0.0), np.abs(offset))

@@ -15,7 +15,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..frame import ParsedFrame, parse_frames
+from ..frame import ParsedFrame, parse_frames, parse_ragged
 from ..linecodes import DecodedBits
 from ..spec.model import FrameSpec
 from .head import HeadModel
@@ -186,8 +186,7 @@ def _bodies(spec: FrameSpec, hm: HeadModel, st: _Streams, lo: np.ndarray, hi: np
     starts = lo + body_at
     received, n_rx = lc.unstuff_rows(st.bits[ragged_index(starts, hi - starts)], hi - starts)
     at = np.cumsum(n_rx) - n_rx
-    bodies = np.split(received, at[1:]) if lo.size else []
-    rows = parse_frames(hm.plan, bodies).frames() if bodies else []
+    rows = parse_ragged(hm.plan, received, n_rx).frames() if lo.size else []
     got = np.array([p is not None for p in rows], bool)
     i = np.flatnonzero(got)
     n_bits = np.array([p.n_bits for p in rows if p is not None], np.int64)
@@ -197,8 +196,9 @@ def _bodies(spec: FrameSpec, hm: HeadModel, st: _Streams, lo: np.ndarray, hi: np
     ok[i] = True
     parsed = [rows[k] for k in i.tolist()]
     n_air[i] = n
-    bad = np.concatenate(([0], np.cumsum(~st.valid)))
-    code[i] = bad[starts[i] + n] - bad[starts[i]]
+    # invalid codewords among each frame's own bits (not a running count over every stream)
+    frame_of = np.repeat(np.arange(i.size), n)
+    code[i] = np.bincount(frame_of[~st.valid[ragged_index(starts[i], n)]], minlength=i.size)
     return ok, parsed, n_air, code
 
 

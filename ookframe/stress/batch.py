@@ -9,7 +9,6 @@ from dataclasses import dataclass
 import numpy as np
 
 from .. import batch as _batch
-from ..frame import random_values, raw_values, raws_batch
 from ..plan import FramePlan, as_plan
 from ..pulses import PulseTrain
 from ..spec.model import FrameSpec
@@ -37,12 +36,10 @@ class Batch:
 
 
 def _random_raws(plan: FramePlan, n: int, rng: np.random.Generator):
-    """Return the raw values of ``n`` random frames: drawn array-wide for a fixed layout
-    (``ookframe.batch.random_raw_batch``), else frame by frame with
-    ``frame.random_values`` (the same distribution; the same draws as one-frame runs)."""
-    if plan.is_fixed:
-        return _batch.random_raw_batch(plan, n, rng)
-    return raws_batch(plan, [raw_values(plan, random_values(plan, rng)) for _ in range(n)])
+    """Return the raw values of ``n`` random frames, drawn array-wide
+    (``ookframe.batch.random_raw_batch``: every layout, bytes fields too; the distribution
+    of ``frame.random_values``)."""
+    return _batch.random_raw_batch(plan, n, rng)
 
 
 def random_batch(
