@@ -554,6 +554,42 @@ def test_a_pulse_shrunk_below_the_glitch_filter_is_read(name, where):
 
 
 @pytest.mark.parametrize("name", ["gate_sensor", "greenhouse_probe"])
+def test_heads_of_every_copy_cut_by_the_glitch_filter_are_read(name):
+    """A 1-unit preamble pulse shrunk to 0.2 unit in every copy: the filter leaves no head
+    the signature matches anywhere in the train, and the low-filter opinion still reads
+    every copy. Regression: with no candidate at all the decoder returned nothing
+    (gate_sensor here; greenhouse_probe at +-40 % jitter lost both copies of 4 of 1,500
+    transmissions so; its heads still match once shifted into the sync word)."""
+    spec, values = example_spec(name)
+    tx = frame.encode(spec, values)
+    du = tx.durations_us.copy()
+    starts = np.concatenate(([0], np.flatnonzero(du >= spec.gap_us) + 1))
+    assert starts.size == spec.repeats
+    for k in starts + 5:  # head run 5: one unit in both heads, inside the signature
+        assert du[k] == pytest.approx(spec.unit_us)
+        du[k - 1] += 0.4 * spec.unit_us
+        du[k] -= 0.8 * spec.unit_us
+        du[k + 1] += 0.4 * spec.unit_us
+    frames = decode(spec, PulseTrain(tx.levels, du))
+    assert_exact(spec, values, frames)
+    for f, start in zip(frames, frame_starts_us(spec, values), strict=True):
+        assert abs(f.start_us - start) < 0.5 * spec.unit_us
+
+
+def test_a_frame_the_grid_reading_takes_for_noise_is_read_duration_by_duration():
+    """gate_sensor at +-42 % edge jitter, seed 279: one copy's grid reading fails its
+    check with over 20 % of its pulses out of tolerance, so it is dropped as noise; the
+    duration-by-duration reading of that window (the second opinion) reads it right.
+    Regression: that reading ran only for frames kept as failed, and a copy was lost
+    (in 5 of 3,000 seeds, this one among them)."""
+    spec, _ = example_spec("gate_sensor")
+    rng = np.random.default_rng(279)
+    values = frame.random_values(spec, rng)
+    train = jitter_edges(frame.encode(spec, values), 0.42 * spec.unit_us, rng)
+    assert_exact(spec, values, [f for f in decode(spec, train) if f.crc_ok])
+
+
+@pytest.mark.parametrize("name", ["gate_sensor", "greenhouse_probe"])
 def test_pulse_codes_read_through_40_percent_edge_jitter(name):
     """PWM and pulse distance: allowed lengths 2 units apart, so nearest-length decisions
     with the unit known are right up to +-50 % edge jitter (channel arithmetic); at +-40 %
@@ -895,7 +931,9 @@ def test_pulse_code_head_found_below_50_percent_jitter(name, jitter, clock, seed
     first, unit = find_candidates(hm.sig_levels, d, hm.sig_levels, hm.sig_units,
                                   spec.unit_us, hm.runs, 0.10)
     assert first.tolist() == [0]
-    assert unit[0] == pytest.approx(spec.unit_us * clock, rel=0.05)
+    # first and last edge within 0.49 of the sent grid and within 0.5 of the fitted one:
+    # the two grids' units differ by less than 2 units over the signature's chips
+    assert unit[0] == pytest.approx(spec.unit_us * clock, rel=2.0 / r.sum())
 
 
 @pytest.mark.parametrize("name", ["gate_sensor", "greenhouse_probe"])
