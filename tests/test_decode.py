@@ -950,3 +950,24 @@ def test_pulse_code_head_off_every_grid_is_not_found(name):
     first, _ = find_candidates(hm.sig_levels, d, hm.sig_levels, hm.sig_units, spec.unit_us,
                                hm.runs, 0.10)
     assert first.size == 0
+
+
+@pytest.mark.parametrize("name", ["greenhouse_probe", "gate_sensor", "hive_scale"])
+def test_duration_reading_of_a_window_with_windows_after_it(name):
+    """The duration-by-duration reading (the second opinion) of every copy of a clean
+    transmission, all windows in one pass: every check passes, no code error. Regression:
+    the gap after a copy kept its whole length there (the grid reading counts it as the
+    longest run), so for PWM, where the space after each mark must be short or long except
+    at the very end, the last bit of every window but the last was a code error (read as
+    0: the check failed where it was a 1; greenhouse_probe at +-40 % jitter)."""
+    from ookframe.decode.framer import _decode_clean, _windows
+
+    spec, values = example_spec(name)
+    hm = head_model(spec)
+    tx = frame.encode(spec, values)
+    cw = _windows(hm, tx, spec.unit_us)
+    assert cw is not None
+    for grid in (True, False):
+        found, _ = _decode_clean(spec, hm, tx, cw, grid=grid)
+        assert_exact(spec, values, [f for f, _ in found])
+        assert [f.code_errors for f, _ in found] == [0] * spec.repeats

@@ -206,7 +206,7 @@ class _Context:
     t0: np.ndarray
     unparsed_us: np.ndarray  # estimated start of windows whose sync was found, body not read
     unparsed_unit_us: np.ndarray  # their unit
-    doubtful: np.ndarray  # windows whose sync was found but no frame kept (see _decode_clean)
+    doubtful: np.ndarray  # windows no frame covers, none read from them (see _decode_clean)
 
 
 def _recover(spec: FrameSpec, hm: HeadModel, ctx: _Context, k: int, max_flips: int
@@ -529,7 +529,7 @@ def _decode_clean(spec: FrameSpec, hm: HeadModel, clean: PulseTrain, cw: _Candid
         if got is None:
             if synced[k]:
                 unparsed.append(k)
-                doubtful.append(k)
+            doubtful.append(k)
             continue
         frame, last = got
         if not _plausible(spec, frame):
@@ -539,8 +539,17 @@ def _decode_clean(spec: FrameSpec, hm: HeadModel, clean: PulseTrain, cw: _Candid
         frames.append((frame, k))
     u = np.array(unparsed, np.int64)
     unparsed_us = t0[first[u]] - int(hm.prefix_units.sum()) * ws.start_unit_us[u]
-    return frames, _Context(ws, levels, dur, t0, unparsed_us, ws.start_unit_us[u],
-                            np.array(doubtful, np.int64))
+    # windows no frame covers whose reading found no sync, no body or only noise: the
+    # head matched, so another reading may find the frame (an overlapping head of the same
+    # frame, covered by it, needs none)
+    d = np.array(doubtful, np.int64)
+    if d.size and frames:
+        fs = np.array([f.start_us for f, _ in frames])
+        fe = np.array([f.end_us for f, _ in frames])
+        t = t0[first[d]]
+        j = np.searchsorted(fs, t, side="right") - 1
+        d = d[(j < 0) | (t > fe[np.maximum(j, 0)])]
+    return frames, _Context(ws, levels, dur, t0, unparsed_us, ws.start_unit_us[u], d)
 
 
 def _frame_all(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,
