@@ -956,10 +956,10 @@ def test_pulse_code_head_off_every_grid_is_not_found(name):
 def test_duration_reading_of_a_window_with_windows_after_it(name):
     """The duration-by-duration reading (the second opinion) of every copy of a clean
     transmission, all windows in one pass: every check passes, no code error. Regression:
-    the gap after a copy kept its whole length there (the grid reading counts it as the
-    longest run), so for PWM, where the space after each mark must be short or long except
-    at the very end, the last bit of every window but the last was a code error (read as
-    0: the check failed where it was a 1; greenhouse_probe at +-40 % jitter)."""
+    the gap after a copy keeps its whole length there (the grid reading counts it as the
+    longest run), and PWM took a space neither short nor long for a code error except at
+    the very end of its input, so the last bit of every window but the last was one (read
+    as 0: the check failed where it was a 1; greenhouse_probe at +-40 % jitter)."""
     from ookframe.decode.framer import _decode_clean, _windows
 
     spec, values = example_spec(name)

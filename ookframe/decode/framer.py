@@ -165,11 +165,14 @@ def decode(spec: Receiver, train: PulseTrain, *,
             frames = [f if f.crc_ok else _recover(spec, hm, ctx, k, flips) or f
                       for f, k in found]
         failed = [k for f, (_, k) in zip(frames, found, strict=True) if not f.crc_ok]
-        if failed or ctx.doubtful.size:
-            again = cw.bursts_of(failed + ctx.doubtful.tolist())
-            other, _ = _decode_clean(spec, hm, clean, again, grid=False)
-            frames = _second_opinion(spec, frames, [f for f, _ in other],
-                                     cw.t0[cw.first[ctx.doubtful]])
+        if failed:
+            other, _ = _decode_clean(spec, hm, clean, cw.bursts_of(failed), grid=False)
+            frames = _second_opinion(spec, frames, [f for f, _ in other])
+        if ctx.doubtful.size:  # a pass of its own: its frames never block those above
+            other, _ = _decode_clean(spec, hm, clean, cw.bursts_of(ctx.doubtful.tolist()),
+                                     grid=False)
+            frames = _doubtful_opinion(frames, [f for f, _ in other],
+                                       cw.t0[cw.first[ctx.doubtful]])
     if ctx.unparsed_us.size or not all(f.crc_ok for f in frames):
         frames = _tail_opinion(spec, hm, train, frames, ctx)
     frames = _low_filter_opinion(spec, hm, train, clean, cw, frames)
@@ -247,36 +250,38 @@ def _recover(spec: FrameSpec, hm: HeadModel, ctx: _Context, k: int, max_flips: i
     return None
 
 
-def _second_opinion(spec: FrameSpec, frames: list[DecodedFrame], other: list[DecodedFrame],
-                    doubtful_us: np.ndarray | None = None) -> list[DecodedFrame]:
+def _second_opinion(spec: FrameSpec, frames: list[DecodedFrame], other: list[DecodedFrame]
+                    ) -> list[DecodedFrame]:
     """Return ``frames`` with every frame whose check failed replaced by a frame of
-    ``other`` (decoded duration by duration) at the same start whose check passes; and
-    with every frame of ``other`` whose check passes that holds one of ``doubtful_us``
-    (first pulses of windows the first reading dropped: taken for noise, or synced but
-    not read) and overlaps no frame added (its false-accept risk is that of one more
-    reading of the window, as for the frames it replaces)."""
+    ``other`` (decoded duration by duration) at the same start whose check passes."""
     good = [f for f in other if f.crc_ok]
     starts = np.array([f.start_us for f in good])
     out = []
-    used: set[int] = set()
     for f in frames:
         if not f.crc_ok and starts.size:
             k = int(np.abs(starts - f.start_us).argmin())
             if abs(starts[k] - f.start_us) < 2 * spec.unit_us:
                 f = good[k]
-                used.add(k)
         out.append(f)
-    if doubtful_us is None or doubtful_us.size == 0:
-        return out
+    return out
+
+
+def _doubtful_opinion(frames: list[DecodedFrame], other: list[DecodedFrame],
+                      doubtful_us: np.ndarray) -> list[DecodedFrame]:
+    """Return ``frames`` with every frame of ``other`` (decoded duration by duration)
+    whose check passes, that holds one of ``doubtful_us`` (first pulses of windows whose
+    first reading was taken for noise, found no sync or no body, and that no frame covers)
+    and overlaps no frame, added. Its false-accept risk is that of one more reading of
+    such a window, as for the frames the second opinion replaces."""
     times = np.sort(doubtful_us)
-    extra = []
-    for k, g in enumerate(good):
-        if k in used or not _holds(g, times):
+    extra: list[DecodedFrame] = []
+    for g in other:
+        if not g.crc_ok or not _holds(g, times):
             continue
-        if any(f.start_us < g.end_us and g.start_us < f.end_us for f in out + extra):
+        if any(f.start_us < g.end_us and g.start_us < f.end_us for f in frames + extra):
             continue
         extra.append(g)
-    return sorted(out + extra, key=lambda f: f.start_us) if extra else out
+    return sorted(frames + extra, key=lambda f: f.start_us) if extra else frames
 
 
 def _tail_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,

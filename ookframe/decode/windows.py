@@ -75,9 +75,6 @@ def classify_windows(spec: FrameSpec, hm: HeadModel, dur: np.ndarray, first: np.
         ratio = d / unit
         capped = ratio > table.cap_ratio
         n, dev = nearest_runs(ratio, lv, table)
-        # as in the grid reading: the gap after a frame counts as its longest run, so a
-        # window's last bit reads the same whether other windows follow it or not
-        n = np.where(capped, table.top, n)
         end_res = np.zeros(d.size)
     pos = idx - first[window]
     first_cap = np.minimum.reduceat(np.where(capped, pos, length[window]), offset)
