@@ -264,3 +264,230 @@ def test_sanitized_random_edges(tmp_path, name):
     assert proc.returncode == 0, proc.stderr[-2000:]
     assert "runtime error" not in proc.stderr
     assert proc.stdout.split()[0] == "2000000"
+
+
+def _cli_json(argv: list[str]) -> tuple[int, str]:
+    import contextlib
+    import io
+
+    from ookframe.cli.main import main
+
+    buf = io.StringIO()
+    with contextlib.redirect_stdout(buf):
+        code = main(argv)
+    return code, buf.getvalue()
+
+
+@pytest.mark.slow
+@needs_gcc
+def test_sweep_and_margin_cli_decoder_c():
+    """``sweep --decoder c`` and ``margin --decoder c`` report the C receiver beside the
+    reference on the same seeds (JSON); on the ideal channel both decode every frame."""
+    import json
+
+    path = str(_example_path("gate_sensor.toml"))
+    code, text = _cli_json(["sweep", path, "--vary", "jitter_us=0,5", "--frames", "40",
+                            "--decoder", "c", "--workers", "1", "--json"])
+    assert code == 0
+    d = json.loads(text)
+    for side in ("reference", "c"):
+        pts = d[side]["specs"][0]["points"]
+        assert [p["value"] for p in pts] == [0.0, 5.0]
+        assert pts[0]["ok"] == 40
+    code, text = _cli_json(["margin", path, "--decoder", "c", "--impairments", "dropout_prob",
+                            "--target-per", "0.2", "--frames", "40", "--resolution", "0.2",
+                            "--workers", "1", "--json"])
+    assert code == 0
+    m = json.loads(text)["margins"][0]
+    assert 0.0 <= m["c_per_at_limit"] <= 1.0
+    assert len(m["c_per_ci95_at_limit"]) == 2
+
+
+@pytest.mark.parametrize("cmd", [["stress"], ["sweep", "--vary", "jitter_us=0,5"],
+                                 ["margin", "--impairments", "jitter_us"]])
+def test_decoder_c_without_compiler_is_a_clear_error(monkeypatch, tmp_path, capsys, cmd):
+    """``--decoder c`` with no C compiler: exit code non-zero, message names the problem,
+    no traceback, before any simulation runs."""
+    from ookframe.cli.main import main
+
+    monkeypatch.setenv("PATH", str(tmp_path))
+    monkeypatch.delenv("OOKFRAME_CC", raising=False)
+    host_receiver.cache_clear()
+    argv = [cmd[0], str(_example_path("gate_sensor.toml")), *cmd[1:], "--decoder", "c",
+            "--workers", "1"]
+    code = main(argv)
+    e = capsys.readouterr().err
+    assert code != 0
+    assert "no C compiler" in e
+    assert "Traceback" not in e
+
+
+def _one_edge_moved(spec, rng, shift_units: float):
+    """A clean train of ``spec`` with one edge inside the first copy's body moved by
+    ``shift_units`` (past halfway to the next grid point, so its hard decision is wrong),
+    or None when the two pulses it bounds would get too short."""
+    from ookframe.decode.head import build_head
+
+    t = encode(spec, random_values(spec, rng))
+    u = spec.unit_us
+    ends = np.cumsum(t.durations_us)
+    body_us = build_head(spec).body_chip * u
+    gaps = np.flatnonzero(t.durations_us > 10 * u)
+    stop = int(gaps[0]) if gaps.size else t.durations_us.size
+    edges = np.flatnonzero((ends[:-1] > body_us + u) & (np.arange(ends.size - 1) < stop - 2))
+    j = int(rng.choice(edges))
+    d = t.durations_us.astype(float)
+    sh = float(rng.choice([-1.0, 1.0])) * shift_units * u
+    if min(d[j] + sh, d[j + 1] - sh) < 0.5 * u:
+        return None
+    d[j] += sh
+    d[j + 1] -= sh
+    return PulseTrain(t.levels, d)
+
+
+@needs_gcc
+@pytest.mark.parametrize("name", ["hive_scale.toml", "tank_level.toml", "coldframe_vent.toml"])
+def test_check_aided_recovery_matches_reference(name):
+    """Trains with one body edge moved 0.62 unit (its hard decision wrong, 0.38 unit off
+    the grid): wherever the reference decoder corrects the frame (``corrected`` = 1), the C
+    receiver returns the same payload with the check passing and ``corrected`` = 1.
+    numpy PCG64 seed 3; the reference is ``ookframe.decode`` of this repository."""
+    spec = example_spec(name)
+    rng = np.random.default_rng(3)
+    needed = agreed = 0
+    for _ in range(80):
+        train = _one_edge_moved(spec, rng, 0.62)
+        if train is None:
+            continue
+        ref = decode(spec, train, include_bad=True)
+        if not ref or ref[0].corrected == 0:
+            continue
+        needed += 1
+        got = decode_c(spec, train)
+        assert got, "the C receiver lost the frame"
+        assert got[0].crc_ok
+        assert got[0].payload_hex == ref[0].payload_hex
+        assert got[0].corrected == ref[0].corrected
+        agreed += 1
+    assert needed >= 3  # the trains do exercise the recovery
+    print(f"{name}: {agreed} corrected frames agree with the reference")
+
+
+@needs_gcc
+def test_recovery_stays_within_the_trials():
+    """The recovery's limits are the reference's (hive_scale: CRC-16/KERMIT over 64 bits,
+    HD 4 (Koopman's CRC tables, from memory) -> 2 flips; 2**16 / 4096 = 16 trials), and on
+    a badly jittered train no frame reports more edges moved than that."""
+    spec = example_spec("hive_scale.toml")
+    e = emit_header(spec, side="rx")
+    assert e.model.rx.recovery_flips == 2
+    assert e.model.rx.recovery_trials == 16  # 2**16 / 4096
+    rng = np.random.default_rng(5)
+    t = encode(spec, random_values(spec, rng))
+    d = t.durations_us * rng.uniform(0.7, 1.3, t.durations_us.size)
+    for f in decode_c(spec, PulseTrain(t.levels, d)):
+        assert f.corrected <= 2
+
+
+PARITY_PRESETS = ("ideal", "budget-superregen", "edge-of-range-superregen", "superhet")
+
+
+@pytest.mark.slow
+@needs_gcc
+@pytest.mark.parametrize("name", EXAMPLES)
+def test_copy_loss_parity_at_presets(name):
+    """The C receiver loses no more copies than the reference decoder's 95 % CI
+    (Clopper-Pearson) allows, on the same seeds, at every channel preset (300
+    transmissions). A C receiver better than the CI's lower bound passes too."""
+    from ookframe import get_preset
+    from ookframe.stress import run_stress
+    from ookframe.stress.runner import copy_loss
+
+    spec = example_spec(name)
+    host_receiver(spec)
+    seen = []
+    for preset in PARITY_PRESETS:
+        ch = get_preset(preset)
+        ref = run_stress(spec, ch, 300, seed=0)
+        c = run_stress(spec, ch, 300, seed=0, decoder=decode_c)
+        (lr, (_, hi)), (lc, _) = copy_loss(ref, spec.repeats), copy_loss(c, spec.repeats)
+        seen.append(f"{preset}: ref {lr:.3f} (<= {hi:.3f}) C {lc:.3f}")
+        assert lc <= hi, seen[-1]
+    print(f"{name}: " + "; ".join(seen))
+
+
+MANCHESTER_JITTER_GAP = pytest.mark.xfail(
+    strict=True, reason="Manchester under heavy jitter: the C receiver's unit at the sync "
+    "is off by about 0.66 % (the reference's head fit 0.12 %) because one far-off edge "
+    "ends the run its refit spans; open in issue 10")
+#: mark-space codes: the reference's low-filter reading (the glitch filter halved where
+#: no frame passes) keeps short pulses jitter shrank; the C receiver has one reading
+LOW_FILTER_GAP = pytest.mark.xfail(
+    strict=True, reason="PWM / pulse distance under heavy jitter: the reference's "
+    "low-filter reading (glitch filter halved where no frame passes) has no C "
+    "counterpart; halving the C filter loses 2-7x the copies on edge-of-range; open in "
+    "issue 10")
+JITTER_GAPS = {"hive_scale.toml": MANCHESTER_JITTER_GAP, "gate_sensor.toml": LOW_FILTER_GAP,
+               "greenhouse_probe.toml": LOW_FILTER_GAP}
+
+
+@pytest.mark.slow
+@needs_gcc
+@pytest.mark.parametrize("name", [pytest.param(n, marks=JITTER_GAPS[n]) if n in JITTER_GAPS
+                                  else n for n in EXAMPLES])
+def test_copy_loss_parity_at_jitter_margin(name):
+    """At the jitter margin ``run_margin`` finds for PER < 0.05 (200 transmissions per
+    point, seed 0) the C receiver loses no more copies than the reference's 95 % CI
+    allows, on the same seeds."""
+    from ookframe.stress.margin import run_at_margins, run_margin
+    from ookframe.stress.runner import copy_loss
+
+    spec = example_spec(name)
+    host_receiver(spec)
+    m = run_margin(spec, 0.05, impairments=["jitter_us"], n_frames=200, resolution=0.1)
+    (row,), (c,) = m.rows, run_at_margins(spec, m, decode_c)
+    assert row.at_limit is not None and c is not None
+    (lr, (_, hi)), (lc, _) = copy_loss(row.at_limit, spec.repeats), copy_loss(c, spec.repeats)
+    print(f"{name}: jitter_us {row.limit:.3g}: ref {lr:.3f} (<= {hi:.3f}) C {lc:.3f}")
+    assert lc <= hi
+
+
+@pytest.mark.slow
+@needs_gcc
+@pytest.mark.parametrize("name", EXAMPLES)
+def test_queue_fuzz_sanitized(name, tmp_path):
+    """60 000 random and adversarial edges (tests/rx_fuzz_driver.py: random pulses and
+    levels, frames cut, jittered and sent back to back, stretches without rx_take so the
+    queue overruns, idle calls) edge by edge through the receiver built with gcc
+    -fsanitize=address,undefined -fno-sanitize-recover=all, loaded by ctypes in a child
+    process with the ASan runtime preloaded: no sanitizer report, the receiver's
+    invariants (queue fill <= depth, indices, mode, phase, unit, bit and chip counts,
+    recovery candidates) hold after every edge, every frame taken is well-formed, and the
+    queue did overrun (the full-queue path ran)."""
+    import os
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    from ookframe.codegen.host_rx import build_host_receiver
+
+    asan = subprocess.run([GCC, "-print-file-name=libasan.so"], capture_output=True,
+                          text=True).stdout.strip()
+    if not asan or not Path(asan).is_file():
+        pytest.skip("gcc has no libasan")
+    spec_path = _example_path(name)
+    lib = build_host_receiver(example_spec(name), sanitize=True)
+    env = dict(os.environ, LD_PRELOAD=asan, ASAN_OPTIONS="detect_leaks=0",
+               UBSAN_OPTIONS="halt_on_error=1:print_stacktrace=1")
+    root = Path(__file__).resolve().parents[1]
+    proc = subprocess.run([sys.executable, "-m", "tests.rx_fuzz_driver", str(spec_path),
+                           str(lib), "60000", "7"], capture_output=True, text=True,
+                          timeout=300, env=env, cwd=root)
+    assert proc.returncode == 0, (proc.stdout + proc.stderr)[-3000:]
+    assert "runtime error" not in proc.stderr
+    assert "AddressSanitizer" not in proc.stderr
+    words = proc.stdout.split()
+    edges, overruns = int(words[1]), int(words[5])
+    assert edges >= 60000
+    assert overruns > 0
+    print(f"rx sanitized queue fuzz {name}: {proc.stdout.strip()}")

@@ -881,9 +881,9 @@ def test_minimax_grid_is_the_best_of_a_dense_scan():
     rng = np.random.default_rng(12)
     r = np.array([1, 1, 3, 1, 1, 3, 1, 1, 3, 3], dtype=np.float64)
     d = (r + rng.uniform(-0.8, 0.8, (300, r.size))) * 350.0 * rng.uniform(0.9, 1.1, (300, 1))
-    unit, worst = _minimax_edge(d, r, 315.0, 385.0)
     c = np.concatenate(([0.0], np.cumsum(r)))
     t = np.concatenate((np.zeros((300, 1)), np.cumsum(d, axis=1)), axis=1)
+    unit, worst = _minimax_edge(t, r, 315.0, 385.0)
     v = 1.0 / np.linspace(315.0, 385.0, 20001)
     e = t[:, None, :] * v[None, :, None] - c
     spread = (e.max(axis=2) - e.min(axis=2)) / 2.0
@@ -906,8 +906,8 @@ def test_head_found_where_the_least_squares_line_misses(name):
     train = _moved_head(spec, values, offsets)
     d = train.durations_us[hm.sig_start:hm.sig_stop][None, :]
     r = hm.sig_units.astype(np.float64)
-    unit, off = _edge_line(d, r)
-    assert _worst_edge(d, r, unit, off)[0] > 0.5  # the case the line alone misses
+    t, unit, off = _edge_line(d, r)
+    assert _worst_edge(t, r, unit, off)[0] > 0.5  # the case the line alone misses
     quiet = PulseTrain(np.zeros(1, np.uint8), np.array([40 * spec.unit_us]))
     train, _ = surround(train, quiet, quiet, (spec.gap_us, spec.gap_us))
     frames = [f for f in decode(spec, train) if f.crc_ok]

@@ -20,9 +20,9 @@ import ookframe as o
 from ookframe.channel.carriers import clip_outside, marks_to_train, union_intervals, visible_marks
 from ookframe.cli.main import main
 from ookframe.errors import ValueRangeError
+from ookframe.intervals import clopper_pearson
 from ookframe.stress.network import NetworkConfig, pick_id_field, run_network
 from ookframe.stress.network_design import evaluate, suggest
-from ookframe.stress.stats import clopper_pearson
 
 SPEC = "examples/greenhouse_probe.toml"
 #: one update every 8 s: 450 updates per node and hour

@@ -11,12 +11,12 @@ import pytest
 from ookframe import frame as _f
 from ookframe.channel import ChannelSpec, apply_channel, get_preset
 from ookframe.decode import decode
+from ookframe.intervals import clopper_pearson
 from ookframe.plan import compile_plan
 from ookframe.pulses import PulseTrain, chips_to_train, concat, merge_runs
 from ookframe.spec_io import spec_from_dict
 from ookframe.stress.batch import random_batch
 from ookframe.stress.runner import chunk_plan, run_stress
-from ookframe.stress.stats import clopper_pearson
 from ookframe.stress.theory import width_misread_prob, widths_error_prob
 from tests.conftest import example_spec
 

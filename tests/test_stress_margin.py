@@ -5,8 +5,8 @@ from __future__ import annotations
 import pytest
 
 from ookframe.errors import ValueRangeError
+from ookframe.intervals import clopper_pearson
 from ookframe.stress.margin import frames_needed, run_margin
-from ookframe.stress.stats import clopper_pearson
 from tests.conftest import example_spec
 
 

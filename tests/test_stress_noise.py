@@ -6,8 +6,8 @@ import math
 
 import pytest
 
+from ookframe.intervals import poisson_ci
 from ookframe.stress.noise import run_noise
-from ookframe.stress.stats import poisson_ci
 from ookframe.stress.theory import bit_rate_bps, expected_false_frames_per_hour, sync_hit_prob
 from tests.conftest import example_spec
 

@@ -20,7 +20,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..channel.linkfile import Estimate
-from ..stress import poisson_ci
+from ..intervals import poisson_ci
 
 #: confidence of every interval
 CONFIDENCE = 0.95

@@ -14,7 +14,7 @@ from . import common
 from .output import check_writable, err, out, print_json, write_atomic
 
 NAME = "emit"
-HELP = "generate the C99 transmitter header <name>.h (timer-tick timing, report)"
+HELP = "generate the C99 header <name>.h: transmitter, receiver or both (timer-tick timing, report)"
 
 
 def _prescalers(text: str) -> tuple[int, ...]:

@@ -9,11 +9,12 @@ from rich import box
 from rich.markup import escape
 from rich.table import Table
 
-from ..stress.margin import MARGIN_IMPAIRMENTS, run_margin
+from ..stress.margin import MARGIN_IMPAIRMENTS, run_at_margins, run_margin
+from ..stress.runner import copy_loss
 from . import common, exitcodes
 from .channel_options import add_channel_arguments, channel_from_args
 from .cluster import executor_from_args
-from .cmd_stress import add_run_arguments
+from .cmd_stress import add_decoder_argument, add_run_arguments, c_decoder
 from .output import err, out, print_json, progress_enabled
 
 NAME = "margin"
@@ -32,6 +33,7 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--resolution", type=common.float_in(0, 1, lo_open=True, hi_open=True), default=0.02,
                    help="bracket width as a fraction of the search range (default 0.02)")
     add_channel_arguments(p, "ideal")
+    add_decoder_argument(p)
     add_run_arguments(p)
 
 
@@ -52,18 +54,57 @@ def run(args: argparse.Namespace) -> int:
     spec, _ = common.load(args)
     names = args.impairments
     show = progress_enabled(args)
+    decode_c = c_decoder([spec]) if args.decoder == "c" else None  # no compiler: fail first
     with executor_from_args(args) as ex:
         r = run_margin(spec, args.target_per, channel=channel_from_args(args),
                        impairments=names, n_frames=args.frames, resolution=args.resolution,
                        seed=args.seed, executor=ex, workers=args.workers,
                        chunk_frames=args.chunk_frames,
                        progress=(lambda n: err.print(f"searching {n} ...")) if show else None)
+        if decode_c is not None:
+            if show:
+                err.print("C receiver at the margins ...")
+            rc = run_at_margins(spec, r, decode_c, seed=args.seed, executor=ex,
+                                workers=args.workers, chunk_frames=args.chunk_frames)
     failed = any(row.status == "fails-at-zero" for row in r.rows)
     if args.json:
-        print_json(r.to_dict())
+        d = r.to_dict()
+        if decode_c is not None:
+            for m, row, x in zip(d["margins"], r.rows, rc, strict=True):  # type: ignore[arg-type]
+                m["c_per_at_limit"] = x.per if x else None
+                m["c_per_ci95_at_limit"] = list(x.per_ci95) if x else None
+                for key, res in (("copy_loss", row.at_limit), ("c_copy_loss", x)):
+                    loss = copy_loss(res, spec.repeats) if res else None
+                    m[f"{key}_at_limit"] = loss[0] if loss else None
+                    m[f"{key}_ci95_at_limit"] = list(loss[1]) if loss else None
+        print_json(d)
         return exitcodes.FAILED if failed else 0
     out.print(margin_table(spec.name, args.target_per, r))
+    if decode_c is not None:
+        out.print(parity_table(spec.name, r, rc, spec.repeats))
     return exitcodes.FAILED if failed else 0
+
+
+def parity_table(name: str, r, rc, repeats: int) -> Table:
+    """PER and copy loss of the reference decoder and of the C receiver at each margin,
+    same seeds (the reference's copy loss with its 95 % CI; its PER CI is in the margin
+    table above)."""
+    t = Table(title=f"{name}: reference decoder vs generated C receiver at the margins "
+              f"({r.n_frames} frames, same seeds)", box=box.SIMPLE_HEAD)
+    for col in ("impairment", "at", "PER\nref.", "PER\nC", "copies lost\nref. [95 % CI]",
+                "copies\nlost C"):
+        t.add_column(escape(col), justify="left" if col == "impairment" else "right",
+                     no_wrap=True)
+    for row, x in zip(r.rows, rc, strict=True):
+        at = row.at_limit
+        if at is None or x is None:
+            t.add_row(row.impairment, f"{row.limit:.4g}", "-", "-", "-", "-")
+            continue
+        lr, lc = copy_loss(at, repeats), copy_loss(x, repeats)
+        t.add_row(row.impairment, f"{row.limit:.4g}",
+                  f"{at.per:.2g}", f"{x.per:.2g}",
+                  f"{lr[0]:.2g} [{lr[1][0]:.2g}, {lr[1][1]:.2g}]", f"{lc[0]:.2g}")
+    return t
 
 
 def margin_table(name: str, target_per: float, r) -> Table:

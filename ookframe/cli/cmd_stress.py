@@ -58,13 +58,29 @@ def progress_bar(args: argparse.Namespace, total: float, label: str
         yield lambda k: bar.advance(task, k)
 
 
+def add_decoder_argument(p: argparse.ArgumentParser) -> None:
+    """Add --decoder reference|c (shared by stress, sweep and margin)."""
+    p.add_argument("--decoder", choices=("reference", "c"), default="reference",
+                   help="c: also run the generated C receiver (built with the system C "
+                   "compiler, cached) on the same seeds and show both (default reference)")
+
+
+def c_decoder(specs) -> Callable:
+    """Return the C receiver's decode function after building (or finding in the cache)
+    the host receiver of every spec, before any worker needs it; CodegenError (a clear
+    message, no traceback) without a C compiler."""
+    from ..codegen.host_rx import decode_c, host_receiver
+
+    for spec in specs:
+        host_receiver(spec)
+    return decode_c
+
+
 def add_arguments(p: argparse.ArgumentParser) -> None:
     common.add_spec_argument(p)
     p.add_argument("--frames", type=common.FRAMES, default=10000,
                    help="transmissions to send (default 10000)")
-    p.add_argument("--decoder", choices=("reference", "c"), default="reference",
-                   help="c: also run the generated C receiver (built with the system C "
-                   "compiler, cached) on the same seeds and show both (default reference)")
+    add_decoder_argument(p)
     add_channel_arguments(p, "budget-superregen")
     physical_options.add_physical_arguments(p)
     add_run_arguments(p)
@@ -75,6 +91,7 @@ def run(args: argparse.Namespace) -> int:
 
     spec, _ = common.load(args)
     ch = physical_options.channel_or(args, channel_from_args)
+    decode_c = c_decoder([spec]) if args.decoder == "c" else None  # no compiler: fail first
     try:
         with executor_from_args(args) as ex, progress_bar(args, args.frames, "stress") as tick:
             r = run_stress(spec, ch, args.frames, seed=args.seed, executor=ex,
@@ -84,10 +101,7 @@ def run(args: argparse.Namespace) -> int:
         err.print(f"ookframe stress: interrupted after {stop.partial.frames} of {args.frames} "
                   "transmissions; the result above counts those only")
         return exitcodes.INTERRUPTED
-    if getattr(args, "decoder", "reference") == "c":
-        from ..codegen.host_rx import decode_c, host_receiver
-
-        host_receiver(spec)  # build (or find in the cache) before any worker needs it
+    if decode_c is not None:
         with executor_from_args(args) as ex, progress_bar(args, args.frames, "C receiver") as tick:
             rc = run_stress(spec, ch, args.frames, seed=args.seed, executor=ex,
                             workers=args.workers, chunk_frames=args.chunk_frames,

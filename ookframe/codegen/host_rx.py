@@ -38,6 +38,12 @@ class _Quality(ctypes.Structure):
                 ("code_errors", ctypes.c_uint8), ("corrected", ctypes.c_uint8)]
 
 
+class _Counters(ctypes.Structure):
+    _fields_ = [("frames_seen", ctypes.c_uint16), ("check_failures", ctypes.c_uint16),
+                ("overruns", ctypes.c_uint16), ("cut", ctypes.c_uint16),
+                ("edge_overruns", ctypes.c_uint16)]
+
+
 @dataclass(frozen=True)
 class CFrame:
     """One frame from the C receiver (the fields ``match_frames`` and tests read)."""
@@ -88,6 +94,17 @@ class HostReceiver:
         self._init = getattr(self.lib, f"{p}_rx_init")
         self._feed = getattr(self.lib, f"{p}_rx_feed")
         self._feed.restype = ctypes.c_size_t
+        self._edge = getattr(self.lib, f"{p}_rx_edge")
+        self._edge.argtypes = (ctypes.c_uint8, ctypes.c_uint16)
+        self._idle = getattr(self.lib, f"{p}_rx_idle")
+        self._ready = getattr(self.lib, f"{p}_rx_ready")
+        self._ready.restype = ctypes.c_bool
+        self._take = getattr(self.lib, f"{p}_rx_take")
+        self._take.restype = ctypes.c_bool
+        self._invariants = getattr(self.lib, f"{p}_rx_invariants")
+        self._invariants.restype = ctypes.c_uint8
+        self._counters = getattr(self.lib, f"{p}_rx_counters")
+        self._poll = getattr(self.lib, f"{p}_rx_poll")
         from ..decode.head import head_model
         self.body_chip = head_model(spec).body_chip
 
@@ -108,6 +125,48 @@ class HostReceiver:
                          ctypes.c_size_t(cap))
         return [self._frame(out[i], q[i], bool(ok[i])) for i in range(got)]
 
+    # edge by edge, as firmware calls it (fuzzing and queue tests)
+    def init(self) -> None:
+        """``<p>_rx_init()``."""
+        self._init()
+
+    def edge(self, level: int, ticks: int) -> None:
+        """``<p>_rx_edge(level, ticks)`` (ticks 0..65535)."""
+        self._edge(level, ticks)
+
+    def idle(self) -> None:
+        """``<p>_rx_idle()``."""
+        self._idle()
+
+    def poll(self) -> None:
+        """``<p>_rx_poll()``: decode the edges queued by ``edge`` / ``idle``."""
+        self._poll()
+
+    def ready(self) -> bool:
+        """``<p>_rx_ready()``."""
+        return bool(self._ready())
+
+    def take(self) -> CFrame | None:
+        """``<p>_rx_take(&fields, &quality)``: the next frame whose check passes (after
+        the recovery), None when the queue holds none."""
+        f = self.fields_t()
+        q = _Quality()
+        if not self._take(ctypes.byref(f), ctypes.byref(q)):
+            return None
+        return self._frame(f, q, True)
+
+    def invariants(self) -> int:
+        """``<p>_rx_invariants()``: 0 when the state is within its bounds, else the number
+        of the first broken one (see the template)."""
+        return int(self._invariants())
+
+    def counters(self) -> dict[str, int]:
+        """``<p>_rx_counters()``: frames seen, check failures, overruns, frames cut, edges
+        lost to a full edge FIFO."""
+        c = _Counters()
+        self._counters(ctypes.byref(c))
+        return {name: int(getattr(c, name)) for name, _ in _Counters._fields_}
+
     def _frame(self, f: ctypes.Structure, q: _Quality, ok: bool) -> CFrame:
         raw: dict[str, object] = {}
         length = 0
@@ -126,16 +185,26 @@ class HostReceiver:
         return CFrame(raw=raw, payload_hex=payload, crc_ok=ok, start_us=start_us,
                       sync_errors=q.sync_errors, code_errors=q.code_errors,
                       worst_deviation=q.worst_dev_permille / 1000,
-                      clock_error=q.clock_error_permille / 1000)
+                      clock_error=q.clock_error_permille / 1000, corrected=q.corrected)
 
 
-def build_host_receiver(spec: FrameSpec) -> Path:
-    """Return the path of the host receiver library of ``spec`` (built once, cached)."""
+#: compiler flags of the sanitized build (``sanitize=True``): AddressSanitizer and
+#: UndefinedBehaviorSanitizer, first report aborts
+SANITIZE_FLAGS = ("-O1", "-g", "-fno-omit-frame-pointer", "-fsanitize=address,undefined",
+                  "-fno-sanitize-recover=all")
+
+
+def build_host_receiver(spec: FrameSpec, *, sanitize: bool = False) -> Path:
+    """Return the path of the host receiver library of ``spec`` (built once, cached).
+
+    ``sanitize``: built with ASan + UBSan (``SANITIZE_FLAGS``); a process loading it needs
+    the ASan runtime first (``LD_PRELOAD`` of ``cc -print-file-name=libasan.so``)."""
     emitted = emit_header(spec, side="rx")
     cc = find_cc()
-    key = hashlib.sha256((emitted.text + cc).encode()).hexdigest()[:16]
+    opt = SANITIZE_FLAGS if sanitize else ("-O2",)
+    key = hashlib.sha256((emitted.text + cc + " ".join(opt)).encode()).hexdigest()[:16]
     d = cache_dir() / "rx"
-    lib = d / f"{emitted.model.prefix}-{key}.so"
+    lib = d / f"{emitted.model.prefix}-{'san-' if sanitize else ''}{key}.so"
     if lib.is_file():
         return lib
     d.mkdir(parents=True, exist_ok=True)
@@ -145,7 +214,7 @@ def build_host_receiver(spec: FrameSpec) -> Path:
         src = Path(tmp) / "rx.c"
         src.write_text(f'#include "{emitted.filename}"\n')
         out = Path(tmp) / lib.name
-        compile_c(cc, [src], out, flags=(*STRICT_FLAGS, "-O2", "-fPIC", "-shared"),
+        compile_c(cc, [src], out, flags=(*STRICT_FLAGS, *opt, "-fPIC", "-shared"),
                   include_dirs=[tmp], defines={f"{P}_IMPLEMENTATION": None,
                                                f"{P}_RX_HOST_FEED": None})
         os.replace(out, lib)

@@ -14,7 +14,12 @@ timer ticks of the pulse that just ended) and decides as the reference decoder d
   unit is refitted over the run of well-placed edges before it (the head);
 - line code: fixed-chip block codes decode per chip phase from a chip-pattern table;
   mark-space codes (pulse width, pulse distance) decode per (mark, space) pair;
-- sync: the preamble's last ``LEAD`` bits exactly, then the sync word with at most
+- clock: while hunting the frequency loop pulls in fast for the first ``GEAR_CHIPS`` chips
+  of a run of well-placed edges, then holds steady (the reference fits one unit over the
+  head); an edge far off the grid ends the run and restarts the pull-in (from the
+  nominal unit when the unit has wandered more than ``KEEP_SPAN_PCT`` off it);
+- sync: the preamble's last ``LEAD`` bits with at most 4 in 16 wrong (the reference only
+  ranks sync hits by their lead errors), then the sync word with at most
   ``sync.max_errors`` bit errors (invalid code words count as errors);
 - body: unstuffing, the length field (whitening constant applied), then the frame goes
   to the ready queue; the main loop (``_rx_take``) de-whitens, checks and unpacks.
@@ -23,7 +28,16 @@ timer ticks of the pulse that just ended) and decides as the reference decoder d
 ``_rx_poll`` (called by ``_rx_ready`` and ``_rx_take``) in the main loop, so the capture
 ISR stays a few tens of cycles on an 8-bit MCU.
 
-Check-aided recovery (edge flips) is not done by the C receiver.
+Check-aided recovery (``decode.framer``'s rules, fixed-chip codes): in the body the
+receiver keeps the ``RECOVERY_EDGES`` least reliable edges (at least
+``RECOVERY_MIN_OFFSET`` unit off their grid point, both pulses they bound still of
+allowed lengths if the edge moves to the grid point on its other side) and the frame's
+chips; ``_rx_take`` tries, for a frame whose check fails, up to ``recovery_trials``
+combinations of at most ``recovery_flips`` of those edges moved (fewest first, then least
+reliable), re-decoding the chips each time, and takes the first whose check passes
+(``corrected``: edges moved). The limits are the reference's: flips = min(max_flips,
+HD - 2), trials = 2**w / 4096 for a w-bit check. Unlike the reference it ranks body edges
+only (moving a preamble edge cannot change the body). Mark-space codes get no recovery.
 """
 
 from __future__ import annotations
@@ -37,7 +51,7 @@ from .timing import Timing
 
 #: fractional bits of the unit and residuals (unit kept in 1/16 tick)
 UNIT_FRAC = 4
-#: preamble bits just before the sync that must arrive exactly (the reference's
+#: preamble bits just before the sync matched with the sync word (the reference's
 #: ``head.LEAD_BITS``, shorter when the preamble is)
 LEAD_BITS = 16
 #: frequency window the receiver's unit may wander in while hunting (fraction); a little
@@ -47,11 +61,39 @@ CLOCK_SPAN = 0.12
 MAX_LADDER = 16
 #: frames held by the ready queue unless <PREFIX>_RX_QUEUE says otherwise
 DEFAULT_QUEUE = 2
+#: the frequency loop's step divisor while hunting (unit += residual / (run units *
+#: divisor)); larger: a steadier but slower clock
+FREQ_DIV_HUNT = 64
+#: ... and while the run of well-placed edges is shorter than GEAR_CHIPS chips (a fast
+#: pull-in after noise or at a new transmitter clock, then a steady clock for the sync)
+FREQ_DIV_PULL_IN = 16
+GEAR_CHIPS = 16
+#: an edge that ends the run of well-placed edges also sets the unit back to nominal when
+#: it has wandered further than KEEP_SPAN_PCT (noise drags it towards the clamps); a unit
+#: nearer nominal is kept, so a transmitter 10 % off is still pulled in (measured: reset
+#: always lost every frame of hive_scale at -10 %, never resetting lost 30 % of
+#: tank_level's copies on edge-of-range-superregen)
+RESET_ON_BREAK = True
+KEEP_SPAN_PCT = 6
+#: the frequency loop's step divisor in the body
+FREQ_DIV_BODY = 64
+#: added to the body phase loop's shift worked out from ``decoder.loop_gain``: -1 (a
+#: phase loop twice as fast) follows a drifting clock as the reference's grid phase does
+#: (measured: coldframe_vent at its drift margin lost 7.6 % of copies with 0, none with
+#: -1; jitter margins within a few tenths of a percent either way)
+BODY_SHIFT_EXTRA = -1
+#: an edge further than this from its grid point (1/20 unit) ends the run of well-placed
+#: edges the head refit spans
+STREAK_BREAK_20THS = 9
 #: entries of the edge FIFO between rx_edge (ISR) and rx_poll (main loop) unless
 #: <PREFIX>_RX_EDGE_FIFO says otherwise
 DEFAULT_EDGE_FIFO = 16
 #: fewest chips of well-placed edges before the sync for the head refit of the unit
 MIN_REFIT_CHIPS = 8
+#: lead bits (of LEAD_BITS) that may be wrong at a sync hit: the reference decoder only
+#: ranks sync hits by their lead errors; a few allowed keep a jittered preamble edge from
+#: losing the frame while a sync hit inside random data stays unlikely
+LEAD_MAX_ERRORS_PER_16 = 4
 
 
 @dataclass(frozen=True)
@@ -81,6 +123,7 @@ class RxModel:
     sync_mask: str
     lead_mask: str
     max_errors: int
+    lead_max_errors: int
     body_min_bits: int
     body_max_bits: int
     body_bytes: int
@@ -99,8 +142,20 @@ class RxModel:
     phase_shift_hunt: int
     phase_shift_body: int
     freq_div_hunt: int
+    freq_div_pull_in: int
+    gear_chips: int
+    reset_on_break: bool
+    unit16_keep_min: int
+    unit16_keep_max: int
     freq_div_body: int
     min_refit_chips: int
+    recovery_flips: int  # 0: no check-aided recovery
+    recovery_trials: int
+    recovery_edges: int
+    recovery_min_offset_10ths: int
+    raw_chips: int  # body chips kept for the recovery (0 without)
+    recovery_none: str  # why there is no recovery (comment text), "" with one
+    streak_break_20ths: int
 
     @property
     def ram_bytes(self) -> int:
@@ -110,6 +165,8 @@ class RxModel:
         phases = self.chips_per_block if self.family == "chips" else 1
         state = 4 * 8 + 16 + 2 * reg * phases + self.body_bytes
         slot = self.body_bytes + 12 + 8  # bits, quality (padded), worst16 and unit16
+        if self.recovery_flips:
+            slot += (self.raw_chips + 7) // 8 + 6 + 8 * self.recovery_edges
         return state + self.queue * slot + 16 + 3 * self.edge_fifo + 2
 
 
@@ -233,8 +290,27 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
     if body_max > 65535:
         raise CodegenError(f"frames of up to {body_max} body bits; the C receiver handles 65535")
     recip = tuple(0 if n == 0 else round(256 / n) for n in range(top + 1))
+    # check-aided recovery: the reference decoder's limits (decode.framer)
+    from ..decode import framer
+
+    flips = min(spec.decoder.max_flips, framer.safe_flips(spec)) if family == "chips" else 0
+    trials = int(2.0 ** spec.check.width_bits * framer.RECOVERY_FALSE_ACCEPT) \
+        if spec.check.kind != "none" else 0
+    if flips == 0 or trials == 0:
+        why = ("mark-space codes get none in C" if family == "pairs" and trials
+               and framer.safe_flips(spec) and spec.decoder.max_flips
+               else "the check's Hamming distance and width leave no safe flips")
+        flips = trials = 0
+    else:
+        why = ""
+    raw_bits = body_max + lc.max_stuffed_bits(body_max)
+    raw_chips = (raw_bits + k - 1) // k * cpb_out + cpb_out if flips else 0
+    if raw_chips > 65535:
+        raise CodegenError(f"frames of up to {raw_chips} body chips; the C receiver's "
+                           "check-aided recovery handles 65535")
     gain = spec.decoder.loop_gain
     body_shift = 3 if gain >= 0.04 else (4 if gain >= 0.02 else 5)
+    body_shift += BODY_SHIFT_EXTRA
     return RxModel(
         family=family, bits_per_block=k, chips_per_block=cpb_out,
         differential=code.differential, chip_table=chip_table, pair_marks=pair_marks,
@@ -246,12 +322,20 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
         pattern=_literal(value, reg_bits),
         sync_mask=_literal((1 << sync_n) - 1, reg_bits),
         lead_mask=_literal(((1 << lead_n) - 1) << sync_n, reg_bits),
-        max_errors=spec.sync.max_errors, body_min_bits=plan.min_body_bits,
+        max_errors=spec.sync.max_errors, lead_max_errors=lead_n * LEAD_MAX_ERRORS_PER_16 // 16,
+        body_min_bits=plan.min_body_bits,
         body_max_bits=body_max, body_bytes=max(1, (body_max + 7) // 8), variable=variable,
         len_offset=len_offset, len_width=len_width, len_weights=weights, len_xor=xor,
         len_max=len_max, len_fixed_bits=plan.min_body_bits,
         stuff_after=code.stuff_after, stuff_value=code.stuff_value, queue=DEFAULT_QUEUE,
         edge_fifo=DEFAULT_EDGE_FIFO,
         recip=recip, phase_shift_hunt=2, phase_shift_body=body_shift,
-        freq_div_hunt=8, freq_div_body=64, min_refit_chips=MIN_REFIT_CHIPS)
+        freq_div_hunt=FREQ_DIV_HUNT, freq_div_pull_in=FREQ_DIV_PULL_IN, gear_chips=GEAR_CHIPS,
+        reset_on_break=RESET_ON_BREAK, unit16_keep_min=unit16 * (100 - KEEP_SPAN_PCT) // 100,
+        unit16_keep_max=unit16 * (100 + KEEP_SPAN_PCT) // 100 + 1,
+        freq_div_body=FREQ_DIV_BODY, min_refit_chips=MIN_REFIT_CHIPS,
+        recovery_flips=flips, recovery_trials=min(trials, 255),
+        recovery_edges=framer.RECOVERY_EDGES,
+        recovery_min_offset_10ths=round(framer.RECOVERY_MIN_OFFSET * 10), raw_chips=raw_chips, recovery_none=why,
+        streak_break_20ths=STREAK_BREAK_20THS)
 

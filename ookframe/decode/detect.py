@@ -86,21 +86,21 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
     if cand.size == 0:
         return cand.astype(np.int64), np.zeros(0)
     d = durations_us[cand[:, None] + np.arange(k)]
-    unit, offset = _edge_line(d, r)
+    t, unit, offset = _edge_line(d, r)
     ok = np.abs(unit / unit_us - 1.0) <= clock_error  # cheap: before the edge offsets
     if run_spacing(table) > 1:  # the line, else the best grid (see above)
         worst = np.full(cand.size, np.inf)
-        worst[ok] = _worst_edge(d[ok], r, unit[ok], offset[ok])
+        worst[ok] = _worst_edge(t[ok], r, unit[ok], offset[ok])
         miss = np.flatnonzero(worst >= MAX_EDGE_OFFSET)
         if miss.size:
-            best_unit, best = _minimax_edge(d[miss], r, unit_us * (1.0 - clock_error),
+            best_unit, best = _minimax_edge(t[miss], r, unit_us * (1.0 - clock_error),
                                             unit_us * (1.0 + clock_error))
             worst[miss] = best
             unit[miss] = np.where(ok[miss], unit[miss], best_unit)  # the line's if in range
         ok = worst < tol
     else:
         cand, d, unit = cand[ok], d[ok], unit[ok]
-        worst = _worst_edge(d, r, unit, offset[ok])
+        worst = _worst_edge(t[ok], r, unit, offset[ok])
         ok = worst < MAX_EDGE_OFFSET
     if k < SHORT_SIGNATURE_RUNS:  # few runs say little: every duration must fit as well
         got, _ = nearest_runs(d / unit[:, None], np.broadcast_to(sig_levels, d.shape), table)
@@ -169,33 +169,33 @@ def _spans_fit(cand: np.ndarray, durations_us: np.ndarray, r: np.ndarray, max_un
     return cand
 
 
-def _edge_line(d: np.ndarray, r: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Return per row (unit in µs: NaN unless positive, offset of the first edge from the
-    line in units) of the least-squares line of edge time over chip count for rows of
-    durations ``d`` with run lengths ``r``.
+def _edge_line(d: np.ndarray, r: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Return per row (edge times from the first edge, unit in µs: NaN unless positive,
+    offset of the first edge from the line in units) of the least-squares line of edge
+    time over chip count for rows of durations ``d`` with run lengths ``r``.
 
-    Edge j lies at t_j = d_0 + ... + d_(j-1), so the sums over edges the fit needs are
-    sums over durations with fixed weights: sum_j t_j (c_j - mean c) = d @ W with
-    W_i = sum_(j > i) (c_j - mean c), and sum_j t_j = d @ (k - i): one matrix product,
-    no edge times.
+    The fit runs over every row at once, as one matrix-vector product: its rounding (and
+    so a worst offset right at a ``FIT_STEP`` boundary) depends on the whole matrix, so
+    the rows are not split or filtered before it.
     """
-    k = r.size
+    t = np.empty((d.shape[0], r.size + 1))
+    t[:, 0] = 0.0
+    np.cumsum(d, axis=1, out=t[:, 1:])  # the running sums of each row, written in place
     c = np.concatenate(([0.0], np.cumsum(r)))
-    w = c - c.mean()
-    weights = np.empty((k, 2))
-    weights[:, 0] = np.cumsum(w[::-1])[::-1][1:] / (w @ w)
-    weights[:, 1] = np.arange(k, 0, -1) / (k + 1.0)
-    slope, tm = (d @ weights).T
+    cm = c.mean()
+    tm = t.mean(axis=1)
+    slope = ((t - tm[:, None]) @ (c - cm)) / ((c - cm) @ (c - cm))
     unit = np.where(slope > 0, slope, np.nan)
-    offset = (tm - slope * c.mean()) / unit
-    return unit, offset
+    offset = (tm - slope * cm) / unit
+    return t, unit, offset
 
 
-def _minimax_edge(d: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: float
+def _minimax_edge(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: float
                   ) -> tuple[np.ndarray, np.ndarray]:
     """Return per row (unit in µs, worst edge offset in units of that unit) of the chip
     grid with a unit in [``lo_unit_us``, ``hi_unit_us``] that leaves the smallest worst
-    edge offset, for rows of durations ``d`` with run lengths ``r``.
+    edge offset, for rows of edge times ``t`` (from the first edge, as
+    :func:`_edge_line` returns them) with run lengths ``r``.
 
     In the inverse unit v the offset of edge j is t_j v - c_j - o, linear in (v, o); the
     best o halves the spread of t_j v - c_j, and that spread is convex (a maximum of
@@ -203,14 +203,13 @@ def _minimax_edge(d: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: f
     its minimum, all rows at once.
     """
     c = np.concatenate(([0.0], np.cumsum(r)))
-    t = np.concatenate((np.zeros((d.shape[0], 1)), np.cumsum(d, axis=1)), axis=1)
 
     def half_spread(v: np.ndarray) -> np.ndarray:
         e = t * v[:, None] - c
         return (e.max(axis=1) - e.min(axis=1)) / 2.0
 
-    a = np.full(d.shape[0], 1.0 / hi_unit_us)
-    b = np.full(d.shape[0], 1.0 / lo_unit_us)
+    a = np.full(t.shape[0], 1.0 / hi_unit_us)
+    b = np.full(t.shape[0], 1.0 / lo_unit_us)
     phi = (math.sqrt(5.0) - 1.0) / 2.0
     x1, x2 = b - phi * (b - a), a + phi * (b - a)
     f1, f2 = half_spread(x1), half_spread(x2)
@@ -227,14 +226,13 @@ def _minimax_edge(d: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: f
     return 1.0 / np.where(f1 <= f2, x1, x2), np.minimum(f1, f2)
 
 
-def _worst_edge(d: np.ndarray, r: np.ndarray, unit: np.ndarray, offset: np.ndarray
+def _worst_edge(t: np.ndarray, r: np.ndarray, unit: np.ndarray, offset: np.ndarray
                 ) -> np.ndarray:
-    """Return per row the largest distance (units) of an edge from the line ``unit``,
-    ``offset`` (see :func:`_edge_line`) for rows of durations ``d`` with run lengths ``r``."""
-    c = np.cumsum(r)
-    t = np.cumsum(d, axis=1)
-    t /= unit[:, None]
-    t -= offset[:, None]
-    t -= c
-    np.abs(t, out=t)
-    return np.maximum(t.max(axis=1, initial=0.0), np.abs(offset))
+    """Return per row the largest distance (units) of an edge at times ``t`` from the
+    line ``unit``, ``offset`` (see :func:`_edge_line`) for rows with run lengths ``r``."""
+    c = np.concatenate(([0.0], np.cumsum(r)))
+    w = t / unit[:, None]
+    w -= offset[:, None]
+    w -= c
+    np.abs(w, out=w)
+    return w.max(axis=1)

@@ -14,7 +14,7 @@ from ..frame import encode
 from ..layout import zero_values
 from ..plan import FramePlan, as_plan, spec_of
 from ..spec.model import FrameSpec
-from .runner import DEFAULT_CHUNK_FRAMES, StressResult, pool_for, run_stress
+from .runner import DEFAULT_CHUNK_FRAMES, Decoder, StressResult, pool_for, run_stress
 from .sweep import channel_at
 
 #: impairments searched by default
@@ -109,13 +109,15 @@ def run_margin(
     workers: int = 1,
     chunk_frames: int = DEFAULT_CHUNK_FRAMES,
     progress: Callable[[str], None] | None = None,
+    decoder: Decoder | None = None,
 ) -> MarginResult:
     """Return, for each impairment alone (added to ``channel``, default ideal), the largest
     value whose PER upper 95 % bound stays below ``target_per``; signed impairments are
     searched in both directions. Bisection assumes PER grows with the magnitude and
     stops when the bracket is narrower than ``resolution`` * search limit; every point
     uses the same seed (common random numbers). Glitches searched on a channel without a
-    glitch width get half a symbol unit (``sweep.channel_at``)."""
+    glitch width get half a symbol unit (``sweep.channel_at``). ``decoder``: as in
+    ``run_stress`` (default the reference decoder; e.g. ``codegen.host_rx.decode_c``)."""
     if not 0 < target_per < 1:
         raise ValueRangeError(f"target PER must be in (0, 1), got {target_per}")
     spec = spec_of(spec)
@@ -135,7 +137,7 @@ def run_margin(
 
         def evaluate(name: str, value: float) -> StressResult:
             return run_stress(spec, channel_at(spec, base, name, value), n, seed=seed, executor=pool,
-                              chunk_frames=chunk_frames)
+                              chunk_frames=chunk_frames, decoder=decoder)
 
         for name in impairments:
             if progress is not None:
@@ -145,6 +147,34 @@ def run_margin(
                 rows.append(_bisect(name, sign, start, search_limit(spec, name), resolution,
                                     evaluate, passes))
     return MarginResult(spec.name, target_per, n, base, tuple(rows))
+
+
+def run_at_margins(
+    spec: FrameSpec | FramePlan,
+    margins: MarginResult,
+    decoder: Decoder | None,
+    *,
+    n_frames: int | None = None,
+    seed: int = 0,
+    executor: Executor | None = None,
+    workers: int = 1,
+    chunk_frames: int = DEFAULT_CHUNK_FRAMES,
+) -> tuple[StressResult | None, ...]:
+    """Return, for every row of ``margins``, a stress run of ``decoder`` at that row's
+    limit (same channel, frame count and seed as the search used there, so the result
+    compares copy for copy with ``row.at_limit``); None for rows that fail at zero."""
+    spec = spec_of(spec)
+    n = margins.n_frames if n_frames is None else n_frames
+    out: list[StressResult | None] = []
+    with pool_for(executor, workers) as pool:
+        for row in margins.rows:
+            if row.at_limit is None:
+                out.append(None)
+                continue
+            out.append(run_stress(spec, channel_at(spec, margins.channel, row.impairment,
+                                                   row.limit), n, seed=seed, executor=pool,
+                                  chunk_frames=chunk_frames, decoder=decoder))
+    return tuple(out)
 
 
 def _bisect(name, sign, start, limit, resolution, evaluate, passes) -> MarginRow:

@@ -40,10 +40,10 @@ from ..channel.carriers import marks_to_train, union_intervals, visible_marks
 from ..decode import decode
 from ..decode.framer import stream_span_us
 from ..errors import ValueRangeError, excerpt
+from ..intervals import clopper_pearson
 from ..plan import FramePlan, as_plan, spec_of
 from ..pulses import PulseTrain
 from ..spec.model import FieldSpec, FrameSpec
-from .stats import clopper_pearson
 
 #: clock error of a crystal-clocked sender, +- ppm (common practice, no source)
 CRYSTAL_PPM = 100.0

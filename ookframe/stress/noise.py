@@ -11,10 +11,10 @@ import numpy as np
 
 from .._require import require, require_spec
 from ..channel import idle_noise_train
+from ..intervals import poisson_ci
 from ..plan import FramePlan, spec_of
 from ..spec.model import FrameSpec
 from .runner import Decoder, map_unordered, pool_for, reference_decoder
-from .stats import poisson_ci
 from .theory import expected_false_frames_per_hour
 
 DEFAULT_CHUNK_S = 60.0

@@ -26,11 +26,11 @@ import numpy as np
 from .._require import require, require_int, require_spec
 from ..channel import ChannelSpec, apply_channel, channel_time_map_us
 from ..channel.physical import PhysicalChannel, apply_physical, physical_time_map_us
+from ..intervals import clopper_pearson
 from ..plan import FramePlan, as_plan
 from ..pulses import PulseTrain
 from ..spec.model import FrameSpec
 from .batch import Batch, random_batch
-from .stats import clopper_pearson
 
 DEFAULT_CHUNK_FRAMES = 500
 #: most chips (symbol units, ``max_frame_bits * units_per_bit`` per copy) of transmissions
@@ -109,6 +109,14 @@ class StressResult:
         d["per_ci95"] = list(self.per_ci95)
         d["false_accept_ci95"] = list(self.false_accept_ci95)
         return d
+
+
+def copy_loss(r: StressResult, repeats: int) -> tuple[float, tuple[float, float]]:
+    """Return the fraction of copies (``r.frames * repeats``) not decoded right and its
+    95 % Clopper-Pearson interval."""
+    n = r.frames * repeats
+    lost = max(n - r.copies_ok, 0)
+    return (lost / n if n else 0.0), clopper_pearson(lost, n)
 
 
 def match_frames(batch: Batch, decoded: Sequence, time_map_us: np.ndarray) -> Counts:
@@ -319,12 +327,12 @@ def run_stress(
             "e.g. ookframe.get_preset('ideal') or ookframe.PhysicalChannel()")
     require_int(n_frames, "n_frames")
     t0 = time.perf_counter()
-    # compiled once per run: every chunk gets the decoder constants (plan included)
-    receiver = compile_receiver(spec) if decoder is None else as_plan(spec)
-    spec = spec.spec if isinstance(spec, FramePlan) else spec
-    chunk_frames = min(chunk_frames, chunk_limit(receiver))
+    spec_only = spec.spec if isinstance(spec, FramePlan) else spec
     c = Counts()
-    try:
+    try:  # Ctrl-C anywhere from here on gives the partial result (none counted yet at first)
+        # compiled once per run: every chunk gets the decoder constants (plan included)
+        receiver = compile_receiver(spec) if decoder is None else as_plan(spec)
+        chunk_frames = min(chunk_frames, chunk_limit(receiver))
         sizes = chunk_plan(n_frames, chunk_frames)
         seqs = np.random.SeedSequence(seed).spawn(len(sizes))
         args = [(receiver, channel, n, q, gap_us, decoder)
@@ -335,9 +343,10 @@ def run_stress(
                 if progress is not None:
                     progress(counts.frames)
     except KeyboardInterrupt:
-        raise StressInterrupted(_result(spec, channel, seed, c, chunk_frames, t0,
+        raise StressInterrupted(_result(spec_only, channel, seed, c, chunk_frames, t0,
                                         workers if executor is None else 0)) from None
-    return _result(spec, channel, seed, c, chunk_frames, t0, workers if executor is None else 0)
+    return _result(spec_only, channel, seed, c, chunk_frames, t0,
+                   workers if executor is None else 0)
 
 
 class StressInterrupted(KeyboardInterrupt):

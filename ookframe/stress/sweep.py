@@ -17,6 +17,7 @@ from ..spec.model import FrameSpec
 from .runner import (
     DEFAULT_CHUNK_FRAMES,
     Counts,
+    Decoder,
     StressResult,
     chunk_plan,
     map_unordered,
@@ -139,11 +140,13 @@ def run_sweep(
     workers: int = 1,
     chunk_frames: int = DEFAULT_CHUNK_FRAMES,
     progress: Callable[[int], None] | None = None,
+    decoder: Decoder | None = None,
 ) -> SweepResult:
     """Return PER of every spec at every value of ``parameter`` (same seed at each point,
     so curves are smooth: common random numbers; channel per point by :func:`channel_at`).
     Parallel as ``run_stress``; with a pool or executor the chunks of all points are
-    submitted together, so a cluster works on every point at once."""
+    submitted together, so a cluster works on every point at once. ``decoder``: as in
+    ``run_stress`` (default the reference decoder; e.g. ``codegen.host_rx.decode_c``)."""
     if parameter not in parameter_names(channel):
         raise ValueRangeError(
             f"unknown impairment {parameter!r}; allowed: {', '.join(parameter_names(channel))}"
@@ -154,14 +157,15 @@ def run_sweep(
             results = tuple(
                 tuple(
                     run_stress(spec, channel_at(spec, channel, parameter, v), n_frames,
-                               seed=seed, chunk_frames=chunk_frames, progress=progress)
+                               seed=seed, chunk_frames=chunk_frames, progress=progress,
+                               decoder=decoder)
                     for v in values
                 )
                 for spec in specs
             )
         else:
             results = _all_points_at_once(specs, channel, parameter, values, n_frames, seed,
-                                          pool, chunk_frames, progress)
+                                          pool, chunk_frames, progress, decoder)
     return SweepResult(parameter, tuple(float(v) for v in values),
                        tuple(s.name for s in specs), channel, results)
 
@@ -169,7 +173,7 @@ def run_sweep(
 def _all_points_at_once(
     specs: Sequence[FrameSpec], channel: ChannelSpec | PhysicalChannel, parameter: str, values: Sequence[float],
     n_frames: int, seed: int, pool: Executor, chunk_frames: int,
-    progress: Callable[[int], None] | None,
+    progress: Callable[[int], None] | None, decoder: Decoder | None = None,
 ) -> tuple[tuple[StressResult, ...], ...]:
     """Submit the chunks of every point together (a cluster works on all points at once);
     each point's chunks and seeds are exactly those ``run_stress`` uses, so the results are
@@ -181,7 +185,7 @@ def _all_points_at_once(
     for k, (spec, ch) in enumerate(points):
         seqs = np.random.SeedSequence(seed).spawn(len(plan))
         for n, q in zip(plan, seqs, strict=True):
-            args.append((spec, ch, n, q, None, None))
+            args.append((spec, ch, n, q, None, decoder))
             owner.append(k)
     sums = [Counts() for _ in points]
     done_s = [0.0] * len(points)

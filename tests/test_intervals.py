@@ -1,4 +1,4 @@
-"""Tests of ookframe.stress.stats (Clopper-Pearson interval)."""
+"""Tests of ookframe.intervals (Clopper-Pearson interval)."""
 
 from __future__ import annotations
 
@@ -7,7 +7,7 @@ from hypothesis import given
 from hypothesis import strategies as st
 from scipy.stats import binom
 
-from ookframe.stress.stats import clopper_pearson
+from ookframe.intervals import clopper_pearson
 
 
 def test_zero_of_hundred_worked_value():
