@@ -34,6 +34,7 @@ from ookframe.decode.detect import (
     _one_per_cluster,
     _spans_fit,
     find_candidates,
+    run_spacing,
 )
 from ookframe.decode.glitch import drop_glitches
 from ookframe.decode.head import MAX_CLOCK_ERROR
@@ -245,8 +246,11 @@ def test_kernels_match_reference_on_example_trains(path):
             args = (clean.levels, clean.durations_us, hm.sig_levels, hm.sig_units,
                     spec.unit_us, hm.runs, MAX_CLOCK_ERROR)
             first, unit = find_candidates(*args)
-            want_first, want_unit = _ref_find_candidates(*args)
-            assert _same(first, want_first) and _same(unit, want_unit), (k, seed)
+            if run_spacing(hm.runs) == 1:
+                # codes with runs 2+ units apart (PWM, pulse distance) add the grid refit
+                # on purpose; tests/test_decode.py holds that to a dense scan
+                want_first, want_unit = _ref_find_candidates(*args)
+                assert _same(first, want_first) and _same(unit, want_unit), (k, seed)
             got_args.clear()
             windows.grid_runs = spy
             try:

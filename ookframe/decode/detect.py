@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 from .classify import RunTable, nearest_runs
@@ -10,6 +12,31 @@ from .classify import RunTable, nearest_runs
 SHORT_SIGNATURE_RUNS = 8
 #: an edge of the signature may lie at most this far (units) from the fitted chip grid
 MAX_EDGE_OFFSET = 0.5
+#: halvings of the golden-section search for the best grid (a 0.2 clock range narrows to
+#: 1e-9 of the unit: far below any edge offset that matters)
+MINIMAX_STEPS = 44
+
+
+def run_spacing(table: RunTable) -> int:
+    """Return the step g that any two allowed run lengths of one level differ by a multiple
+    of (the gcd of their differences over both levels; 1 when no level has two lengths).
+
+    PWM 1/3 and pulse distance 1/3 have g = 2, NRZ, Manchester and 3-of-6 g = 1. With
+    g >= 2 the ideal hard decision (nearest allowed length, known unit) reads every pulse
+    right while each edge is within g / 4 of its chip: a pulse's two edges together then
+    move it less than halfway to the next allowed length.
+    """
+    g = 0
+    for a in table.allowed:
+        if a.size > 1:
+            g = math.gcd(g, *np.diff(a).tolist())
+    return max(g, 1)
+
+
+def edge_tolerance(table: RunTable) -> float:
+    """Return how far (units) a signature edge may lie from its chip: ``MAX_EDGE_OFFSET``,
+    or g / 4 where that is more (``run_spacing``; runs of 1 and 5 units, say)."""
+    return max(MAX_EDGE_OFFSET, run_spacing(table) / 4.0)
 
 
 def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np.ndarray,
@@ -20,7 +47,21 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
     A candidate is a run of pulses with the signature's levels whose edges lie on the
     signature's chip grid at one common unit: the least-squares line of edge time over
     chip count (within ``clock_error`` of ``unit_us``) leaves every edge less than half a
-    unit from its chip, so each edge, not each duration, must be right. Vectorised: the
+    unit from its chip, so each edge, not each duration, must be right.
+
+    For codes whose run lengths are spaced g >= 2 units apart (``run_spacing``: PWM 1/3,
+    pulse distance 1/3) a head the least-squares line misses (its worst edge half a unit
+    or more off, or its clock out of range) is fitted once more by the grid, clock within
+    range, that minimises the worst edge offset, and is kept when that leaves every edge
+    within ``edge_tolerance`` (half a unit, or g / 4 if more). Jitter below g / 4 of a
+    unit on every edge (+-50 % for 1/3 codes) is what the ideal hard decision reads
+    without a fault; the sent grid then leaves every edge within it, so the best grid
+    does too and the head is found, whatever the least-squares line's error (edges of
+    +-0.4 unit at random leave it more than half a unit off about once in 700 heads).
+    Codes of spacing 1 keep the least-squares test alone: their ideal fails from
+    +-25 %, where that test still has a wide margin.
+
+    Vectorised: the
     widest durations such edges allow narrow the positions run by run, then the
     survivors are fitted together. When candidates overlap (a periodic preamble longer
     than the signature) only the last is kept: it is the one next to the sync word.
@@ -31,11 +72,12 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
     if k == 0 or n <= 0:
         return np.zeros(0, np.int64), np.zeros(0)
     r = sig_units.astype(np.float64)
-    lo_us = np.maximum(r - 2 * MAX_EDGE_OFFSET, 0.0) * (1.0 - clock_error) * unit_us
-    hi_us = np.minimum(r + 2 * MAX_EDGE_OFFSET, table.cap_ratio) * (1.0 + clock_error) * unit_us
+    tol = edge_tolerance(table)
+    lo_us = np.maximum(r - 2 * tol, 0.0) * (1.0 - clock_error) * unit_us
+    hi_us = np.minimum(r + 2 * tol, table.cap_ratio) * (1.0 + clock_error) * unit_us
     d0 = durations_us[:n]
     cand = np.flatnonzero((levels[:n] == sig_levels[0]) & (d0 > lo_us[0]) & (d0 < hi_us[0]))
-    cand = _spans_fit(cand, durations_us, r, (1.0 + clock_error) * unit_us)
+    cand = _spans_fit(cand, durations_us, r, (1.0 + clock_error) * unit_us, tol)
     for j in range(1, k):
         if cand.size == 0:
             break
@@ -46,9 +88,20 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
     d = durations_us[cand[:, None] + np.arange(k)]
     t, unit, offset = _edge_line(d, r)
     ok = np.abs(unit / unit_us - 1.0) <= clock_error  # cheap: before the edge offsets
-    cand, d, unit = cand[ok], d[ok], unit[ok]
-    worst = _worst_edge(t[ok], r, unit, offset[ok])
-    ok = worst < MAX_EDGE_OFFSET
+    if run_spacing(table) > 1:  # the line, else the best grid (see above)
+        worst = np.full(cand.size, np.inf)
+        worst[ok] = _worst_edge(t[ok], r, unit[ok], offset[ok])
+        miss = np.flatnonzero(worst >= MAX_EDGE_OFFSET)
+        if miss.size:
+            best_unit, best = _minimax_edge(t[miss], r, unit_us * (1.0 - clock_error),
+                                            unit_us * (1.0 + clock_error))
+            worst[miss] = best
+            unit[miss] = np.where(ok[miss], unit[miss], best_unit)  # the line's if in range
+        ok = worst < tol
+    else:
+        cand, d, unit = cand[ok], d[ok], unit[ok]
+        worst = _worst_edge(t[ok], r, unit, offset[ok])
+        ok = worst < MAX_EDGE_OFFSET
     if k < SHORT_SIGNATURE_RUNS:  # few runs say little: every duration must fit as well
         got, _ = nearest_runs(d / unit[:, None], np.broadcast_to(sig_levels, d.shape), table)
         ok &= (got == sig_units).all(axis=1)
@@ -93,13 +146,13 @@ def _one_per_cluster(cand: np.ndarray, unit: np.ndarray, worst: np.ndarray, k: i
     keep[:-1] |= good[:-1] & ~good[1:] & (cluster[1:] == cluster[:-1])
     return cand[keep], unit[keep]
 
-def _spans_fit(cand: np.ndarray, durations_us: np.ndarray, r: np.ndarray, max_unit_us: float
-               ) -> np.ndarray:
+def _spans_fit(cand: np.ndarray, durations_us: np.ndarray, r: np.ndarray, max_unit_us: float,
+               tol: float = MAX_EDGE_OFFSET) -> np.ndarray:
     """Return the candidates whose spans of pulses keep the signature's proportions.
 
-    If every edge lies within half a unit u of its chip (the final test), the time S_j
+    If every edge lies within ``tol`` units u of its chip (the final test), the time S_j
     from the first edge to edge j and the whole span S_k obey
-    |S_j C_k - C_j S_k| <= (C_k + C_j) u for chip counts C; whatever the clock. Checked
+    |S_j C_k - C_j S_k| <= 2 tol (C_k + C_j) u for chip counts C; whatever the clock. Checked
     at every eighth of the signature, it drops most positions
     inside frames (runs of other lengths) before any fit, and never a true head.
     """
@@ -111,7 +164,7 @@ def _spans_fit(cand: np.ndarray, durations_us: np.ndarray, r: np.ndarray, max_un
     total = t[cand + k] - t[cand]
     for j in sorted({k * q // 8 for q in range(1, 8)} - {0}):
         part = t[cand + j] - t[cand]
-        ok = np.abs(part * c[k] - c[j] * total) <= (c[k] + c[j]) * max_unit_us
+        ok = np.abs(part * c[k] - c[j] * total) <= 2 * tol * (c[k] + c[j]) * max_unit_us
         cand, total = cand[ok], total[ok]
     return cand
 
@@ -135,6 +188,42 @@ def _edge_line(d: np.ndarray, r: np.ndarray) -> tuple[np.ndarray, np.ndarray, np
     unit = np.where(slope > 0, slope, np.nan)
     offset = (tm - slope * cm) / unit
     return t, unit, offset
+
+
+def _minimax_edge(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: float
+                  ) -> tuple[np.ndarray, np.ndarray]:
+    """Return per row (unit in µs, worst edge offset in units of that unit) of the chip
+    grid with a unit in [``lo_unit_us``, ``hi_unit_us``] that leaves the smallest worst
+    edge offset, for rows of edge times ``t`` (from the first edge, as
+    :func:`_edge_line` returns them) with run lengths ``r``.
+
+    In the inverse unit v the offset of edge j is t_j v - c_j - o, linear in (v, o); the
+    best o halves the spread of t_j v - c_j, and that spread is convex (a maximum of
+    linear functions less a minimum of them) in v: a golden-section search over v finds
+    its minimum, all rows at once.
+    """
+    c = np.concatenate(([0.0], np.cumsum(r)))
+
+    def half_spread(v: np.ndarray) -> np.ndarray:
+        e = t * v[:, None] - c
+        return (e.max(axis=1) - e.min(axis=1)) / 2.0
+
+    a = np.full(t.shape[0], 1.0 / hi_unit_us)
+    b = np.full(t.shape[0], 1.0 / lo_unit_us)
+    phi = (math.sqrt(5.0) - 1.0) / 2.0
+    x1, x2 = b - phi * (b - a), a + phi * (b - a)
+    f1, f2 = half_spread(x1), half_spread(x2)
+    for _ in range(MINIMAX_STEPS):
+        left = f1 <= f2  # the minimum lies in [a, x2]
+        b = np.where(left, x2, b)
+        a = np.where(left, a, x1)
+        x2n = np.where(left, x1, a + phi * (b - a))
+        x1n = np.where(left, b - phi * (b - a), x2)
+        new = np.where(left, x1n, x2n)
+        fn = half_spread(new)
+        f1, f2 = np.where(left, fn, f2), np.where(left, f1, fn)
+        x1, x2 = x1n, x2n
+    return 1.0 / np.where(f1 <= f2, x1, x2), np.minimum(f1, f2)
 
 
 def _worst_edge(t: np.ndarray, r: np.ndarray, unit: np.ndarray, offset: np.ndarray

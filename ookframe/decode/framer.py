@@ -113,7 +113,9 @@ def decode(spec: Receiver, train: PulseTrain, *,
     edges' places on the chip grid, one line-code decode, then framing (sync search with
     the allowed bit errors, unstuffing, fields and check, times). A frame whose check
     fails is decoded once more duration by duration with the drift-tracking loop, and the
-    result replaces it where its check passes; then, where noise hugs the frame's end, from
+    result replaces it where its check passes (so is a window whose first reading was
+    taken for noise or not read past the sync: a frame read there joins where its check
+    passes and it overlaps none); then, where noise hugs the frame's end, from
     the train cut at its carrier end; then, where the glitch filter dropped a pulse that
     heavy jitter may have shrunk, with the filter at half its width
     (``_low_filter_opinion``). Each opinion is one more reading of a stretch the first
@@ -148,20 +150,29 @@ def decode(spec: Receiver, train: PulseTrain, *,
     if len(clean) == 0:
         return []
     cw = _windows(hm, clean, spec.unit_us)
-    if cw is None:
-        return []
+    if cw is None:  # the filter may have cut every head: the low-filter opinion still reads
+        none = np.zeros(0, np.int64)
+        cw = _CandidateWindows(clean.edges_us(), none, np.zeros(0), none, none)
+        frames = _low_filter_opinion(spec, hm, train, clean, cw, [])
+        return [f for f in frames if f.crc_ok or include_bad]
     found, ctx = _decode_clean(spec, hm, clean, cw, grid=True)
     frames = [f for f, _ in found]
-    if any(not f.crc_ok for f in frames) and spec.check.kind != "none":
+    failing = any(not f.crc_ok for f in frames)
+    if (failing or ctx.doubtful.size) and spec.check.kind != "none":
         flips = min(spec.decoder.max_flips if max_flips is None else max_flips,
                     safe_flips(spec))
-        if flips > 0:
+        if flips > 0 and failing:
             frames = [f if f.crc_ok else _recover(spec, hm, ctx, k, flips) or f
                       for f, k in found]
         failed = [k for f, (_, k) in zip(frames, found, strict=True) if not f.crc_ok]
         if failed:
             other, _ = _decode_clean(spec, hm, clean, cw.bursts_of(failed), grid=False)
             frames = _second_opinion(spec, frames, [f for f, _ in other])
+        if ctx.doubtful.size:  # a pass of its own: its frames never block those above
+            other, _ = _decode_clean(spec, hm, clean, cw.bursts_of(ctx.doubtful.tolist()),
+                                     grid=False)
+            frames = _doubtful_opinion(frames, [f for f, _ in other],
+                                       cw.t0[cw.first[ctx.doubtful]])
     if ctx.unparsed_us.size or not all(f.crc_ok for f in frames):
         frames = _tail_opinion(spec, hm, train, frames, ctx)
     frames = _low_filter_opinion(spec, hm, train, clean, cw, frames)
@@ -198,6 +209,7 @@ class _Context:
     t0: np.ndarray
     unparsed_us: np.ndarray  # estimated start of windows whose sync was found, body not read
     unparsed_unit_us: np.ndarray  # their unit
+    doubtful: np.ndarray  # windows no frame covers, none read from them (see _decode_clean)
 
 
 def _recover(spec: FrameSpec, hm: HeadModel, ctx: _Context, k: int, max_flips: int
@@ -252,6 +264,24 @@ def _second_opinion(spec: FrameSpec, frames: list[DecodedFrame], other: list[Dec
                 f = good[k]
         out.append(f)
     return out
+
+
+def _doubtful_opinion(frames: list[DecodedFrame], other: list[DecodedFrame],
+                      doubtful_us: np.ndarray) -> list[DecodedFrame]:
+    """Return ``frames`` with every frame of ``other`` (decoded duration by duration)
+    whose check passes, that holds one of ``doubtful_us`` (first pulses of windows whose
+    first reading was taken for noise, found no sync or no body, and that no frame covers)
+    and overlaps no frame, added. Its false-accept risk is that of one more reading of
+    such a window, as for the frames the second opinion replaces."""
+    times = np.sort(doubtful_us)
+    extra: list[DecodedFrame] = []
+    for g in other:
+        if not g.crc_ok or not _holds(g, times):
+            continue
+        if any(f.start_us < g.end_us and g.start_us < f.end_us for f in frames + extra):
+            continue
+        extra.append(g)
+    return sorted(frames + extra, key=lambda f: f.start_us) if extra else frames
 
 
 def _tail_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
@@ -495,6 +525,7 @@ def _decode_clean(spec: FrameSpec, hm: HeadModel, clean: PulseTrain, cw: _Candid
     results, synced = _frame_all(spec, hm, ws, runs, cands, levels, dur, t0)
     frames: list[tuple[DecodedFrame, int]] = []
     unparsed: list[int] = []
+    doubtful: list[int] = []
     done = -1
     for k, i in enumerate(first.tolist()):
         if i <= done:
@@ -503,15 +534,27 @@ def _decode_clean(spec: FrameSpec, hm: HeadModel, clean: PulseTrain, cw: _Candid
         if got is None:
             if synced[k]:
                 unparsed.append(k)
+            doubtful.append(k)
             continue
         frame, last = got
         if not _plausible(spec, frame):
+            doubtful.append(k)
             continue  # noise that happened to parse: later candidates may lie inside it
         done = last
         frames.append((frame, k))
     u = np.array(unparsed, np.int64)
     unparsed_us = t0[first[u]] - int(hm.prefix_units.sum()) * ws.start_unit_us[u]
-    return frames, _Context(ws, levels, dur, t0, unparsed_us, ws.start_unit_us[u])
+    # windows no frame covers whose reading found no sync, no body or only noise: the
+    # head matched, so another reading may find the frame (an overlapping head of the same
+    # frame, covered by it, needs none)
+    d = np.array(doubtful, np.int64)
+    if d.size and frames:
+        fs = np.array([f.start_us for f, _ in frames])
+        fe = np.array([f.end_us for f, _ in frames])
+        t = t0[first[d]]
+        j = np.searchsorted(fs, t, side="right") - 1
+        d = d[(j < 0) | (t > fe[np.maximum(j, 0)])]
+    return frames, _Context(ws, levels, dur, t0, unparsed_us, ws.start_unit_us[u], d)
 
 
 def _frame_all(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,

@@ -3,8 +3,8 @@
 (short:long ratio 1:2, 1:3, 2:3 ...).
 
 Decoding aligns to every rising edge (one candidate) and reads the bit from the mark
-length; the space must be short or long too, except after the last mark of the burst,
-where it runs into the gap.
+length; the space must be short or long too, except after the last mark of a burst,
+where it runs into the gap (any space longer than the long one).
 """
 
 from __future__ import annotations
@@ -70,7 +70,9 @@ class Pwm(LineCode):
         """Return one candidate: one bit per mark, 1 for a long mark, 0 for a short one."""
         lv, un = as_runs(levels, units)
         run, mark, space = mark_space_pairs(lv, un)
-        space_ok = (space == self.short_units) | (space == self.long_units)
+        # a space longer than the long one is the gap: the burst ends there, as at the end
+        space_ok = (space == self.short_units) | (space == self.long_units) | (
+            space > self.long_units)
         if space_ok.size:
             space_ok[-1] = True
         one = mark == self.long_units
