@@ -244,7 +244,7 @@ def compare(case: Case, new: list[list], old: list[list], same_tol_units: float
         counts[kind] += 1
         if kind == "new wrong":
             new_wrong.append({"copy": k, "start_us": float(case.copy_start_us[k]),
-                              "new": a, "old": b})
+                              "sent": case.copy_payload[k], "new": a, "old": b})
     return {"example": case.name, "preset": case.preset, "copies": int(rn.size),
             "new_right": int(rn.sum()), "old_right": int(ro.sum()),
             "new_frames": len(new), "old_frames": len(old),
@@ -332,7 +332,7 @@ def main(argv: list[str] | None = None) -> int:
     for r in rows:
         for w in r["new_wrong"]:  # type: ignore[union-attr]
             print(f"NEW WRONG {r['example']} {r['preset']} copy {w['copy']} at "
-                  f"{w['start_us']:.0f} us: new {w['new']} old {w['old']}")
+                  f"{w['start_us']:.0f} us (sent {w['sent']}): new {w['new']} old {w['old']}")
     if changed:
         print(f"left out, on-air format changed since {args.old_commit} (the old encoder's "
               f"trains differ, so the same train cannot be right for both): "
