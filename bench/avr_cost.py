@@ -170,7 +170,7 @@ def _receiver_noise_rows() -> None:
     print(f"\nreceiver through {NOISE_PRESET} ({NOISE_VECTORS} vectors per example, seed "
           f"{NOISE_SEED}): frames passing the check, AVR / host build of the same header")
     print(f"{'spec':<18}{'AVR':>5}{'host':>6}{'equal':>7}{'ISR max':>8}{'2-edge runs':>12}"
-          f"{'2-edge max':>11}{'lost edges':>11}")
+          f"{'2-edge max':>11}{'lost edges':>11}{'hunt skips':>11}")
     for name in example_names():
         spec, defaults = _example(name)
         emitted = emit_header(spec, side="rx")
@@ -187,10 +187,11 @@ def _receiver_noise_rows() -> None:
         two = run.capt_cycles[run.capt_two_edges]
         print(f"{spec.name:<18}{len(run.frames):>5}{len(host):>6}{str(run.frames == host):>7}"
               f"{int(one.max()):>8}{two.size:>12}{(int(two.max()) if two.size else 0):>11}"
-              f"{run.counters.get('edge_overruns', 0):>11}")
+              f"{run.counters.get('edge_overruns', 0):>11}{run.counters.get('hunt_skips', 0):>11}")
     print("2-edge: capture ISR runs that also queued an edge the line made while they ran "
           "(pulses shorter than the ISR); lost edges: edges that found the edge FIFO full "
-          "(idle noise faster than the main loop decodes)")
+          "(idle noise faster than the main loop decodes); hunt skips: queued edges rx_poll "
+          "dropped after such a loss while hunting (the newest edges win)")
 
 
 def _cortex_m0plus_rows() -> None:

@@ -23,7 +23,7 @@ pytestmark = [pytest.mark.slow,
 class _Counters(ctypes.Structure):
     _fields_ = [("frames_seen", ctypes.c_uint16), ("check_failures", ctypes.c_uint16),
                 ("overruns", ctypes.c_uint16), ("cut", ctypes.c_uint16),
-                ("edge_overruns", ctypes.c_uint16)]
+                ("edge_overruns", ctypes.c_uint16), ("hunt_skips", ctypes.c_uint16)]
 
 
 @pytest.fixture(autouse=True)

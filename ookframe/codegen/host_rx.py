@@ -41,7 +41,7 @@ class _Quality(ctypes.Structure):
 class _Counters(ctypes.Structure):
     _fields_ = [("frames_seen", ctypes.c_uint16), ("check_failures", ctypes.c_uint16),
                 ("overruns", ctypes.c_uint16), ("cut", ctypes.c_uint16),
-                ("edge_overruns", ctypes.c_uint16)]
+                ("edge_overruns", ctypes.c_uint16), ("hunt_skips", ctypes.c_uint16)]
 
 
 @dataclass(frozen=True)
@@ -162,7 +162,7 @@ class HostReceiver:
 
     def counters(self) -> dict[str, int]:
         """``<p>_rx_counters()``: frames seen, check failures, overruns, frames cut, edges
-        lost to a full edge FIFO."""
+        lost to a full edge FIFO, queued edges dropped while hunting after such a loss."""
         c = _Counters()
         self._counters(ctypes.byref(c))
         return {name: int(getattr(c, name)) for name, _ in _Counters._fields_}

@@ -35,7 +35,7 @@ class _Counters(ctypes.LittleEndianStructure):
     _pack_ = 1
     _fields_ = [("frames_seen", ctypes.c_uint16), ("check_failures", ctypes.c_uint16),
                 ("overruns", ctypes.c_uint16), ("cut", ctypes.c_uint16),
-                ("edge_overruns", ctypes.c_uint16)]
+                ("edge_overruns", ctypes.c_uint16), ("hunt_skips", ctypes.c_uint16)]
 
 
 def fields_struct(emitted: Emitted) -> type[ctypes.LittleEndianStructure]:
