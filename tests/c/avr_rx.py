@@ -168,17 +168,24 @@ def _main_loop_cycles(events: list[tuple[str, int, int]]) -> tuple[np.ndarray, n
 
 def run_receiver(emitted: Emitted, values: Mapping[str, object],
                  trains: Sequence[tuple[np.ndarray, np.ndarray]], directory: Path, *,
-                 in_isr: bool = False, baseline: bool = False) -> RxRun:
+                 in_isr: bool = False, baseline: bool = False,
+                 header_isrs: bool = False) -> RxRun:
     """Build the receiver firmware (``values``: any valid field values, for the shared
-    demo_values.h; ``baseline``: around the stub receiver), drive PB0 with ``trains`` and
-    return its report."""
+    demo_values.h; ``baseline``: around the stub receiver; ``header_isrs``: with the
+    header's <PREFIX>_RX_AVR_ICP1 ISRs, start function and default lock instead of the
+    firmware's), drive PB0 with ``trains`` and return its report."""
     harness = avr_run.build_harness(directory)
-    defines = lock_defines(emitted)
+    defines: dict[str, str | None] = {}
+    if header_isrs:
+        defines = {"OOK_HEADER_ISRS": None, f"{emitted.model.PREFIX}_RX_AVR_ICP1": None}
+    else:
+        defines = lock_defines(emitted)
     if in_isr:
         defines["OOK_RX_IN_ISR"] = None
     elf = avr_run.build_firmware(emitted, values, directory, source=RX_FIRMWARE,
                                  baseline=baseline,
-                                 name=f"rx{'_isr' if in_isr else ''}{'_base' if baseline else ''}.elf",
+                                 name=f"rx{'_isr' if in_isr else ''}{'_base' if baseline else ''}"
+                                      f"{'_hdr' if header_isrs else ''}.elf",
                                  extra_defines=defines)
     text, end_cycle = drive_lines(trains, emitted.model.timing.clock_hz)
     drive = directory / "drive.txt"
