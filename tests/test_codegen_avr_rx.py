@@ -133,6 +133,34 @@ def test_edge_of_range_frames_equal_the_host_build(tmp_path, capsys, monkeypatch
     _isr_within_target(run)
 
 
+def test_header_isrs_equal_the_firmware_isrs_through_edge_of_range(tmp_path, capsys):
+    """Through the edge-of-range-superregen channel (``ookframe vectors``, seed 9, hive_scale:
+    idle noise with pulses shorter than the capture ISR) the header's <PREFIX>_RX_AVR_ICP1
+    ISRs give the same frames and counters as the test firmware's, the same number of
+    capture ISR runs, each within the target per edge it queued (the firmware's GPIOR1
+    marker tells which runs queued two)."""
+    spec, defaults = example_spec("hive_scale.toml")
+    out = tmp_path / "vectors.json"
+    assert main(["vectors", str(ROOT / "ookframe" / "examples" / "hive_scale.toml"),
+                 "--count", "6", "--seed", "9", "--preset", "edge-of-range-superregen",
+                 "-o", str(out)]) == 0
+    capsys.readouterr()
+    trains = [(np.asarray(v["levels"], np.uint8), np.asarray(v["durations_us"], np.float64))
+              for v in json.loads(out.read_text())["vectors"]]
+    emitted = emit_header(spec, side="rx")
+    own = avr_rx.run_receiver(emitted, defaults, trains, tmp_path)
+    hdr = avr_rx.run_receiver(emitted, defaults, trains, tmp_path, header_isrs=True)
+    two = own.capt_two_edges
+    print(f"header ISRs: {len(hdr.frames)} frames, {int(two.sum())} two-edge runs, capture "
+          f"max {hdr.capt_cycles[~two].max()} / {hdr.capt_cycles[two].max() if two.any() else 0}"
+          f", idle max {hdr.idle_cycles.max()}")
+    assert len(own.frames) >= len(trains) and hdr.frames == own.frames
+    assert hdr.counters == own.counters and hdr.capt_cycles.size == own.capt_cycles.size
+    assert hdr.capt_cycles[~two].max() <= ISR_TARGET_CYCLES
+    assert not two.any() or hdr.capt_cycles[two].max() <= 2 * ISR_TARGET_CYCLES
+    assert hdr.idle_cycles.max() <= ISR_TARGET_CYCLES
+
+
 def _isr_within_target(run: avr_rx.RxRun) -> None:
     """Every capture ISR run within the target per edge it queued (a run that also caught
     an edge missed while it ran queues two), and the idle ISR within it."""
