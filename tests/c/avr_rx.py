@@ -13,6 +13,7 @@ from pathlib import Path
 import numpy as np
 
 from ookframe.codegen import Emitted
+from ookframe.codegen.host_rx import raw_fields
 from ookframe.codegen.toolchains import avr_flash_ram, section_sizes
 from tests.c import avr_run
 
@@ -125,17 +126,7 @@ def _two_edge_runs(events: list[tuple[str, int, int]], n: int) -> np.ndarray:
 
 
 def _raw(emitted: Emitted, f: ctypes.Structure) -> dict[str, object]:
-    raw: dict[str, object] = {}
-    length = 0
-    for cf in emitted.model.fields:
-        if cf.kind == "int":
-            raw[cf.name] = int(getattr(f, cf.name))
-            if cf.role == "length":
-                length = int(raw[cf.name])
-    for cf in emitted.model.fields:
-        if cf.kind == "bytes":
-            raw[cf.name] = bytes(getattr(f, cf.name)[:length])
-    return raw
+    return raw_fields(emitted.model.fields, f)
 
 
 def _main_loop_cycles(events: list[tuple[str, int, int]]) -> tuple[np.ndarray, np.ndarray, int]:
