@@ -46,12 +46,14 @@ def _changes(trains) -> int:
     return n
 
 
+@pytest.mark.parametrize("isrs", ["firmware", "header"])
 @pytest.mark.parametrize("name", EXAMPLES)
-def test_random_values_decode_on_the_avr(tmp_path, name):
+def test_random_values_decode_on_the_avr(tmp_path, name, isrs):
     """Every copy of frames of random field values (numpy Generator, seeds 1, 2, 3; two
     transmissions each) comes back from the simulated MCU with the encoder's raw values, in
     order; one capture ISR per edge (none missed), each within the 150-cycle target; no
-    check failure, no lost edge."""
+    check failure, no lost edge. Once with the test firmware's ISRs, once with the header's
+    <PREFIX>_RX_AVR_ICP1 ISRs, start function and default lock."""
     spec, defaults = example_spec(name)
     emitted = emit_header(spec, side="rx")
     want, trains = [], []
@@ -62,11 +64,11 @@ def test_random_values_decode_on_the_avr(tmp_path, name):
             train = encode(spec, values)
             trains.append((train.levels, train.durations_us))
             want += [raw_values(spec, values)] * spec.repeats
-    run = avr_rx.run_receiver(emitted, defaults, trains, tmp_path)
+    run = avr_rx.run_receiver(emitted, defaults, trains, tmp_path, header_isrs=isrs == "header")
     assert run.frames == want
     assert run.counters["check_failures"] == 0 and run.counters["edge_overruns"] == 0
     assert run.capt_cycles.size == _changes(trains) and not run.capt_two_edges.any()
-    print(f"{name}: capture ISR max {run.capt_cycles.max()} mean {run.capt_cycles.mean():.1f}, "
+    print(f"{name} ({isrs} ISRs): capture ISR max {run.capt_cycles.max()} mean {run.capt_cycles.mean():.1f}, "
           f"idle ISR max {run.idle_cycles.max()}, main loop "
           f"{run.main_cycles_total / len(want):.0f} cycles/frame")
     _isr_within_target(run)
@@ -131,6 +133,34 @@ def test_edge_of_range_frames_equal_the_host_build(tmp_path, capsys, monkeypatch
     _isr_within_target(run)
 
 
+def test_header_isrs_equal_the_firmware_isrs_through_edge_of_range(tmp_path, capsys):
+    """Through the edge-of-range-superregen channel (``ookframe vectors``, seed 9, hive_scale:
+    idle noise with pulses shorter than the capture ISR) the header's <PREFIX>_RX_AVR_ICP1
+    ISRs give the same frames and counters as the test firmware's, the same number of
+    capture ISR runs, each within the target per edge it queued (the firmware's GPIOR1
+    marker tells which runs queued two)."""
+    spec, defaults = example_spec("hive_scale.toml")
+    out = tmp_path / "vectors.json"
+    assert main(["vectors", str(ROOT / "ookframe" / "examples" / "hive_scale.toml"),
+                 "--count", "6", "--seed", "9", "--preset", "edge-of-range-superregen",
+                 "-o", str(out)]) == 0
+    capsys.readouterr()
+    trains = [(np.asarray(v["levels"], np.uint8), np.asarray(v["durations_us"], np.float64))
+              for v in json.loads(out.read_text())["vectors"]]
+    emitted = emit_header(spec, side="rx")
+    own = avr_rx.run_receiver(emitted, defaults, trains, tmp_path)
+    hdr = avr_rx.run_receiver(emitted, defaults, trains, tmp_path, header_isrs=True)
+    two = own.capt_two_edges
+    print(f"header ISRs: {len(hdr.frames)} frames, {int(two.sum())} two-edge runs, capture "
+          f"max {hdr.capt_cycles[~two].max()} / {hdr.capt_cycles[two].max() if two.any() else 0}"
+          f", idle max {hdr.idle_cycles.max()}")
+    assert len(own.frames) >= len(trains) and hdr.frames == own.frames
+    assert hdr.counters == own.counters and hdr.capt_cycles.size == own.capt_cycles.size
+    assert hdr.capt_cycles[~two].max() <= ISR_TARGET_CYCLES
+    assert not two.any() or hdr.capt_cycles[two].max() <= 2 * ISR_TARGET_CYCLES
+    assert hdr.idle_cycles.max() <= ISR_TARGET_CYCLES
+
+
 def _isr_within_target(run: avr_rx.RxRun) -> None:
     """Every capture ISR run within the target per edge it queued (a run that also caught
     an edge missed while it ran queues two), and the idle ISR within it."""
@@ -156,14 +186,17 @@ def test_ram_stated_in_the_header_holds_on_the_avr(tmp_path, name):
 
 
 def test_readme_receiver_snippet_runs(tmp_path):
-    """The README's pasteable AVR receiver firmware compiles with avr-gcc and the strict
-    warning set against the header ``emit --side rx`` writes for hive_scale, and in the
-    simulator (its "use f..." comment replaced by a GPIOR0 write of f.hive) it reports the
-    hive number of every copy of random frames (seed 6), its capture ISR within 150 cycles."""
+    """The README's pasteable AVR receiver firmware (at most 20 lines: the header's
+    <PREFIX>_RX_AVR_ICP1 ISRs) compiles with avr-gcc and the strict warning set against the
+    header ``emit --side rx`` writes for hive_scale, and in the simulator (its "use f..."
+    comment replaced by a GPIOR0 write of f.hive) it reports the hive number of every copy of
+    random frames (seed 6); one capture ISR per edge, it and the idle (compare B) ISR within
+    150 cycles."""
     text = (ROOT / "README.md").read_text()
     section = text[text.index("### Generated C receiver"):]
     snippet = re.search(r"```c\n(.*?)```", section, re.S)
     assert snippet is not None
+    assert snippet.group(1).count("\n") <= 20
     code, n = re.subn(r"\{ /\* use f\.[^}]*\*/ \}", "{ GPIOR0 = f.hive; }", snippet.group(1))
     assert n == 1
     spec, _ = example_spec("hive_scale.toml")
@@ -180,10 +213,14 @@ def test_readme_receiver_snippet_runs(tmp_path):
     drive, end_cycle = avr_rx.drive_lines(trains, emitted.timing.clock_hz)
     (tmp_path / "drive.txt").write_text(drive)
     run = avr_run.simulate(avr_run.build_harness(tmp_path), elf, clock_hz=emitted.timing.clock_hz,
-                           isr=(avr_run.TIMER1_CAPT_VECTOR,), drive=("B0", tmp_path / "drive.txt"),
+                           isr=(avr_run.TIMER1_CAPT_VECTOR, avr_rx.TIMER1_COMPB_VECTOR),
+                           drive=("B0", tmp_path / "drive.txt"),
                            max_cycles=end_cycle + 10_000)
     want = [raw_values(spec, v)["hive"] for v in values for _ in range(spec.repeats)]
     assert [v for v, _ in run.report] == want
     isr = run.isr_cycles[avr_run.TIMER1_CAPT_VECTOR]
-    print(f"README firmware: capture ISR max {isr.max()} mean {isr.mean():.1f} cycles")
-    assert isr.max() <= ISR_TARGET_CYCLES
+    idle = run.isr_cycles[avr_rx.TIMER1_COMPB_VECTOR]
+    print(f"README firmware: capture ISR max {isr.max()} mean {isr.mean():.1f} cycles, "
+          f"compare B (idle) ISR max {idle.max()} ({idle.size} runs)")
+    assert isr.size == _changes(trains) and isr.max() <= ISR_TARGET_CYCLES
+    assert idle.size >= len(trains) and idle.max() <= ISR_TARGET_CYCLES

@@ -103,9 +103,9 @@ def _readme_snippet() -> str:
 
 
 def test_readme_transmitter_snippet_builds_and_sends_exact_edges(tmp_path):
-    """README's pasteable transmitter compiles with avr-gcc under the strict flags, and in
-    the simulator its first transmission has every edge on the quantised schedule of the
-    values it states (raw values, converted with ookframe.bits.from_raw) and its ISR stays
+    """README's pasteable transmitter (at most 20 lines) compiles with avr-gcc under the
+    strict flags, and in the simulator its first transmission has every edge on the
+    quantised schedule of the values it states (raw values, converted with ookframe.bits.from_raw) and its ISR stays
     within the 50 cycles."""
     spec, _ = example_spec("hive_scale.toml")
     emitted = emit_header(spec)
@@ -113,6 +113,7 @@ def test_readme_transmitter_snippet_builds_and_sends_exact_edges(tmp_path):
     (tmp_path / emitted.filename).write_text(emitted.text)
     source = tmp_path / "readme_tx.c"
     snippet = _readme_snippet()
+    assert snippet.count("\n") <= 20
     source.write_text(snippet)
     raw = {m[0]: int(m[1]) for m in re.findall(r"\.(\w+) = (\d+)", snippet)}
     assert sorted(raw) == sorted(f.name for f in spec.fields)

@@ -92,7 +92,8 @@ def test_every_line_code_equals_reference(lc):
                                         ("avr-gcc", (*AVR_FLAGS, "-c")),
                                         ("arm-none-eabi-gcc", CORTEX_M0PLUS_FLAGS)])
 def test_strict_compile(tmp_path, name, tool, flags):
-    """-Wall -Wextra -Wpedantic -Wconversion -Wshadow -Werror -std=c99 on every compiler."""
+    """-Wall -Wextra -Wpedantic -Wconversion -Wshadow -Werror -std=c99 on every compiler,
+    with <PREFIX>_RX_AVR_ICP1 defined (its ISRs compile on avr-gcc, vanish elsewhere)."""
     cc = find_tool(tool)
     if cc is None:
         pytest.skip(f"{tool} not installed")
@@ -102,7 +103,21 @@ def test_strict_compile(tmp_path, name, tool, flags):
     src.write_text(f'#include "{e.filename}"\n')
     P = e.model.PREFIX
     compile_c(cc, [src], tmp_path / "t.o", flags=(*STRICT_FLAGS, *flags), include_dirs=[tmp_path],
-              defines={f"{P}_IMPLEMENTATION": None})
+              defines={f"{P}_IMPLEMENTATION": None, f"{P}_RX_AVR_ICP1": None})
+
+
+def test_avr_icp1_section_follows_the_prescaler():
+    """The ready-made ATmega ISRs select Timer1's clock for the header's prescaler (TCCR1B
+    CS12..CS10: /8 = CS11, /64 = CS11|CS10; ATmega328P datasheet, from memory), only on
+    AVR when asked for, and the transmit-only header has none."""
+    e = emit_header(example_spec("hive_scale.toml"), side="rx")
+    P = e.model.PREFIX
+    want = {8: "(1u << CS11)", 64: "((1u << CS11) | (1u << CS10))"}[e.timing.prescaler]
+    assert f"#define {P}_RX_AVR_CLOCK_SELECT ((uint8_t){want})" in e.text
+    assert f"#if defined({P}_RX_AVR_ICP1) && defined(__AVR__)" in e.text
+    assert "ISR(TIMER1_CAPT_vect)" in e.text and "ISR(TIMER1_COMPB_vect)" in e.text
+    tx = emit_header(example_spec("hive_scale.toml"))
+    assert "RX_AVR_ICP1" not in tx.text and "ISR(TIMER1_CAPT_vect)" not in tx.text
 
 
 @pytest.mark.slow

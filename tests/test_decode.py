@@ -544,13 +544,19 @@ def test_a_pulse_shrunk_below_the_glitch_filter_is_read(name, where):
     ones = np.flatnonzero(np.isclose(tx.durations_us, spec.unit_us))
     k = int(ones[where])
     du = tx.durations_us.copy()
-    du[k - 1] += 0.4 * spec.unit_us
-    du[k] -= 0.8 * spec.unit_us
-    du[k + 1] += 0.4 * spec.unit_us
+    _shrink_by_jitter(du, k, spec.unit_us)
     frames = decode(spec, PulseTrain(tx.levels, du))
     assert_exact(spec, values, frames)
     for f, start in zip(frames, frame_starts_us(spec, values), strict=True):
         assert abs(f.start_us - start) < 0.5 * spec.unit_us
+
+
+def _shrink_by_jitter(du: np.ndarray, k: int, unit_us: float) -> None:
+    """Pulse ``k`` shrunk by 0.8 unit, both its edges moved 0.4 unit inwards (its
+    neighbours grow by as much): what +-40 % edge jitter can do to one pulse."""
+    du[k - 1] += 0.4 * unit_us
+    du[k] -= 0.8 * unit_us
+    du[k + 1] += 0.4 * unit_us
 
 
 @pytest.mark.parametrize("name", ["gate_sensor", "greenhouse_probe"])
@@ -567,9 +573,7 @@ def test_heads_of_every_copy_cut_by_the_glitch_filter_are_read(name):
     assert starts.size == spec.repeats
     for k in starts + 5:  # head run 5: one unit in both heads, inside the signature
         assert du[k] == pytest.approx(spec.unit_us)
-        du[k - 1] += 0.4 * spec.unit_us
-        du[k] -= 0.8 * spec.unit_us
-        du[k + 1] += 0.4 * spec.unit_us
+        _shrink_by_jitter(du, k, spec.unit_us)
     frames = decode(spec, PulseTrain(tx.levels, du))
     assert_exact(spec, values, frames)
     for f, start in zip(frames, frame_starts_us(spec, values), strict=True):

@@ -68,3 +68,21 @@ def test_pooled_sweep_equals_point_by_point():
              for v in (0.0, 0.02, 0.05)]
     assert list(pooled.results[0]) == alone
     assert 0 < sum(r.ok for r in alone) < 270
+
+
+def test_pooled_sweep_keeps_run_stress_chunk_bound():
+    """Above ``chunk_limit`` (hive_scale: CHUNK_CHIPS over its chips per transmission) the
+    pooled sweep cuts its chunks as ``run_stress`` does, so results still equal the
+    point-by-point runs (regression: the pool path cut every ``chunk_frames``)."""
+    from ookframe.stress.runner import chunk_limit, run_stress
+    from ookframe.stress.sweep import channel_at
+
+    a, _ = example_spec("hive_scale.toml")
+    n = 2 * chunk_limit(a) + 7
+    assert n < 500  # chunk_frames below is above the bound
+    ch = ChannelSpec()
+    pooled = run_sweep([a], ch, "dropout_prob", [0.01, 0.04], n, seed=5, workers=2,
+                       chunk_frames=500)
+    alone = [run_stress(a, channel_at(a, ch, "dropout_prob", v), n, seed=5, chunk_frames=500)
+             for v in (0.01, 0.04)]
+    assert list(pooled.results[0]) == alone

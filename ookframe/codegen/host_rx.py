@@ -13,6 +13,7 @@ import ctypes
 import hashlib
 import os
 import tempfile
+from collections.abc import Sequence
 from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
@@ -25,6 +26,7 @@ from ..plan import as_plan
 from ..pulses import PulseTrain
 from ..spec.model import FrameSpec
 from . import emit_header
+from .model import CField
 from .toolchains import STRICT_FLAGS, compile_c, find_tool
 
 _CTYPES = {"uint8_t": ctypes.c_uint8, "int8_t": ctypes.c_int8, "uint16_t": ctypes.c_uint16,
@@ -73,6 +75,22 @@ def find_cc() -> str:
     raise CodegenError("no C compiler found for the C receiver (tried $OOKFRAME_CC, cc, gcc, "
                        "clang); install one (e.g. apt-get install gcc) or use --decoder reference")
 
+
+
+def raw_fields(model_fields: Sequence[CField], f: ctypes.Structure) -> dict[str, object]:
+    """Raw field values of a filled ``struct <p>_fields`` (ctypes): ints as ints, bytes
+    fields cut to the length field's value; ``model_fields`` from the header's model."""
+    raw: dict[str, object] = {}
+    length = 0
+    for cf in model_fields:
+        if cf.kind == "int":
+            raw[cf.name] = int(getattr(f, cf.name))
+            if cf.role == "length":
+                length = int(raw[cf.name])
+    for cf in model_fields:
+        if cf.kind == "bytes":
+            raw[cf.name] = bytes(getattr(f, cf.name)[:length])
+    return raw
 
 class HostReceiver:
     """A loaded receiver library for one spec."""
@@ -168,16 +186,7 @@ class HostReceiver:
         return {name: int(getattr(c, name)) for name, _ in _Counters._fields_}
 
     def _frame(self, f: ctypes.Structure, q: _Quality, ok: bool) -> CFrame:
-        raw: dict[str, object] = {}
-        length = 0
-        for cf in self.model.fields:
-            if cf.kind == "int":
-                raw[cf.name] = int(getattr(f, cf.name))
-                if cf.role == "length":
-                    length = int(raw[cf.name])
-        for cf in self.model.fields:
-            if cf.kind == "bytes":
-                raw[cf.name] = bytes(getattr(f, cf.name)[:length])
+        raw = raw_fields(self.model.fields, f)
         bits = field_bits(self.spec, raw)
         payload = np.packbits(bits).tobytes().hex() if bits.size else ""
         unit_us = self.spec.unit_us * (1 + q.clock_error_permille / 1000)

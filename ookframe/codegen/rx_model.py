@@ -123,6 +123,10 @@ LOW_KEEP_WORST_20THS = 6
 #: ranks sync hits by their lead errors; a few allowed keep a jittered preamble edge from
 #: losing the frame while a sync hit inside random data stays unlikely
 LEAD_MAX_ERRORS_PER_16 = 4
+#: ATmega328P Timer1 clock select (TCCR1B CS12..CS10) per prescaler (datasheet, Timer1
+#: clock select bit description, from memory)
+AVR_TIMER1_CLOCK_BITS = {1: "(1u << CS10)", 8: "(1u << CS11)", 64: "((1u << CS11) | (1u << CS10))",
+                         256: "(1u << CS12)", 1024: "((1u << CS12) | (1u << CS10))"}
 
 
 @dataclass(frozen=True)
@@ -191,6 +195,9 @@ class RxModel:
     low_keep_loose_20ths: int
     low_keep_worst_20ths: int
     glitch_low_ticks: int
+    #: Timer1 clock-select bits (ATmega328P TCCR1B) for the timer's prescaler, as a C
+    #: expression; "" when Timer1 has no such prescaler (no <PREFIX>_RX_AVR_ICP1 ISRs)
+    avr_icp1_clock: str = ""
 
     @property
     def ram_bytes(self) -> int:
@@ -379,5 +386,6 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
         low_keep_tight_20ths=LOW_KEEP_TIGHT_20THS, low_keep_loose_20ths=LOW_KEEP_LOOSE_20THS,
         low_keep_worst_20ths=LOW_KEEP_WORST_20THS,
         glitch_low_ticks=int(framer.LOW_FILTER_FRACTION * spec.decoder.glitch_fraction
-                             * spec.unit_us / timing.tick_us + 0.5))
+                             * spec.unit_us / timing.tick_us + 0.5),
+        avr_icp1_clock=AVR_TIMER1_CLOCK_BITS.get(timing.prescaler, ""))
 

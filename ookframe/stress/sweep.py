@@ -19,6 +19,7 @@ from .runner import (
     Counts,
     Decoder,
     StressResult,
+    chunk_limit,
     chunk_plan,
     map_unordered,
     pool_for,
@@ -179,10 +180,12 @@ def _all_points_at_once(
     each point's chunks and seeds are exactly those ``run_stress`` uses, so the results are
     the same. elapsed_s of a point: from the start to its last chunk."""
     t0 = time.perf_counter()
-    plan = chunk_plan(n_frames, chunk_frames)
     points = [(s, channel_at(s, channel, parameter, v)) for s in specs for v in values]
+    # run_stress's own chunking: at most chunk_limit(spec) transmissions per chunk
+    point_chunk = [min(chunk_frames, chunk_limit(s)) for s, _ in points]
     args, owner = [], []
     for k, (spec, ch) in enumerate(points):
+        plan = chunk_plan(n_frames, point_chunk[k])
         seqs = np.random.SeedSequence(seed).spawn(len(plan))
         for n, q in zip(plan, seqs, strict=True):
             args.append((spec, ch, n, q, None, decoder))
@@ -195,7 +198,7 @@ def _all_points_at_once(
         done_s[k] = time.perf_counter() - t0
         if progress is not None:
             progress(counts.frames)
-    flat = [stress_result(spec, ch, seed, sums[k], chunk_frames, done_s[k], 0)
+    flat = [stress_result(spec, ch, seed, sums[k], point_chunk[k], done_s[k], 0)
             for k, (spec, ch) in enumerate(points)]
     n_v = len(values)
     return tuple(tuple(flat[s * n_v:(s + 1) * n_v]) for s in range(len(specs)))

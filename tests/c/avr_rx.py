@@ -13,6 +13,7 @@ from pathlib import Path
 import numpy as np
 
 from ookframe.codegen import Emitted
+from ookframe.codegen.host_rx import raw_fields
 from ookframe.codegen.toolchains import avr_flash_ram, section_sizes
 from tests.c import avr_run
 
@@ -125,17 +126,7 @@ def _two_edge_runs(events: list[tuple[str, int, int]], n: int) -> np.ndarray:
 
 
 def _raw(emitted: Emitted, f: ctypes.Structure) -> dict[str, object]:
-    raw: dict[str, object] = {}
-    length = 0
-    for cf in emitted.model.fields:
-        if cf.kind == "int":
-            raw[cf.name] = int(getattr(f, cf.name))
-            if cf.role == "length":
-                length = int(raw[cf.name])
-    for cf in emitted.model.fields:
-        if cf.kind == "bytes":
-            raw[cf.name] = bytes(getattr(f, cf.name)[:length])
-    return raw
+    return raw_fields(emitted.model.fields, f)
 
 
 def _main_loop_cycles(events: list[tuple[str, int, int]]) -> tuple[np.ndarray, np.ndarray, int]:
@@ -168,17 +159,24 @@ def _main_loop_cycles(events: list[tuple[str, int, int]]) -> tuple[np.ndarray, n
 
 def run_receiver(emitted: Emitted, values: Mapping[str, object],
                  trains: Sequence[tuple[np.ndarray, np.ndarray]], directory: Path, *,
-                 in_isr: bool = False, baseline: bool = False) -> RxRun:
+                 in_isr: bool = False, baseline: bool = False,
+                 header_isrs: bool = False) -> RxRun:
     """Build the receiver firmware (``values``: any valid field values, for the shared
-    demo_values.h; ``baseline``: around the stub receiver), drive PB0 with ``trains`` and
-    return its report."""
+    demo_values.h; ``baseline``: around the stub receiver; ``header_isrs``: with the
+    header's <PREFIX>_RX_AVR_ICP1 ISRs, start function and default lock instead of the
+    firmware's), drive PB0 with ``trains`` and return its report."""
     harness = avr_run.build_harness(directory)
-    defines = lock_defines(emitted)
+    defines: dict[str, str | None] = {}
+    if header_isrs:
+        defines = {"OOK_HEADER_ISRS": None, f"{emitted.model.PREFIX}_RX_AVR_ICP1": None}
+    else:
+        defines = lock_defines(emitted)
     if in_isr:
         defines["OOK_RX_IN_ISR"] = None
     elf = avr_run.build_firmware(emitted, values, directory, source=RX_FIRMWARE,
                                  baseline=baseline,
-                                 name=f"rx{'_isr' if in_isr else ''}{'_base' if baseline else ''}.elf",
+                                 name=f"rx{'_isr' if in_isr else ''}{'_base' if baseline else ''}"
+                                      f"{'_hdr' if header_isrs else ''}.elf",
                                  extra_defines=defines)
     text, end_cycle = drive_lines(trains, emitted.model.timing.clock_hz)
     drive = directory / "drive.txt"

@@ -9,7 +9,9 @@
  * capture ISR (its second edge came before the edge select was flipped) is seen on the pin
  * after the flip and queued as ending then, so the capture edge stays in step with the
  * line. With -DOOK_RX_IN_ISR the capture ISR also runs <prefix>_rx_poll (decoding in the ISR,
- * for comparison).
+ * for comparison). With -DOOK_HEADER_ISRS (and <PREFIX>_RX_AVR_ICP1) the header's own
+ * ready-made ISRs and <prefix>_rx_avr_icp1_start take the place of this file's (the same
+ * steps, without the GPIOR1 = 5 marker).
  *
  * Main loop, per wake-up: GPIOR1 = 1, <prefix>_rx_poll(), GPIOR1 = 2; then for each ready
  * frame GPIOR1 = 3, <prefix>_rx_take, GPIOR1 = 4, and the report on GPIOR0: 0xA5, the bytes
@@ -93,6 +95,7 @@ static void stub_counters(struct stub_counters *c) { c->x = 0u; }
 #define OOK_QUIET_STEP ((uint16_t)((0xFFFFu - OOK_IDLE_TICKS) / 2u))
 typedef char ook_assert_idle_fits[(OOK_IDLE_TICKS < 0xF000u) ? 1 : -1];
 
+#ifndef OOK_HEADER_ISRS
 static uint16_t last_capture;
 
 ISR(TIMER1_CAPT_vect)
@@ -133,6 +136,7 @@ ISR(TIMER1_COMPB_vect)
     }
     OCR1B = (uint16_t)(at + OOK_QUIET_STEP);
 }
+#endif /* OOK_HEADER_ISRS */
 
 static void report(const void *p, size_t n)
 {
@@ -147,6 +151,9 @@ int main(void)
 {
     RX_FIELDS f;
     RX_COUNTERS c;
+#ifdef OOK_HEADER_ISRS
+    OOK_FN(_rx_avr_icp1_start)();
+#else
     DDRB = 0; /* PB0 = ICP1 input */
     PORTB = 0;
     RX_INIT();
@@ -156,6 +163,7 @@ int main(void)
     TIFR1 = (uint8_t)((1u << ICF1) | (1u << OCF1B));
     TIMSK1 = (uint8_t)((1u << ICIE1) | (1u << OCIE1B));
     TCCR1B = (uint8_t)((1u << ICES1) | OOK_TIMER1_CLOCK); /* the line idles low */
+#endif
     SMCR = 0; /* idle sleep mode (SM2..0 = 0) */
     for (;;) {
         bool ready;
