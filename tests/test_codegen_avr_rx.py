@@ -136,7 +136,8 @@ def test_edge_of_range_frames_equal_the_host_build(tmp_path, capsys, monkeypatch
 def test_header_isrs_equal_the_firmware_isrs_through_edge_of_range(tmp_path, capsys):
     """Through the edge-of-range-superregen channel (``ookframe vectors``, seed 9, hive_scale:
     idle noise with pulses shorter than the capture ISR) the header's <PREFIX>_RX_AVR_ICP1
-    ISRs give the same frames and counters as the test firmware's, the same number of
+    ISRs give the same frames and counters as the test firmware's (edges lost to the full
+    FIFO within 5 % or 2: they depend on the cycle each edge comes), the same number of
     capture ISR runs, each within the target per edge it queued (the firmware's GPIOR1
     marker tells which runs queued two)."""
     spec, defaults = example_spec("hive_scale.toml")
@@ -155,7 +156,15 @@ def test_header_isrs_equal_the_firmware_isrs_through_edge_of_range(tmp_path, cap
           f"max {hdr.capt_cycles[~two].max()} / {hdr.capt_cycles[two].max() if two.any() else 0}"
           f", idle max {hdr.idle_cycles.max()}")
     assert len(own.frames) >= len(trains) and hdr.frames == own.frames
-    assert hdr.counters == own.counters and hdr.capt_cycles.size == own.capt_cycles.size
+    # edges lost to a full FIFO (and the backlog dropped after them) depend on the cycle
+    # the main loop is at when each edge comes: the header's two-edge runs take 2 cycles
+    # fewer, so those two may differ by a few; every other counter is equal
+    timed = ("edge_overruns", "hunt_skips")
+    assert {k: v for k, v in hdr.counters.items() if k not in timed} \
+        == {k: v for k, v in own.counters.items() if k not in timed}
+    for k in timed:
+        assert abs(hdr.counters[k] - own.counters[k]) <= max(2, own.counters[k] // 20), k
+    assert hdr.capt_cycles.size == own.capt_cycles.size
     assert hdr.capt_cycles[~two].max() <= ISR_TARGET_CYCLES
     assert not two.any() or hdr.capt_cycles[two].max() <= 2 * ISR_TARGET_CYCLES
     assert hdr.idle_cycles.max() <= ISR_TARGET_CYCLES
