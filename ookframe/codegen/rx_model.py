@@ -210,7 +210,8 @@ class RxModel:
         if self.recovery_flips:
             slot += (self.raw_chips + 7) // 8 + 6 + 8 * self.recovery_edges
         held = 3 if self.low_keep else 0  # a short pulse waiting for the next
-        return state + self.queue * slot + 16 + 3 * self.edge_fifo + 2 + held
+        drop = 3  # hunt_skips and the edge-loss byte rx_poll compares (backlog drop)
+        return state + self.queue * slot + 16 + 3 * self.edge_fifo + 2 + held + drop
 
 
 def _literal(value: int, bits: int) -> str:
