@@ -133,6 +133,37 @@ def test_edge_of_range_frames_equal_the_host_build(tmp_path, capsys, monkeypatch
     _isr_within_target(run)
 
 
+def test_long_recovery_keeps_the_edge_fifo_drained(tmp_path, capsys, monkeypatch):
+    """tank_level through edge-of-range-superregen (seed 9) with a 128-entry edge FIFO:
+    the 10th frame follows one whose check fails and whose check-aided recovery (16 trials
+    over 2^8 combinations) runs in rx_take for tens of ms at 8 MHz; the recovery polls the
+    FIFO meanwhile, so that frame's edges are queued, decoded and equal the host build's
+    frames (before, rx_take ran it without polling: 374 edges lost, 9 frames of 10)."""
+    from ookframe.codegen.host_rx import host_receiver
+    from ookframe.pulses import PulseTrain
+
+    monkeypatch.setenv("OOKFRAME_CACHE", str(tmp_path / "rx-cache"))
+    host_receiver.cache_clear()
+    name = "tank_level.toml"
+    spec, defaults = example_spec(name)
+    out = tmp_path / "vectors.json"
+    assert main(["vectors", str(ROOT / "ookframe" / "examples" / name), "--count", "6",
+                 "--seed", "9", "--preset", "edge-of-range-superregen", "-o", str(out)]) == 0
+    capsys.readouterr()
+    vectors = json.loads(out.read_text())["vectors"]
+    trains = [(np.asarray(v["levels"], np.uint8), np.asarray(v["durations_us"], np.float64))
+              for v in vectors]
+    emitted = emit_header(spec, side="rx")
+    run = avr_rx.run_receiver(emitted, defaults, trains, tmp_path,
+                              extra_defines={f"{emitted.model.PREFIX}_RX_EDGE_FIFO": "128u"})
+    lv = np.concatenate([np.append(levels, 0) for levels, _ in trains]).astype(np.uint8)
+    du = np.concatenate([np.append(d, avr_rx.GAP_US) for _, d in trains])
+    host = [f.raw for f in host_receiver(spec).decode(PulseTrain(lv, du)) if f.crc_ok]
+    print(f"{len(run.frames)} frames on the AVR, {len(host)} on the host, "
+          f"counters {run.counters}")
+    assert len(host) == 10 and run.frames == host
+
+
 def test_header_isrs_equal_the_firmware_isrs_through_edge_of_range(tmp_path, capsys):
     """Through the edge-of-range-superregen channel (``ookframe vectors``, seed 9, hive_scale:
     idle noise with pulses shorter than the capture ISR) the header's <PREFIX>_RX_AVR_ICP1

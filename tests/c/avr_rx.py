@@ -25,6 +25,9 @@ MARK_POLL, MARK_POLLED, MARK_TAKE, MARK_TAKEN, MARK_TWO_EDGES = 1, 2, 3, 4, 5
 LEAD_IN_CYCLES = 20_000
 #: quiet line between two driven trains, in microseconds
 GAP_US = 30_000.0
+#: CPU cycles simulated after the last driven edge: a check-aided recovery still running
+#: then (tens of ms at 8 MHz; it keeps polling, so later frames wait behind it) can finish
+TAIL_CYCLES = 2_000_000
 #: link only what is used (the rx header also holds the transmitter)
 GC_FLAGS = ("-ffunction-sections", "-fdata-sections", "-Wl,--gc-sections")
 _CTYPES = {"uint8_t": ctypes.c_uint8, "int8_t": ctypes.c_int8, "uint16_t": ctypes.c_uint16,
@@ -160,11 +163,13 @@ def _main_loop_cycles(events: list[tuple[str, int, int]]) -> tuple[np.ndarray, n
 def run_receiver(emitted: Emitted, values: Mapping[str, object],
                  trains: Sequence[tuple[np.ndarray, np.ndarray]], directory: Path, *,
                  in_isr: bool = False, baseline: bool = False,
-                 header_isrs: bool = False) -> RxRun:
+                 header_isrs: bool = False,
+                 extra_defines: Mapping[str, str | None] | None = None) -> RxRun:
     """Build the receiver firmware (``values``: any valid field values, for the shared
     demo_values.h; ``baseline``: around the stub receiver; ``header_isrs``: with the
     header's <PREFIX>_RX_AVR_ICP1 ISRs, start function and default lock instead of the
-    firmware's), drive PB0 with ``trains`` and return its report."""
+    firmware's; ``extra_defines``: more -D macros, e.g. <PREFIX>_RX_EDGE_FIFO), drive PB0
+    with ``trains`` and return its report."""
     harness = avr_run.build_harness(directory)
     defines: dict[str, str | None] = {}
     if header_isrs:
@@ -173,6 +178,7 @@ def run_receiver(emitted: Emitted, values: Mapping[str, object],
         defines = lock_defines(emitted)
     if in_isr:
         defines["OOK_RX_IN_ISR"] = None
+    defines.update(extra_defines or {})
     elf = avr_run.build_firmware(emitted, values, directory, source=RX_FIRMWARE,
                                  baseline=baseline,
                                  name=f"rx{'_isr' if in_isr else ''}{'_base' if baseline else ''}"
@@ -183,7 +189,8 @@ def run_receiver(emitted: Emitted, values: Mapping[str, object],
     drive.write_text(text)
     run = avr_run.simulate(harness, elf, clock_hz=emitted.model.timing.clock_hz,
                            isr=(avr_run.TIMER1_CAPT_VECTOR, TIMER1_COMPB_VECTOR),
-                           drive=("B0", drive), max_cycles=end_cycle + 10_000, timeout_s=300)
+                           drive=("B0", drive), max_cycles=end_cycle + TAIL_CYCLES,
+                           timeout_s=300)
     return _parse(run, emitted)
 
 
