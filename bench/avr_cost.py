@@ -30,7 +30,6 @@ sys.path.insert(0, str(ROOT))
 
 from ookframe.channel.presets import get_preset  # noqa: E402
 from ookframe.codegen import TimerTarget, emit_header  # noqa: E402
-from ookframe.codegen.host_rx import host_receiver  # noqa: E402
 from ookframe.codegen.toolchains import (  # noqa: E402
     CORTEX_M0PLUS_FLAGS,
     STRICT_FLAGS,
@@ -40,7 +39,6 @@ from ookframe.codegen.toolchains import (  # noqa: E402
 )
 from ookframe.demo import example_names, example_text  # noqa: E402
 from ookframe.frame import encode, random_values, raw_values  # noqa: E402
-from ookframe.pulses import PulseTrain  # noqa: E402
 from ookframe.spec_io import spec_and_defaults_from_dict  # noqa: E402
 from ookframe.stress.vectors import make_vectors  # noqa: E402
 from tests.c import avr_run, avr_rx  # noqa: E402
@@ -178,11 +176,7 @@ def _receiver_noise_rows() -> None:
         trains = [(v.train.levels, v.train.durations_us) for v in vecs]
         with tempfile.TemporaryDirectory() as d:
             run = avr_rx.run_receiver(emitted, defaults, trains, Path(d))
-        lv = np.concatenate([np.append(t.levels, 0) for t in (v.train for v in vecs)])
-        du = np.concatenate([np.append(t.durations_us, avr_rx.GAP_US)
-                             for t in (v.train for v in vecs)])
-        host = [f.raw for f in host_receiver(spec).decode(PulseTrain(lv.astype(np.uint8), du))
-                if f.crc_ok]
+        host = avr_rx.host_frames(spec, trains)
         one = run.capt_cycles[~run.capt_two_edges]
         two = run.capt_cycles[run.capt_two_edges]
         print(f"{spec.name:<18}{len(run.frames):>5}{len(host):>6}{str(run.frames == host):>7}"

@@ -101,6 +101,26 @@ def test_vectors_file_decodes_on_the_avr(tmp_path, capsys, name):
     assert got == []
 
 
+def _edge_of_range_trains(name: str, tmp_path, capsys) -> list[tuple[np.ndarray, np.ndarray]]:
+    """(levels, durations_us) of 6 vectors of example ``name`` from ``ookframe vectors``
+    through edge-of-range-superregen, seed 9 (a file written and read back, as a user
+    would)."""
+    out = tmp_path / "vectors.json"
+    assert main(["vectors", str(ROOT / "ookframe" / "examples" / name), "--count", "6",
+                 "--seed", "9", "--preset", "edge-of-range-superregen", "-o", str(out)]) == 0
+    capsys.readouterr()
+    return [(np.asarray(v["levels"], np.uint8), np.asarray(v["durations_us"], np.float64))
+            for v in json.loads(out.read_text())["vectors"]]
+
+
+def _isolated_host_cache(tmp_path, monkeypatch) -> None:
+    """Build the host receiver into this test's own cache folder."""
+    from ookframe.codegen.host_rx import host_receiver
+
+    monkeypatch.setenv("OOKFRAME_CACHE", str(tmp_path / "rx-cache"))
+    host_receiver.cache_clear()
+
+
 @pytest.mark.parametrize("name", ["hive_scale.toml", "gate_sensor.toml",
                                   "greenhouse_probe.toml"])
 def test_edge_of_range_frames_equal_the_host_build(tmp_path, capsys, monkeypatch, name):
@@ -109,27 +129,14 @@ def test_edge_of_range_frames_equal_the_host_build(tmp_path, capsys, monkeypatch
     the 8-bit build decodes the same frames as the host build of the same header
     (``host_rx``: 32-bit int against the AVR's 16), so no int-width difference changes a
     decision."""
-    from ookframe.codegen.host_rx import host_receiver
-    from ookframe.pulses import PulseTrain
-
-    monkeypatch.setenv("OOKFRAME_CACHE", str(tmp_path / "rx-cache"))
-    host_receiver.cache_clear()
-
+    _isolated_host_cache(tmp_path, monkeypatch)
     spec, defaults = example_spec(name)
-    out = tmp_path / "vectors.json"
-    assert main(["vectors", str(ROOT / "ookframe" / "examples" / name), "--count", "6",
-                 "--seed", "9", "--preset", "edge-of-range-superregen", "-o", str(out)]) == 0
-    capsys.readouterr()
-    vectors = json.loads(out.read_text())["vectors"]
-    trains = [(np.asarray(v["levels"], np.uint8), np.asarray(v["durations_us"], np.float64))
-              for v in vectors]
+    trains = _edge_of_range_trains(name, tmp_path, capsys)
     run = avr_rx.run_receiver(emit_header(spec, side="rx"), defaults, trains, tmp_path)
-    lv = np.concatenate([np.append(levels, 0) for levels, _ in trains]).astype(np.uint8)
-    du = np.concatenate([np.append(d, avr_rx.GAP_US) for _, d in trains])
-    host = [f.raw for f in host_receiver(spec).decode(PulseTrain(lv, du)) if f.crc_ok]
+    host = avr_rx.host_frames(spec, trains)
     print(f"{name}: {len(run.frames)} frames on the AVR, {len(host)} on the host, "
           f"{int(run.capt_two_edges.sum())} two-edge ISR runs, counters {run.counters}")
-    assert len(host) >= len(vectors) and run.frames == host
+    assert len(host) >= len(trains) and run.frames == host
     _isr_within_target(run)
 
 
@@ -139,26 +146,14 @@ def test_long_recovery_keeps_the_edge_fifo_drained(tmp_path, capsys, monkeypatch
     over 2^8 combinations) runs in rx_take for tens of ms at 8 MHz; the recovery polls the
     FIFO meanwhile, so that frame's edges are queued, decoded and equal the host build's
     frames (before, rx_take ran it without polling: 374 edges lost, 9 frames of 10)."""
-    from ookframe.codegen.host_rx import host_receiver
-    from ookframe.pulses import PulseTrain
-
-    monkeypatch.setenv("OOKFRAME_CACHE", str(tmp_path / "rx-cache"))
-    host_receiver.cache_clear()
+    _isolated_host_cache(tmp_path, monkeypatch)
     name = "tank_level.toml"
     spec, defaults = example_spec(name)
-    out = tmp_path / "vectors.json"
-    assert main(["vectors", str(ROOT / "ookframe" / "examples" / name), "--count", "6",
-                 "--seed", "9", "--preset", "edge-of-range-superregen", "-o", str(out)]) == 0
-    capsys.readouterr()
-    vectors = json.loads(out.read_text())["vectors"]
-    trains = [(np.asarray(v["levels"], np.uint8), np.asarray(v["durations_us"], np.float64))
-              for v in vectors]
+    trains = _edge_of_range_trains(name, tmp_path, capsys)
     emitted = emit_header(spec, side="rx")
     run = avr_rx.run_receiver(emitted, defaults, trains, tmp_path,
                               extra_defines={f"{emitted.model.PREFIX}_RX_EDGE_FIFO": "128u"})
-    lv = np.concatenate([np.append(levels, 0) for levels, _ in trains]).astype(np.uint8)
-    du = np.concatenate([np.append(d, avr_rx.GAP_US) for _, d in trains])
-    host = [f.raw for f in host_receiver(spec).decode(PulseTrain(lv, du)) if f.crc_ok]
+    host = avr_rx.host_frames(spec, trains)
     print(f"{len(run.frames)} frames on the AVR, {len(host)} on the host, "
           f"counters {run.counters}")
     assert len(host) == 10 and run.frames == host
@@ -172,13 +167,7 @@ def test_header_isrs_equal_the_firmware_isrs_through_edge_of_range(tmp_path, cap
     capture ISR runs, each within the target per edge it queued (the firmware's GPIOR1
     marker tells which runs queued two)."""
     spec, defaults = example_spec("hive_scale.toml")
-    out = tmp_path / "vectors.json"
-    assert main(["vectors", str(ROOT / "ookframe" / "examples" / "hive_scale.toml"),
-                 "--count", "6", "--seed", "9", "--preset", "edge-of-range-superregen",
-                 "-o", str(out)]) == 0
-    capsys.readouterr()
-    trains = [(np.asarray(v["levels"], np.uint8), np.asarray(v["durations_us"], np.float64))
-              for v in json.loads(out.read_text())["vectors"]]
+    trains = _edge_of_range_trains("hive_scale.toml", tmp_path, capsys)
     emitted = emit_header(spec, side="rx")
     own = avr_rx.run_receiver(emitted, defaults, trains, tmp_path)
     hdr = avr_rx.run_receiver(emitted, defaults, trains, tmp_path, header_isrs=True)

@@ -60,18 +60,35 @@ def lock_defines(emitted: Emitted) -> dict[str, str | None]:
             f"{P}_RX_UNLOCK()": "SREG = ook_sreg"}
 
 
+def laid_end_to_end(trains: Sequence[tuple[np.ndarray, np.ndarray]], gap_us: float = GAP_US
+                    ) -> tuple[np.ndarray, np.ndarray]:
+    """Return (levels, durations_us) of ``trains`` laid end to end, each followed by
+    ``gap_us`` of quiet line: what the harness drives and the host build is fed."""
+    lv_parts, du_parts = [], []
+    for levels, durations in trains:
+        lv_parts += [np.asarray(levels, np.uint8), np.zeros(1, np.uint8)]
+        du_parts += [np.asarray(durations, np.float64), np.array([gap_us])]
+    return np.concatenate(lv_parts), np.concatenate(du_parts)
+
+
+def host_frames(spec, trains: Sequence[tuple[np.ndarray, np.ndarray]]) -> list[dict[str, object]]:
+    """Raw fields of the frames passing the check that the host build of the receiver
+    decodes from ``trains`` laid end to end as the harness drives them."""
+    from ookframe.codegen.host_rx import host_receiver
+    from ookframe.pulses import PulseTrain
+
+    lv, du = laid_end_to_end(trains)
+    return [f.raw for f in host_receiver(spec).decode(PulseTrain(lv, du)) if f.crc_ok]
+
+
 def drive_lines(trains: Sequence[tuple[np.ndarray, np.ndarray]], clock_hz: int,
                 gap_us: float = GAP_US) -> tuple[str, int]:
     """Return the harness's drive file ("CYCLE LEVEL" per level change) for ``trains``
     ((levels, durations_us) each) laid end to end with ``gap_us`` of quiet line after each,
     and the cycle at which the last one has ended. Times are rounded to whole cycles from
     the running sum, so they do not drift."""
-    lv_parts, du_parts = [], []
-    for levels, durations in trains:
-        lv_parts += [np.asarray(levels, np.uint8), np.zeros(1, np.uint8)]
-        du_parts += [np.asarray(durations, np.float64), np.array([gap_us])]
-    lv = np.concatenate(lv_parts)
-    starts_us = np.concatenate(([0.0], np.cumsum(np.concatenate(du_parts))))
+    lv, du = laid_end_to_end(trains, gap_us)
+    starts_us = np.concatenate(([0.0], np.cumsum(du)))
     cyc = LEAD_IN_CYCLES + np.rint(starts_us * clock_hz / 1e6).astype(np.int64)
     prev = np.concatenate(([0], lv[:-1]))
     change = np.flatnonzero(lv != prev)
