@@ -20,12 +20,6 @@ pytestmark = [pytest.mark.slow,
                                  reason="no host C compiler")]
 
 
-class _Counters(ctypes.Structure):
-    _fields_ = [("frames_seen", ctypes.c_uint16), ("check_failures", ctypes.c_uint16),
-                ("overruns", ctypes.c_uint16), ("cut", ctypes.c_uint16),
-                ("edge_overruns", ctypes.c_uint16), ("hunt_skips", ctypes.c_uint16)]
-
-
 @pytest.fixture(autouse=True)
 def _cache(tmp_path_factory, monkeypatch):
     monkeypatch.setenv("OOKFRAME_CACHE", str(tmp_path_factory.getbasetemp() / "rx-cache"))
@@ -33,17 +27,10 @@ def _cache(tmp_path_factory, monkeypatch):
 
 def _api(rx):
     p = rx.model.prefix
-    fns = {n: getattr(rx.lib, f"{p}_rx_{n}") for n in ("init", "edge", "idle", "poll", "take",
-                                                       "counters")}
+    fns = {n: getattr(rx.lib, f"{p}_rx_{n}") for n in ("init", "edge", "idle", "poll", "take")}
     fns["edge"].argtypes = [ctypes.c_uint8, ctypes.c_uint16]
     fns["take"].restype = ctypes.c_bool
     return fns
-
-
-def _counters(api) -> dict[str, int]:
-    c = _Counters()
-    api["counters"](ctypes.byref(c))
-    return {n: int(getattr(c, n)) for n, _ in _Counters._fields_}
 
 
 def _frames(rx, api) -> list[dict[str, object]]:
@@ -79,7 +66,7 @@ def test_polling_once_per_full_fifo_gives_the_same_frames(name):
             api["idle"]()
             got += _frames(rx, api)
         assert got == want, f"poll every {every} edges"
-        assert _counters(api)["edge_overruns"] == 0
+        assert rx.counters()["edge_overruns"] == 0
 
 
 def test_full_fifo_counts_lost_edges():
@@ -92,10 +79,10 @@ def test_full_fifo_counts_lost_edges():
     api["init"]()
     for i in range(depth + 5):
         api["edge"](i & 1, 250)
-    assert _counters(api)["edge_overruns"] == 5
+    assert rx.counters()["edge_overruns"] == 5
     api["poll"]()
     api["edge"](1, 250)  # room again
-    assert _counters(api)["edge_overruns"] == 5
+    assert rx.counters()["edge_overruns"] == 5
 
 
 def _slow_main_loop(rx, levels, ticks, step_ticks: float) -> list[dict[str, object]]:

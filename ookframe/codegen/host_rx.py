@@ -40,10 +40,14 @@ class _Quality(ctypes.Structure):
                 ("code_errors", ctypes.c_uint8), ("corrected", ctypes.c_uint8)]
 
 
+#: ``struct <p>_rx_counters`` member by member (the template's order and types)
+COUNTER_FIELDS = (("frames_seen", ctypes.c_uint16), ("check_failures", ctypes.c_uint16),
+                  ("overruns", ctypes.c_uint16), ("cut", ctypes.c_uint16),
+                  ("edge_overruns", ctypes.c_uint16), ("hunt_skips", ctypes.c_uint16))
+
+
 class _Counters(ctypes.Structure):
-    _fields_ = [("frames_seen", ctypes.c_uint16), ("check_failures", ctypes.c_uint16),
-                ("overruns", ctypes.c_uint16), ("cut", ctypes.c_uint16),
-                ("edge_overruns", ctypes.c_uint16), ("hunt_skips", ctypes.c_uint16)]
+    _fields_ = list(COUNTER_FIELDS)
 
 
 @dataclass(frozen=True)

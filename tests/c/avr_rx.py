@@ -13,7 +13,7 @@ from pathlib import Path
 import numpy as np
 
 from ookframe.codegen import Emitted
-from ookframe.codegen.host_rx import raw_fields
+from ookframe.codegen.host_rx import COUNTER_FIELDS, raw_fields
 from ookframe.codegen.toolchains import avr_flash_ram, section_sizes
 from tests.c import avr_run
 
@@ -37,9 +37,7 @@ _CTYPES = {"uint8_t": ctypes.c_uint8, "int8_t": ctypes.c_int8, "uint16_t": ctype
 
 class _Counters(ctypes.LittleEndianStructure):
     _pack_ = 1
-    _fields_ = [("frames_seen", ctypes.c_uint16), ("check_failures", ctypes.c_uint16),
-                ("overruns", ctypes.c_uint16), ("cut", ctypes.c_uint16),
-                ("edge_overruns", ctypes.c_uint16), ("hunt_skips", ctypes.c_uint16)]
+    _fields_ = list(COUNTER_FIELDS)  # as the AVR lays it out: packed, little-endian
 
 
 def fields_struct(emitted: Emitted) -> type[ctypes.LittleEndianStructure]:
