@@ -12,6 +12,8 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.signal import lfilter
 
+from ..ragged import ragged_index
+
 
 @dataclass(frozen=True, eq=False)
 class RunTable:
@@ -304,46 +306,51 @@ class GridRuns:
     end_residual: np.ndarray
 
 
-def _ragged_bounds(lengths: np.ndarray, before: int, after: int
-                   ) -> tuple[np.ndarray, np.ndarray]:
-    """Return per element the bounds [lo, hi) of the ``before`` elements before it, itself
-    and the ``after`` elements after it, within its own segment (segments of ``lengths``
-    laid end to end)."""
-    return _Segments(lengths).bounds(before, after)
+class _Sums:
+    """Moving sums over segments of ``lengths`` laid end to end: per element the sum of
+    the ``before`` elements before it, itself and the ``after`` elements after it, within
+    its own segment (the range ``[max(i - before, start), min(i + after + 1, stop))``).
 
+    Every sum is ``cs[hi] - cs[lo]`` of one running sum ``cs`` (leading 0): for elements
+    whose range no segment edge cuts, ``hi - lo`` is the same, so those differences are
+    taken between two slices of ``cs``; only the first ``before`` and last ``after``
+    elements of each segment look their bounds up (``fix``, ``lo``, ``hi``).
+    """
 
-class _Segments:
-    """Per element of segments of ``lengths`` laid end to end: its index and the bounds
-    [start, stop) of its segment (worked out once for several moving windows)."""
-
-    def __init__(self, lengths: np.ndarray) -> None:
+    def __init__(self, lengths: np.ndarray, before: int, after: int) -> None:
+        lengths = np.asarray(lengths, dtype=np.int64)
+        self.size = int(lengths.sum())
+        self.before, self.after = before, after
         first = np.cumsum(lengths) - lengths
-        self.start = np.repeat(first, lengths)
-        self.stop = np.repeat(first + lengths, lengths)
-        self.i = np.arange(self.start.size)
-        self._hi: dict[int, np.ndarray] = {}
+        stop = first + lengths
+        head = np.minimum(lengths, before)
+        tail = np.minimum(lengths, after)
+        fix = np.concatenate((ragged_index(first, head), ragged_index(stop - tail, tail)))
+        seg = np.concatenate((np.repeat(np.arange(lengths.size), head),
+                              np.repeat(np.arange(lengths.size), tail)))
+        self.fix = fix
+        self.lo = np.maximum(fix - before, first[seg])
+        self.hi = np.minimum(fix + (after + 1), stop[seg])
 
-    def bounds(self, before: int, after: int) -> tuple[np.ndarray, np.ndarray]:
-        """Bounds of the ``before`` elements before each element, itself and ``after``
-        after it, within its segment (the upper bound kept for other ranges)."""
-        lo = self.i - before
-        np.maximum(lo, self.start, out=lo)
-        hi = self._hi.get(after)
-        if hi is None:
-            hi = self.i + (after + 1)
-            np.minimum(hi, self.stop, out=hi)
-            self._hi[after] = hi
-        return lo, hi
+    def __call__(self, x: np.ndarray, out: np.ndarray | None = None) -> np.ndarray:
+        """Return the moving sums of ``x`` (into ``out`` if given): the same values as
+        ``cs[hi] - cs[lo]`` for every element."""
+        n = self.size
+        cs = np.empty(n + 1, x.dtype)
+        cs[0] = 0
+        np.cumsum(x, out=cs[1:])
+        if out is None:
+            out = np.empty(n, x.dtype)
+        w = self.before + self.after + 1
+        if n >= w:
+            np.subtract(cs[w:], cs[:n + 1 - w], out=out[self.before:n - self.after])
+        out[self.fix] = cs[self.hi] - cs[self.lo]
+        return out
 
 
-def _moving_sum(x: np.ndarray, bounds: tuple[np.ndarray, np.ndarray]) -> np.ndarray:
-    """Return the sums of ``x`` (real or complex) over the ``_ragged_bounds`` ranges."""
-    cs = np.empty(x.size + 1, x.dtype)
-    cs[0] = 0
-    np.cumsum(x, out=cs[1:])
-    out = cs[bounds[1]]
-    out -= cs[bounds[0]]
-    return out
+def _moving_sum(x: np.ndarray, sums: _Sums) -> np.ndarray:
+    """Return the sums of ``x`` over the ranges of ``sums`` (see :class:`_Sums`)."""
+    return sums(x)
 
 
 def is_allowed(n: np.ndarray, levels: np.ndarray, table: RunTable) -> np.ndarray:
@@ -383,27 +390,30 @@ def _repair(c: np.ndarray, residual: np.ndarray, grid: np.ndarray, pulse_edge: n
     return c, grid - c
 
 
-def _phase_turns(x: np.ndarray, dropped: np.ndarray, bounds: tuple[np.ndarray, np.ndarray]
+def _phase_turns(x: np.ndarray, dropped: np.ndarray, sums: _Sums, in_place: bool = False
                  ) -> np.ndarray:
     """Return the angle in turns of the moving sums of the unit phasors of the fractional
-    parts of ``x`` over the ``_ragged_bounds`` ranges, those at the indices ``dropped``
-    left out: ``np.angle(S) / (2 * np.pi)`` for S the sums of ``np.exp(2j * np.pi * x)``.
+    parts of ``x`` over the ranges of ``sums``, those at the indices ``dropped`` left
+    out: ``np.angle(S) / (2 * np.pi)`` for S the sums of ``np.exp(2j * np.pi * x)``.
 
     The cosine and sine parts are summed as two real arrays (complex sums add the parts
     separately, so the values are the same) and the angle is their ``arctan2`` (as
-    ``np.angle`` takes it), at less memory than one complex array.
+    ``np.angle`` takes it), at less memory than one complex array; the sums overwrite
+    the parts (fewer fresh pages). ``in_place``: ``x`` may be overwritten.
     """
-    turn = 2 * np.pi * x
+    if in_place:
+        turn = x
+        turn *= 2 * np.pi
+    else:
+        turn = 2 * np.pi * x
     re = np.cos(turn)
     np.sin(turn, out=turn)
     im = turn
     re[dropped] = 0.0
     im[dropped] = 0.0
-    s_re = _moving_sum(re, bounds)
-    del re
-    s_im = _moving_sum(im, bounds)
-    del im
-    out = np.arctan2(s_im, s_re)
+    sums(re, out=re)
+    sums(im, out=im)
+    out = np.arctan2(im, re, out=im)
     out /= 2 * np.pi
     return out
 
@@ -411,23 +421,35 @@ def _phase_turns(x: np.ndarray, dropped: np.ndarray, bounds: tuple[np.ndarray, n
 def _unwrap(p: np.ndarray) -> np.ndarray:
     """Return ``np.unwrap(p, period=1.0)`` (same values): only the steps of half a period
     or more are corrected, so only those are worked out."""
+    out = p.copy()
+    _unwrap_in_place(out)
+    return out
+
+
+def _unwrap_in_place(p: np.ndarray) -> None:
+    """Replace ``p`` by :func:`_unwrap` of it (the same values)."""
     dd = np.diff(p)
-    big = np.flatnonzero(np.abs(dd) >= 0.5)
+    big = np.flatnonzero((dd >= 0.5) | (dd <= -0.5))
+    # before the first corrected step the correction is 0.0, still added: -0.0 becomes 0.0
+    p[1:int(big[0]) + 1 if big.size else p.size] += 0.0
+    if big.size == 0:
+        return
     step = dd[big]
+    del dd
     mod = np.mod(step + 0.5, 1.0) - 0.5
     mod[(mod == -0.5) & (step > 0)] = 0.5
     # the running sum of the corrections (zero between them: the same sums as a cumsum
     # over every step), held constant from each corrected step to the next
-    level = np.concatenate(([0.0], np.cumsum(mod - step)))
-    out = p.copy()
-    out[1:] = p[1:] + np.repeat(level, np.diff(np.concatenate(([0], big, [dd.size]))))
-    return out
+    level = np.cumsum(mod - step)
+    p[big[0] + 1:] += np.repeat(level, np.diff(np.append(big, p.size - 1)))
 
 
 def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
               unit_us: np.ndarray, table: RunTable, *, half_window: int = PHASE_HALF_WINDOW,
-              capped: np.ndarray | None = None) -> GridRuns:
-    # ``unit_us``: one unit per window, or one per pulse (a tracked clock)
+              capped: np.ndarray | None = None, ratio: np.ndarray | None = None
+              ) -> GridRuns:
+    # ``unit_us``: one unit per window, or one per pulse (a tracked clock); ``ratio``, if
+    # given, the durations divided by it (``d / np.repeat(unit_us, lengths)``)
     """Return the run length of every pulse of ragged windows from its edges' places on
     the chip grid, not from its own duration.
 
@@ -450,58 +472,66 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
     d = np.asarray(durations_us, dtype=np.float64)
     lengths = np.asarray(lengths, dtype=np.int64)
     n_edges = lengths + 1
-    u = np.asarray(unit_us, dtype=np.float64)
-    u_pulse = u if u.size == d.size and u.size != lengths.size else np.repeat(u, lengths)
-    # edge times from each window's first edge: per window 0, d0, d0 + d1, ...
+    if ratio is None:
+        u = np.asarray(unit_us, dtype=np.float64)
+        u_pulse = u if u.size == d.size and u.size != lengths.size else np.repeat(u, lengths)
+        ratio = d / u_pulse  # durations in (tracked) units
+        del u_pulse
+    # edge times from each window's first edge: per window 0, d0, d0 + d1, ...; every edge
+    # but a window's first ends a pulse (``ends``), and ``inner`` says which differences
+    # of neighbouring edges are pulses (not the step from one window to the next)
     e_start = np.cumsum(n_edges) - n_edges
-    p_start = np.cumsum(lengths) - lengths
-    pulse_edge = np.arange(d.size) + np.repeat(e_start - p_start, lengths) + 1  # end edge
+    ends = np.ones(int(n_edges.sum()), bool)
+    ends[e_start] = False
+    inner = ends[1:]
     # (temporaries are overwritten in place and dropped early where the arithmetic stays
     # the same: fewer fresh pages per call)
-    x = np.zeros(int(n_edges.sum()))
-    ratio = d / u_pulse  # durations in (tracked) units
-    x[pulse_edge] = ratio
+    x = np.zeros(ends.size)
+    x[ends] = ratio
     np.cumsum(x, out=x)
     x -= np.repeat(x[e_start], n_edges)
     keep = np.ones(x.size)
-    dropped = pulse_edge[capped] if capped is not None else np.zeros(0, np.int64)
+    if capped is not None:
+        dropped = np.flatnonzero(capped)
+        dropped += np.searchsorted(e_start - np.arange(e_start.size), dropped, "right")
+    else:
+        dropped = np.zeros(0, np.int64)
     keep[dropped] = 0.0
     # rough phase over +-2 edges (follows a fast drift), unwrapped and averaged over the
     # window; then the circular mean of what is left around it
     b, a = 2 * half_window, LOOK_AHEAD
-    segments = _Segments(n_edges)
-    near, wide = segments.bounds(4, a), segments.bounds(b, a)
-    del segments
+    near, wide = _Sums(n_edges, 4, a), _Sums(n_edges, b, a)
     rough = _phase_turns(x, dropped, near)
-    rough = _unwrap(rough)
-    kept = _moving_sum(keep, wide)
+    del near
+    _unwrap_in_place(rough)
+    kept = wide(keep)
     np.maximum(kept, 1.0, out=kept)
     rough *= keep
-    trend = _moving_sum(rough, wide)
-    del rough
+    trend = wide(rough, out=rough)
     trend /= kept
     del kept
-    phase = _phase_turns(x - trend, dropped, wide)
+    turn = np.subtract(x, trend)
+    phase = _phase_turns(turn, dropped, wide, in_place=True)
     phase += trend
     del trend
-    phase = _unwrap(phase)  # a step of the rough phase must not move the grid
+    _unwrap_in_place(phase)  # a step of the rough phase must not move the grid
     grid = x
     grid -= phase
     del phase
     c = np.rint(grid)
     residual = grid - c
-    start_edge = pulse_edge - 1
-    n = (c[pulse_edge] - c[start_edge]).astype(np.int64)
+    n = np.diff(c)[inner].astype(np.int64)
     ok = is_allowed(n, levels, table)
     if not ok.all():  # move the less sure edge of a bad pulse to its other grid point
+        pulse_edge = np.flatnonzero(ends)
         c, residual = _repair(c, residual, grid, pulse_edge, n, ok, levels, table)
-        n = (c[pulse_edge] - c[start_edge]).astype(np.int64)
+        n = np.diff(c)[inner].astype(np.int64)
         ok = is_allowed(n, levels, table)
+    del c
     bad = np.flatnonzero(~ok)
     if bad.size:
         n[bad] = nearest_runs(ratio[bad], levels[bad], table)[0]
     ar = np.abs(residual)
-    if capped is not None:
-        ar[pulse_edge[capped]] = 0.0
-    dev = np.maximum(ar[pulse_edge - 1], ar[pulse_edge])
-    return GridRuns(n, dev, residual, residual[pulse_edge])
+    ar[dropped] = 0.0
+    dev = np.maximum(ar[:-1], ar[1:])[inner]
+    return GridRuns(n, dev, residual, residual[ends])
