@@ -93,8 +93,14 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
         worst[ok] = _worst_edge(t[ok], r, unit[ok], offset[ok])
         miss = np.flatnonzero(worst >= MAX_EDGE_OFFSET)
         if miss.size:
-            best_unit, best = _minimax_edge(t[miss], r, unit_us * (1.0 - clock_error),
-                                            unit_us * (1.0 + clock_error))
+            lo_unit, hi_unit = unit_us * (1.0 - clock_error), unit_us * (1.0 + clock_error)
+            # heads no grid in range can fit (a floor of the best worst offset at or above
+            # the tolerance) are dropped before the search: they would be dropped after it
+            hopeless = _spread_floor(t[miss], r, lo_unit, hi_unit) >= tol + FLOOR_MARGIN
+            worst[miss[hopeless]] = np.inf
+            miss = miss[~hopeless]
+        if miss.size:
+            best_unit, best = _minimax_edge(t[miss], r, lo_unit, hi_unit)
             worst[miss] = best
             unit[miss] = np.where(ok[miss], unit[miss], best_unit)  # the line's if in range
         ok = worst < tol
@@ -200,13 +206,21 @@ def _minimax_edge(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: f
     In the inverse unit v the offset of edge j is t_j v - c_j - o, linear in (v, o); the
     best o halves the spread of t_j v - c_j, and that spread is convex (a maximum of
     linear functions less a minimum of them) in v: a golden-section search over v finds
-    its minimum, all rows at once.
+    its minimum, all rows at once (every row on its own: the rows' values do not depend
+    on the other rows). The edges are laid out as the rows of one array, the heads as
+    its columns, so the largest and smallest offsets are taken across rows.
     """
-    c = np.concatenate(([0.0], np.cumsum(r)))
+    c = np.concatenate(([0.0], np.cumsum(r)))[:, None]
+    tt = np.ascontiguousarray(t.T)
+    buf = np.empty_like(tt)
 
     def half_spread(v: np.ndarray) -> np.ndarray:
-        e = t * v[:, None] - c
-        return (e.max(axis=1) - e.min(axis=1)) / 2.0
+        e = np.multiply(tt, v, out=buf)
+        e -= c
+        out = e.max(axis=0)
+        out -= e.min(axis=0)
+        out /= 2.0
+        return out
 
     a = np.full(t.shape[0], 1.0 / hi_unit_us)
     b = np.full(t.shape[0], 1.0 / lo_unit_us)
@@ -224,6 +238,44 @@ def _minimax_edge(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: f
         f1, f2 = np.where(left, fn, f2), np.where(left, f1, fn)
         x1, x2 = x1n, x2n
     return 1.0 / np.where(f1 <= f2, x1, x2), np.minimum(f1, f2)
+
+
+#: how far (units) above the tolerance :func:`_spread_floor` must be to drop a head: far
+#: above the rounding of either computation
+FLOOR_MARGIN = 1e-6
+
+
+def _spread_floor(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: float
+                  ) -> np.ndarray:
+    """Return per row a floor of the worst edge offset :func:`_minimax_edge` finds (same
+    arguments), up to rounding: no grid with a unit in range leaves every edge nearer.
+
+    In the inverse unit v, half the spread h(v) of t_j v - c_j is at least half of
+    (t_j - t_k) v - (c_j - c_k) for any two edges j, k. Taking the pairs that make the
+    spread at either end of the range gives two lines under h; the smallest value of the
+    larger of them over the range (at an end or where they cross) is under h's minimum.
+    """
+    c = np.concatenate(([0.0], np.cumsum(r)))
+    lo_v, hi_v = 1.0 / hi_unit_us, 1.0 / lo_unit_us
+    rows = np.arange(t.shape[0])
+
+    def line_at(v: float) -> tuple[np.ndarray, np.ndarray]:
+        e = t * v - c
+        top, bottom = e.argmax(axis=1), e.argmin(axis=1)
+        return t[rows, top] - t[rows, bottom], c[top] - c[bottom]  # slope, intercept
+
+    s1, k1 = line_at(lo_v)
+    s2, k2 = line_at(hi_v)
+
+    def upper(v: np.ndarray | float) -> np.ndarray:
+        return np.maximum(s1 * v - k1, s2 * v - k2)
+
+    floor = np.minimum(upper(lo_v), upper(hi_v))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        cross = (k1 - k2) / (s1 - s2)
+    at_cross = np.where((cross > lo_v) & (cross < hi_v), upper(cross), np.inf)
+    np.minimum(floor, at_cross, out=floor)
+    return floor / 2.0
 
 
 def _worst_edge(t: np.ndarray, r: np.ndarray, unit: np.ndarray, offset: np.ndarray

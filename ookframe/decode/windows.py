@@ -66,7 +66,7 @@ def classify_windows(spec: FrameSpec, hm: HeadModel, dur: np.ndarray, first: np.
         ratio = d / unit
         capped = ratio > table.cap_ratio
         g = grid_runs(d, lv, length, start_unit, table, capped=capped,
-                      half_window=phase_half_window(dec.loop_gain))
+                      half_window=phase_half_window(dec.loop_gain), ratio=ratio)
         n, dev = np.where(capped, table.top, g.units), g.deviation
         end_res = g.end_residual
     else:  # duration by duration, with the tracking loop (follows a fast-drifting clock)
