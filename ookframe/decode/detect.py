@@ -5,6 +5,7 @@ from __future__ import annotations
 import math
 
 import numpy as np
+from numpy.lib.stride_tricks import sliding_window_view
 
 from .classify import RunTable, nearest_runs
 
@@ -85,12 +86,22 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
         cand = cand[(levels[cand + j] == sig_levels[j]) & (dj > lo_us[j]) & (dj < hi_us[j])]
     if cand.size == 0:
         return cand.astype(np.int64), np.zeros(0)
-    d = durations_us[cand[:, None] + np.arange(k)]
-    t, unit, offset = _edge_line(d, r)
+    # edge times from each candidate's first edge: its k durations, then their running sums
+    t = np.empty((cand.size, k + 1))
+    t[:, 0] = 0.0
+    np.take(sliding_window_view(durations_us, k), cand, axis=0, out=t[:, 1:], mode="clip")
+    d = t[:, 1:].copy() if k < SHORT_SIGNATURE_RUNS else None
+    np.cumsum(t[:, 1:], axis=1, out=t[:, 1:])
+    scratch = np.empty_like(t)
+    unit, offset = _fit_line(t, r, scratch)
     ok = np.abs(unit / unit_us - 1.0) <= clock_error  # cheap: before the edge offsets
+    # every row's worst edge from the line, taken row by row (the same values as over the
+    # rows in range alone), in the fit's scratch space
+    with np.errstate(invalid="ignore", over="ignore"):
+        line_worst = _worst_edge(t, r, unit, offset, out=scratch)
+    del scratch
     if run_spacing(table) > 1:  # the line, else the best grid (see above)
-        worst = np.full(cand.size, np.inf)
-        worst[ok] = _worst_edge(t[ok], r, unit[ok], offset[ok])
+        worst = np.where(ok, line_worst, np.inf)
         miss = np.flatnonzero(worst >= MAX_EDGE_OFFSET)
         if miss.size:
             lo_unit, hi_unit = unit_us * (1.0 - clock_error), unit_us * (1.0 + clock_error)
@@ -105,10 +116,12 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
             unit[miss] = np.where(ok[miss], unit[miss], best_unit)  # the line's if in range
         ok = worst < tol
     else:
-        cand, d, unit = cand[ok], d[ok], unit[ok]
-        worst = _worst_edge(t[ok], r, unit, offset[ok])
+        cand, unit = cand[ok], unit[ok]
+        if d is not None:
+            d = d[ok]
+        worst = line_worst[ok]
         ok = worst < MAX_EDGE_OFFSET
-    if k < SHORT_SIGNATURE_RUNS:  # few runs say little: every duration must fit as well
+    if d is not None:  # few runs say little: every duration must fit as well
         got, _ = nearest_runs(d / unit[:, None], np.broadcast_to(sig_levels, d.shape), table)
         ok &= (got == sig_units).all(axis=1)
     cand, unit, worst = cand[ok], unit[ok], worst[ok]
@@ -166,7 +179,9 @@ def _spans_fit(cand: np.ndarray, durations_us: np.ndarray, r: np.ndarray, max_un
     if k < 4 or cand.size == 0:
         return cand
     c = np.concatenate(([0.0], np.cumsum(r)))
-    t = np.concatenate(([0.0], np.cumsum(durations_us)))
+    t = np.empty(durations_us.size + 1)
+    t[0] = 0.0
+    np.cumsum(durations_us, out=t[1:])
     total = t[cand + k] - t[cand]
     for j in sorted({k * q // 8 for q in range(1, 8)} - {0}):
         part = t[cand + j] - t[cand]
@@ -187,13 +202,22 @@ def _edge_line(d: np.ndarray, r: np.ndarray) -> tuple[np.ndarray, np.ndarray, np
     t = np.empty((d.shape[0], r.size + 1))
     t[:, 0] = 0.0
     np.cumsum(d, axis=1, out=t[:, 1:])  # the running sums of each row, written in place
+    unit, offset = _fit_line(t, r)
+    return t, unit, offset
+
+
+def _fit_line(t: np.ndarray, r: np.ndarray, scratch: np.ndarray | None = None
+              ) -> tuple[np.ndarray, np.ndarray]:
+    """Return (unit, offset) of :func:`_edge_line` from its edge times ``t``; ``scratch``
+    (the shape of ``t``) holds the centred times if given."""
     c = np.concatenate(([0.0], np.cumsum(r)))
     cm = c.mean()
     tm = t.mean(axis=1)
-    slope = ((t - tm[:, None]) @ (c - cm)) / ((c - cm) @ (c - cm))
+    centred = np.subtract(t, tm[:, None], out=scratch)
+    slope = (centred @ (c - cm)) / ((c - cm) @ (c - cm))
     unit = np.where(slope > 0, slope, np.nan)
     offset = (tm - slope * cm) / unit
-    return t, unit, offset
+    return unit, offset
 
 
 def _minimax_edge(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: float
@@ -278,12 +302,13 @@ def _spread_floor(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: f
     return floor / 2.0
 
 
-def _worst_edge(t: np.ndarray, r: np.ndarray, unit: np.ndarray, offset: np.ndarray
-                ) -> np.ndarray:
+def _worst_edge(t: np.ndarray, r: np.ndarray, unit: np.ndarray, offset: np.ndarray,
+                out: np.ndarray | None = None) -> np.ndarray:
     """Return per row the largest distance (units) of an edge at times ``t`` from the
-    line ``unit``, ``offset`` (see :func:`_edge_line`) for rows with run lengths ``r``."""
+    line ``unit``, ``offset`` (see :func:`_edge_line`) for rows with run lengths ``r``
+    (``out``: space the shape of ``t`` to work in)."""
     c = np.concatenate(([0.0], np.cumsum(r)))
-    w = t / unit[:, None]
+    w = np.divide(t, unit[:, None], out=out)
     w -= offset[:, None]
     w -= c
     np.abs(w, out=w)
