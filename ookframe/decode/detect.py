@@ -86,12 +86,13 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
         cand = cand[(levels[cand + j] == sig_levels[j]) & (dj > lo_us[j]) & (dj < hi_us[j])]
     if cand.size == 0:
         return cand.astype(np.int64), np.zeros(0)
-    # edge times from each candidate's first edge: its k durations, then their running sums
+    # edge times from each candidate's first edge: the running sums of its k durations
+    d = sliding_window_view(durations_us, k)[cand]
     t = np.empty((cand.size, k + 1))
     t[:, 0] = 0.0
-    np.take(sliding_window_view(durations_us, k), cand, axis=0, out=t[:, 1:], mode="clip")
-    d = t[:, 1:].copy() if k < SHORT_SIGNATURE_RUNS else None
-    np.cumsum(t[:, 1:], axis=1, out=t[:, 1:])
+    np.cumsum(d, axis=1, out=t[:, 1:])
+    if k >= SHORT_SIGNATURE_RUNS:
+        d = None
     scratch = np.empty_like(t)
     unit, offset = _fit_line(t, r, scratch)
     ok = np.abs(unit / unit_us - 1.0) <= clock_error  # cheap: before the edge offsets
@@ -182,11 +183,12 @@ def _spans_fit(cand: np.ndarray, durations_us: np.ndarray, r: np.ndarray, max_un
     t = np.empty(durations_us.size + 1)
     t[0] = 0.0
     np.cumsum(durations_us, out=t[1:])
-    total = t[cand + k] - t[cand]
+    begin = t[cand]
+    total = t[cand + k] - begin
     for j in sorted({k * q // 8 for q in range(1, 8)} - {0}):
-        part = t[cand + j] - t[cand]
+        part = t[cand + j] - begin
         ok = np.abs(part * c[k] - c[j] * total) <= 2 * tol * (c[k] + c[j]) * max_unit_us
-        cand, total = cand[ok], total[ok]
+        cand, total, begin = cand[ok], total[ok], begin[ok]
     return cand
 
 
