@@ -357,17 +357,23 @@ def is_allowed(n: np.ndarray, levels: np.ndarray, table: RunTable) -> np.ndarray
     """Return True where ``n`` is a run length the code allows at the pulse's level."""
     if table.same:
         return (n >= 1) & (n <= table.top)
-    return table.lookup[(levels != 0).view(np.uint8), np.clip(n, 0, table.top + 1)]
+    # the (level, length) table flattened: one look-up per pulse
+    at = np.clip(n, 0, table.top + 1)
+    at[levels != 0] += table.top + 2
+    return table.lookup.ravel()[at]
 
 
 def _repair(c: np.ndarray, residual: np.ndarray, grid: np.ndarray, pulse_edge: np.ndarray,
-            n: np.ndarray, ok: np.ndarray, levels: np.ndarray, table: RunTable
-            ) -> tuple[np.ndarray, np.ndarray]:
+            n: np.ndarray, ok: np.ndarray, levels: np.ndarray, table: RunTable,
+            in_place: bool = False) -> tuple[np.ndarray, np.ndarray]:
     """Return the grid points with one edge of every pulse of a disallowed length moved to
     the grid point on its other side: the edge nearer halfway (the less sure), where that
-    leaves both pulses it bounds at allowed lengths. A jittered edge that crossed halfway
-    makes exactly such a pair of pulses (one too long, one too short)."""
-    c = c.copy()
+    leaves both pulses it bounds at allowed lengths, and the residuals ``grid - c`` of
+    the new points. A jittered edge that crossed halfway makes exactly such a pair of
+    pulses (one too long, one too short). ``in_place``: ``c`` and ``residual`` are
+    updated (only the moved edges' residuals are worked out again) and returned."""
+    if not in_place:
+        c, residual = c.copy(), residual.copy()
     bad = np.flatnonzero(~ok)
     e0, e1 = pulse_edge[bad] - 1, pulse_edge[bad]
     edge = np.where(np.abs(residual[e0]) >= np.abs(residual[e1]), e0, e1)
@@ -387,7 +393,8 @@ def _repair(c: np.ndarray, residual: np.ndarray, grid: np.ndarray, pulse_edge: n
     edge, step = edge[fits], step[fits]
     edge, first = np.unique(edge, return_index=True)
     c[edge] += step[first]
-    return c, grid - c
+    residual[edge] = grid[edge] - c[edge]
+    return c, residual
 
 
 def _phase_turns(x: np.ndarray, dropped: np.ndarray, sums: _Sums, in_place: bool = False
@@ -524,7 +531,8 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
     ok = is_allowed(n, levels, table)
     if not ok.all():  # move the less sure edge of a bad pulse to its other grid point
         pulse_edge = np.flatnonzero(ends)
-        c, residual = _repair(c, residual, grid, pulse_edge, n, ok, levels, table)
+        c, residual = _repair(c, residual, grid, pulse_edge, n, ok, levels, table,
+                              in_place=True)
         n = np.diff(c)[inner].astype(np.int64)
         ok = is_allowed(n, levels, table)
     del c
