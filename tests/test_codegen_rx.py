@@ -404,6 +404,67 @@ def test_recovery_stays_within_the_trials():
         assert f.corrected <= 2
 
 
+#: the host build with the check-aided recovery left out (``<PREFIX>_RX_RECOVERY 0``)
+NO_RECOVERY = (("RX_RECOVERY", "0"),)
+
+
+@needs_gcc
+@pytest.mark.parametrize("name", ["hive_scale.toml", "tank_level.toml", "coldframe_vent.toml"])
+def test_recovery_switched_off(name):
+    """<PREFIX>_RX_RECOVERY 0: clean frames of random values (numpy PCG64 seed 7) still
+    decode to the reference's fields with ``corrected`` = 0, and on trains with one body
+    edge moved 0.62 unit (seed 3, those the reference corrects) the copy holding it is lost
+    exactly as the reference decoder of this repository loses it with ``decoder.max_flips``
+    = 0 (the same passing payloads, none corrected): its frame comes out failing the check."""
+    import dataclasses
+
+    spec = example_spec(name)
+    off = dataclasses.replace(spec, decoder=dataclasses.replace(spec.decoder, max_flips=0))
+    rx = host_receiver(spec, NO_RECOVERY)
+    rng = np.random.default_rng(7)
+    for _ in range(4):
+        train = encode(spec, random_values(spec, rng))
+        got = rx.decode(train)
+        ref = [f for f in decode(spec, train) if f.crc_ok]
+        assert [f.raw for f in got] == [f.raw for f in ref] and len(got) == spec.repeats
+        assert all(f.crc_ok and f.corrected == 0 for f in got)
+    rng = np.random.default_rng(3)
+    lost = 0
+    for _ in range(80):
+        train = _one_edge_moved(spec, rng, 0.62)
+        if train is None:
+            continue
+        ref = decode(spec, train, include_bad=True)
+        if not ref or ref[0].corrected == 0:
+            continue
+        every = rx.decode(train)
+        got = [f for f in every if f.crc_ok]
+        ref_off = [f for f in decode(off, train) if f.crc_ok]
+        assert [f.payload_hex for f in got] == [f.payload_hex for f in ref_off]
+        assert all(f.corrected == 0 for f in got + ref_off)
+        assert len(got) == spec.repeats - 1 and len(every) == spec.repeats  # one failed check
+        lost += 1
+    assert lost >= 3  # the trains do need the recovery
+
+
+@needs_gcc
+def test_recovery_switch_refused_without_recovery(tmp_path):
+    """A spec whose receiver has no recovery (gate_sensor, mark-space) stops the build with
+    <PREFIX>_RX_RECOVERY 1 (#error naming why) and builds with 0."""
+    e = emit_header(example_spec("gate_sensor.toml"), side="rx")
+    assert e.model.rx.recovery_flips == 0
+    (tmp_path / e.filename).write_text(e.text)
+    src = tmp_path / "t.c"
+    src.write_text(f'#include "{e.filename}"\n')
+    P = e.model.PREFIX
+    with pytest.raises(CodegenError, match="has no check-aided recovery"):
+        compile_c(GCC, [src], tmp_path / "t.o", flags=(*STRICT_FLAGS, "-c"),
+                  include_dirs=[tmp_path], defines={f"{P}_IMPLEMENTATION": None,
+                                                    f"{P}_RX_RECOVERY": "1"})
+    compile_c(GCC, [src], tmp_path / "t.o", flags=(*STRICT_FLAGS, "-c"), include_dirs=[tmp_path],
+              defines={f"{P}_IMPLEMENTATION": None, f"{P}_RX_RECOVERY": "0"})
+
+
 PARITY_PRESETS = ("ideal", "budget-superregen", "edge-of-range-superregen", "superhet")
 
 

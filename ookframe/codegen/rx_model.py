@@ -212,11 +212,19 @@ class RxModel:
     def ram_bytes(self) -> int:
         """Upper bound of the receiver's static RAM in bytes (state, queue, edge FIFO), as in
         the header (padding on 32-bit targets may add a few bytes)."""
+        return self._ram(recovery=True)
+
+    @property
+    def ram_bytes_plain(self) -> int:
+        """``ram_bytes`` with the check-aided recovery left out (``<PREFIX>_RX_RECOVERY 0``)."""
+        return self._ram(recovery=False)
+
+    def _ram(self, *, recovery: bool) -> int:
         reg = 8 if self.pattern_type == "uint64_t" else 4
         phases = self.chips_per_block if self.family == "chips" else 1
         state = 4 * 8 + 16 + 2 * reg * phases + self.body_bytes
         slot = self.body_bytes + 12 + 8  # bits, quality (padded), worst16 and unit16
-        if self.recovery_flips:
+        if self.recovery_flips and recovery:
             slot += (self.raw_chips + 7) // 8 + 6 + 8 * self.recovery_edges
         held = 3 if self.low_keep else 0  # a short pulse waiting for the next
         drop = 3  # hunt_skips and the edge-loss byte rx_poll compares (backlog drop)
