@@ -13,7 +13,13 @@ timer ticks of the pulse that just ended) and decides as the reference decoder d
   run length is the allowed length (``LineCode.run_lengths`` and the head's, per level,
   midpoint thresholds) nearest to the distance from the previous edge's grid point;
   a phase loop and a frequency loop follow the clock while hunting, and at the sync the
-  unit is refitted over the run of well-placed edges before it (the head);
+  unit is refitted over the run of well-placed edges before it (the head); fixed-chip
+  codes hold each decided pulse until the next is decided: when the next fits no run the
+  code has (its nearest allowed length more than half a unit off) and the held pulse's
+  end edge is the less sure of its two edges, that edge moves to the grid point on its
+  other side and both pulses are decided again from the held one's clock state
+  (``classify._repair``: one jittered edge past halfway makes one pulse a unit too long
+  and the next a unit too short, or of no length at all);
 - line code: fixed-chip block codes decode per chip phase from a chip-pattern table;
   mark-space codes (pulse width, pulse distance) decode per (mark, space) pair;
 - clock: while hunting the frequency loop pulls in fast for the first ``GEAR_CHIPS`` chips
@@ -227,6 +233,8 @@ class RxModel:
         if self.recovery_flips and recovery:
             slot += (self.raw_chips + 7) // 8 + 6 + 8 * self.recovery_edges
         held = 3 if self.low_keep else 0  # a short pulse waiting for the next
+        if self.family == "chips":  # the pulse held for the repair: clock state, end, ticks
+            held += 14 + 3 * 4 + 5
         drop = 3  # hunt_skips and the edge-loss byte rx_poll compares (backlog drop)
         return state + self.queue * slot + 16 + 3 * self.edge_fifo + 2 + held + drop
 
