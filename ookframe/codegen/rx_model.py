@@ -157,6 +157,7 @@ class RxModel:
     mark_only: tuple[str, ...]  # block value of a mark whose space ran into a gap
     allowed: tuple[tuple[int, ...], tuple[int, ...]]  # per level (0 space, 1 mark)
     ladder: bool  # nearest allowed length by comparisons (else by division)
+    contiguous: bool  # both levels allow the same unbroken run of lengths
     top: int
     cap_ratio: int  # a pulse longer than this many units ends the window
     unit16: int
@@ -196,6 +197,13 @@ class RxModel:
     unit16_keep_min: int
     unit16_keep_max: int
     freq_div_body: int
+    #: the frequency steps' divisions 256 * div as (|y| << up) >> 16 (up = 16 - log2 of it;
+    #: 0 where it is no power of two within 2^9..2^16): cheap on 8-bit MCUs while |y| << up
+    #: provably stays below 2^31 (``freq_fast``)
+    freq_up_pull_in: int
+    freq_up_hunt: int
+    freq_up_body: int
+    freq_fast: bool
     min_refit_chips: int
     recovery_flips: int  # 0: no check-aided recovery
     recovery_trials: int
@@ -237,6 +245,12 @@ class RxModel:
             held += 14 + 3 * 4 + 5
         drop = 3  # hunt_skips and the edge-loss byte rx_poll compares (backlog drop)
         return state + self.queue * slot + 16 + 3 * self.edge_fifo + 2 + held + drop
+
+
+def _shift_up(d: int) -> int:
+    """Return 16 - log2(d) for a power of two d within 2^9..2^16, else 0."""
+    k = d.bit_length() - 1
+    return 16 - k if d == 1 << k and 9 <= k <= 16 else 0
 
 
 def _literal(value: int, bits: int) -> str:
@@ -378,6 +392,10 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
     if raw_chips > 65535:
         raise CodegenError(f"frames of up to {raw_chips} body chips; the C receiver's "
                            "check-aided recovery handles 65535")
+    ups = tuple(_shift_up(256 * d) for d in (FREQ_DIV_PULL_IN, FREQ_DIV_HUNT, FREQ_DIV_BODY))
+    body_max16 = max(int(unit16 * (1 + BODY_CLOCK_SPAN)), int(unit16 * (1 + span))) + 1
+    # |e| <= 2 units (a pulse past the longest run, or a repaired one), round(256 / n) <= 256
+    fast = all(ups) and (2 * body_max16 * 256) << max(ups) < (1 << 31)
     gain = spec.decoder.loop_gain
     body_shift = 3 if gain >= 0.04 else (4 if gain >= 0.02 else 5)
     body_shift += BODY_SHIFT_EXTRA
@@ -386,6 +404,8 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
         differential=code.differential, chip_table=chip_table, pair_marks=pair_marks,
         pair_spaces=pair_spaces, pair_table=pair_table, mark_only=mark_only, allowed=allowed,
         ladder=not hm.runs.same or top <= MAX_LADDER, top=top,
+        contiguous=allowed[0] == allowed[1]
+        and allowed[0] == tuple(range(allowed[0][0], allowed[0][-1] + 1)),
         cap_ratio=int(hm.runs.cap_ratio), unit16=unit16,
         unit16_min=int(unit16 * (1 - span)), unit16_max=int(unit16 * (1 + span)) + 1,
         unit16_body_min=min(int(unit16 * (1 - BODY_CLOCK_SPAN)), int(unit16 * (1 - span))),
@@ -406,6 +426,7 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
         reset_on_break=RESET_ON_BREAK, unit16_keep_min=unit16 * (100 - KEEP_SPAN_PCT) // 100,
         unit16_keep_max=unit16 * (100 + KEEP_SPAN_PCT) // 100 + 1,
         freq_div_body=FREQ_DIV_BODY, min_refit_chips=MIN_REFIT_CHIPS,
+        freq_up_pull_in=ups[0], freq_up_hunt=ups[1], freq_up_body=ups[2], freq_fast=fast,
         recovery_flips=flips, recovery_trials=min(trials, 255),
         recovery_edges=framer.RECOVERY_EDGES,
         recovery_min_offset_10ths=round(framer.RECOVERY_MIN_OFFSET * 10), raw_chips=raw_chips, recovery_none=why,
