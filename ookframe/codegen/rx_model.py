@@ -241,8 +241,8 @@ class RxModel:
         if self.recovery_flips and recovery:
             slot += (self.raw_chips + 7) // 8 + 6 + 8 * self.recovery_edges
         held = 3 if self.low_keep else 0  # a short pulse waiting for the next
-        if self.family == "chips":  # the pulse held for the repair: clock state, end, ticks
-            held += 14 + 3 * 4 + 5
+        if self.family == "chips":  # the pulse held for the repair: two clock states, end, ticks
+            held += 2 * 14 + 2 * 4 + 6
         drop = 3  # hunt_skips and the edge-loss byte rx_poll compares (backlog drop)
         return state + self.queue * slot + 16 + 3 * self.edge_fifo + 2 + held + drop
 
