@@ -546,29 +546,15 @@ def test_shrunk_pulse_and_glitch_in_one_copy(name):
     assert len({str(f.raw) for f in got}) == 1
 
 
-MANCHESTER_JITTER_GAP = pytest.mark.xfail(
-    strict=True, reason="Manchester under heavy jitter (31 us at seed 0): the C receiver "
-    "loses 1.5 % of copies, the reference 0.2 %; not the unit at the sync (the nominal unit "
-    "there loses as many): lost copies slip in the body or miss the sync; open in issue 10")
-#: tank_level (3-of-6 chips): the C receiver is unchanged and loses 0.013 of the copies
-#: at 17.4 us (seed 0) as before; the reference's second opinions (duration-by-duration
-#: re-reading of windows without a passing frame, main 77d5384 / a8e5d63) now lose none
-#: (<= 0.009). Its lost copies slip in the body like hive_scale's
-CHIP_SLIP_GAP = pytest.mark.xfail(
-    strict=True, reason="3-of-6 under heavy jitter: the reference's re-reading of failed "
-    "windows now decodes every copy at 17.4 us; the C receiver's 0.013 lost copies slip in "
-    "the body (code errors after one far-off edge); open in issue 10")
-JITTER_GAPS = {"hive_scale.toml": MANCHESTER_JITTER_GAP, "tank_level.toml": CHIP_SLIP_GAP}
-
-
 @pytest.mark.slow
 @needs_gcc
-@pytest.mark.parametrize("name", [pytest.param(n, marks=JITTER_GAPS[n]) if n in JITTER_GAPS
-                                  else n for n in EXAMPLES])
+@pytest.mark.parametrize("name", EXAMPLES)
 def test_copy_loss_parity_at_jitter_margin(name):
     """At the jitter margin ``run_margin`` finds for PER < 0.05 (200 transmissions per
     point, seed 0) the C receiver loses no more copies than the reference's 95 % CI
-    allows, on the same seeds."""
+    allows, on the same seeds. (Manchester and 3-of-6 lost copies whose chips slipped at
+    one edge past halfway until the receiver took up the reference's repair of such
+    edges, rx_pulse.)"""
     from ookframe.stress.margin import run_at_margins, run_margin
     from ookframe.stress.runner import copy_loss
 

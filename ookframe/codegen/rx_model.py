@@ -12,6 +12,11 @@ timer ticks of the pulse that just ended) and decides as the reference decoder d
 - clock: each edge is placed on a chip grid (unit in 1/16 tick, ``UNIT_FRAC``); a pulse's
   run length is the allowed length (``LineCode.run_lengths`` and the head's, per level,
   midpoint thresholds) nearest to the distance from the previous edge's grid point;
+  fixed-chip codes take the whole units to the edge's nearest grid point and, for a length
+  the code does not have, move the less sure of the pulse's two edges to the grid point on
+  its other side where both pulses it bounds then have lengths the code has
+  (``classify._repair``; else the nearest allowed length): a pulse is held until the next
+  one is decided, so its end edge can still move;
   a phase loop and a frequency loop follow the clock while hunting, and at the sync the
   unit is refitted over the run of well-placed edges before it (the head);
 - line code: fixed-chip block codes decode per chip phase from a chip-pattern table;
@@ -227,6 +232,8 @@ class RxModel:
         if self.recovery_flips and recovery:
             slot += (self.raw_chips + 7) // 8 + 6 + 8 * self.recovery_edges
         held = 3 if self.low_keep else 0  # a short pulse waiting for the next
+        if self.family == "chips":  # the pulse held until the next is decided (repair)
+            held += 3 * 4 + 5
         drop = 3  # hunt_skips and the edge-loss byte rx_poll compares (backlog drop)
         return state + self.queue * slot + 16 + 3 * self.edge_fifo + 2 + held + drop
 
