@@ -201,7 +201,7 @@ def _cortex_m0plus_rows() -> None:
         spec, _ = _example(name)
         row = []
         with tempfile.TemporaryDirectory() as d:
-            for side in ("tx", "rx"):
+            for side in ("tx", "both"):
                 e = emit_header(spec, side=side)
                 (Path(d) / e.filename).write_text(e.text)
                 src = Path(d) / f"{side}.c"
@@ -214,7 +214,7 @@ def _cortex_m0plus_rows() -> None:
                 row.append((flash, ram))
         (tf, tr), (rf, rr) = row
         print(f"{spec.name:<18}{tf:>9}{tr:>7}{rf - tf:>9}{rr - tr:>7}")
-    print("rx: the rx header's object minus the tx header's (the rx header holds both sides)")
+    print("rx: the --side both header's object minus the tx header's")
 
 
 def _baseline_stub_cycles(emitted, values, directory: Path) -> float:

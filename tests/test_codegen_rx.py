@@ -8,6 +8,8 @@ crash it or overfill its queue.
 
 from __future__ import annotations
 
+import subprocess
+
 import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings
@@ -104,6 +106,46 @@ def test_strict_compile(tmp_path, name, tool, flags):
     P = e.model.PREFIX
     compile_c(cc, [src], tmp_path / "t.o", flags=(*STRICT_FLAGS, *flags), include_dirs=[tmp_path],
               defines={f"{P}_IMPLEMENTATION": None, f"{P}_RX_AVR_ICP1": None})
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("name", EXAMPLES)
+@pytest.mark.parametrize("tool,flags", [("gcc", ("-c",)), ("clang", ("-c",)),
+                                        ("avr-gcc", (*AVR_FLAGS, "-c"))])
+def test_receive_only_build_has_no_transmitter(tmp_path, name, tool, flags):
+    """``emit --side rx``: the receive-only build (its default, <PREFIX>_WANT_TX 0)
+    compiles clean with the strict warning set and, by nm, defines none of the symbols
+    the transmit-only header's object has beyond the check and whitening code both sides
+    share (no pack, tx_init, tx_next, tx_start, code-word tables); with <PREFIX>_WANT_TX 1
+    it has them. -O0, so unused static functions are kept and seen."""
+    cc = find_tool(tool)
+    nm = find_tool("avr-nm" if tool == "avr-gcc" else "nm")
+    if cc is None or nm is None:
+        pytest.skip(f"{tool} or its nm not installed")
+    spec = example_spec(name)
+    syms = {}
+    for label, side, want_tx in (("tx", "tx", None), ("rx", "rx", None), ("rx_tx", "rx", "1")):
+        e = emit_header(spec, side=side)
+        d = tmp_path / label
+        d.mkdir()
+        (d / e.filename).write_text(e.text)
+        (d / "t.c").write_text(f'#include "{e.filename}"\n')
+        P = e.model.PREFIX
+        defines = {f"{P}_IMPLEMENTATION": None}
+        if want_tx is not None:
+            defines[f"{P}_WANT_TX"] = want_tx
+        obj = compile_c(cc, [d / "t.c"], d / "t.o", flags=(*STRICT_FLAGS, *flags, "-O0"),
+                        include_dirs=[d], defines=defines)
+        out = subprocess.run([nm, str(obj)], capture_output=True, text=True, check=True).stdout
+        syms[label] = {line.split()[-1] for line in out.splitlines()
+                       if line.strip() and line.split()[-1].startswith(f"{e.model.prefix}_")}
+    p = emit_header(spec).model.prefix
+    shared = {f"{p}_{s}" for s in ("check_byte", "check_finish", "crc_table", "reflect",
+                                   "lfsr_byte", "div_round")}
+    tx_api = {f"{p}_pack", f"{p}_tx_init", f"{p}_tx_next"}
+    assert tx_api <= syms["tx"] and tx_api <= syms["rx_tx"]
+    assert not (syms["rx"] & syms["tx"]) - shared, sorted((syms["rx"] & syms["tx"]) - shared)
+    assert f"{p}_rx_take" in syms["rx"]
 
 
 def test_avr_icp1_section_follows_the_prescaler():
