@@ -65,6 +65,13 @@ CLOCK_SPAN = 0.12
 #: the copies there (reference 0), 0.22 none; presets unchanged (edge-of-range copy loss
 #: gate_sensor 0.049, greenhouse_probe 0.045 either way)
 CLOCK_SPAN_PAIRS = 0.22
+#: frequency window of the unit in a frame's body (fraction of nominal): a transmitter clock
+#: drifting during the frame takes the unit further than the hunting window (the reference
+#: follows it without a bound: ``classify.track_unit``, ``grid_runs``); measured with
+#: ``margin --decoder c`` on tank_level at its drift margins (+-480 %/s): the hunting
+#: window lost every first copy of more than 15 note bytes there (their unit ends 13-22 %
+#: off), 0.5 none
+BODY_CLOCK_SPAN = 0.5
 #: allowed-length tables longer than this are decided by division (NRZ without stuffing)
 MAX_LADDER = 16
 #: frames held by the ready queue unless <PREFIX>_RX_QUEUE says otherwise
@@ -149,6 +156,8 @@ class RxModel:
     unit16: int
     unit16_min: int
     unit16_max: int
+    unit16_body_min: int
+    unit16_body_max: int
     glitch_ticks: int
     pattern_bits: int
     pattern_type: str
@@ -320,7 +329,7 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
         raise CodegenError(f"one unit is {spec.unit_us / timing.tick_us:.2f} timer ticks; the C "
                            "receiver needs at least 4 (a faster timer clock or smaller prescaler)")
     span = CLOCK_SPAN_PAIRS if family == "pairs" else CLOCK_SPAN
-    if (top + 2) * unit16 * (1 + span) >= (1 << 30):
+    if (top + 2) * unit16 * (1 + max(span, BODY_CLOCK_SPAN)) >= (1 << 30):
         raise CodegenError("the longest run is too many timer ticks for the receiver's 32-bit "
                            "arithmetic; use a larger prescaler")
     glitch = int(spec.decoder.glitch_fraction * spec.unit_us / timing.tick_us + 0.5)
@@ -371,6 +380,8 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
         ladder=not hm.runs.same or top <= MAX_LADDER, top=top,
         cap_ratio=int(hm.runs.cap_ratio), unit16=unit16,
         unit16_min=int(unit16 * (1 - span)), unit16_max=int(unit16 * (1 + span)) + 1,
+        unit16_body_min=min(int(unit16 * (1 - BODY_CLOCK_SPAN)), int(unit16 * (1 - span))),
+        unit16_body_max=max(int(unit16 * (1 + BODY_CLOCK_SPAN)), int(unit16 * (1 + span))) + 1,
         glitch_ticks=glitch, pattern_bits=pat_bits, pattern_type=f"uint{reg_bits}_t",
         pattern=_literal(value, reg_bits),
         sync_mask=_literal((1 << sync_n) - 1, reg_bits),
