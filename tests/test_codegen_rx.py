@@ -490,6 +490,32 @@ def test_recovery_switched_off(name):
 
 
 @needs_gcc
+@pytest.mark.parametrize("offset,builds", [(0.3, True), (0.5, True), (0.2, False)])
+def test_candidate_cost_range_is_asserted(tmp_path, monkeypatch, offset, builds):
+    """The recovery's candidate cost, 512 - offset * 1024 / unit for an edge at least the
+    guard offset (in tenths of a unit) and at most 0.5 unit off its grid point, is a
+    uint8_t: the header's compile-time assert lets the reference's guard of 0.3 unit
+    (worst cost 205) and 0.5 through and stops the build at 0.2 (worst 308: it would
+    wrap, as anything below 0.25 unit would)."""
+    from ookframe.decode import framer
+
+    monkeypatch.setattr(framer, "RECOVERY_MIN_OFFSET", offset)
+    e = emit_header(example_spec("hive_scale.toml"), side="rx")
+    assert f"_RX_MIN_OFFSET_10THS {round(offset * 10)} " in e.text
+    (tmp_path / e.filename).write_text(e.text)
+    src = tmp_path / "t.c"
+    src.write_text(f'#include "{e.filename}"\n')
+    build = lambda: compile_c(GCC, [src], tmp_path / "t.o", flags=(*STRICT_FLAGS, "-c"),  # noqa: E731
+                              include_dirs=[tmp_path],
+                              defines={f"{e.model.PREFIX}_IMPLEMENTATION": None})
+    if builds:
+        build()
+    else:
+        with pytest.raises(CodegenError, match="assert_rx_cand_cost"):
+            build()
+
+
+@needs_gcc
 def test_recovery_switch_refused_without_recovery(tmp_path):
     """A spec whose receiver has no recovery (gate_sensor, mark-space) stops the build with
     <PREFIX>_RX_RECOVERY 1 (#error naming why) and builds with 0."""
