@@ -533,6 +533,40 @@ def test_recovery_switch_refused_without_recovery(tmp_path):
               defines={f"{P}_IMPLEMENTATION": None, f"{P}_RX_RECOVERY": "0"})
 
 
+@needs_gcc
+def test_permille_saturates_at_the_edges(tmp_path):
+    """<p>_rx_permille (the quality struct's worst deviation and clock error, num / den in
+    1/1000): exact below 2^22 / 1000, saturated at its top (65535 for the deviation, 32767
+    for the clock error) where a 16-bit result would wrap (ratio 65.536 and above, e.g.
+    a deviation of 100 units or the 32-bit extremes), 0 for den = 0; above 2^22 the inputs
+    are shifted down together, so the ratio keeps within 0.1 %. tests/c/rx_permille.c."""
+    import subprocess as sp
+    from pathlib import Path
+
+    e = emit_header(example_spec("hive_scale.toml"), side="rx")
+    (tmp_path / e.filename).write_text(e.text)
+    src = Path(__file__).resolve().parent / "c" / "rx_permille.c"
+    exe = compile_c(GCC, [src], tmp_path / "permille", flags=(*STRICT_FLAGS, "-O2"),
+                    include_dirs=[tmp_path],
+                    defines={"OOK_HEADER": f'"{e.filename}"', "OOK_PREFIX": e.model.prefix,
+                             f"{e.model.PREFIX}_IMPLEMENTATION": None})
+    u32 = 0xFFFFFFFF
+    cases = [(0, 16, 0xFFFF), (8, 16, 0xFFFF), (65535, 1000, 0xFFFF), (65536, 1000, 0xFFFF),
+             (65537, 1000, 0xFFFF), (100 * 1600, 1600, 0xFFFF), (0x3FFFFF, 64, 0xFFFF),
+             (0x3FFFFF, 0x3FFFFF, 0xFFFF), (0x400000, 0x400000, 0xFFFF), (u32, 1, 0xFFFF),
+             (u32, u32, 0xFFFF), (u32, 0x10000, 0xFFFF), (u32, 0x100000, 0xFFFF),
+             (12, 0, 0xFFFF), (32767, 1000, 0x7FFF), (32768, 1000, 0x7FFF),
+             (600 * 16, 1600, 0x7FFF)]
+    out = sp.run([str(exe)], input="".join(f"{n} {d} {t}\n" for n, d, t in cases),
+                 capture_output=True, text=True, check=True, timeout=30).stdout.split()
+    for (n, d, top), got in zip(cases, map(int, out), strict=True):
+        want = 0 if d == 0 else min(top, n * 1000 // d)
+        if n <= 0x3FFFFF or want == top:
+            assert got == want, (n, d, top, got)
+        else:
+            assert abs(got - want) <= want // 1000 + 1, (n, d, top, got)
+
+
 PARITY_PRESETS = ("ideal", "budget-superregen", "edge-of-range-superregen", "superhet")
 
 
