@@ -230,16 +230,19 @@ def run_receiver(emitted: Emitted, values: Mapping[str, object],
     return _parse(run, emitted)
 
 
-def receiver_sizes(emitted: Emitted, values: Mapping[str, object], directory: Path
-                   ) -> tuple[int, int]:
+def receiver_sizes(emitted: Emitted, values: Mapping[str, object], directory: Path, *,
+                   extra_defines: Mapping[str, str | None] | None = None) -> tuple[int, int]:
     """Return (flash, RAM) bytes of the receiver: rx_firmware.c minus its stub baseline,
-    both linked with unused sections dropped (the header's transmitter is not counted)."""
+    both linked with unused sections dropped (the header's transmitter is not counted);
+    ``extra_defines``: more -D macros for the receiver build, e.g. <PREFIX>_RX_RECOVERY."""
     assert avr_run.AVR_SIZE is not None
     sizes = []
     for baseline in (False, True):
         elf = avr_run.build_firmware(emitted, values, directory, source=RX_FIRMWARE,
                                      baseline=baseline,
                                      name="rx_base.elf" if baseline else "rx_size.elf",
-                                     extra_defines=lock_defines(emitted), extra_flags=GC_FLAGS)
+                                     extra_defines={**lock_defines(emitted),
+                                                    **(extra_defines or {})},
+                                     extra_flags=GC_FLAGS)
         sizes.append(avr_flash_ram(section_sizes(avr_run.AVR_SIZE, elf)))
     return sizes[0][0] - sizes[1][0], sizes[0][1] - sizes[1][1]
