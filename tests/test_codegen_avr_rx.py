@@ -141,18 +141,21 @@ def test_edge_of_range_frames_equal_the_host_build(tmp_path, capsys, monkeypatch
 
 
 def test_long_recovery_keeps_the_edge_fifo_drained(tmp_path, capsys, monkeypatch):
-    """tank_level through edge-of-range-superregen (seed 9) with a 128-entry edge FIFO:
-    the 10th frame follows one whose check fails and whose check-aided recovery (16 trials
-    over 2^8 combinations) runs in rx_take for tens of ms at 8 MHz; the recovery polls the
-    FIFO meanwhile, so that frame's edges are queued, decoded and equal the host build's
-    frames (before, rx_take ran it without polling: 374 edges lost, 9 frames of 10)."""
+    """tank_level through edge-of-range-superregen (seed 9) with the default 16-entry edge
+    FIFO: the 10th frame follows one whose check fails and whose check-aided recovery (16
+    trials over 2^8 combinations, each re-decoding the body) runs in rx_take for about
+    100 ms at 8 MHz while the next transmission is on the air; the recovery polls the FIFO
+    every 64 combinations and every 16 chips of a re-decoding, so that frame's edges are
+    queued, decoded and equal the host build's frames (before: 374 edges lost without
+    polling even with 128 entries; polling between trials only, 9 frames of 10 with up to
+    64 entries, the 10th's body losing edges while a trial re-decoded)."""
     _isolated_host_cache(tmp_path, monkeypatch)
     name = "tank_level.toml"
     spec, defaults = example_spec(name)
     trains = _edge_of_range_trains(name, tmp_path, capsys)
     emitted = emit_header(spec, side="rx")
-    run = avr_rx.run_receiver(emitted, defaults, trains, tmp_path,
-                              extra_defines={f"{emitted.model.PREFIX}_RX_EDGE_FIFO": "128u"})
+    assert emitted.model.rx.edge_fifo == 16
+    run = avr_rx.run_receiver(emitted, defaults, trains, tmp_path)
     host = avr_rx.host_frames(spec, trains)
     print(f"{len(run.frames)} frames on the AVR, {len(host)} on the host, "
           f"counters {run.counters}")
