@@ -184,6 +184,18 @@ def test_counters_reported_at_the_end_of_the_run(tmp_path, isrs):
     assert run.counters["frames_seen"] == spec.repeats and run.counters["check_failures"] == 0
 
 
+def test_stub_baseline_runs(tmp_path):
+    """The stub-receiver baseline bench/avr_cost.py measures against (OOK_BASELINE) runs
+    through the same driver: one capture ISR per edge, no frame, its end report parsed."""
+    spec, defaults = example_spec("hive_scale.toml")
+    t = encode(spec, random_values(spec, np.random.default_rng(8)))
+    trains = [(t.levels, t.durations_us)]
+    run = avr_rx.run_receiver(emit_header(spec, side="rx"), defaults, trains, tmp_path,
+                              baseline=True)
+    assert run.frames == [] and run.counters == {}
+    assert run.capt_cycles.size == _changes(trains)
+
+
 def test_header_isrs_equal_the_firmware_isrs_through_edge_of_range(tmp_path, capsys):
     """Through the edge-of-range-superregen channel (``ookframe vectors``, seed 9, hive_scale:
     idle noise with pulses shorter than the capture ISR) the header's <PREFIX>_RX_AVR_ICP1
