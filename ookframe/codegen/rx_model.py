@@ -65,6 +65,13 @@ CLOCK_SPAN = 0.12
 #: the copies there (reference 0), 0.22 none; presets unchanged (edge-of-range copy loss
 #: gate_sensor 0.049, greenhouse_probe 0.045 either way)
 CLOCK_SPAN_PAIRS = 0.22
+#: frequency window of the unit in a frame's body (fraction of nominal): a transmitter clock
+#: drifting during the frame takes the unit further than the hunting window (the reference
+#: follows it without a bound: ``classify.track_unit``, ``grid_runs``); measured with
+#: ``margin --decoder c`` on tank_level at its drift margins (+-480 %/s): the hunting
+#: window lost every first copy of more than 15 note bytes there (their unit ends 13-22 %
+#: off), 0.5 none
+BODY_CLOCK_SPAN = 0.5
 #: allowed-length tables longer than this are decided by division (NRZ without stuffing)
 MAX_LADDER = 16
 #: frames held by the ready queue unless <PREFIX>_RX_QUEUE says otherwise
@@ -149,6 +156,8 @@ class RxModel:
     unit16: int
     unit16_min: int
     unit16_max: int
+    unit16_body_min: int
+    unit16_body_max: int
     glitch_ticks: int
     pattern_bits: int
     pattern_type: str
@@ -203,11 +212,19 @@ class RxModel:
     def ram_bytes(self) -> int:
         """Upper bound of the receiver's static RAM in bytes (state, queue, edge FIFO), as in
         the header (padding on 32-bit targets may add a few bytes)."""
+        return self._ram(recovery=True)
+
+    @property
+    def ram_bytes_plain(self) -> int:
+        """``ram_bytes`` with the check-aided recovery left out (``<PREFIX>_RX_RECOVERY 0``)."""
+        return self._ram(recovery=False)
+
+    def _ram(self, *, recovery: bool) -> int:
         reg = 8 if self.pattern_type == "uint64_t" else 4
         phases = self.chips_per_block if self.family == "chips" else 1
         state = 4 * 8 + 16 + 2 * reg * phases + self.body_bytes
         slot = self.body_bytes + 12 + 8  # bits, quality (padded), worst16 and unit16
-        if self.recovery_flips:
+        if self.recovery_flips and recovery:
             slot += (self.raw_chips + 7) // 8 + 6 + 8 * self.recovery_edges
         held = 3 if self.low_keep else 0  # a short pulse waiting for the next
         drop = 3  # hunt_skips and the edge-loss byte rx_poll compares (backlog drop)
@@ -312,7 +329,7 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
         raise CodegenError(f"one unit is {spec.unit_us / timing.tick_us:.2f} timer ticks; the C "
                            "receiver needs at least 4 (a faster timer clock or smaller prescaler)")
     span = CLOCK_SPAN_PAIRS if family == "pairs" else CLOCK_SPAN
-    if (top + 2) * unit16 * (1 + span) >= (1 << 30):
+    if (top + 2) * unit16 * (1 + max(span, BODY_CLOCK_SPAN)) >= (1 << 30):
         raise CodegenError("the longest run is too many timer ticks for the receiver's 32-bit "
                            "arithmetic; use a larger prescaler")
     glitch = int(spec.decoder.glitch_fraction * spec.unit_us / timing.tick_us + 0.5)
@@ -363,6 +380,8 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
         ladder=not hm.runs.same or top <= MAX_LADDER, top=top,
         cap_ratio=int(hm.runs.cap_ratio), unit16=unit16,
         unit16_min=int(unit16 * (1 - span)), unit16_max=int(unit16 * (1 + span)) + 1,
+        unit16_body_min=min(int(unit16 * (1 - BODY_CLOCK_SPAN)), int(unit16 * (1 - span))),
+        unit16_body_max=max(int(unit16 * (1 + BODY_CLOCK_SPAN)), int(unit16 * (1 + span))) + 1,
         glitch_ticks=glitch, pattern_bits=pat_bits, pattern_type=f"uint{reg_bits}_t",
         pattern=_literal(value, reg_bits),
         sync_mask=_literal((1 << sync_n) - 1, reg_bits),

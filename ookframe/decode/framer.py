@@ -32,6 +32,7 @@ from .detect import find_candidates
 from .framing import frame_windows
 from .glitch import drop_glitches
 from .head import MAX_CLOCK_ERROR, HeadModel, build_head
+from .merge import FrameMerge, Spans, Verdict, merge_overlapping
 from .segment import burst_breaks, burst_end
 from .tail import MAX_TRAILING_UNITS, CutTrains, cut_trains, join_spans
 from .validate import validate_train
@@ -255,15 +256,13 @@ def _second_opinion(spec: FrameSpec, frames: list[DecodedFrame], other: list[Dec
     """Return ``frames`` with every frame whose check failed replaced by a frame of
     ``other`` (decoded duration by duration) at the same start whose check passes."""
     good = [f for f in other if f.crc_ok]
-    starts = np.array([f.start_us for f in good])
-    out = []
-    for f in frames:
-        if not f.crc_ok and starts.size:
-            k = int(np.abs(starts - f.start_us).argmin())
-            if abs(starts[k] - f.start_us) < 2 * spec.unit_us:
-                f = good[k]
-        out.append(f)
-    return out
+    near = Spans((k, f.start_us, f.start_us) for k, f in enumerate(good))
+    m = FrameMerge(frames)
+    for i, f in enumerate(frames):
+        if not f.crc_ok and (hit := near.nearest(f.start_us)) is not None:
+            if hit[0] < 2 * spec.unit_us:
+                m.replace(i, good[hit[1]])
+    return m.frames()
 
 
 def _doubtful_opinion(frames: list[DecodedFrame], other: list[DecodedFrame],
@@ -274,14 +273,11 @@ def _doubtful_opinion(frames: list[DecodedFrame], other: list[DecodedFrame],
     and overlaps no frame, added. Its false-accept risk is that of one more reading of
     such a window, as for the frames the second opinion replaces."""
     times = np.sort(doubtful_us)
-    extra: list[DecodedFrame] = []
-    for g in other:
-        if not g.crc_ok or not _holds(g, times):
-            continue
-        if any(f.start_us < g.end_us and g.start_us < f.end_us for f in frames + extra):
-            continue
-        extra.append(g)
-    return sorted(frames + extra, key=lambda f: f.start_us) if extra else frames
+
+    def rule(g: DecodedFrame, hit: list[DecodedFrame]) -> Verdict:
+        return Verdict.JOIN if g.crc_ok and not hit and _holds(g, times) else Verdict.SKIP
+
+    return merge_overlapping(frames, other, rule)
 
 
 def _tail_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
@@ -293,33 +289,31 @@ def _tail_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
     the frames where it passes. One more reading per such frame, chosen by timing alone
     (like the second opinion)."""
     bad = [i for i, f in enumerate(frames) if not f.crc_ok]
-    starts = np.array([f.start_us for f in frames])
     todo: list[tuple[float, float | None, float]] = [
         (frames[i].start_us, frames[i].end_us, frames[i].unit_us) for i in bad]
     owner: list[int] = list(bad)
+    # starts read or to be read: the frames' and the unparsed windows' taken so far
+    taken = Spans((k, f.start_us, f.start_us) for k, f in enumerate(frames))
     for t, u in zip(ctx.unparsed_us.tolist(), ctx.unparsed_unit_us.tolist(), strict=True):
-        if (starts.size and np.abs(starts - t).min() < 2 * spec.unit_us) or any(
-                abs(t - a) < 2 * spec.unit_us for a, _, _ in todo):
+        if (hit := taken.nearest(t)) is not None and hit[0] < 2 * spec.unit_us:
             continue
+        taken.add(len(taken), t, t)
         todo.append((t, None, u))
         owner.append(-1)
     trailing = min(int(hm.runs.allowed[0][-1]), MAX_TRAILING_UNITS)
     quiet_us = 2.0 * max(hm.break_us, 16 * spec.unit_us)
     cuts = cut_trains(train, todo, trailing, quiet_us, hm.body_chip, hm.max_frame_chips)
-    out = list(frames)
-    extra = []
+    m = FrameMerge(frames)
     for f, k in _read_pieces(spec, hm, cuts, spec.decoder.glitch_fraction * spec.unit_us):
         if abs(cuts.start_us[k] - f.start_us) >= 2 * spec.unit_us:
             continue
         f = _shifted(f, float(cuts.origin_us[k]))
         i = owner[int(cuts.frame[k])]
         if i >= 0:
-            out[i] = f
+            m.replace(i, f)
         else:
-            extra.append(f)
-    if extra:
-        out = sorted(out + extra, key=lambda f: f.start_us)
-    return out
+            m.add(f)
+    return m.frames()
 
 
 #: units a frame read from joined pieces may start before its piece (pieces lie at least
@@ -432,26 +426,21 @@ def _low_filter_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
                      np.maximum.reduceat(b_us, np.flatnonzero(new)).tolist(), strict=True))
     quiet_us = 2.0 * max(hm.break_us, 16 * spec.unit_us)
     cuts = join_spans(train, spans, quiet_us, edges_us)
-    starts = np.array([f.start_us for f in frames])
-    reach = np.maximum.accumulate(np.array([f.end_us for f in frames]))
-    out = list(frames)
-    gone: set[int] = set()
-    extra = []
-    for f, k in _read_pieces(spec, hm, cuts, low_us):
-        f = _shifted(f, float(cuts.origin_us[k]))
-        lo = int(np.searchsorted(reach, f.start_us, side="right"))
-        hi = int(np.searchsorted(starts, f.end_us, side="left"))
-        hit = [i for i in range(lo, hi) if i not in gone
-               and out[i].start_us < f.end_us and f.start_us < out[i].end_us]
-        if all(not out[i].crc_ok for i in hit):
-            gone.update(hit)
-            extra.append(f)
-        elif (len(hit) == 1 and _holds(g := out[hit[0]], t_held)
-              and g.worst_deviation >= REREAD_WORST_DEVIATION
-              and (g.raw == f.raw or f.worst_deviation < g.worst_deviation)):
-            out[hit[0]] = f
-    return sorted([f for i, f in enumerate(out) if i not in gone] + extra,
-                  key=lambda f: f.start_us)
+
+    def rule(f: DecodedFrame, hit: list[DecodedFrame]) -> Verdict:
+        if all(not g.crc_ok for g in hit):
+            return Verdict.JOIN
+        if (len(hit) == 1 and _holds(g := hit[0], t_held)
+                and g.worst_deviation >= REREAD_WORST_DEVIATION
+                and (g.raw == f.raw or f.worst_deviation < g.worst_deviation)):
+            return Verdict.REPLACE
+        return Verdict.SKIP
+
+    readings = (_shifted(f, float(cuts.origin_us[k]))
+                for f, k in _read_pieces(spec, hm, cuts, low_us))
+    # a reading meets the frames it was given and their replacements, not the frames
+    # the readings before it joined
+    return merge_overlapping(frames, readings, rule, added_block=False, sort=True)
 
 
 def _shrunk_us(d: np.ndarray, short: np.ndarray, t_short: np.ndarray, min_us: float,
