@@ -256,36 +256,71 @@ class ParsedFrames:
 
     def frames(self) -> list[ParsedFrame | None]:
         """Return every frame as :func:`parse_frame` gives it (None where not complete)."""
+        out: list[ParsedFrame | None] = [None] * self.complete.size
+        rows = np.flatnonzero(self.complete)
+        c = self.columns(rows)
+        for k, fields, raw, hx, ok, n_bits in zip(rows.tolist(), c.fields, c.raw,
+                                                  c.payload_hex, c.check_ok, c.n_bits,
+                                                  strict=True):
+            out[k] = ParsedFrame(fields=fields, raw=raw, payload_hex=hx, check_ok=ok,
+                                 n_bits=n_bits)
+        return out
+
+    def columns(self, rows: np.ndarray) -> FrameColumns:
+        """Return what :class:`ParsedFrame` holds of each of ``rows`` (indices of complete
+        frames) as lists, one entry per row; the values are converted column by column."""
         p = self.plan
         names = [fp.field.name for fp in p.fields]
         raws, phys = [], []
+        idx = rows.tolist()
         for fp, col in zip(p.fields, self.raw, strict=True):
             if isinstance(col, tuple):
-                raws.append(col)
-                phys.append([b.hex() for b in col])
+                blobs = [col[k] for k in idx]
+                raws.append(blobs)
+                phys.append([b.hex() for b in blobs])
                 continue
-            values = col.tolist()
+            u = col[rows]
             if fp.field.signed:
-                w = fp.field.width_bits
-                values = [to_signed(u, w) for u in values]
+                u = _signed(u, fp.field.width_bits)
+            values = u.tolist()
             raws.append(values)
-            phys.append(values if fp.scale is None else _scaled(values, fp.scale, fp.offset))
-        w = 2 * self.payload.shape[1]
-        hexes = self.payload.tobytes().hex()
-        n_fb = self.n_bits - p.n_check_bits
-        out: list[ParsedFrame | None] = []
-        rows = zip(zip(*raws, strict=True), zip(*phys, strict=True), self.check_ok.tolist(),
-                   self.complete.tolist(), n_fb.tolist(), strict=True)
-        n_cb = p.n_check_bits
-        for i, (values, physical, ok, complete, k) in enumerate(rows):
-            if not complete:
-                out.append(None)
-                continue
-            out.append(ParsedFrame(fields=dict(zip(names, physical, strict=True)),
-                                   raw=dict(zip(names, values, strict=True)),
-                                   payload_hex=hexes[i * w:i * w + 2 * ((k + 7) // 8)],
-                                   check_ok=ok, n_bits=k + n_cb))
-        return out
+            phys.append(values if fp.scale is None else _scaled(u, fp.scale, fp.offset))
+        n = rows.size
+        n_bits = self.n_bits[rows]
+        hex_len = 2 * ((n_bits - p.n_check_bits + 7) // 8)
+        width = 2 * self.payload.shape[1]
+        text = self.payload[rows].tobytes().hex()
+        if n and (hex_len == width).all():
+            hexes = [text[i:i + width] for i in range(0, n * width, width)]
+        else:
+            hexes = [text[i * width:i * width + k] for i, k in enumerate(hex_len.tolist())]
+        return FrameColumns(
+            fields=[dict(zip(names, v, strict=True)) for v in zip(*phys, strict=True)]
+            if names else [{} for _ in idx],
+            raw=[dict(zip(names, v, strict=True)) for v in zip(*raws, strict=True)]
+            if names else [{} for _ in idx],
+            payload_hex=hexes, check_ok=self.check_ok[rows].tolist(), n_bits=n_bits.tolist())
+
+
+@dataclass(frozen=True, eq=False)
+class FrameColumns:
+    """Frames parsed together (:meth:`ParsedFrames.columns`): per frame what
+    :class:`ParsedFrame` holds, each as a list with one entry per frame."""
+
+    fields: list[dict[str, object]]
+    raw: list[dict[str, object]]
+    payload_hex: list[str]
+    check_ok: list[bool]
+    n_bits: list[int]
+
+
+def _signed(u: np.ndarray, width_bits: int) -> np.ndarray:
+    """Return the signed values (int64) of unsigned ``width_bits`` patterns (uint64), as
+    :func:`ookframe.bits.to_signed` gives them one by one."""
+    if width_bits == 64:
+        return u.view(np.int64)
+    s = u.astype(np.int64)
+    return s - (((s >> (width_bits - 1)) & 1) << width_bits)
 
 
 def _rows_matrix(rows: np.ndarray | Sequence[np.ndarray], width: int
@@ -456,18 +491,27 @@ def _physical(p: FramePlan, raw: Mapping[str, object]) -> dict[str, object]:
     return out
 
 
-def _scaled(raws: list[int], scale: Decimal, offset: Decimal | None) -> list[float]:
-    """Return ``float(Decimal(r) * scale + offset)`` for every raw int ``r``.
+def _scaled(raws: list[int] | np.ndarray, scale: Decimal, offset: Decimal | None
+            ) -> list[float]:
+    """Return ``float(Decimal(r) * scale + offset)`` for every raw int ``r`` (a list, or an
+    int64 / uint64 array).
 
     When every product and sum is exact in the current decimal context (within its
     precision), the value is the exact rational r * scale + offset rounded once to a float,
     which Python's int / int division gives directly (correctly rounded); else Decimal.
+    For an array whose numerators and denominator stay below 2**53, that division is done
+    in float64 array-wide: both operands are then exact floats and IEEE division rounds
+    the same quotient correctly, so the floats are the same.
     """
     off = Decimal(0) if offset is None else offset
     sn, sd = scale.as_integer_ratio()
     on, od = off.as_integer_ratio()
     es, eo = scale.as_tuple().exponent, off.as_tuple().exponent
-    top = max((abs(r) for r in raws), default=0)
+    array = isinstance(raws, np.ndarray)
+    if array:
+        top = max(int(raws.max()), -int(raws.min())) if raws.size else 0
+    else:
+        top = max((abs(r) for r in raws), default=0)
     limit = 10 ** getcontext().prec
     if isinstance(es, int) and isinstance(eo, int):
         cs = abs(int(scale.scaleb(-es)))  # the coefficients: scale = cs * 10**es
@@ -475,8 +519,13 @@ def _scaled(raws: list[int], scale: Decimal, offset: Decimal | None) -> list[flo
         m = min(es, eo)
         if top * cs < limit and top * cs * 10 ** (es - m) + co * 10 ** (eo - m) < limit:
             num_s, num_o, den = sn * od, on * sd, sd * od
-            return [(r * num_s + num_o) / den for r in raws]
-    return [float(Decimal(r) * scale + off) for r in raws]
+            if array and max(top, 1) * abs(num_s) + abs(num_o) < 2**53 and den < 2**53:
+                a = raws.astype(np.int64) * num_s + num_o
+                return (a.astype(np.float64) / float(den)).tolist()
+            values = raws.tolist() if array else raws
+            return [(r * num_s + num_o) / den for r in values]
+    values = raws.tolist() if array else raws
+    return [float(Decimal(r) * scale + off) for r in values]
 
 
 def physical_values(spec: SpecOrPlan, raw: Mapping[str, object]) -> dict[str, object]:

@@ -95,7 +95,27 @@ def test_scaled_values_equal_decimal_arithmetic():
         sc, of = Decimal(rnd.choice(scales)), Decimal(rnd.choice(offsets))
         w = rnd.choice([1, 8, 16, 24, 32, 48, 64])
         raws = [rnd.randrange(-(1 << (w - 1)), 1 << w) for _ in range(20)]
-        assert _scaled(raws, sc, of) == [float(Decimal(r) * sc + of) for r in raws]
+        want = [float(Decimal(r) * sc + of) for r in raws]
+        assert _scaled(raws, sc, of) == want
+        # the array form (as ParsedFrames.columns passes a field's column) gives the same
+        if max(raws) < 1 << 63:
+            assert _scaled(np.array(raws, np.int64), sc, of) == want
+        if min(raws) >= 0:
+            assert _scaled(np.array(raws, np.uint64), sc, of) == want
+
+
+@pytest.mark.parametrize("width", [1, 2, 7, 8, 12, 31, 32, 33, 63, 64])
+def test_signed_column_equals_to_signed(width):
+    """frame._signed of a uint64 column gives bits.to_signed of every pattern (extremes
+    included)."""
+    from ookframe.bits import to_signed
+    from ookframe.frame import _signed
+
+    rng = np.random.default_rng(width)
+    top = (1 << width) - 1
+    u = [0, 1, top, top >> 1, (top >> 1) + 1] + [int(x) & top for x in rng.integers(
+        0, np.iinfo(np.uint64).max, 50, dtype=np.uint64, endpoint=True)]
+    assert _signed(np.array(u, np.uint64), width).tolist() == [to_signed(x, width) for x in u]
 
 
 @pytest.mark.parametrize("name", ["hive_scale.toml", "tank_level.toml", "coldframe_vent.toml"])

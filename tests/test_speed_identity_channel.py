@@ -380,3 +380,22 @@ def test_apply_channel_preset_on_example_trains_is_valid_edge_case():
         for ch in PRESETS.values():
             a = apply_channel(train, ch, np.random.default_rng(4))
             assert a == apply_channel(train, ch, np.random.default_rng(4))
+
+
+@pytest.mark.parametrize("seed", range(20))
+def test_reduced_runs_equal_reduceat(seed):
+    """Reference: np.add.reduceat of the slot weights (what the join summed before the
+    lookup of chip-only runs); long runs past UNIT_SUMS_MAX and runs of several gaps too."""
+    rng = np.random.default_rng(seed)
+    n_slots = int(rng.integers(1, 4000))
+    unit = float(rng.choice([1e6 / 4800, 1e6 / 1200, 0.1, 1 / 3, rng.random() * 1000]))
+    gap_slot = np.unique(np.concatenate(([0], rng.integers(0, n_slots, 1 + n_slots // 20))))
+    gap_us = rng.choice([5000.0, 77.7, 1e-3, rng.random() * 1e4], gap_slot.size)
+    k = int(rng.integers(1, n_slots + 1)) // (50 if seed % 3 == 0 else 1) + 1
+    starts = np.unique(np.concatenate(([0], rng.integers(0, n_slots, k))))
+    weights = np.full(n_slots, unit)
+    weights[gap_slot] = gap_us
+    got = sb._reduced_runs_us(n_slots, starts, unit, gap_slot, gap_us)
+    assert _same(got, np.add.reduceat(weights, starts))
+    if seed % 3 == 0:
+        assert np.diff(starts, append=n_slots).max() > sb.UNIT_SUMS_MAX

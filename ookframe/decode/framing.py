@@ -15,7 +15,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..frame import ParsedFrame, parse_frames, parse_ragged
+from ..frame import FrameColumns, parse_frames, parse_ragged
 from ..linecodes import DecodedBits
 from ..spec.model import FrameSpec
 from .head import HeadModel
@@ -37,13 +37,13 @@ class WindowFrames:
     """Per candidate window: whether a frame was decoded from it and its figures.
 
     Arrays have one entry per window (meaningless where ``found`` is False); ``parsed``
-    holds the fields of the found windows, in window order. Figures as in
+    holds the fields of the found windows, in window order (one entry per found window). Figures as in
     ``DecodedFrame``; ``last`` is the train index of the frame's last measured run;
     ``synced``: the sync word was found (whether or not the body could be read).
     """
 
     found: np.ndarray
-    parsed: list[ParsedFrame]
+    parsed: FrameColumns
     last: np.ndarray
     start_us: np.ndarray
     end_us: np.ndarray
@@ -167,7 +167,7 @@ def _unit_fit(d: np.ndarray, units: np.ndarray, lengths: np.ndarray) -> np.ndarr
 
 
 def _bodies(spec: FrameSpec, hm: HeadModel, st: _Streams, lo: np.ndarray, hi: np.ndarray,
-            body_at: np.ndarray) -> tuple[np.ndarray, list[ParsedFrame], np.ndarray, np.ndarray]:
+            body_at: np.ndarray) -> tuple[np.ndarray, FrameColumns, np.ndarray, np.ndarray]:
     """Return (parsed, their fields, on-air body bits, code errors) for windows whose body
     starts at stream index ``lo + body_at`` (their streams end at ``hi``)."""
     lc = hm.line_code
@@ -175,26 +175,25 @@ def _bodies(spec: FrameSpec, hm: HeadModel, st: _Streams, lo: np.ndarray, hi: np
     if n_fixed is not None:
         ok = hi - lo - body_at >= n_fixed
         at = lo[ok, None] + body_at[ok, None] + np.arange(n_fixed)
-        parsed = parse_frames(hm.plan, st.bits[at]).frames()
+        pf = parse_frames(hm.plan, st.bits[at])  # every row holds the whole body
+        parsed = pf.columns(np.arange(pf.complete.size))
         code = np.zeros(lo.size, np.int64)
         code[ok] = (~st.valid[at]).sum(axis=1)
         return ok, parsed, np.full(lo.size, n_fixed, np.int64), code
     ok = np.zeros(lo.size, bool)
-    parsed: list[ParsedFrame] = []
     n_air = np.zeros(lo.size, np.int64)
     code = np.zeros(lo.size, np.int64)
     starts = lo + body_at
     received, n_rx = lc.unstuff_rows(st.bits[ragged_index(starts, hi - starts)], hi - starts)
     at = np.cumsum(n_rx) - n_rx
-    rows = parse_ragged(hm.plan, received, n_rx).frames() if lo.size else []
-    got = np.array([p is not None for p in rows], bool)
-    i = np.flatnonzero(got)
-    n_bits = np.array([p.n_bits for p in rows if p is not None], np.int64)
+    pr = parse_ragged(hm.plan, received, n_rx)
+    i = np.flatnonzero(pr.complete)
+    n_bits = pr.n_bits[i]
     n = lc.stuff_rows(received[ragged_index(at[i], n_bits)], n_bits)[1]
     whole = n <= hi[i] - starts[i]  # else the stuffed frame runs past the window: cut off
     i, n = i[whole], n[whole]
     ok[i] = True
-    parsed = [rows[k] for k in i.tolist()]
+    parsed = pr.columns(i)
     n_air[i] = n
     # invalid codewords among each frame's own bits (not a running count over every stream)
     frame_of = np.repeat(np.arange(i.size), n)

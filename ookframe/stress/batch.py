@@ -122,9 +122,7 @@ def _run_durations_us(
     below 2**52 of it, every sum is exact in any order, so runs are counted instead."""
     bound = (n_slots - gap_slot.size) * unit_us + float(gap_us.sum())
     if not _sums_exact([unit_us, *np.unique(gap_us).tolist()], bound):
-        weights = np.full(n_slots, unit_us)
-        weights[gap_slot] = gap_us
-        return np.add.reduceat(weights, starts)
+        return _reduced_runs_us(n_slots, starts, unit_us, gap_slot, gap_us)
     durations_us = np.empty(starts.size)  # slots per run, then chips per run, then µs
     np.subtract(starts[1:], starts[:-1], out=durations_us[:-1])
     durations_us[-1] = n_slots - starts[-1]
@@ -133,6 +131,52 @@ def _run_durations_us(
     durations_us *= unit_us
     np.add.at(durations_us, run, gap_us)
     return durations_us
+
+
+#: longest run of chip slots whose sum is looked up in ``_unit_sums_us`` (longer ones, and
+#: runs holding a gap slot, are summed by ``np.add.reduceat`` over their own slots)
+UNIT_SUMS_MAX = 256
+_UNIT_SUMS_US: dict[float, np.ndarray] = {}
+
+
+def _unit_sums_us(unit_us: float) -> np.ndarray:
+    """Return ``np.add.reduceat`` of ``k`` slots of ``unit_us`` at index ``k`` (0 at 0) for
+    ``k`` up to ``UNIT_SUMS_MAX`` (read-only; cached per unit): the sum of a run of ``k``
+    chips as the reduction of its slots gives it (its value depends only on the values
+    summed, in order, not on where they lie)."""
+    sums = _UNIT_SUMS_US.get(unit_us)
+    if sums is None:
+        if len(_UNIT_SUMS_US) >= 8:
+            _UNIT_SUMS_US.clear()
+        k = np.arange(1, UNIT_SUMS_MAX + 1)
+        sums = np.concatenate(([0.0], np.add.reduceat(np.full(int(k.sum()), unit_us),
+                                                      np.cumsum(k) - k)))
+        sums.flags.writeable = False
+        _UNIT_SUMS_US[unit_us] = sums
+    return sums
+
+
+def _reduced_runs_us(n_slots: int, starts: np.ndarray, unit_us: float, gap_slot: np.ndarray,
+                     gap_us: np.ndarray) -> np.ndarray:
+    """Return ``np.add.reduceat`` of the slot weights (``unit_us`` per chip slot, ``gap_us``
+    at the gap slots) at ``starts``, the same floats: runs of chip slots only are looked
+    up by their length (``_unit_sums_us``), the rest (runs holding a gap slot, very long
+    runs) reduced over their own slots laid end to end."""
+    lengths = np.diff(starts, append=n_slots)
+    run = np.searchsorted(starts, gap_slot, side="right") - 1
+    rest = lengths > UNIT_SUMS_MAX
+    rest[run] = True
+    out = _unit_sums_us(unit_us)[np.where(rest, 0, lengths)]
+    r = np.flatnonzero(rest)
+    if r.size:
+        n = lengths[r]
+        weights = np.full(int(n.sum()), unit_us)
+        at = np.cumsum(n) - n  # where each of these runs starts among their slots
+        where = np.zeros(lengths.size, np.int64)
+        where[r] = at - starts[r]
+        weights[gap_slot + where[run]] = gap_us
+        out[r] = np.add.reduceat(weights, at)
+    return out
 
 
 def _sums_exact(values: list[float], bound: float) -> bool:
