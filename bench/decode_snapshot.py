@@ -1,4 +1,6 @@
-"""Decoder equality across a speed change: every example spec through every channel
+"""Decoder snapshot, to hold a speed change to the same frames (the decoder against its
+own earlier output; bench/decoder_equality.py compares it with the pre-rewrite decoder):
+every example spec through every channel
 preset and two uniform-jitter cases, fixed seeds; the decoded frames (every field of every
 ``DecodedFrame``, floats as exact hex), and per example the stress tallies
 (``match_frames``) of a few chunks through the budget preset. The trains are made here
@@ -6,8 +8,8 @@ from ``random_raw_batch`` (not ``run_stress``, whose chunking and draws may chan
 
 Save a snapshot with the tree before a change, then check the tree after it against it:
 
-    python bench/decode_equality.py --save /tmp/decode_before.json
-    python bench/decode_equality.py --check /tmp/decode_before.json
+    python bench/decode_snapshot.py --save /tmp/decode_before.json
+    python bench/decode_snapshot.py --check /tmp/decode_before.json
 
 ``--check`` prints, per case, the frames decoded and whether they are equal, and the
 ratio of this run's decode time to the saved one's (both on this machine; noisy under load).
