@@ -379,10 +379,12 @@ def test_decoder_c_without_compiler_is_a_clear_error(monkeypatch, tmp_path, caps
     assert "Traceback" not in e
 
 
-def _one_edge_moved(spec, rng, shift_units: float):
+def _one_edge_moved(spec, rng, shift_units: float, after_level: int | None = None,
+                    edges: int = 1):
     """A clean train of ``spec`` with one edge inside the first copy's body moved by
     ``shift_units`` (past halfway to the next grid point, so its hard decision is wrong),
-    or None when the two pulses it bounds would get too short."""
+    or None when the two pulses it bounds would get too short. ``after_level``: only an
+    edge ending a pulse of that level; ``edges``: that many edges moved, apart."""
     from ookframe.decode.head import build_head
 
     t = encode(spec, random_values(spec, rng))
@@ -391,14 +393,22 @@ def _one_edge_moved(spec, rng, shift_units: float):
     body_us = build_head(spec).body_chip * u
     gaps = np.flatnonzero(t.durations_us > 10 * u)
     stop = int(gaps[0]) if gaps.size else t.durations_us.size
-    edges = np.flatnonzero((ends[:-1] > body_us + u) & (np.arange(ends.size - 1) < stop - 2))
-    j = int(rng.choice(edges))
+    where = (ends[:-1] > body_us + u) & (np.arange(ends.size - 1) < stop - 2)
+    if after_level is not None:
+        where &= t.levels[:-1] == after_level
     d = t.durations_us.astype(float)
-    sh = float(rng.choice([-1.0, 1.0])) * shift_units * u
-    if min(d[j] + sh, d[j + 1] - sh) < 0.5 * u:
-        return None
-    d[j] += sh
-    d[j + 1] -= sh
+    if edges == 1:
+        picks = [int(rng.choice(np.flatnonzero(where)))]
+    else:
+        picks = sorted(int(j) for j in rng.choice(np.flatnonzero(where), edges, replace=False))
+        if min(np.diff(picks)) < 3:
+            return None
+    for j in picks:
+        sh = float(rng.choice([-1.0, 1.0])) * shift_units * u
+        if min(d[j] + sh, d[j + 1] - sh) < 0.5 * u:
+            return None
+        d[j] += sh
+        d[j + 1] -= sh
     return PulseTrain(t.levels, d)
 
 
@@ -487,6 +497,127 @@ def test_recovery_switched_off(name):
         assert len(got) == spec.repeats - 1 and len(every) == spec.repeats  # one failed check
         lost += 1
     assert lost >= 3  # the trains do need the recovery
+
+
+#: mark-space bed specs with a check that leaves safe flips (base_doc: CRC-16/KERMIT over
+#: sync + fields, 2 flips, 16 trials): pulse width 1:2 and 2:3, where a moved edge changes
+#: a mark and a space by one unit each and both stay allowed lengths
+PWM_BEDS = [{"name": "pwm"}, {"name": "pwm", "short_units": 2, "long_units": 3}]
+
+
+def _frames(frames) -> list[tuple[str, bool, int]]:
+    return [(f.payload_hex, f.crc_ok, f.corrected) for f in frames]
+
+
+@needs_gcc
+@pytest.mark.parametrize("lc", PWM_BEDS, ids=lambda d: "-".join(map(str, d.values())))
+def test_mark_space_recovery_matches_reference(lc):
+    """Pulse width with CRC-16/KERMIT: trains with one body edge ending a mark moved 0.62
+    unit (the mark a unit off, the space after it a unit off the other way, 0.38 unit off
+    the grid), numpy PCG64 seed 3: the C receiver returns the reference decoder's frames
+    (payload, check, ``corrected``) on every train, and the reference does correct some
+    (``corrected`` = 1); the same trains unmoved come out with ``corrected`` = 0. The
+    reference is ``ookframe.decode`` of this repository."""
+    spec = spec_from_dict(base_doc(lc))
+    e = emit_header(spec, side="rx")
+    assert (e.model.rx.recovery_flips, e.model.rx.recovery_trials) == (2, 16)
+    rng = np.random.default_rng(3)
+    corrected = 0
+    for _ in range(40):
+        train = _one_edge_moved(spec, rng, 0.62, after_level=1)
+        if train is None:
+            continue
+        ref = decode(spec, train, include_bad=True)
+        assert _frames(decode_c(spec, train)) == _frames(ref)
+        corrected += sum(f.corrected == 1 for f in ref)
+    assert corrected >= 3  # the trains do exercise the recovery
+    rng = np.random.default_rng(3)
+    for _ in range(4):
+        train = _one_edge_moved(spec, rng, 0.0, after_level=1)
+        got = decode_c(spec, train)
+        assert _frames(got) == _frames(decode(spec, train, include_bad=True))
+        assert len(got) == spec.repeats and all(f.crc_ok and f.corrected == 0 for f in got)
+    print(f"{lc}: {corrected} corrected frames agree with the reference")
+
+
+@needs_gcc
+def test_mark_space_recovery_limits():
+    """Pulse width 1:2 with CRC-16/KERMIT (2 flips), numpy PCG64 seed 3: with two mark ends
+    moved 0.62 unit the C receiver passes the reference decoder's frames, ``corrected`` = 2
+    included where the reference corrects the copy; with three (more than the flips) both
+    lose the copy holding them (the same passing frames, one copy fewer). Built with
+    <PREFIX>_RX_RECOVERY 0 the C loses a copy the reference corrects, as the reference does
+    with ``decoder.max_flips`` = 0. The reference is ``ookframe.decode`` of this repository."""
+    import dataclasses
+
+    spec = spec_from_dict(base_doc({"name": "pwm"}))
+    off = dataclasses.replace(spec, decoder=dataclasses.replace(spec.decoder, max_flips=0))
+    rx_off = host_receiver(spec, NO_RECOVERY)
+    rng = np.random.default_rng(3)
+    two = lost = switched = 0
+    for edges in (2, 3):
+        for _ in range(25):
+            train = _one_edge_moved(spec, rng, 0.62, after_level=1, edges=edges)
+            if train is None:
+                continue
+            ref = [f for f in decode(spec, train) if f.crc_ok]
+            got = [f for f in decode_c(spec, train) if f.crc_ok]
+            assert _frames(got) == _frames(ref)
+            if edges == 2:
+                two += sum(f.corrected == 2 for f in ref)
+                if any(f.corrected for f in ref):
+                    plain = [f for f in rx_off.decode(train) if f.crc_ok]
+                    assert _frames(plain) == _frames([f for f in decode(off, train) if f.crc_ok])
+                    assert len(plain) == spec.repeats - 1
+                    switched += 1
+            else:
+                assert len(ref) == spec.repeats - 1
+                lost += 1
+    assert two >= 3 and lost >= 3 and switched >= 3
+
+
+@needs_gcc
+def test_pulse_distance_gets_no_recovery_as_the_reference():
+    """Pulse distance (every mark one length) with CRC-16/KERMIT: every edge bounds a mark,
+    so no edge can move a unit with both pulses keeping allowed lengths; the reference
+    decoder's recovery never moves one (``corrected`` = 0 on trains with one body edge
+    moved 0.62 or 1.1 unit, numpy PCG64 seed 3) and the receiver is emitted without it
+    (its header says why), passing the reference's frames on the 0.62-unit trains."""
+    spec = spec_from_dict(base_doc({"name": "pulse_distance"}))
+    e = emit_header(spec, side="rx")
+    assert e.model.rx.recovery_flips == 0 and "no edge of this code can move" in e.text
+    rng = np.random.default_rng(3)
+    for shift in (0.62, 1.1):
+        for _ in range(10):
+            train = _one_edge_moved(spec, rng, shift)
+            if train is None:
+                continue
+            ref = decode(spec, train, include_bad=True)
+            assert all(f.corrected == 0 for f in ref)
+            if shift < 1.0:  # (past a unit the two read different frames: not the recovery)
+                got = decode_c(spec, train)
+                assert _frames([f for f in got if f.crc_ok]) \
+                    == _frames([f for f in ref if f.crc_ok])
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("recovery", ["1", "0"])
+@pytest.mark.parametrize("tool,flags", [("gcc", ("-c",)), ("clang", ("-c",)),
+                                        ("avr-gcc", (*AVR_FLAGS, "-c"))])
+def test_strict_compile_mark_space_recovery(tmp_path, tool, flags, recovery):
+    """The pulse-width bed spec's receiver (with the recovery, and with <PREFIX>_RX_RECOVERY
+    0) compiles clean under the strict warning set on gcc, clang and avr-gcc."""
+    cc = find_tool(tool)
+    if cc is None:
+        pytest.skip(f"{tool} not installed")
+    e = emit_header(spec_from_dict(base_doc(PWM_BEDS[0])), side="rx")
+    assert e.model.rx.recovery_flips
+    (tmp_path / e.filename).write_text(e.text)
+    src = tmp_path / "t.c"
+    src.write_text(f'#include "{e.filename}"\n')
+    P = e.model.PREFIX
+    compile_c(cc, [src], tmp_path / "t.o", flags=(*STRICT_FLAGS, *flags), include_dirs=[tmp_path],
+              defines={f"{P}_IMPLEMENTATION": None, f"{P}_RX_RECOVERY": recovery})
 
 
 @needs_gcc

@@ -293,6 +293,14 @@ def _pairs(code: CodeTable, allowed: tuple[tuple[int, ...], tuple[int, ...]]
     return marks, spaces, tuple(tuple(r) for r in table), mark_only
 
 
+def _pair_edge_moves(allowed: tuple[tuple[int, ...], tuple[int, ...]]) -> bool:
+    """True if some edge of a mark-space code can move one unit with both pulses it bounds
+    (a mark and a space) keeping allowed lengths: the recovery's only candidates."""
+    marks, spaces = allowed[1], allowed[0]
+    return any(m + d in marks and s - d in spaces
+               for m in marks for s in spaces for d in (1, -1))
+
+
 def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
     """Return the receiver values of ``plan`` (CodegenError naming what is unsupported)."""
     from ..decode.head import head_model  # the decoder pulls in scipy: only when needed
@@ -377,18 +385,25 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
     # check-aided recovery: the reference decoder's limits (decode.framer)
     from ..decode import framer
 
-    flips = min(spec.decoder.max_flips, framer.safe_flips(spec)) if family == "chips" else 0
+    flips = min(spec.decoder.max_flips, framer.safe_flips(spec))
     trials = int(2.0 ** spec.check.width_bits * framer.RECOVERY_FALSE_ACCEPT) \
         if spec.check.kind != "none" else 0
-    if flips == 0 or trials == 0:
-        why = ("mark-space codes get none in C" if family == "pairs" and trials
-               and framer.safe_flips(spec) and spec.decoder.max_flips
-               else "the check's Hamming distance and width leave no safe flips")
+    if family == "pairs" and flips and trials and not _pair_edge_moves(allowed):
+        why = ("no edge of this code can move a unit with the mark and the space it bounds "
+               "keeping allowed lengths (the reference decoder moves none either)")
+        flips = trials = 0
+    elif flips == 0 or trials == 0:
+        why = "the check's Hamming distance and width leave no safe flips"
         flips = trials = 0
     else:
         why = ""
     raw_bits = body_max + lc.max_stuffed_bits(body_max)
-    raw_chips = (raw_bits + k - 1) // k * cpb_out + cpb_out if flips else 0
+    # chips of one block (and one block more: the pulses after the frame's end a
+    # corrected frame may still need); mark-space codes: the longest (mark, space) pair
+    block_chips = cpb_out if family == "chips" else max(sum(w.runs_units) for w in code.words)
+    if family == "pairs" and code.trailer is not None:
+        block_chips += sum(code.trailer.runs_units)
+    raw_chips = (raw_bits + k - 1) // k * block_chips + block_chips if flips else 0
     if raw_chips > 65535:
         raise CodegenError(f"frames of up to {raw_chips} body chips; the C receiver's "
                            "check-aided recovery handles 65535")
