@@ -251,6 +251,28 @@ def test_ram_stated_in_the_header_holds_on_the_avr(tmp_path, name):
     assert 0 < ram <= emitted.model.rx.ram_bytes and flash > 0
 
 
+def test_ram_stated_in_the_header_holds_with_mark_space_recovery(tmp_path):
+    """As above for the pulse-width bed with the check-aided recovery (greenhouse_probe at
+    1:2 with CRC-16/KERMIT, tests.test_codegen_rx.pwm_bed_file): the measured RAM is at most
+    the header's figure with the recovery, and at most its figure without it when built
+    with <PREFIX>_RX_RECOVERY 0 (which measures less)."""
+    from ookframe.spec_io import load_spec_and_defaults
+    from tests.test_codegen_rx import pwm_bed_file
+
+    spec, defaults = load_spec_and_defaults(pwm_bed_file(tmp_path))
+    emitted = emit_header(spec, side="rx")
+    rx = emitted.model.rx
+    assert rx.recovery_flips == 2
+    assert f"RAM: about {rx.ram_bytes} bytes" in emitted.text
+    assert f"({rx.ram_bytes_plain} with {emitted.model.PREFIX}_RX_RECOVERY 0)" in emitted.text
+    _, ram = avr_rx.receiver_sizes(emitted, defaults, tmp_path)
+    _, plain = avr_rx.receiver_sizes(emitted, defaults, tmp_path,
+                                     extra_defines={f"{emitted.model.PREFIX}_RX_RECOVERY": "0"})
+    print(f"pwm bed: receiver RAM {ram} B (header {rx.ram_bytes}), {plain} B without the "
+          f"recovery (header {rx.ram_bytes_plain})")
+    assert 0 < plain < ram <= rx.ram_bytes and plain <= rx.ram_bytes_plain
+
+
 def test_readme_receiver_snippet_runs(tmp_path):
     """The README's pasteable AVR receiver firmware (at most 20 lines: the header's
     <PREFIX>_RX_AVR_ICP1 ISRs) compiles with avr-gcc and the strict warning set against the

@@ -620,6 +620,56 @@ def test_strict_compile_mark_space_recovery(tmp_path, tool, flags, recovery):
               defines={f"{P}_IMPLEMENTATION": None, f"{P}_RX_RECOVERY": recovery})
 
 
+def pwm_bed_file(directory):
+    """greenhouse_probe as a bed for the mark-space recovery: pulse width 1:2 (a moved edge
+    keeps both pulses allowed lengths) and CRC-16/KERMIT over its 24 field bits (2 flips,
+    16 trials); written to ``directory``, its path returned."""
+    text = _example_path("greenhouse_probe.toml").read_text()
+    for old, new in (('long_units = 3', 'long_units = 2'),
+                     ('model = "CRC-8/SMBUS"', 'model = "CRC-16/KERMIT"')):
+        assert old in text
+        text = text.replace(old, new)
+    path = directory / "greenhouse_bed.toml"
+    path.write_text(text)
+    return path
+
+
+@pytest.mark.slow
+@needs_gcc
+def test_queue_fuzz_sanitized_mark_space_recovery(tmp_path):
+    """test_queue_fuzz_sanitized's 60 000 random and adversarial edges (seed 7) through the
+    pulse-width bed's receiver with its recovery (pwm_bed_file), built with gcc
+    -fsanitize=address,undefined: no sanitizer report, the invariants (chip counts and
+    recovery candidates included) hold after every edge, the queue did overrun."""
+    import os
+    import sys
+    from pathlib import Path
+
+    from ookframe.codegen.host_rx import build_host_receiver
+    from ookframe.spec_io import load_spec
+
+    asan = subprocess.run([GCC, "-print-file-name=libasan.so"], capture_output=True,
+                          text=True).stdout.strip()
+    if not asan or not Path(asan).is_file():
+        pytest.skip("gcc has no libasan")
+    path = pwm_bed_file(tmp_path)
+    spec = load_spec(path)
+    assert emit_header(spec, side="rx").model.rx.recovery_flips == 2
+    lib = build_host_receiver(spec, sanitize=True)
+    env = dict(os.environ, LD_PRELOAD=asan, ASAN_OPTIONS="detect_leaks=0",
+               UBSAN_OPTIONS="halt_on_error=1:print_stacktrace=1")
+    root = Path(__file__).resolve().parents[1]
+    proc = subprocess.run([sys.executable, "-m", "tests.rx_fuzz_driver", str(path), str(lib),
+                           "60000", "7"], capture_output=True, text=True, timeout=300,
+                          env=env, cwd=root)
+    assert proc.returncode == 0, (proc.stdout + proc.stderr)[-3000:]
+    assert "runtime error" not in proc.stderr
+    assert "AddressSanitizer" not in proc.stderr
+    words = proc.stdout.split()
+    assert int(words[1]) >= 60000 and int(words[5]) > 0
+    print(f"rx sanitized queue fuzz pwm bed: {proc.stdout.strip()}")
+
+
 @needs_gcc
 @pytest.mark.parametrize("offset,builds", [(0.3, True), (0.5, True), (0.2, False)])
 def test_candidate_cost_range_is_asserted(tmp_path, monkeypatch, offset, builds):
@@ -648,7 +698,7 @@ def test_candidate_cost_range_is_asserted(tmp_path, monkeypatch, offset, builds)
 
 @needs_gcc
 def test_recovery_switch_refused_without_recovery(tmp_path):
-    """A spec whose receiver has no recovery (gate_sensor, mark-space) stops the build with
+    """A spec whose receiver has no recovery (gate_sensor: an 8-bit checksum) stops the build with
     <PREFIX>_RX_RECOVERY 1 (#error naming why) and builds with 0."""
     e = emit_header(example_spec("gate_sensor.toml"), side="rx")
     assert e.model.rx.recovery_flips == 0

@@ -36,16 +36,26 @@ timer ticks of the pulse that just ended) and decides as the reference decoder d
 ``_rx_poll`` (called by ``_rx_ready`` and ``_rx_take``) in the main loop, so the capture
 ISR stays a few tens of cycles on an 8-bit MCU.
 
-Check-aided recovery (``decode.framer``'s rules, fixed-chip codes): in the body the
-receiver keeps the ``RECOVERY_EDGES`` least reliable edges (at least
+Check-aided recovery (``decode.framer``'s rules, every code the receiver decodes): in the
+body the receiver keeps the ``RECOVERY_EDGES`` least reliable edges (at least
 ``RECOVERY_MIN_OFFSET`` unit off their grid point, both pulses they bound still of
 allowed lengths if the edge moves to the grid point on its other side) and the frame's
-chips; ``_rx_take`` tries, for a frame whose check fails, up to ``recovery_trials``
-combinations of at most ``recovery_flips`` of those edges moved (fewest first, then least
-reliable), re-decoding the chips each time, and takes the first whose check passes
-(``corrected``: edges moved). The limits are the reference's: flips = min(max_flips,
-HD - 2), trials = 2**w / 4096 for a w-bit check. Unlike the reference it ranks body edges
-only (moving a preamble edge cannot change the body). Mark-space codes get no recovery.
+chips (a pulse of n units: n chips of its level); ``_rx_take`` tries, for a frame whose
+check fails, up to ``recovery_trials`` combinations of at most ``recovery_flips`` of those
+edges moved (fewest first, then least reliable), re-decoding the chips each time, and
+takes the first whose check passes (``corrected``: edges moved). Fixed-chip codes decode
+the chips per block as the ISR's decisions do; mark-space codes read them again as runs,
+a block per (mark, space) pair, a last mark as one whose space ran into the gap: a moved
+edge makes one mark and the space beside it a unit longer and shorter, so it changes the
+pair holding both (a mark's end) or two pairs (a space's end), as in the reference. The
+limits are the reference's: flips = min(max_flips, HD - 2), trials = 2**w / 4096 for a
+w-bit check; a mark-space code none of whose edges can move with both pulses keeping
+allowed lengths (pulse distance: one mark length; pulse width with long - short > 1) gets
+no recovery, the reference moving none either. Unlike the reference it ranks body edges
+only (moving a preamble edge cannot change the body), and the C's pulse decisions differ
+from the reference's where a pulse lies past the longest run (the C takes the nearest
+allowed length, the reference holds the grid length and repairs it): there the two may
+correct different frames.
 """
 
 from __future__ import annotations
