@@ -13,6 +13,7 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.lib.stride_tricks import sliding_window_view
 
+from ookframe.decode import framing
 from ookframe.decode.framer import DecodedFrame
 from ookframe.decode.head import HeadModel
 from ookframe.decode.windows import WindowRuns, Windows
@@ -262,6 +263,18 @@ def _frame_from(spec: FrameSpec, hm: HeadModel, w: _Window, cands: list[DecodedB
         unit_us = float(d.sum() / w.units[measured].sum())
     else:
         unit_us = w.unit_us(w.n_prefix)
+    # the start counted back from the sync word's measured edges (median), where it
+    # differs from the one counted on from the window's first pulse by over a unit
+    lock_unit = unit_us if np.isfinite(unit_us) and unit_us > 0 else w.unit0_us
+    c_sync = c_start + hm.sync_chip
+    runs = np.arange(w.n_prefix, w.levels.size)
+    runs = runs[(w.chip0[runs] >= c_sync) & (w.chip0[runs] <= c_sync + hm.body_chip
+                                               - hm.sync_chip)]
+    if runs.size:
+        est = w.t0[w.first + runs - w.n_prefix] - (w.chip0[runs] - c_sync) * lock_unit
+        sync_us = float(np.median(est)) - hm.sync_chip * lock_unit
+        if abs(start_us - sync_us) > framing.SYNC_LOCK_UNITS * w.unit0_us:
+            start_us = sync_us
     frame = DecodedFrame(
         fields=parsed.fields,
         raw=parsed.raw,

@@ -165,15 +165,7 @@ def decode(spec: Receiver, train: PulseTrain, *,
         if flips > 0 and failing:
             frames = [f if f.crc_ok else _recover(spec, hm, ctx, k, flips) or f
                       for f, k in found]
-        failed = [k for f, (_, k) in zip(frames, found, strict=True) if not f.crc_ok]
-        if failed:
-            other, _ = _decode_clean(spec, hm, clean, cw.bursts_of(failed), grid=False)
-            frames = _second_opinion(spec, frames, [f for f, _ in other])
-        if ctx.doubtful.size:  # a pass of its own: its frames never block those above
-            other, _ = _decode_clean(spec, hm, clean, cw.bursts_of(ctx.doubtful.tolist()),
-                                     grid=False)
-            frames = _doubtful_opinion(frames, [f for f, _ in other],
-                                       cw.t0[cw.first[ctx.doubtful]])
+        frames = _track_opinions(spec, hm, clean, cw, frames, found, ctx)
     if ctx.unparsed_us.size or not all(f.crc_ok for f in frames):
         frames = _tail_opinion(spec, hm, train, frames, ctx)
     frames = _low_filter_opinion(spec, hm, train, clean, cw, frames)
@@ -249,6 +241,26 @@ def _recover(spec: FrameSpec, hm: HeadModel, ctx: _Context, k: int, max_flips: i
         if got is not None and got[0].crc_ok:
             return dataclasses.replace(got[0], corrected=len(combo))
     return None
+
+
+def _track_opinions(spec: FrameSpec, hm: HeadModel, clean: PulseTrain,
+                    cw: _CandidateWindows, frames: list[DecodedFrame],
+                    found: list[tuple[DecodedFrame, int]], ctx: _Context
+                    ) -> list[DecodedFrame]:
+    """Return ``frames`` (one per frame of the grid reading ``found`` of ``clean``, after
+    any recovery) with the duration-by-duration readings joined: the second opinion over
+    the bursts of the frames whose check still fails, then the doubtful windows' own
+    pass (:func:`_doubtful_opinion`)."""
+    failed = [k for f, (_, k) in zip(frames, found, strict=True) if not f.crc_ok]
+    if failed:
+        other, _ = _decode_clean(spec, hm, clean, cw.bursts_of(failed), grid=False)
+        frames = _second_opinion(spec, frames, [f for f, _ in other])
+    if ctx.doubtful.size:  # a pass of its own: its frames never block those above
+        other, _ = _decode_clean(spec, hm, clean, cw.bursts_of(ctx.doubtful.tolist()),
+                                 grid=False)
+        frames = _doubtful_opinion(frames, [f for f, _ in other],
+                                   cw.t0[cw.first[ctx.doubtful]])
+    return frames
 
 
 def _second_opinion(spec: FrameSpec, frames: list[DecodedFrame], other: list[DecodedFrame]
@@ -333,8 +345,12 @@ def _read_pieces(spec: FrameSpec, hm: HeadModel, cuts: CutTrains, min_us: float
     cw = _windows(hm, clean, spec.unit_us)
     if cw is None:
         return []
+    found, ctx = _decode_clean(spec, hm, clean, cw, grid=True)
+    frames = [f for f, _ in found]
+    if spec.check.kind != "none":  # the duration-by-duration readings, as in ``decode``
+        frames = _track_opinions(spec, hm, clean, cw, frames, found, ctx)
     out = []
-    for f, _ in _decode_clean(spec, hm, clean, cw, grid=True)[0]:
+    for f in frames:
         k = int(np.searchsorted(cuts.start_us, f.start_us + PIECE_SLACK_UNITS * spec.unit_us)) - 1
         if f.crc_ok and k >= 0:
             out.append((f, k))

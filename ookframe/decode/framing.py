@@ -233,6 +233,42 @@ def _start_chips(hm: HeadModel, st: _Streams, runs: WindowRuns, lo: np.ndarray,
     return np.maximum.reduceat(v, _starts(pos + 1)) - base + pos // bpb * cpb - hm.sync_chip
 
 
+#: a frame's start counted from the window's first pulse is replaced by the one counted
+#: back from its sync word when they differ by more than this many units: more than two
+#: edges can move apart under edge jitter below +-50 % of a unit, so the chip count of the
+#: head between them is wrong
+SYNC_LOCK_UNITS = 1.0
+
+
+def _sync_start_us(hm: HeadModel, runs: WindowRuns, rs: np.ndarray, nr: np.ndarray,
+                   base: np.ndarray, c_sync: np.ndarray, t0: np.ndarray, first: np.ndarray,
+                   unit_us: np.ndarray) -> np.ndarray:
+    """Return per frame its start as the sync word puts it: the median over the measured
+    edges of the sync word (its first chip ``c_sync`` to the body's, chips from the
+    window's ``base``) of the edge's time less its chips from the sync's first, less the
+    head's chips before the sync as sent, at ``unit_us``; NaN where none is measured.
+    One misplaced edge (a pulse merged with a neighbour the glitch filter dropped) does
+    not move the median."""
+    n_pre = runs.n_prefix
+    lo = np.searchsorted(runs.chip0, c_sync + base, side="left") - rs
+    hi = np.searchsorted(runs.chip0, c_sync + base + (hm.body_chip - hm.sync_chip),
+                         side="right") - rs
+    lo, hi = np.maximum(lo, n_pre), np.minimum(hi, nr)
+    cnt = np.maximum(hi - lo, 0)
+    seg = np.repeat(np.arange(cnt.size), cnt)
+    r = ragged_index(lo, cnt)  # measured runs of the sync word, per frame
+    chips = runs.chip0[rs[seg] + r] - base[seg] - c_sync[seg]
+    est = t0[first[seg] + r - n_pre] - chips * unit_us[seg]
+    order = np.lexsort((est, seg))
+    start = np.cumsum(cnt) - cnt
+    est = est[order]
+    out = np.full(cnt.size, np.nan)
+    m = cnt > 0
+    mid = (est[start[m] + (cnt[m] - 1) // 2] + est[start[m] + cnt[m] // 2]) / 2
+    out[m] = mid - hm.sync_chip * unit_us[m]
+    return out
+
+
 def frame_windows(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,
                   cands: list[DecodedBits], dur: np.ndarray, t0: np.ndarray) -> WindowFrames:
     """Return the frame decoded from every window (any layout).
@@ -305,6 +341,10 @@ def frame_windows(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,
     unit = np.where(cnt >= 2, _unit_fit(d, units, cnt),
                     np.where(cnt == 1, _segment_sums(d, cnt) / np.maximum(
                         _segment_sums(units, cnt), 1), ws.unit_us[off]))
+
+    sync_us = _sync_start_us(hm, runs, rs, nr, base, c_start + hm.sync_chip, t0, first,
+                             np.where(np.isfinite(unit) & (unit > 0), unit, unit0))
+    start_us = np.where(np.abs(start_us - sync_us) > SYNC_LOCK_UNITS * unit0, sync_us, start_us)
 
     def full(values: np.ndarray, dtype: type) -> np.ndarray:
         out = np.zeros(n_win, dtype)
