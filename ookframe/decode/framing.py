@@ -238,6 +238,10 @@ def _start_chips(hm: HeadModel, st: _Streams, runs: WindowRuns, lo: np.ndarray,
 #: edges can move apart under edge jitter below +-50 % of a unit, so the chip count of the
 #: head between them is wrong
 SYNC_LOCK_UNITS = 1.0
+#: the lock steps back over the head at the frame's fitted unit, or at the head's where
+#: the frame's is further than this fraction from the sync edges' own slope and the
+#: head's nearer (a misread run late in the frame bends the frame's fit)
+SYNC_UNIT_SLACK = 0.01
 
 
 def _sync_chips(hm: HeadModel, st: _Streams, runs: WindowRuns, lo: np.ndarray,
@@ -249,10 +253,11 @@ def _sync_chips(hm: HeadModel, st: _Streams, runs: WindowRuns, lo: np.ndarray,
     if lc.chips_per_block is None:
         return runs.chip0[st.run[lo + pos]] - base
     cpb, bpb, n = int(lc.chips_per_block), lc.bits_per_block, hm.sync_bits.size
-    # the phase is exact only if a block of the sync as sent starts a run (a block's first
-    # chip lies in its run: each bit bounds the phase from below); else the whole head's
+    # a block's first chip lies in its run, so each bit bounds the phase from below: its
+    # own bits pin it where every block of the sync as sent starts a run (PWM); else the
+    # whole head's phase (Manchester: a 1 after a 0 starts inside the 0's run)
     blocks = hm.sync_chip + np.arange(-(-n // bpb)) * cpb
-    if not np.isin(blocks, np.cumsum(hm.units) - hm.units).any():
+    if not np.isin(blocks, np.cumsum(hm.units) - hm.units).all():
         return _start_chips(hm, st, runs, lo, pos, base) + hm.sync_chip
     i = ragged_index(lo + pos, np.full(pos.size, n))
     bit = i - np.repeat(lo, n)  # bit index from the window's first
@@ -266,10 +271,11 @@ def _sync_start_us(hm: HeadModel, runs: WindowRuns, rs: np.ndarray, nr: np.ndarr
     """Return per frame its start as the sync word puts it: the median over the measured
     edges of the sync word (its first chip ``c_sync`` to the body's, chips from the
     window's ``base``) of the edge's time less its chips from the sync's first, less the
-    head's chips before the sync as sent; NaN where none is measured. The unit: of the
-    two ``units_us`` (the head's fit, the frame's), the one nearer the slope of the sync's
-    own edges (least squares), so a misread run outside the sync that bent one of them
-    does not carry into the long step back over the head. One misplaced edge (a pulse
+    head's chips before the sync as sent; NaN where none is measured. The unit: the
+    frame's fit (``units_us`` = (the head's, the frame's)), or the head's where
+    ``SYNC_UNIT_SLACK`` says (the sync's own slope, least squares over its edges, is too
+    noisy to step back over the head with), so a misread run outside the sync that bent
+    one of them does not carry into the long step back. One misplaced edge (a pulse
     merged with a neighbour the glitch filter dropped) does not move the median."""
     n_pre = runs.n_prefix
     lo = np.searchsorted(runs.chip0, c_sync + base, side="left") - rs
@@ -291,7 +297,10 @@ def _sync_start_us(hm: HeadModel, runs: WindowRuns, rs: np.ndarray, nr: np.ndarr
     with np.errstate(divide="ignore", invalid="ignore"):
         own = (n * sct - sc * st) / (n * scc - sc * sc)
     head, frame = units_us
-    unit = np.where(np.abs(frame - own) < np.abs(head - own), frame, head)
+    off = np.abs(frame - own)
+    unit = np.where(np.isfinite(frame) & (frame > 0) & ~((off > SYNC_UNIT_SLACK * frame)
+                                                         & (np.abs(head - own) < off)),
+                    frame, head)
     est = t - chips * unit[seg]
     order = np.lexsort((est, seg))
     est = est[order]
