@@ -7,7 +7,7 @@ pulse train, go through ookframe's channel model (``apply_channel`` with a prese
 bias, quench grid, jitter, idle noise before the burst) and then drive ICP1 = PB0 of the
 receiver board, tests/c/avr/rx_firmware.c with the generated receiver, at exact cycles
 (tests/c/avr_rx.py). The fields the receiver reports must be the ones sent. Both boards
-use one header (``emit --side rx`` holds both sides).
+use one header (``emit --side both``).
 """
 
 from __future__ import annotations
@@ -62,7 +62,7 @@ def test_loopback_through_the_channel(tmp_path, name):
     every transmission comes back with the fields sent, in order (the C receiver loses no
     copy on this preset, README's measured table)."""
     spec, defaults = example_spec(name)
-    emitted = emit_header(spec, side="rx")
+    emitted = emit_header(spec, side="both")
     trains, sent_raw = _send(spec, emitted, "budget-superregen", np.random.default_rng(5),
                              tmp_path)
     rx = avr_rx.run_receiver(emitted, defaults, trains, tmp_path)
@@ -77,7 +77,7 @@ def test_loopback_at_the_edge_of_range(tmp_path, name):
     receiver reports is one that was sent, in order, and each transmission gets through
     (3 and 5 repeats)."""
     spec, defaults = example_spec(name)
-    emitted = emit_header(spec, side="rx")
+    emitted = emit_header(spec, side="both")
     trains, sent_values = _send(spec, emitted, "edge-of-range-superregen",
                                 np.random.default_rng(7), tmp_path)
     rx = avr_rx.run_receiver(emitted, defaults, trains, tmp_path)

@@ -49,8 +49,10 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    "hold it); stream: the streaming tx_next only (least RAM, for long frames); "
                    "auto (default): buffer when possible, else stream")
     p.add_argument("--side", choices=("tx", "rx", "both"), default="tx",
-                   help="tx: the transmitter (default); rx / both: the transmitter plus the "
-                   "receiver (<PREFIX>_rx_*, behind <PREFIX>_WANT_RX, default on)")
+                   help="tx: the transmitter (default); both: the transmitter plus the "
+                   "receiver (<PREFIX>_rx_*), each behind a guard (<PREFIX>_WANT_TX, "
+                   "<PREFIX>_WANT_RX, default 1); rx: the same header with <PREFIX>_WANT_TX "
+                   "defaulting to 0 (a receive-only build)")
     p.add_argument("--force", action="store_true", help="overwrite an existing header")
     common.add_json_argument(p)
 

@@ -116,6 +116,9 @@ def _exit(code: int) -> int:
 
 
 def run() -> None:  # pragma: no cover - console script shim
+    from ..stress.allocator import keep_freed_memory
+
+    keep_freed_memory()  # this process is ookframe's own: long runs reuse freed blocks
     sys.exit(main())
 
 

@@ -70,7 +70,8 @@ class Emitted:
 def emit_header(spec: FrameSpec | FramePlan, target: TimerTarget | None = None, *,
                 side: str = "tx") -> Emitted:
     """Return the generated header for ``spec`` (CodegenError when it cannot be made);
-    ``side`` "rx" / "both" adds the receiver behind ``<PREFIX>_WANT_RX``."""
+    ``side`` "rx" / "both" adds the receiver behind ``<PREFIX>_WANT_RX`` and the
+    transmitter behind ``<PREFIX>_WANT_TX`` (default 0 for "rx": a receive-only build)."""
     require_spec(spec, "spec")
     if target is not None:
         require(target, TimerTarget, "target")

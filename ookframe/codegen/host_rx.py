@@ -207,21 +207,26 @@ SANITIZE_FLAGS = ("-O1", "-g", "-fno-omit-frame-pointer", "-fsanitize=address,un
                   "-fno-sanitize-recover=all")
 
 
-def build_host_receiver(spec: FrameSpec, *, sanitize: bool = False) -> Path:
+def build_host_receiver(spec: FrameSpec, *, sanitize: bool = False,
+                        defines: tuple[tuple[str, str], ...] = ()) -> Path:
     """Return the path of the host receiver library of ``spec`` (built once, cached).
 
     ``sanitize``: built with ASan + UBSan (``SANITIZE_FLAGS``); a process loading it needs
-    the ASan runtime first (``LD_PRELOAD`` of ``cc -print-file-name=libasan.so``)."""
+    the ASan runtime first (``LD_PRELOAD`` of ``cc -print-file-name=libasan.so``).
+    ``defines``: (name after the prefix, value) pairs set before the header, e.g.
+    ``(("RX_RECOVERY", "0"),)`` for ``<PREFIX>_RX_RECOVERY 0``."""
     emitted = emit_header(spec, side="rx")
     cc = find_cc()
     opt = SANITIZE_FLAGS if sanitize else ("-O2",)
-    key = hashlib.sha256((emitted.text + cc + " ".join(opt)).encode()).hexdigest()[:16]
+    P = emitted.model.PREFIX
+    extra = {f"{P}_{k}": v for k, v in defines}
+    key = hashlib.sha256((emitted.text + cc + " ".join(opt) + repr(sorted(extra.items()))
+                          ).encode()).hexdigest()[:16]
     d = cache_dir() / "rx"
     lib = d / f"{emitted.model.prefix}-{'san-' if sanitize else ''}{key}.so"
     if lib.is_file():
         return lib
     d.mkdir(parents=True, exist_ok=True)
-    P = emitted.model.PREFIX
     with tempfile.TemporaryDirectory(dir=d) as tmp:
         (Path(tmp) / emitted.filename).write_text(emitted.text)
         src = Path(tmp) / "rx.c"
@@ -229,16 +234,17 @@ def build_host_receiver(spec: FrameSpec, *, sanitize: bool = False) -> Path:
         out = Path(tmp) / lib.name
         compile_c(cc, [src], out, flags=(*STRICT_FLAGS, *opt, "-fPIC", "-shared"),
                   include_dirs=[tmp], defines={f"{P}_IMPLEMENTATION": None,
-                                               f"{P}_RX_HOST_FEED": None})
+                                               f"{P}_RX_HOST_FEED": None, **extra})
         os.replace(out, lib)
     return lib
 
 
 @lru_cache(maxsize=16)
-def host_receiver(spec: FrameSpec) -> HostReceiver:
-    """Return the loaded host receiver of ``spec`` (built and cached on first use)."""
+def host_receiver(spec: FrameSpec, defines: tuple[tuple[str, str], ...] = ()) -> HostReceiver:
+    """Return the loaded host receiver of ``spec`` (built and cached on first use);
+    ``defines`` as for :func:`build_host_receiver`."""
     spec = as_plan(spec).spec
-    return HostReceiver(spec, build_host_receiver(spec))
+    return HostReceiver(spec, build_host_receiver(spec, defines=defines))
 
 
 def decode_c(spec: FrameSpec, train: PulseTrain) -> list[CFrame]:

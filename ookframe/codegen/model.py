@@ -177,6 +177,8 @@ class CModel:
     #: it reads, on 8-bit AVR and on a 32-bit MCU (bytes)
     stream_ram: dict[str, int] = field(default_factory=dict)
     rx: RxModel | None = None  # the receiver's values (emit --side rx / both), else None
+    #: emit --side: "rx" makes <PREFIX>_WANT_TX default to 0 (a receive-only build)
+    side: str = "tx"
 
 
 def _uint_type(bits: int) -> str:
@@ -385,7 +387,8 @@ def _whitening_model(spec: FrameSpec) -> dict[str, object]:
 def build_model(spec: FrameSpec | FramePlan, target: TimerTarget | None = None, *,
                 side: str = "tx") -> CModel:
     """Return the validated model of ``spec``'s header for ``target`` (CodegenError if not);
-    ``side`` "rx" or "both" adds the receiver (the transmitter part is always present)."""
+    ``side`` "rx" or "both" adds the receiver (the transmitter part is always rendered; for
+    "rx" behind ``<PREFIX>_WANT_TX`` defaulting to 0)."""
     if side not in ("tx", "rx", "both"):
         raise CodegenError(f"side {side!r} not allowed; allowed: tx, rx, both")
     plan = as_plan(spec)
@@ -484,7 +487,7 @@ def build_model(spec: FrameSpec | FramePlan, target: TimerTarget | None = None, 
         needs=needs, gap=_gap_model(timing) if has_gap else None,
         txbuf=txbuf, txbuf_refusal=refusal,
         stream_ram=_stream_ram(needs, ticks_type, (max_frame_bits + 7) // 8),
-        rx=build_rx(plan, code, timing) if side != "tx" else None)
+        rx=build_rx(plan, code, timing) if side != "tx" else None, side=side)
 
 
 #: (size, alignment) in bytes of the C types in the transmitter structs: 8-bit AVR

@@ -13,7 +13,13 @@ timer ticks of the pulse that just ended) and decides as the reference decoder d
   run length is the allowed length (``LineCode.run_lengths`` and the head's, per level,
   midpoint thresholds) nearest to the distance from the previous edge's grid point;
   a phase loop and a frequency loop follow the clock while hunting, and at the sync the
-  unit is refitted over the run of well-placed edges before it (the head);
+  unit is refitted over the run of well-placed edges before it (the head); fixed-chip
+  codes hold each decided pulse until the next is decided: when the next fits no run the
+  code has (its nearest allowed length more than half a unit off) and the held pulse's
+  end edge is the less sure of its two edges, that edge moves to the grid point on its
+  other side and both pulses are decided again from the held one's clock state
+  (``classify._repair``: one jittered edge past halfway makes one pulse a unit too long
+  and the next a unit too short, or of no length at all);
 - line code: fixed-chip block codes decode per chip phase from a chip-pattern table;
   mark-space codes (pulse width, pulse distance) decode per (mark, space) pair;
 - clock: while hunting the frequency loop pulls in fast for the first ``GEAR_CHIPS`` chips
@@ -65,6 +71,13 @@ CLOCK_SPAN = 0.12
 #: the copies there (reference 0), 0.22 none; presets unchanged (edge-of-range copy loss
 #: gate_sensor 0.049, greenhouse_probe 0.045 either way)
 CLOCK_SPAN_PAIRS = 0.22
+#: frequency window of the unit in a frame's body (fraction of nominal): a transmitter clock
+#: drifting during the frame takes the unit further than the hunting window (the reference
+#: follows it without a bound: ``classify.track_unit``, ``grid_runs``); measured with
+#: ``margin --decoder c`` on tank_level at its drift margins (+-480 %/s): the hunting
+#: window lost every first copy of more than 15 note bytes there (their unit ends 13-22 %
+#: off), 0.5 none
+BODY_CLOCK_SPAN = 0.5
 #: allowed-length tables longer than this are decided by division (NRZ without stuffing)
 MAX_LADDER = 16
 #: frames held by the ready queue unless <PREFIX>_RX_QUEUE says otherwise
@@ -144,11 +157,14 @@ class RxModel:
     mark_only: tuple[str, ...]  # block value of a mark whose space ran into a gap
     allowed: tuple[tuple[int, ...], tuple[int, ...]]  # per level (0 space, 1 mark)
     ladder: bool  # nearest allowed length by comparisons (else by division)
+    contiguous: bool  # both levels allow the same unbroken run of lengths
     top: int
     cap_ratio: int  # a pulse longer than this many units ends the window
     unit16: int
     unit16_min: int
     unit16_max: int
+    unit16_body_min: int
+    unit16_body_max: int
     glitch_ticks: int
     pattern_bits: int
     pattern_type: str
@@ -181,6 +197,13 @@ class RxModel:
     unit16_keep_min: int
     unit16_keep_max: int
     freq_div_body: int
+    #: the frequency steps' divisions 256 * div as (|y| << up) >> 16 (up = 16 - log2 of it;
+    #: 0 where it is no power of two within 2^9..2^16): cheap on 8-bit MCUs while |y| << up
+    #: provably stays below 2^31 (``freq_fast``)
+    freq_up_pull_in: int
+    freq_up_hunt: int
+    freq_up_body: int
+    freq_fast: bool
     min_refit_chips: int
     recovery_flips: int  # 0: no check-aided recovery
     recovery_trials: int
@@ -203,15 +226,31 @@ class RxModel:
     def ram_bytes(self) -> int:
         """Upper bound of the receiver's static RAM in bytes (state, queue, edge FIFO), as in
         the header (padding on 32-bit targets may add a few bytes)."""
+        return self._ram(recovery=True)
+
+    @property
+    def ram_bytes_plain(self) -> int:
+        """``ram_bytes`` with the check-aided recovery left out (``<PREFIX>_RX_RECOVERY 0``)."""
+        return self._ram(recovery=False)
+
+    def _ram(self, *, recovery: bool) -> int:
         reg = 8 if self.pattern_type == "uint64_t" else 4
         phases = self.chips_per_block if self.family == "chips" else 1
         state = 4 * 8 + 16 + 2 * reg * phases + self.body_bytes
         slot = self.body_bytes + 12 + 8  # bits, quality (padded), worst16 and unit16
-        if self.recovery_flips:
+        if self.recovery_flips and recovery:
             slot += (self.raw_chips + 7) // 8 + 6 + 8 * self.recovery_edges
         held = 3 if self.low_keep else 0  # a short pulse waiting for the next
+        if self.family == "chips":  # the pulse held for the repair: two clock states, end, ticks
+            held += 2 * 14 + 2 * 4 + 6
         drop = 3  # hunt_skips and the edge-loss byte rx_poll compares (backlog drop)
         return state + self.queue * slot + 16 + 3 * self.edge_fifo + 2 + held + drop
+
+
+def _shift_up(d: int) -> int:
+    """Return 16 - log2(d) for a power of two d within 2^9..2^16, else 0."""
+    k = d.bit_length() - 1
+    return 16 - k if d == 1 << k and 9 <= k <= 16 else 0
 
 
 def _literal(value: int, bits: int) -> str:
@@ -312,7 +351,7 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
         raise CodegenError(f"one unit is {spec.unit_us / timing.tick_us:.2f} timer ticks; the C "
                            "receiver needs at least 4 (a faster timer clock or smaller prescaler)")
     span = CLOCK_SPAN_PAIRS if family == "pairs" else CLOCK_SPAN
-    if (top + 2) * unit16 * (1 + span) >= (1 << 30):
+    if (top + 2) * unit16 * (1 + max(span, BODY_CLOCK_SPAN)) >= (1 << 30):
         raise CodegenError("the longest run is too many timer ticks for the receiver's 32-bit "
                            "arithmetic; use a larger prescaler")
     glitch = int(spec.decoder.glitch_fraction * spec.unit_us / timing.tick_us + 0.5)
@@ -353,6 +392,10 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
     if raw_chips > 65535:
         raise CodegenError(f"frames of up to {raw_chips} body chips; the C receiver's "
                            "check-aided recovery handles 65535")
+    ups = tuple(_shift_up(256 * d) for d in (FREQ_DIV_PULL_IN, FREQ_DIV_HUNT, FREQ_DIV_BODY))
+    body_max16 = max(int(unit16 * (1 + BODY_CLOCK_SPAN)), int(unit16 * (1 + span))) + 1
+    # |e| <= 2 units (a pulse past the longest run, or a repaired one), round(256 / n) <= 256
+    fast = all(ups) and (2 * body_max16 * 256) << max(ups) < (1 << 31)
     gain = spec.decoder.loop_gain
     body_shift = 3 if gain >= 0.04 else (4 if gain >= 0.02 else 5)
     body_shift += BODY_SHIFT_EXTRA
@@ -361,8 +404,12 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
         differential=code.differential, chip_table=chip_table, pair_marks=pair_marks,
         pair_spaces=pair_spaces, pair_table=pair_table, mark_only=mark_only, allowed=allowed,
         ladder=not hm.runs.same or top <= MAX_LADDER, top=top,
+        contiguous=allowed[0] == allowed[1]
+        and allowed[0] == tuple(range(allowed[0][0], allowed[0][-1] + 1)),
         cap_ratio=int(hm.runs.cap_ratio), unit16=unit16,
         unit16_min=int(unit16 * (1 - span)), unit16_max=int(unit16 * (1 + span)) + 1,
+        unit16_body_min=min(int(unit16 * (1 - BODY_CLOCK_SPAN)), int(unit16 * (1 - span))),
+        unit16_body_max=max(int(unit16 * (1 + BODY_CLOCK_SPAN)), int(unit16 * (1 + span))) + 1,
         glitch_ticks=glitch, pattern_bits=pat_bits, pattern_type=f"uint{reg_bits}_t",
         pattern=_literal(value, reg_bits),
         sync_mask=_literal((1 << sync_n) - 1, reg_bits),
@@ -379,6 +426,7 @@ def build_rx(plan: FramePlan, code: CodeTable, timing: Timing) -> RxModel:
         reset_on_break=RESET_ON_BREAK, unit16_keep_min=unit16 * (100 - KEEP_SPAN_PCT) // 100,
         unit16_keep_max=unit16 * (100 + KEEP_SPAN_PCT) // 100 + 1,
         freq_div_body=FREQ_DIV_BODY, min_refit_chips=MIN_REFIT_CHIPS,
+        freq_up_pull_in=ups[0], freq_up_hunt=ups[1], freq_up_body=ups[2], freq_fast=fast,
         recovery_flips=flips, recovery_trials=min(trials, 255),
         recovery_edges=framer.RECOVERY_EDGES,
         recovery_min_offset_10ths=round(framer.RECOVERY_MIN_OFFSET * 10), raw_chips=raw_chips, recovery_none=why,

@@ -30,6 +30,7 @@ from ..intervals import clopper_pearson
 from ..plan import FramePlan, as_plan
 from ..pulses import PulseTrain
 from ..spec.model import FrameSpec
+from .allocator import keep_freed_memory
 from .batch import Batch, random_batch
 
 DEFAULT_CHUNK_FRAMES = 500
@@ -241,6 +242,19 @@ def _ignore_interrupt() -> None:
     signal.signal(signal.SIGINT, signal.SIG_IGN)
 
 
+def _start_worker() -> None:
+    """Initialise a stress worker process: Ctrl-C left to the parent, freed memory kept."""
+    _ignore_interrupt()
+    keep_freed_memory()
+
+
+def worker_pool(workers: int) -> ProcessPoolExecutor:
+    """Return a process pool of ``workers`` stress workers (as ``run_stress`` starts one):
+    for callers that keep one pool across runs; pass it as ``executor``."""
+    require_int(workers, "workers", 1)
+    return ProcessPoolExecutor(max_workers=workers, initializer=_start_worker)
+
+
 @contextmanager
 def pool_for(executor: Executor | None, workers: int) -> Iterator[Executor | None]:
     """Yield ``executor``, else a process pool of ``workers`` (shut down afterwards) when
@@ -248,7 +262,7 @@ def pool_for(executor: Executor | None, workers: int) -> Iterator[Executor | Non
     if executor is not None or workers <= 1:
         yield executor
         return
-    pool = ProcessPoolExecutor(max_workers=workers, initializer=_ignore_interrupt)
+    pool = worker_pool(workers)
     try:
         yield pool
     finally:

@@ -187,15 +187,17 @@ def build_harness(directory: Path) -> Path:
 
 def simulate(harness: Path, elf: Path, *, clock_hz: int, isr: tuple[int, ...] = (),
              watch: tuple[str, ...] = (), drive: tuple[str, Path] | None = None,
-             max_cycles: int = 2_000_000_000, timeout_s: float = 120.0) -> SimRun:
-    """Run ``elf`` in the harness and parse its report (see simharness.c)."""
+             max_cycles: int = 2_000_000_000, timeout_s: float = 120.0,
+             more_drives: tuple[tuple[str, Path], ...] = ()) -> SimRun:
+    """Run ``elf`` in the harness and parse its report (see simharness.c); ``drive`` and
+    ``more_drives``: (pin, file of "CYCLE LEVEL" lines) each."""
     cmd = [str(harness), str(elf), "-f", str(clock_hz), "--max-cycles", str(max_cycles)]
     for v in isr:
         cmd += ["--isr", str(v)]
     for pin in watch:
         cmd += ["--watch", pin]
-    if drive is not None:
-        cmd += ["--drive", drive[0], str(drive[1])]
+    for pin, path in ((drive,) if drive is not None else ()) + tuple(more_drives):
+        cmd += ["--drive", pin, str(path)]
     proc = subprocess.run(cmd, capture_output=True, text=True, timeout=timeout_s,
                           cwd=elf.parent)
     isr_c: dict[int, list[int]] = {v: [] for v in isr}

@@ -20,6 +20,11 @@ from tests.c import avr_run
 RX_FIRMWARE = avr_run.AVR_DIR / "rx_firmware.c"
 TIMER1_COMPB_VECTOR = 12  # ATmega328P vector numbers (datasheet interrupt table, from memory)
 REPORT_START = 0xA5
+REPORT_END = 0x5A  # the counters once more when the harness raises END_PIN
+#: the firmware's end-of-run input: raised TAIL_CYCLES after the last driven edge
+END_PIN = "B1"
+#: CPU cycles simulated after END_PIN rises, for the end report
+END_REPORT_CYCLES = 100_000
 MARK_POLL, MARK_POLLED, MARK_TAKE, MARK_TAKEN, MARK_TWO_EDGES = 1, 2, 3, 4, 5
 #: CPU cycles before the first driven edge (reset, rx_init, timer set-up are long done)
 LEAD_IN_CYCLES = 20_000
@@ -99,7 +104,8 @@ class RxRun:
     """What the receiver firmware reported and what it cost."""
 
     frames: list[dict[str, object]]  # raw field values, in the order decoded
-    counters: dict[str, int]  # the counters after the last frame (empty when none)
+    counters: dict[str, int]  # the counters at the end of the run (END_PIN raised)
+    frame_counters: dict[str, int]  # the counters reported with the last frame (empty: none)
     capt_cycles: np.ndarray  # each capture ISR, vector to end of reti
     capt_two_edges: np.ndarray  # bool per capture ISR run: it also queued a missed edge
     idle_cycles: np.ndarray  # each compare B (idle) ISR
@@ -108,25 +114,43 @@ class RxRun:
     main_cycles_total: int  # every marked main-loop interval (polls and takes), ISRs removed
 
 
-def _parse(run: avr_run.SimRun, emitted: Emitted) -> RxRun:
+def _parse(run: avr_run.SimRun, emitted: Emitted, *, baseline: bool = False) -> RxRun:
     fields_t = fields_struct(emitted)
     nf, nc = ctypes.sizeof(fields_t), ctypes.sizeof(_Counters)
     data = [v for v, _ in run.report]
+    if baseline:  # the stub receiver: no frame, a one-byte stand-in for the counters
+        if data[:1] != [REPORT_END] or len(data) != 2:
+            raise AssertionError(f"stub report not as expected: {data[:8]}")
+        data = []
     frames: list[dict[str, object]] = []
-    counters: dict[str, int] = {}
+    frame_counters: dict[str, int] = {}
+    final: dict[str, int] | None = None
     i = 0
     while i < len(data):
-        if data[i] != REPORT_START or i + 1 + nf + nc > len(data):
+        if data[i] == REPORT_END and final is None and i + 1 + nc <= len(data):
+            final = _counters(data[i + 1:i + 1 + nc])
+            i += 1 + nc
+            continue
+        if data[i] != REPORT_START or final is not None or i + 1 + nf + nc > len(data):
             raise AssertionError(f"report out of step at byte {i}: {data[i:i + 8]}")
         f = fields_t.from_buffer_copy(bytes(data[i + 1:i + 1 + nf]))
-        c = _Counters.from_buffer_copy(bytes(data[i + 1 + nf:i + 1 + nf + nc]))
         frames.append(_raw(emitted, f))
-        counters = {name: int(getattr(c, name)) for name, _ in _Counters._fields_}
+        frame_counters = _counters(data[i + 1 + nf:i + 1 + nf + nc])
         i += 1 + nf + nc
+    if final is None and baseline:
+        final = {}
+    elif final is None:
+        raise AssertionError("no end-of-run counters: the main loop did not get to the end "
+                             f"report within {END_REPORT_CYCLES} cycles of {END_PIN} rising")
     poll, take, total = _main_loop_cycles(run.events)
-    return RxRun(frames, counters, run.isr_cycles[avr_run.TIMER1_CAPT_VECTOR],
+    return RxRun(frames, final, frame_counters, run.isr_cycles[avr_run.TIMER1_CAPT_VECTOR],
                  _two_edge_runs(run.events, run.isr_cycles[avr_run.TIMER1_CAPT_VECTOR].size),
                  run.isr_cycles[TIMER1_COMPB_VECTOR], poll, take, total)
+
+
+def _counters(data: list[int]) -> dict[str, int]:
+    c = _Counters.from_buffer_copy(bytes(data))
+    return {name: int(getattr(c, name)) for name, _ in _Counters._fields_}
 
 
 def _two_edge_runs(events: list[tuple[str, int, int]], n: int) -> np.ndarray:
@@ -202,23 +226,29 @@ def run_receiver(emitted: Emitted, values: Mapping[str, object],
     text, end_cycle = drive_lines(trains, emitted.model.timing.clock_hz)
     drive = directory / "drive.txt"
     drive.write_text(text)
+    end = directory / "end.txt"
+    end.write_text(f"{end_cycle + TAIL_CYCLES} 1\n")
     run = avr_run.simulate(harness, elf, clock_hz=emitted.model.timing.clock_hz,
                            isr=(avr_run.TIMER1_CAPT_VECTOR, TIMER1_COMPB_VECTOR),
-                           drive=("B0", drive), max_cycles=end_cycle + TAIL_CYCLES,
+                           drive=("B0", drive), more_drives=((END_PIN, end),),
+                           max_cycles=end_cycle + TAIL_CYCLES + END_REPORT_CYCLES,
                            timeout_s=300)
-    return _parse(run, emitted)
+    return _parse(run, emitted, baseline=baseline)
 
 
-def receiver_sizes(emitted: Emitted, values: Mapping[str, object], directory: Path
-                   ) -> tuple[int, int]:
+def receiver_sizes(emitted: Emitted, values: Mapping[str, object], directory: Path, *,
+                   extra_defines: Mapping[str, str | None] | None = None) -> tuple[int, int]:
     """Return (flash, RAM) bytes of the receiver: rx_firmware.c minus its stub baseline,
-    both linked with unused sections dropped (the header's transmitter is not counted)."""
+    both linked with unused sections dropped (the header's transmitter is not counted);
+    ``extra_defines``: more -D macros for the receiver build, e.g. <PREFIX>_RX_RECOVERY."""
     assert avr_run.AVR_SIZE is not None
     sizes = []
     for baseline in (False, True):
         elf = avr_run.build_firmware(emitted, values, directory, source=RX_FIRMWARE,
                                      baseline=baseline,
                                      name="rx_base.elf" if baseline else "rx_size.elf",
-                                     extra_defines=lock_defines(emitted), extra_flags=GC_FLAGS)
+                                     extra_defines={**lock_defines(emitted),
+                                                    **(extra_defines or {})},
+                                     extra_flags=GC_FLAGS)
         sizes.append(avr_flash_ram(section_sizes(avr_run.AVR_SIZE, elf)))
     return sizes[0][0] - sizes[1][0], sizes[0][1] - sizes[1][1]

@@ -16,7 +16,10 @@
  * Main loop, per wake-up: GPIOR1 = 1, <prefix>_rx_poll(), GPIOR1 = 2; then for each ready
  * frame GPIOR1 = 3, <prefix>_rx_take, GPIOR1 = 4, and the report on GPIOR0: 0xA5, the bytes
  * of struct <prefix>_fields, the bytes of struct <prefix>_rx_counters. A capture ISR run
- * that also queues a missed edge writes GPIOR1 = 5. The baseline build (OOK_BASELINE)
+ * that also queues a missed edge writes GPIOR1 = 5. When the harness raises PB1 (the run
+ * is over; a pin-change interrupt wakes the CPU) the main loop, once, reports the counters
+ * as they are then: 0x5A and the bytes of struct <prefix>_rx_counters (edges lost after
+ * the last good frame are counted there too). The baseline build (OOK_BASELINE)
  * has the same timer code around a stub receiver (avr-size difference, ISR cycles).
  * Build like firmware.c (see tests/c/avr_run.py); run under tests/c/avr/simharness.c.
  */
@@ -39,6 +42,7 @@
 #define OOK_MARK_TAKE 3u
 #define OOK_MARK_TAKEN 4u
 #define OOK_MARK_TWO_EDGES 5u /* this capture ISR run also queues a missed edge */
+#define OOK_REPORT_END 0x5Au /* the counters at the end of the run (PB1 raised) */
 
 #ifdef OOK_BASELINE
 /* the same firmware around a receiver that does nothing */
@@ -138,6 +142,9 @@ ISR(TIMER1_COMPB_vect)
 }
 #endif /* OOK_HEADER_ISRS */
 
+/* PB1 raised by the harness: only wakes the main loop, which then reads the pin */
+EMPTY_INTERRUPT(PCINT0_vect)
+
 static void report(const void *p, size_t n)
 {
     const uint8_t *b = (const uint8_t *)p;
@@ -151,6 +158,7 @@ int main(void)
 {
     RX_FIELDS f;
     RX_COUNTERS c;
+    bool ended = false;
 #ifdef OOK_HEADER_ISRS
     OOK_FN(_rx_avr_icp1_start)();
 #else
@@ -164,6 +172,8 @@ int main(void)
     TIMSK1 = (uint8_t)((1u << ICIE1) | (1u << OCIE1B));
     TCCR1B = (uint8_t)((1u << ICES1) | OOK_TIMER1_CLOCK); /* the line idles low */
 #endif
+    PCMSK0 = (uint8_t)(1u << PCINT1); /* PB1 (an input, no pull-up): the end of the run */
+    PCICR = (uint8_t)(1u << PCIE0);
     SMCR = 0; /* idle sleep mode (SM2..0 = 0) */
     for (;;) {
         bool ready;
@@ -180,6 +190,12 @@ int main(void)
             GPIOR0 = OOK_REPORT_START;
             report(&f, sizeof f);
             RX_COUNTERS_OF(&c);
+            report(&c, sizeof c);
+        }
+        if (!ended && (PINB & (1u << PB1)) != 0u) {
+            ended = true;
+            RX_COUNTERS_OF(&c);
+            GPIOR0 = OOK_REPORT_END;
             report(&c, sizeof c);
         }
         cli();

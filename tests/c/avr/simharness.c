@@ -6,8 +6,9 @@
  *   byte V C       the firmware wrote V to GPIOR0 (its report channel) at cycle C
  *   mark V C       the firmware wrote V to GPIOR1 (main-loop markers) at cycle C
  *   end STATE C    the run stopped (done, crashed, cycles) at cycle C
- * and drives an input pin with edges read from a file (lines "CYCLE LEVEL", ascending
- * cycles) at those exact cycles, through a simavr cycle timer.
+ * and drives input pins (up to MAX_DRIVE, one --drive each) with edges read from a file
+ * per pin (lines "CYCLE LEVEL", ascending cycles) at those exact cycles, through simavr
+ * cycle timers.
  * simavr runs its peripherals and cycle timers between instructions: a pin change made by a
  * timer is stamped (and a driven edge lands) at the end of the instruction in progress,
  * up to a few cycles late while the CPU runs code, exact while it sleeps. The test
@@ -15,7 +16,7 @@
  *
  * Build: cc -O2 simharness.c -I/usr/include/simavr -lsimavr -lelf -o simharness
  * Run:   simharness FIRMWARE.elf [-m atmega328p] [-f 8000000] [--isr V]... [--watch B1]...
- *                  [--drive B0 FILE] [--max-cycles N]
+ *                  [--drive B0 FILE]... [--max-cycles N]
  */
 #include <stdint.h>
 #include <stdio.h>
@@ -31,6 +32,7 @@
 
 #define MAX_ISR 4
 #define MAX_WATCH 4
+#define MAX_DRIVE 2
 #define GPIOR0_ADDR 0x3E /* data-space addresses on the ATmega48/88/168/328 */
 #define GPIOR1_ADDR 0x4A
 #define RETI_OPCODE 0x9518u
@@ -117,9 +119,10 @@ int main(int argc, char **argv)
     int nisr = 0;
     const char *watch[MAX_WATCH];
     int nwatch = 0;
-    const char *drive_pin = NULL;
-    const char *drive_file = NULL;
-    struct drive d = {0};
+    const char *drive_pin[MAX_DRIVE];
+    const char *drive_file[MAX_DRIVE];
+    struct drive d[MAX_DRIVE];
+    int ndrive = 0;
     unsigned long long isr_start = 0;
     int in_isr = -1;
     int state;
@@ -138,9 +141,10 @@ int main(int argc, char **argv)
             isr[nisr++] = atoi(argv[++i]);
         } else if (!strcmp(argv[i], "--watch") && i + 1 < argc && nwatch < MAX_WATCH) {
             watch[nwatch++] = argv[++i];
-        } else if (!strcmp(argv[i], "--drive") && i + 2 < argc) {
-            drive_pin = argv[++i];
-            drive_file = argv[++i];
+        } else if (!strcmp(argv[i], "--drive") && i + 2 < argc && ndrive < MAX_DRIVE) {
+            drive_pin[ndrive] = argv[++i];
+            drive_file[ndrive] = argv[++i];
+            ndrive++;
         } else if (!strcmp(argv[i], "--max-cycles") && i + 1 < argc) {
             max_cycles = strtoull(argv[++i], NULL, 10);
         } else {
@@ -169,14 +173,15 @@ int main(int argc, char **argv)
     }
     avr_register_io_write(g_avr, GPIOR0_ADDR, on_gpior, NULL);
     avr_register_io_write(g_avr, GPIOR1_ADDR, on_gpior, NULL);
-    if (drive_pin) {
-        if (read_drive(drive_file, &d) != 0) {
+    memset(d, 0, sizeof d);
+    for (i = 0; i < ndrive; i++) {
+        if (read_drive(drive_file[i], &d[i]) != 0) {
             return 2;
         }
-        d.irq = pin_irq(g_avr, drive_pin);
-        avr_raise_irq(d.irq, 0);
-        if (d.n) {
-            avr_cycle_timer_register(g_avr, d.cycle[0] - g_avr->cycle, on_drive, &d);
+        d[i].irq = pin_irq(g_avr, drive_pin[i]);
+        avr_raise_irq(d[i].irq, 0);
+        if (d[i].n) {
+            avr_cycle_timer_register(g_avr, d[i].cycle[0] - g_avr->cycle, on_drive, &d[i]);
         }
     }
     for (;;) {
