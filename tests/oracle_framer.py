@@ -13,6 +13,7 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.lib.stride_tricks import sliding_window_view
 
+from ookframe.decode import framing
 from ookframe.decode.framer import DecodedFrame
 from ookframe.decode.head import HeadModel
 from ookframe.decode.windows import WindowRuns, Windows
@@ -262,6 +263,37 @@ def _frame_from(spec: FrameSpec, hm: HeadModel, w: _Window, cands: list[DecodedB
         unit_us = float(d.sum() / w.units[measured].sum())
     else:
         unit_us = w.unit_us(w.n_prefix)
+    # the start counted back from the sync word's measured edges (median), where it
+    # differs from the one counted on from the window's first pulse by over a unit; the
+    # unit of the frame's fit, or the head's where the frame's strays from the sync's slope
+    head_runs = np.cumsum(hm.units) - hm.units
+    if lc.chips_per_block is None:
+        c_sync = int(w.chip0[cand.run_index[pos]])
+    elif all(hm.sync_chip + b * lc.chips_per_block in head_runs
+             for b in range(-(-sync.size // lc.bits_per_block))):
+        # the sync's first chip as its own bits place it (their block phase alone)
+        j = np.arange(pos, pos + sync.size)
+        block = j // lc.bits_per_block * lc.chips_per_block
+        c_sync = int((w.chip0[cand.run_index[j]] - block).max()) + int(block[0])
+    else:  # a block of the sync as sent starts inside a run: its bits alone do not pin it
+        c_sync = c_start + hm.sync_chip
+    runs = np.arange(w.n_prefix, w.levels.size)
+    runs = runs[(w.chip0[runs] >= c_sync) & (w.chip0[runs] <= c_sync + hm.body_chip
+                                               - hm.sync_chip)]
+    if runs.size:
+        c = (w.chip0[runs] - c_sync).astype(np.float64)
+        t = w.t0[w.first + runs - w.n_prefix]
+        tr = t - t[0]
+        n = float(c.size)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            own = (n * (c * tr).sum() - c.sum() * tr.sum()) / (n * (c * c).sum() - c.sum() ** 2)
+        off = abs(unit_us - own)
+        lock_unit = unit_us if np.isfinite(unit_us) and unit_us > 0 and not (
+            off > framing.SYNC_UNIT_SLACK * unit_us and abs(w.unit0_us - own) < off
+        ) else w.unit0_us
+        sync_us = float(np.median(t - c * lock_unit)) - hm.sync_chip * lock_unit
+        if abs(start_us - sync_us) > framing.SYNC_LOCK_UNITS * w.unit0_us:
+            start_us = sync_us
     frame = DecodedFrame(
         fields=parsed.fields,
         raw=parsed.raw,

@@ -165,15 +165,7 @@ def decode(spec: Receiver, train: PulseTrain, *,
         if flips > 0 and failing:
             frames = [f if f.crc_ok else _recover(spec, hm, ctx, k, flips) or f
                       for f, k in found]
-        failed = [k for f, (_, k) in zip(frames, found, strict=True) if not f.crc_ok]
-        if failed:
-            other, _ = _decode_clean(spec, hm, clean, cw.bursts_of(failed), grid=False)
-            frames = _second_opinion(spec, frames, [f for f, _ in other])
-        if ctx.doubtful.size:  # a pass of its own: its frames never block those above
-            other, _ = _decode_clean(spec, hm, clean, cw.bursts_of(ctx.doubtful.tolist()),
-                                     grid=False)
-            frames = _doubtful_opinion(frames, [f for f, _ in other],
-                                       cw.t0[cw.first[ctx.doubtful]])
+        frames = _track_opinions(spec, hm, clean, cw, frames, found, ctx)
     if ctx.unparsed_us.size or not all(f.crc_ok for f in frames):
         frames = _tail_opinion(spec, hm, train, frames, ctx)
     frames = _low_filter_opinion(spec, hm, train, clean, cw, frames)
@@ -249,6 +241,26 @@ def _recover(spec: FrameSpec, hm: HeadModel, ctx: _Context, k: int, max_flips: i
         if got is not None and got[0].crc_ok:
             return dataclasses.replace(got[0], corrected=len(combo))
     return None
+
+
+def _track_opinions(spec: FrameSpec, hm: HeadModel, clean: PulseTrain,
+                    cw: _CandidateWindows, frames: list[DecodedFrame],
+                    found: list[tuple[DecodedFrame, int]], ctx: _Context
+                    ) -> list[DecodedFrame]:
+    """Return ``frames`` (one per frame of the grid reading ``found`` of ``clean``, after
+    any recovery) with the duration-by-duration readings joined: the second opinion over
+    the bursts of the frames whose check still fails, then the doubtful windows' own
+    pass (:func:`_doubtful_opinion`)."""
+    failed = [k for f, (_, k) in zip(frames, found, strict=True) if not f.crc_ok]
+    if failed:
+        other, _ = _decode_clean(spec, hm, clean, cw.bursts_of(failed), grid=False)
+        frames = _second_opinion(spec, frames, [f for f, _ in other])
+    if ctx.doubtful.size:  # a pass of its own: its frames never block those above
+        other, _ = _decode_clean(spec, hm, clean, cw.bursts_of(ctx.doubtful.tolist()),
+                                 grid=False)
+        frames = _doubtful_opinion(frames, [f for f, _ in other],
+                                   cw.t0[cw.first[ctx.doubtful]])
+    return frames
 
 
 def _second_opinion(spec: FrameSpec, frames: list[DecodedFrame], other: list[DecodedFrame]
@@ -333,8 +345,12 @@ def _read_pieces(spec: FrameSpec, hm: HeadModel, cuts: CutTrains, min_us: float
     cw = _windows(hm, clean, spec.unit_us)
     if cw is None:
         return []
+    found, ctx = _decode_clean(spec, hm, clean, cw, grid=True)
+    frames = [f for f, _ in found]
+    if spec.check.kind != "none":  # the duration-by-duration readings, as in ``decode``
+        frames = _track_opinions(spec, hm, clean, cw, frames, found, ctx)
     out = []
-    for f, _ in _decode_clean(spec, hm, clean, cw, grid=True)[0]:
+    for f in frames:
         k = int(np.searchsorted(cuts.start_us, f.start_us + PIECE_SLACK_UNITS * spec.unit_us)) - 1
         if f.crc_ok and k >= 0:
             out.append((f, k))
@@ -344,11 +360,16 @@ def _read_pieces(spec: FrameSpec, hm: HeadModel, cuts: CutTrains, min_us: float
 #: glitch filter of the low-filter opinion, as a fraction of the spec's: heavy edge jitter
 #: shrinks 1-unit pulses below the filter (two edges 0.35 unit inwards leave 0.3 unit)
 LOW_FILTER_FRACTION = 0.5
-#: pulses on each side of a dropped pulse of which all but one must be longer than the
-#: filter, and none shorter than the lower filter, for the low-filter opinion to look for
-#: a frame around it (receiver noise, pulses of the order of the filter, seldom has 15 of
-#: 16 that long and none shorter; a jittered frame nearly always)
+#: pulses on each side of a dropped pulse of which all but ``ANCHOR_SHORT_NEIGHBOURS``
+#: must be longer than the filter, and none shorter than the lower filter, for the
+#: low-filter opinion to look for a frame around it (receiver noise, pulses of the order
+#: of the filter, seldom has 14 of 16 that long and none shorter; a jittered frame nearly
+#: always)
 ANCHOR_CONTEXT_PULSES = 8
+#: of those pulses, how many may be shorter than the filter: other shrunk pulses (at +-40 %
+#: edge jitter about 1 in 130 one-unit pulses falls below 0.3 unit, so two more among 16
+#: one-unit neighbours happens in about 1 in 140 anchors; 1 left such a copy unread)
+ANCHOR_SHORT_NEIGHBOURS = 2
 #: units at either end of a passing frame where a dropped pulse is taken for receiver noise
 #: hugging the carrier, not for a shrunk pulse of the frame
 ANCHOR_EDGE_UNITS = 1.5
@@ -446,14 +467,17 @@ def _low_filter_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
 def _shrunk_us(d: np.ndarray, short: np.ndarray, t_short: np.ndarray, min_us: float,
                low_us: float) -> np.ndarray:
     """Return the start times of the pulses ``short`` (indices into durations ``d``,
-    starting at ``t_short``) that lie amid pulses the filter keeps: of the
-    ``ANCHOR_CONTEXT_PULSES`` on each side all but one at least ``min_us`` and none shorter
-    than ``low_us`` (a shrunk pulse, not receiver noise); beyond the train's ends: idle."""
+    starting at ``t_short``) that lie amid pulses the filter keeps: of the 2 on each side
+    all but one, of the ``ANCHOR_CONTEXT_PULSES`` on each side all but
+    ``ANCHOR_SHORT_NEIGHBOURS`` at least ``min_us``, and none shorter than ``low_us`` (a
+    shrunk pulse, not receiver noise); beyond the train's ends: idle."""
     keep = np.arange(short.size)
-    for n in (2, ANCHOR_CONTEXT_PULSES):  # the 2 either side first: most noise fails there
+    # the 2 either side first (all but one kept): most noise fails there
+    for n, spare in ((2, 1), (ANCHOR_CONTEXT_PULSES, ANCHOR_SHORT_NEIGHBOURS)):
         j = short[keep][:, None] + np.concatenate((np.arange(-n, 0), np.arange(1, n + 1)))
         ctx = np.where((j >= 0) & (j < d.size), d[np.clip(j, 0, d.size - 1)], np.inf)
-        keep = keep[((ctx >= min_us).sum(axis=1) >= 2 * n - 1) & ~(ctx < low_us).any(axis=1)]
+        keep = keep[((ctx >= min_us).sum(axis=1) >= 2 * n - spare)
+                    & ~(ctx < low_us).any(axis=1)]
     return t_short[keep]
 
 

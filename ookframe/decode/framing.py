@@ -232,6 +232,83 @@ def _start_chips(hm: HeadModel, st: _Streams, runs: WindowRuns, lo: np.ndarray,
     return np.maximum.reduceat(v, _starts(pos + 1)) - base + pos // bpb * cpb - hm.sync_chip
 
 
+#: a frame's start counted from the window's first pulse is replaced by the one counted
+#: back from its sync word when they differ by more than this many units: more than two
+#: edges can move apart under edge jitter below +-50 % of a unit, so the chip count of the
+#: head between them is wrong
+SYNC_LOCK_UNITS = 1.0
+#: the lock steps back over the head at the frame's fitted unit, or at the head's where
+#: the frame's is further than this fraction from the sync edges' own slope and the
+#: head's nearer (a misread run late in the frame bends the frame's fit)
+SYNC_UNIT_SLACK = 0.01
+
+
+def _sync_chips(hm: HeadModel, st: _Streams, runs: WindowRuns, lo: np.ndarray,
+                pos: np.ndarray, base: np.ndarray) -> np.ndarray:
+    """Return per window the chip offset (from the window's first run) of the sync word's
+    first chip as its own bits place it (block codes: the block phase of the sync's bits
+    alone, so a misread run before it does not move it, where the sync as sent pins it)."""
+    lc = hm.line_code
+    if lc.chips_per_block is None:
+        return runs.chip0[st.run[lo + pos]] - base
+    cpb, bpb, n = int(lc.chips_per_block), lc.bits_per_block, hm.sync_bits.size
+    # a block's first chip lies in its run, so each bit bounds the phase from below: its
+    # own bits pin it where every block of the sync as sent starts a run (PWM); else the
+    # whole head's phase (Manchester: a 1 after a 0 starts inside the 0's run)
+    blocks = hm.sync_chip + np.arange(-(-n // bpb)) * cpb
+    if not np.isin(blocks, np.cumsum(hm.units) - hm.units).all():
+        return _start_chips(hm, st, runs, lo, pos, base) + hm.sync_chip
+    i = ragged_index(lo + pos, np.full(pos.size, n))
+    bit = i - np.repeat(lo, n)  # bit index from the window's first
+    v = runs.chip0[st.run[i]] - np.repeat(base, n) - bit // bpb * cpb
+    return np.maximum.reduceat(v, np.arange(pos.size) * n) + pos // bpb * cpb
+
+
+def _sync_start_us(hm: HeadModel, runs: WindowRuns, rs: np.ndarray, nr: np.ndarray,
+                   base: np.ndarray, c_sync: np.ndarray, t0: np.ndarray, first: np.ndarray,
+                   units_us: tuple[np.ndarray, np.ndarray]) -> np.ndarray:
+    """Return per frame its start as the sync word puts it: the median over the measured
+    edges of the sync word (its first chip ``c_sync`` to the body's, chips from the
+    window's ``base``) of the edge's time less its chips from the sync's first, less the
+    head's chips before the sync as sent; NaN where none is measured. The unit: the
+    frame's fit (``units_us`` = (the head's, the frame's)), or the head's where
+    ``SYNC_UNIT_SLACK`` says (the sync's own slope, least squares over its edges, is too
+    noisy to step back over the head with), so a misread run outside the sync that bent
+    one of them does not carry into the long step back. One misplaced edge (a pulse
+    merged with a neighbour the glitch filter dropped) does not move the median."""
+    n_pre = runs.n_prefix
+    lo = np.searchsorted(runs.chip0, c_sync + base, side="left") - rs
+    hi = np.searchsorted(runs.chip0, c_sync + base + (hm.body_chip - hm.sync_chip),
+                         side="right") - rs
+    lo, hi = np.maximum(lo, n_pre), np.minimum(hi, nr)
+    cnt = np.maximum(hi - lo, 0)
+    seg = np.repeat(np.arange(cnt.size), cnt)
+    r = ragged_index(lo, cnt)  # measured runs of the sync word, per frame
+    chips = (runs.chip0[rs[seg] + r] - base[seg] - c_sync[seg]).astype(np.float64)
+    t = t0[first[seg] + r - n_pre]
+    start = np.cumsum(cnt) - cnt
+    m = cnt > 0
+    t_rel = t - np.repeat(np.where(m, t[np.minimum(start, max(t.size - 1, 0))], 0.0), cnt) \
+        if t.size else t
+    n = cnt.astype(np.float64)
+    sc, st = _segment_sums(chips, cnt), _segment_sums(t_rel, cnt)
+    scc, sct = _segment_sums(chips * chips, cnt), _segment_sums(chips * t_rel, cnt)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        own = (n * sct - sc * st) / (n * scc - sc * sc)
+    head, frame = units_us
+    off = np.abs(frame - own)
+    unit = np.where(np.isfinite(frame) & (frame > 0) & ~((off > SYNC_UNIT_SLACK * frame)
+                                                         & (np.abs(head - own) < off)),
+                    frame, head)
+    est = t - chips * unit[seg]
+    order = np.lexsort((est, seg))
+    est = est[order]
+    out = np.full(cnt.size, np.nan)
+    mid = (est[start[m] + (cnt[m] - 1) // 2] + est[start[m] + cnt[m] // 2]) / 2
+    out[m] = mid - hm.sync_chip * unit[m]
+    return out
+
+
 def frame_windows(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,
                   cands: list[DecodedBits], dur: np.ndarray, t0: np.ndarray) -> WindowFrames:
     """Return the frame decoded from every window (any layout).
@@ -304,6 +381,10 @@ def frame_windows(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,
     unit = np.where(cnt >= 2, _unit_fit(d, units, cnt),
                     np.where(cnt == 1, _segment_sums(d, cnt) / np.maximum(
                         _segment_sums(units, cnt), 1), ws.unit_us[off]))
+
+    sync_us = _sync_start_us(hm, runs, rs, nr, base, _sync_chips(hm, st, runs, lo, pos, base),
+                             t0, first, (unit0, unit))
+    start_us = np.where(np.abs(start_us - sync_us) > SYNC_LOCK_UNITS * unit0, sync_us, start_us)
 
     def full(values: np.ndarray, dtype: type) -> np.ndarray:
         out = np.zeros(n_win, dtype)
