@@ -273,6 +273,40 @@ def test_ram_stated_in_the_header_holds_with_mark_space_recovery(tmp_path):
     assert 0 < plain < ram <= rx.ram_bytes and plain <= rx.ram_bytes_plain
 
 
+def test_mark_space_recovery_on_the_avr(tmp_path, monkeypatch):
+    """The pulse-width bed (tests.test_codegen_rx.pwm_bed_file) on the 8-bit build: six
+    trains with one mark's end moved 0.62 unit (numpy PCG64 seed 3) that the host build
+    corrects (``corrected`` = 1 on a copy) give the host build's frames on the simulated
+    MCU, every copy, so its check-aided recovery moves the same edge with 16-bit int;
+    built with <PREFIX>_RX_RECOVERY 0 it fails one check per train."""
+    from ookframe.codegen.host_rx import decode_c
+    from ookframe.spec_io import load_spec_and_defaults
+    from tests.test_codegen_rx import _one_edge_moved, pwm_bed_file
+
+    _isolated_host_cache(tmp_path, monkeypatch)
+    spec, defaults = load_spec_and_defaults(pwm_bed_file(tmp_path))
+    rng = np.random.default_rng(3)
+    trains = []
+    for _ in range(80):
+        train = _one_edge_moved(spec, rng, 0.62, after_level=1)
+        if train is not None and any(f.corrected for f in decode_c(spec, train)):
+            trains.append((train.levels, train.durations_us))
+        if len(trains) == 6:
+            break
+    assert len(trains) == 6
+    run = avr_rx.run_receiver(emit_header(spec, side="rx"), defaults, trains, tmp_path)
+    host = avr_rx.host_frames(spec, trains)
+    print(f"pwm bed: {len(run.frames)} frames on the AVR, {len(host)} on the host, "
+          f"counters {run.counters}")
+    assert len(host) == len(trains) * spec.repeats and run.frames == host
+    _isr_within_target(run)
+    emitted = emit_header(spec, side="rx")
+    (tmp_path / "plain").mkdir()
+    plain = avr_rx.run_receiver(emitted, defaults, trains, tmp_path / "plain",
+                                extra_defines={f"{emitted.model.PREFIX}_RX_RECOVERY": "0"})
+    assert plain.counters["check_failures"] == len(trains)  # without it each train loses one
+
+
 def test_readme_receiver_snippet_runs(tmp_path):
     """The README's pasteable AVR receiver firmware (at most 20 lines: the header's
     <PREFIX>_RX_AVR_ICP1 ISRs) compiles with avr-gcc and the strict warning set against the
