@@ -119,6 +119,19 @@ def _example(name: str):
     return spec_and_defaults_from_dict(tomllib.loads(example_text(name)))
 
 
+def _random_trains(spec) -> tuple[list, list]:
+    """(expected raw fields per copy, (levels, durations_us) per transmission) of
+    RX_TRANSMISSIONS random transmissions (numpy PCG64 seed 0), as both receiver tables use."""
+    rng = np.random.default_rng(0)
+    want, trains = [], []
+    for _ in range(RX_TRANSMISSIONS):
+        values = random_values(spec, rng)
+        t = encode(spec, values)
+        trains.append((t.levels, t.durations_us))
+        want += [raw_values(spec, values)] * spec.repeats
+    return want, trains
+
+
 def _receiver_rows() -> None:
     """Print the receiver's AVR figures per example (see the module docstring)."""
     print(f"\nreceiver, ATmega328P @ 8 MHz: {RX_TRANSMISSIONS} transmissions of random values "
@@ -129,13 +142,7 @@ def _receiver_rows() -> None:
     for name in example_names():
         spec, defaults = _example(name)
         emitted = emit_header(spec, side="rx")
-        rng = np.random.default_rng(0)
-        want, trains = [], []
-        for _ in range(RX_TRANSMISSIONS):
-            values = random_values(spec, rng)
-            t = encode(spec, values)
-            trains.append((t.levels, t.durations_us))
-            want += [raw_values(spec, values)] * spec.repeats
+        want, trains = _random_trains(spec)
         with tempfile.TemporaryDirectory() as d:
             fifo = avr_rx.run_receiver(emitted, defaults, trains, Path(d))
             in_isr = avr_rx.run_receiver(emitted, defaults, trains, Path(d), in_isr=True)
@@ -177,13 +184,7 @@ def _receiver_recovery_rows() -> None:
         if not emitted.model.rx.recovery_flips:
             continue
         off = {f"{emitted.model.PREFIX}_RX_RECOVERY": "0"}
-        rng = np.random.default_rng(0)
-        want, trains = [], []
-        for _ in range(RX_TRANSMISSIONS):
-            values = random_values(spec, rng)
-            t = encode(spec, values)
-            trains.append((t.levels, t.durations_us))
-            want += [raw_values(spec, values)] * spec.repeats
+        want, trains = _random_trains(spec)
         row = []
         with tempfile.TemporaryDirectory() as d:
             for defines in ({}, off):

@@ -412,6 +412,19 @@ def _one_edge_moved(spec, rng, shift_units: float, after_level: int | None = Non
     return PulseTrain(t.levels, d)
 
 
+def _trains_the_reference_corrects(spec, tries: int = 80):
+    """Yield (train, reference frames) of trains with one body edge moved 0.62 unit
+    (numpy PCG64 seed 3) whose first frame the reference decoder corrects."""
+    rng = np.random.default_rng(3)
+    for _ in range(tries):
+        train = _one_edge_moved(spec, rng, 0.62)
+        if train is None:
+            continue
+        ref = decode(spec, train, include_bad=True)
+        if ref and ref[0].corrected:
+            yield train, ref
+
+
 @needs_gcc
 @pytest.mark.parametrize("name", ["hive_scale.toml", "tank_level.toml", "coldframe_vent.toml"])
 def test_check_aided_recovery_matches_reference(name):
@@ -420,15 +433,8 @@ def test_check_aided_recovery_matches_reference(name):
     receiver returns the same payload with the check passing and ``corrected`` = 1.
     numpy PCG64 seed 3; the reference is ``ookframe.decode`` of this repository."""
     spec = example_spec(name)
-    rng = np.random.default_rng(3)
     needed = agreed = 0
-    for _ in range(80):
-        train = _one_edge_moved(spec, rng, 0.62)
-        if train is None:
-            continue
-        ref = decode(spec, train, include_bad=True)
-        if not ref or ref[0].corrected == 0:
-            continue
+    for train, ref in _trains_the_reference_corrects(spec):
         needed += 1
         got = decode_c(spec, train)
         assert got, "the C receiver lost the frame"
@@ -480,15 +486,8 @@ def test_recovery_switched_off(name):
         ref = [f for f in decode(spec, train) if f.crc_ok]
         assert [f.raw for f in got] == [f.raw for f in ref] and len(got) == spec.repeats
         assert all(f.crc_ok and f.corrected == 0 for f in got)
-    rng = np.random.default_rng(3)
     lost = 0
-    for _ in range(80):
-        train = _one_edge_moved(spec, rng, 0.62)
-        if train is None:
-            continue
-        ref = decode(spec, train, include_bad=True)
-        if not ref or ref[0].corrected == 0:
-            continue
+    for train, _ in _trains_the_reference_corrects(spec):
         every = rx.decode(train)
         got = [f for f in every if f.crc_ok]
         ref_off = [f for f in decode(off, train) if f.crc_ok]
