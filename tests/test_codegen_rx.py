@@ -886,9 +886,10 @@ def test_copy_loss_parity_at_other_margins(name):
     seed 0; both signs of the signed ones) of mark bias, clock error, quantisation, glitch
     rate and dropout, the C receiver loses no more copies than the reference's 95 % CI
     allows, on the same seeds. (The mark-space codes lost every copy at their mark-bias
-    margins, about 0.8 unit, until the low-filter rule judged the pulse after a short one
-    at the phase the clock loop would have and took a first pulse while hunting, and a
-    short last mark before the gap, without a phase to judge them by.)"""
+    margins, about 0.8 unit, where the bias leaves 0.2-unit pulses under the glitch
+    filter, until the low-filter rule also took the short pulse with the pulse after it
+    from the end of the pulse before, a first pulse while hunting, and a short last mark
+    before the gap.)"""
     from ookframe.stress.margin import MARGIN_IMPAIRMENTS, run_at_margins, run_margin
     from ookframe.stress.runner import copy_loss
 
