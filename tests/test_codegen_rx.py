@@ -88,6 +88,21 @@ def test_every_line_code_equals_reference(lc):
     _same_frames(spec, 4, 3)
 
 
+def _compile_rx_strict(tmp_path, tool, flags, e, **switches) -> None:
+    """Compile the emitted receiver ``e`` under STRICT_FLAGS with ``tool`` (skip if it is
+    not installed), its implementation on and ``<PREFIX>_<name>`` defined as each value of
+    ``switches`` (None: defined empty)."""
+    cc = find_tool(tool)
+    if cc is None:
+        pytest.skip(f"{tool} not installed")
+    (tmp_path / e.filename).write_text(e.text)
+    src = tmp_path / "t.c"
+    src.write_text(f'#include "{e.filename}"\n')
+    P = e.model.PREFIX
+    compile_c(cc, [src], tmp_path / "t.o", flags=(*STRICT_FLAGS, *flags), include_dirs=[tmp_path],
+              defines={f"{P}_IMPLEMENTATION": None,
+                       **{f"{P}_{k}": v for k, v in switches.items()}})
+
 @pytest.mark.slow
 @pytest.mark.parametrize("name", EXAMPLES)
 @pytest.mark.parametrize("tool,flags", [("gcc", ("-c",)), ("clang", ("-c",)),
@@ -96,16 +111,8 @@ def test_every_line_code_equals_reference(lc):
 def test_strict_compile(tmp_path, name, tool, flags):
     """-Wall -Wextra -Wpedantic -Wconversion -Wshadow -Werror -std=c99 on every compiler,
     with <PREFIX>_RX_AVR_ICP1 defined (its ISRs compile on avr-gcc, vanish elsewhere)."""
-    cc = find_tool(tool)
-    if cc is None:
-        pytest.skip(f"{tool} not installed")
-    e = emit_header(example_spec(name), side="rx")
-    (tmp_path / e.filename).write_text(e.text)
-    src = tmp_path / "t.c"
-    src.write_text(f'#include "{e.filename}"\n')
-    P = e.model.PREFIX
-    compile_c(cc, [src], tmp_path / "t.o", flags=(*STRICT_FLAGS, *flags), include_dirs=[tmp_path],
-              defines={f"{P}_IMPLEMENTATION": None, f"{P}_RX_AVR_ICP1": None})
+    _compile_rx_strict(tmp_path, tool, flags, emit_header(example_spec(name), side="rx"),
+                       RX_AVR_ICP1=None)
 
 
 @pytest.mark.slow
@@ -606,17 +613,9 @@ def test_pulse_distance_gets_no_recovery_as_the_reference():
 def test_strict_compile_mark_space_recovery(tmp_path, tool, flags, recovery):
     """The pulse-width bed spec's receiver (with the recovery, and with <PREFIX>_RX_RECOVERY
     0) compiles clean under the strict warning set on gcc, clang and avr-gcc."""
-    cc = find_tool(tool)
-    if cc is None:
-        pytest.skip(f"{tool} not installed")
     e = emit_header(spec_from_dict(base_doc(PWM_BEDS[0])), side="rx")
     assert e.model.rx.recovery_flips
-    (tmp_path / e.filename).write_text(e.text)
-    src = tmp_path / "t.c"
-    src.write_text(f'#include "{e.filename}"\n')
-    P = e.model.PREFIX
-    compile_c(cc, [src], tmp_path / "t.o", flags=(*STRICT_FLAGS, *flags), include_dirs=[tmp_path],
-              defines={f"{P}_IMPLEMENTATION": None, f"{P}_RX_RECOVERY": recovery})
+    _compile_rx_strict(tmp_path, tool, flags, e, RX_RECOVERY=recovery)
 
 
 def pwm_bed_file(directory):
@@ -682,12 +681,7 @@ def test_candidate_cost_range_is_asserted(tmp_path, monkeypatch, offset, builds)
     monkeypatch.setattr(framer, "RECOVERY_MIN_OFFSET", offset)
     e = emit_header(example_spec("hive_scale.toml"), side="rx")
     assert f"_RX_MIN_OFFSET_10THS {round(offset * 10)} " in e.text
-    (tmp_path / e.filename).write_text(e.text)
-    src = tmp_path / "t.c"
-    src.write_text(f'#include "{e.filename}"\n')
-    build = lambda: compile_c(GCC, [src], tmp_path / "t.o", flags=(*STRICT_FLAGS, "-c"),  # noqa: E731
-                              include_dirs=[tmp_path],
-                              defines={f"{e.model.PREFIX}_IMPLEMENTATION": None})
+    build = lambda: _compile_rx_strict(tmp_path, "gcc", ("-c",), e)  # noqa: E731
     if builds:
         build()
     else:
@@ -701,16 +695,9 @@ def test_recovery_switch_refused_without_recovery(tmp_path):
     <PREFIX>_RX_RECOVERY 1 (#error naming why) and builds with 0."""
     e = emit_header(example_spec("gate_sensor.toml"), side="rx")
     assert e.model.rx.recovery_flips == 0
-    (tmp_path / e.filename).write_text(e.text)
-    src = tmp_path / "t.c"
-    src.write_text(f'#include "{e.filename}"\n')
-    P = e.model.PREFIX
     with pytest.raises(CodegenError, match="has no check-aided recovery"):
-        compile_c(GCC, [src], tmp_path / "t.o", flags=(*STRICT_FLAGS, "-c"),
-                  include_dirs=[tmp_path], defines={f"{P}_IMPLEMENTATION": None,
-                                                    f"{P}_RX_RECOVERY": "1"})
-    compile_c(GCC, [src], tmp_path / "t.o", flags=(*STRICT_FLAGS, "-c"), include_dirs=[tmp_path],
-              defines={f"{P}_IMPLEMENTATION": None, f"{P}_RX_RECOVERY": "0"})
+        _compile_rx_strict(tmp_path, "gcc", ("-c",), e, RX_RECOVERY="1")
+    _compile_rx_strict(tmp_path, "gcc", ("-c",), e, RX_RECOVERY="0")
 
 
 @needs_gcc
