@@ -16,7 +16,6 @@ On a C library without ``mallopt`` (musl, macOS, Windows) it does nothing.
 from __future__ import annotations
 
 import ctypes
-import ctypes.util
 
 #: glibc's mallopt parameter numbers (<malloc.h>)
 _M_TRIM_THRESHOLD = -1
@@ -30,12 +29,9 @@ _TOP_PAD_BYTES = 64 * 1024 * 1024
 
 def keep_freed_memory() -> bool:
     """Ask the C allocator to keep freed blocks for reuse; return True where it took."""
-    name = ctypes.util.find_library("c")
-    if name is None:
-        return False
-    try:
-        mallopt = ctypes.CDLL(name).mallopt
-    except (OSError, AttributeError):
+    try:  # the C library already loaded into this process (no library search at start-up)
+        mallopt = ctypes.CDLL(None).mallopt
+    except (OSError, AttributeError, TypeError):
         return False
     mallopt.argtypes = (ctypes.c_int, ctypes.c_int)
     mallopt.restype = ctypes.c_int
