@@ -159,11 +159,16 @@ def _unit_fit(d: np.ndarray, units: np.ndarray, lengths: np.ndarray) -> np.ndarr
     t -= np.repeat(np.concatenate(([0.0], t))[start], lengths)
     c = np.cumsum(units)
     c -= np.repeat(np.concatenate(([0], c))[start], lengths)
-    npts = lengths + 1.0
-    st, sc = _segment_sums(t, lengths), _segment_sums(c, lengths)
-    stc, scc = _segment_sums(t * c, lengths), _segment_sums(c * c, lengths)
+    return _slope(c, t, lengths, lengths + 1.0)
+
+
+def _slope(x: np.ndarray, y: np.ndarray, lengths: np.ndarray, n: np.ndarray) -> np.ndarray:
+    """Return per segment (of ``lengths``) the least-squares slope of ``y`` over ``x`` with
+    ``n`` points (points at the origin add to ``n`` only); NaN or inf where undefined."""
+    sx, sy = _segment_sums(x, lengths), _segment_sums(y, lengths)
+    sxx, sxy = _segment_sums(x * x, lengths), _segment_sums(x * y, lengths)
     with np.errstate(divide="ignore", invalid="ignore"):
-        return (npts * stc - st * sc) / (npts * scc - sc * sc)
+        return (n * sxy - sx * sy) / (n * sxx - sx * sx)
 
 
 def _bodies(spec: FrameSpec, hm: HeadModel, st: _Streams, lo: np.ndarray, hi: np.ndarray,
@@ -290,11 +295,7 @@ def _sync_start_us(hm: HeadModel, runs: WindowRuns, rs: np.ndarray, nr: np.ndarr
     m = cnt > 0
     t_rel = t - np.repeat(np.where(m, t[np.minimum(start, max(t.size - 1, 0))], 0.0), cnt) \
         if t.size else t
-    n = cnt.astype(np.float64)
-    sc, st = _segment_sums(chips, cnt), _segment_sums(t_rel, cnt)
-    scc, sct = _segment_sums(chips * chips, cnt), _segment_sums(chips * t_rel, cnt)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        own = (n * sct - sc * st) / (n * scc - sc * sc)
+    own = _slope(chips, t_rel, cnt, cnt.astype(np.float64))
     head, frame = units_us
     off = np.abs(frame - own)
     unit = np.where(np.isfinite(frame) & (frame > 0) & ~((off > SYNC_UNIT_SLACK * frame)
