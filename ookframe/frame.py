@@ -10,6 +10,7 @@ entry); callers that run many frames compile the plan once and pass it.
 from __future__ import annotations
 
 import difflib
+import itertools
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from decimal import Decimal, getcontext
@@ -290,16 +291,24 @@ class ParsedFrames:
         hex_len = 2 * ((n_bits - p.n_check_bits + 7) // 8)
         width = 2 * self.payload.shape[1]
         text = self.payload[rows].tobytes().hex()
-        if n and (hex_len == width).all():
-            hexes = [text[i:i + width] for i in range(0, n * width, width)]
+        if n and width and (hex_len == width).all():  # one string cut into n equal pieces
+            hexes = np.array([text]).view(f"<U{width}").tolist()
         else:
             hexes = [text[i * width:i * width + k] for i, k in enumerate(hex_len.tolist())]
-        return FrameColumns(
-            fields=[dict(zip(names, v, strict=True)) for v in zip(*phys, strict=True)]
-            if names else [{} for _ in idx],
-            raw=[dict(zip(names, v, strict=True)) for v in zip(*raws, strict=True)]
-            if names else [{} for _ in idx],
-            payload_hex=hexes, check_ok=self.check_ok[rows].tolist(), n_bits=n_bits.tolist())
+        raw = _dicts(names, raws, n)
+        if all(a is b for a, b in zip(phys, raws, strict=True)):
+            fields = list(map(dict.copy, raw))  # the same values: copy each dict
+        else:
+            fields = _dicts(names, phys, n)
+        return FrameColumns(fields=fields, raw=raw, payload_hex=hexes,
+                            check_ok=self.check_ok[rows].tolist(), n_bits=n_bits.tolist())
+
+
+def _dicts(names: list[str], columns: list[list], n: int) -> list[dict[str, object]]:
+    """Return ``n`` dicts, the i-th mapping ``names`` to entry i of every column."""
+    if not names:
+        return [{} for _ in range(n)]
+    return list(map(dict, map(zip, itertools.repeat(names), zip(*columns, strict=True))))
 
 
 @dataclass(frozen=True, eq=False)
