@@ -141,32 +141,70 @@ def _starts(lengths: np.ndarray) -> np.ndarray:
     return np.cumsum(lengths) - lengths
 
 
-def _segment_sums(values: np.ndarray, lengths: np.ndarray) -> np.ndarray:
-    """Return the sum of every segment of ``values`` (segments laid end to end) as float."""
-    out = np.zeros(lengths.size)
+@dataclass(frozen=True, eq=False)
+class _Segments:
+    """Segments of ``lengths`` laid end to end: where each starts, which are not empty
+    (``nz``) and the starts of those (``at``, what ``reduceat`` takes); ``size``: their
+    total length."""
+
+    lengths: np.ndarray
+    starts: np.ndarray
+    nz: np.ndarray
+    at: np.ndarray
+    size: int
+
+
+def _segments(lengths: np.ndarray) -> _Segments:
+    ends = np.cumsum(lengths)
+    starts = ends - lengths
     nz = lengths > 0
-    if values.size:
-        out[nz] = np.add.reduceat(values, _starts(lengths)[nz])
+    return _Segments(lengths, starts, nz, starts[nz], int(ends[-1]) if ends.size else 0)
+
+
+def _ragged(starts: np.ndarray, seg: _Segments) -> np.ndarray:
+    """Return the indices of the ranges [starts, starts + seg.lengths) laid end to end
+    (``ragged_index`` with the segments' own starts already at hand)."""
+    return np.arange(seg.size) + np.repeat(starts - seg.starts, seg.lengths)
+
+
+def _sums(values: np.ndarray, seg: _Segments) -> np.ndarray:
+    """Return the sum of every segment of ``values`` (along the last axis; a 2-D array's
+    rows are summed each on its own, as ``reduceat`` sums a 1-D row) as float."""
+    if seg.at.size == seg.lengths.size and values.shape[-1]:
+        return np.add.reduceat(values, seg.at, axis=-1).astype(np.float64, copy=False)
+    out = np.zeros((*values.shape[:-1], seg.lengths.size))
+    if values.shape[-1]:
+        out[..., seg.nz] = np.add.reduceat(values, seg.at, axis=-1)
     return out
 
 
-def _unit_fit(d: np.ndarray, units: np.ndarray, lengths: np.ndarray) -> np.ndarray:
+def _before(a: np.ndarray, start: np.ndarray) -> np.ndarray:
+    """Return ``a[start - 1]``, 0 where ``start`` is 0 (``concatenate(([0], a))[start]``)."""
+    if a.size == 0:
+        return np.zeros(start.size, a.dtype)
+    return np.where(start > 0, a[np.maximum(start - 1, 0)], a.dtype.type(0))
+
+
+def _unit_fit(d: np.ndarray, units: np.ndarray, seg: _Segments) -> np.ndarray:
     """Return per segment the least-squares unit: the slope of edge time over chip count,
     every edge weighing the same (NaN or inf for segments of fewer than 2 runs). Chip
     counts stay integers (their sums are exact either way)."""
-    start = _starts(lengths)
     t = np.cumsum(d)
-    t -= np.repeat(np.concatenate(([0.0], t))[start], lengths)
+    t -= np.repeat(_before(t, seg.starts), seg.lengths)
     c = np.cumsum(units)
-    c -= np.repeat(np.concatenate(([0], c))[start], lengths)
-    return _slope(c, t, lengths, lengths + 1.0)
+    c -= np.repeat(_before(c, seg.starts), seg.lengths)
+    return _slope(c, t, seg, seg.lengths + 1.0)
 
 
-def _slope(x: np.ndarray, y: np.ndarray, lengths: np.ndarray, n: np.ndarray) -> np.ndarray:
-    """Return per segment (of ``lengths``) the least-squares slope of ``y`` over ``x`` with
-    ``n`` points (points at the origin add to ``n`` only); NaN or inf where undefined."""
-    sx, sy = _segment_sums(x, lengths), _segment_sums(y, lengths)
-    sxx, sxy = _segment_sums(x * x, lengths), _segment_sums(x * y, lengths)
+def _slope(x: np.ndarray, y: np.ndarray, seg: _Segments, n: np.ndarray) -> np.ndarray:
+    """Return per segment (of ``seg``) the least-squares slope of ``y`` over ``x`` with
+    ``n`` points (points at the origin add to ``n`` only); NaN or inf where undefined.
+    Integer ``x`` is summed as integers (exact), ``y`` as float."""
+    if x.dtype.kind == "f":
+        sx, sy, sxx, sxy = _sums(np.stack((x, y, x * x, x * y)), seg)
+    else:
+        sx, sxx = _sums(np.stack((x, x * x)), seg)
+        sy, sxy = _sums(np.stack((y, x * y)), seg)
     with np.errstate(divide="ignore", invalid="ignore"):
         return (n * sxy - sx * sy) / (n * sxx - sx * sx)
 
@@ -282,30 +320,37 @@ def _sync_start_us(hm: HeadModel, runs: WindowRuns, rs: np.ndarray, nr: np.ndarr
     one of them does not carry into the long step back. One misplaced edge (a pulse
     merged with a neighbour the glitch filter dropped) does not move the median."""
     n_pre = runs.n_prefix
-    lo = np.searchsorted(runs.chip0, c_sync + base, side="left") - rs
-    hi = np.searchsorted(runs.chip0, c_sync + base + (hm.body_chip - hm.sync_chip),
-                         side="right") - rs
+    at = c_sync + base
+    lo = np.searchsorted(runs.chip0, at, side="left") - rs
+    hi = np.searchsorted(runs.chip0, at + (hm.body_chip - hm.sync_chip), side="right") - rs
     lo, hi = np.maximum(lo, n_pre), np.minimum(hi, nr)
     cnt = np.maximum(hi - lo, 0)
-    seg = np.repeat(np.arange(cnt.size), cnt)
-    r = ragged_index(lo, cnt)  # measured runs of the sync word, per frame
-    chips = (runs.chip0[rs[seg] + r] - base[seg] - c_sync[seg]).astype(np.float64)
-    t = t0[first[seg] + r - n_pre]
-    start = np.cumsum(cnt) - cnt
-    m = cnt > 0
-    t_rel = t - np.repeat(np.where(m, t[np.minimum(start, max(t.size - 1, 0))], 0.0), cnt) \
-        if t.size else t
-    own = _slope(chips, t_rel, cnt, cnt.astype(np.float64))
+    seg = _segments(cnt)
+    # the measured runs of the sync word, per frame (their chips from the sync's first, and
+    # their start times)
+    k = np.arange(seg.size)
+    per = np.repeat(np.stack((rs + lo - seg.starts, at, first + lo - n_pre - seg.starts)),
+                    cnt, axis=1)
+    chips = (runs.chip0[per[0] + k] - per[1]).astype(np.float64)
+    t = t0[per[2] + k]
+    t_rel = t - np.repeat(t[np.minimum(seg.starts, t.size - 1)], cnt) if t.size else t
+    own = _slope(chips, t_rel, seg, cnt.astype(np.float64))
     head, frame = units_us
     off = np.abs(frame - own)
     unit = np.where(np.isfinite(frame) & (frame > 0) & ~((off > SYNC_UNIT_SLACK * frame)
                                                          & (np.abs(head - own) < off)),
                     frame, head)
-    est = t - chips * unit[seg]
-    order = np.lexsort((est, seg))
-    est = est[order]
     out = np.full(cnt.size, np.nan)
-    mid = (est[start[m] + (cnt[m] - 1) // 2] + est[start[m] + cnt[m] // 2]) / 2
+    if seg.size == 0:
+        return out
+    # the median of every frame's estimates: each frame's row sorted (NaN after every
+    # number, as in one sort of all of them by frame then value)
+    est = np.full((cnt.size, int(cnt.max())), np.nan)
+    est[np.arange(est.shape[1]) < cnt[:, None]] = t - chips * np.repeat(unit, cnt)
+    est.sort(axis=1)
+    m = np.flatnonzero(seg.nz)
+    c = cnt[m]
+    mid = (est[m, (c - 1) // 2] + est[m, c // 2]) / 2
     out[m] = mid - hm.sync_chip * unit[m]
     return out
 
@@ -371,17 +416,19 @@ def frame_windows(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,
     i1 = np.minimum(last + 1, np.searchsorted(ends, c_end + base, side="right") - rs)
     i1 = i1 - ((i1 == last + 1) & last_capped)
     cnt = np.maximum(i1 - i0, 0)
-    at = ragged_index(off + i0 - n_pre, cnt)  # the runs in the Windows arrays
+    seg = _segments(cnt)
+    at = _ragged(off + i0 - n_pre, seg)  # the runs in the Windows arrays
     dev = ws.deviation[at]
     worst = np.zeros(f.size)
-    nz = cnt > 0
     if dev.size:
-        worst[nz] = np.maximum.reduceat(dev, _starts(cnt)[nz])
-    timing = _segment_sums((dev > spec.decoder.tolerance).astype(np.float64), cnt)
+        worst[seg.nz] = np.maximum.reduceat(dev, seg.at)
+    timing = _sums((dev > spec.decoder.tolerance).astype(np.float64), seg)
     d, units = ws.durations_us[at], ws.units[at]
-    unit = np.where(cnt >= 2, _unit_fit(d, units, cnt),
-                    np.where(cnt == 1, _segment_sums(d, cnt) / np.maximum(
-                        _segment_sums(units, cnt), 1), ws.unit_us[off]))
+    # a frame of one run: its duration over its units (the sums of one entry)
+    one = np.minimum(seg.starts, max(d.size - 1, 0))
+    unit = np.where(cnt >= 2, _unit_fit(d, units, seg),
+                    np.where(cnt == 1, d[one] / np.maximum(units[one], 1), ws.unit_us[off])
+                    if d.size else ws.unit_us[off])
 
     sync_us = _sync_start_us(hm, runs, rs, nr, base, _sync_chips(hm, st, runs, lo, pos, base),
                              t0, first, (unit0, unit))
