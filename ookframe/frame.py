@@ -409,6 +409,14 @@ def parse_frames(spec: SpecOrPlan, bodies: np.ndarray | Sequence[np.ndarray]) ->
     return _parse(p, *_rows_matrix(bodies, p.max_body_bits))
 
 
+def parse_rows(spec: SpecOrPlan, rows: np.ndarray, avail: np.ndarray) -> ParsedFrames:
+    """Return :func:`parse_frames` of the rows of ``rows`` (a uint8 array, frames x
+    ``max_body_bits``) holding ``avail`` bits each (at most ``max_body_bits``), every row
+    zero after its own bits."""
+    p = as_plan(spec)
+    return _parse(p, rows, np.asarray(avail, dtype=np.int64))
+
+
 def parse_ragged(spec: SpecOrPlan, bits: np.ndarray, lengths: np.ndarray) -> ParsedFrames:
     """Return :func:`parse_frames` of the rows laid end to end in ``bits`` (uint8), row i
     holding ``lengths[i]`` bits (no list of rows is built)."""

@@ -15,7 +15,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..frame import FrameColumns, parse_frames, parse_ragged
+from ..frame import FrameColumns, parse_frames, parse_ragged, parse_rows
 from ..linecodes import DecodedBits
 from ..spec.model import FrameSpec
 from .head import HeadModel
@@ -30,6 +30,11 @@ def array_body_bits(spec: FrameSpec, hm: HeadModel) -> int | None:
     if n_body is None or lc.chips_per_block is None or lc.max_stuffed_bits(n_body):
         return None
     return n_body
+
+
+#: data bits whose worst-case stuffing tells whether a line code stuffs at all (none: the
+#: bits as received are the frame's, read without unstuffing)
+NO_STUFFING_PROBE_BITS = 1 << 16
 
 
 @dataclass(frozen=True, eq=False)
@@ -227,6 +232,19 @@ def _bodies(spec: FrameSpec, hm: HeadModel, st: _Streams, lo: np.ndarray, hi: np
     n_air = np.zeros(lo.size, np.int64)
     code = np.zeros(lo.size, np.int64)
     starts = lo + body_at
+    if not lc.max_stuffed_bits(NO_STUFFING_PROBE_BITS):  # the bits as received are the body's
+        width = hm.plan.max_body_bits
+        col = np.arange(width)
+        avail = np.minimum(hi - starts, width)
+        # past a row's own bits: the streams' last entry (a 0, not valid)
+        at = np.where(col < avail[:, None], starts[:, None] + col, st.bits.size - 1)
+        pr = parse_rows(hm.plan, st.bits[at], avail)
+        i = np.flatnonzero(pr.complete)
+        n = pr.n_bits[i]  # a complete frame's bits are all there (no stuffing to run past)
+        ok[i] = True
+        n_air[i] = n
+        code[i] = (~st.valid[at[i]] & (col < n[:, None])).sum(axis=1)
+        return ok, pr.columns(i), n_air, code
     received, n_rx = lc.unstuff_rows(st.bits[ragged_index(starts, hi - starts)], hi - starts)
     at = np.cumsum(n_rx) - n_rx
     pr = parse_ragged(hm.plan, received, n_rx)
