@@ -379,9 +379,9 @@ def _read(p: FramePlan, plain: np.ndarray, avail: np.ndarray, reserve_bits: int)
             bits = plain[:, fp.offset_bits:fp.offset_bits + 8 * m]
             if p.spec.bit_order == "lsb":
                 bits = bits.reshape(n, m, 8)[:, :, ::-1].reshape(n, 8 * m)
-            packed = np.packbits(bits, axis=1)
-            raw.append(tuple(row[:k].tobytes() for row, k in zip(packed, length.tolist(),
-                                                                  strict=True)))
+            text = np.packbits(bits, axis=1).tobytes()  # m bytes per row, cut below
+            rows = range(0, n * m, m) if m else [0] * n
+            raw.append(tuple(text[i:i + k] for i, k in zip(rows, length.tolist(), strict=True)))
             continue
         if fp.offset_bits < blob.offset_bits:
             cols = plain[:, fp.offset_bits:fp.offset_bits + fp.width_bits]

@@ -74,15 +74,18 @@ class _Streams:
 
 
 def _streams(runs: WindowRuns, cands: list[DecodedBits]) -> _Streams:
-    base = np.cumsum([0] + [c.bits.size for c in cands])
-    lo = np.stack([np.searchsorted(c.run_index, runs.run_start) + b
-                   for c, b in zip(cands, base, strict=False)])
-    hi = np.stack([np.searchsorted(c.run_index, runs.run_stop) + b
-                   for c, b in zip(cands, base, strict=False)])
+    run = np.concatenate([c.run_index for c in cands] + [np.zeros(1, np.int64)])
+    # every candidate's run indices lifted above the previous one's (by more than every run
+    # index and window bound), so one search over them all finds each window's part of
+    # each candidate (as one search per candidate, offset by the bits before it)
+    span = runs.levels.size + 1
+    lift = np.arange(len(cands)) * span
+    key = run[:-1] + np.repeat(lift, [c.bits.size for c in cands])
+    bounds = np.stack((runs.run_start, runs.run_stop))[:, None, :] + lift[:, None]
+    lo, hi = np.searchsorted(key, bounds)
     return _Streams(np.concatenate([c.bits for c in cands] + [np.zeros(1, np.uint8)]),
                     np.concatenate([c.valid for c in cands] + [np.zeros(1, bool)]),
-                    np.concatenate([c.run_index for c in cands] + [np.zeros(1, np.int64)]),
-                    lo, hi)
+                    run, lo, hi)
 
 
 def _errors(st: _Streams, at: np.ndarray, pattern: np.ndarray) -> np.ndarray:
