@@ -274,12 +274,16 @@ def _frame_chips(hm: HeadModel, st: _Streams, lo: np.ndarray, body_at: np.ndarra
     if lc.chips_per_block is not None:
         return n_bits // lc.bits_per_block * lc.chips_per_block
     head = hm.head_bits
-    lengths = head.size + n_air
-    flat = np.empty(int(lengths.sum()), np.uint8)
-    row_start = np.cumsum(lengths) - lengths
-    flat[(row_start[:, None] + np.arange(head.size)).ravel()] = np.tile(head, n_air.size)
-    flat[ragged_index(row_start + head.size, n_air)] = st.bits[ragged_index(lo + body_at, n_air)]
-    return lc.chip_counts(flat, lengths)
+    h = head.size
+    lengths = h + n_air
+    if n_air.size == 0:
+        return lc.chip_counts(np.zeros(0, np.uint8), lengths)
+    # every frame as a row (head, then its body bits), cut to its own bits row after row
+    col = np.arange(int(n_air.max()))
+    rows = np.empty((n_air.size, h + col.size), np.uint8)
+    rows[:, :h] = head
+    rows[:, h:] = st.bits[np.minimum((lo + body_at)[:, None] + col, st.bits.size - 1)]
+    return lc.chip_counts(rows[np.arange(rows.shape[1]) < lengths[:, None]], lengths)
 
 
 def _start_chips(hm: HeadModel, st: _Streams, runs: WindowRuns, lo: np.ndarray,
