@@ -73,6 +73,12 @@ class _Streams:
     hi: np.ndarray
 
 
+def _rows(*arrays: np.ndarray) -> np.ndarray:
+    """Return 1-D arrays of one length and dtype as the rows of a 2-D array
+    (``np.stack`` at a lower fixed cost)."""
+    return np.concatenate(arrays).reshape(len(arrays), -1)
+
+
 def _streams(runs: WindowRuns, cands: list[DecodedBits]) -> _Streams:
     run = np.concatenate([c.run_index for c in cands] + [np.zeros(1, np.int64)])
     # every candidate's run indices lifted above the previous one's (by more than every run
@@ -81,7 +87,7 @@ def _streams(runs: WindowRuns, cands: list[DecodedBits]) -> _Streams:
     span = runs.levels.size + 1
     lift = np.arange(len(cands)) * span
     key = run[:-1] + np.repeat(lift, [c.bits.size for c in cands])
-    bounds = np.stack((runs.run_start, runs.run_stop))[:, None, :] + lift[:, None]
+    bounds = _rows(runs.run_start, runs.run_stop)[:, None, :] + lift[:, None]
     lo, hi = np.searchsorted(key, bounds)
     return _Streams(np.concatenate([c.bits for c in cands] + [np.zeros(1, np.uint8)]),
                     np.concatenate([c.valid for c in cands] + [np.zeros(1, bool)]),
@@ -91,8 +97,12 @@ def _streams(runs: WindowRuns, cands: list[DecodedBits]) -> _Streams:
 def _errors(st: _Streams, at: np.ndarray, pattern: np.ndarray) -> np.ndarray:
     """Return True where the bit at stream index ``at`` differs from ``pattern`` (last
     axis) or is invalid; indices out of the streams count as errors (callers mask them)."""
-    at = np.clip(at, 0, st.bits.size - 1)
+    at = np.minimum(np.maximum(at, 0), st.bits.size - 1)
     return (st.bits[at] != pattern) | ~st.valid[at]
+
+
+#: the sync search's key of an offset that is no hit
+_NO_HIT = np.iinfo(np.int64).max
 
 
 def _find_sync(spec: FrameSpec, hm: HeadModel, st: _Streams
@@ -130,13 +140,12 @@ def _find_sync(spec: FrameSpec, hm: HeadModel, st: _Streams
     sync_err = err[..., nl:].sum(axis=-1)
     total = sync_err + err[..., :nl].sum(axis=-1)
     ok = (offs >= 0) & (offs <= length[:, rest, None] - n) & (sync_err <= spec.sync.max_errors)
-    key = np.where(ok, (total * (n + 1) + sync_err) * (reach + 1) + np.abs(offs - e),
-                   np.iinfo(np.int64).max)
+    key = np.where(ok, (total * (n + 1) + sync_err) * (reach + 1) + np.abs(offs - e), _NO_HIT)
     at = key.argmin(axis=-1)  # phases x rest: the first of ties is the lowest offset
-    best = np.take_along_axis(key, at[..., None], axis=-1)[..., 0]
+    best = key.min(axis=-1)  # the key at ``at``
     ph = best.argmin(axis=0)  # the first of ties is the earliest phase
     cols = np.arange(rest.size)
-    hit = best[ph, cols] < np.iinfo(np.int64).max
+    hit = best[ph, cols] < _NO_HIT
     o = at[ph, cols]
     found[rest] = hit
     phase[rest] = ph
@@ -209,10 +218,10 @@ def _slope(x: np.ndarray, y: np.ndarray, seg: _Segments, n: np.ndarray) -> np.nd
     ``n`` points (points at the origin add to ``n`` only); NaN or inf where undefined.
     Integer ``x`` is summed as integers (exact), ``y`` as float."""
     if x.dtype.kind == "f":
-        sx, sy, sxx, sxy = _sums(np.stack((x, y, x * x, x * y)), seg)
+        sx, sy, sxx, sxy = _sums(_rows(x, y, x * x, x * y), seg)
     else:
-        sx, sxx = _sums(np.stack((x, x * x)), seg)
-        sy, sxy = _sums(np.stack((y, x * y)), seg)
+        sx, sxx = _sums(_rows(x, x * x), seg)
+        sy, sxy = _sums(_rows(y, x * y), seg)
     with np.errstate(divide="ignore", invalid="ignore"):
         return (n * sxy - sx * sy) / (n * sxx - sx * sx)
 
@@ -354,7 +363,7 @@ def _sync_start_us(hm: HeadModel, runs: WindowRuns, rs: np.ndarray, nr: np.ndarr
     # the measured runs of the sync word, per frame (their chips from the sync's first, and
     # their start times)
     k = np.arange(seg.size)
-    per = np.repeat(np.stack((rs + lo - seg.starts, at, first + lo - n_pre - seg.starts)),
+    per = np.repeat(_rows(rs + lo - seg.starts, at, first + lo - n_pre - seg.starts),
                     cnt, axis=1)
     chips = (runs.chip0[per[0] + k] - per[1]).astype(np.float64)
     t = t0[per[2] + k]
@@ -411,7 +420,7 @@ def frame_windows(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,
 
     def run_at(chip: np.ndarray) -> np.ndarray:
         r = np.searchsorted(runs.chip0, chip + base, side="right") - 1 - rs
-        return np.clip(r, 0, nr - 1)
+        return np.minimum(np.maximum(r, 0), nr - 1)
 
     def measured(r: np.ndarray) -> np.ndarray:
         return np.maximum(r - n_pre, 0)
