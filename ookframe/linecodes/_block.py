@@ -117,20 +117,26 @@ class BlockCode(LineCode):
         lv, un = as_runs(levels, units)
         chips, run_of_chip = expand_runs(lv, un)
         k, n = self.DATA_BITS, self.CODE_CHIPS
+        # the codeword starting at every chip (chip j of it weighs 2 ** (n - 1 - j)); phase
+        # p's blocks are those starting at p, p + n, ...
+        span = max(chips.size - n + 1, 0)
+        values = np.zeros(span, np.uint8)
+        for j in range(n):
+            values |= chips[j:j + span] << (n - 1 - j)
+        data = self._decode_table[values]
+        valid = data >= 0
+        data = np.where(valid, data, 0).astype(np.uint8)
+        if k > 1:
+            data = ((data[:, None] >> self._data_shifts) & 1).astype(np.uint8)
         out = []
         for phase in range(n):
             m = max(chips.size - phase, 0) // n
-            # codeword values: chip j of every block weighs 2 ** (n - 1 - j)
-            values = np.zeros(m, np.uint8)
-            for j in range(n):
-                values |= chips[phase + j:phase + j + m * n:n] << (n - 1 - j)
-            data = self._decode_table[values]
-            valid = data >= 0
-            data = np.where(valid, data, 0).astype(np.uint8)
-            starts = run_of_chip[phase:phase + m * n:n].copy()  # run of each block's first chip
+            at = slice(phase, phase + m * n, n)
+            starts = np.ascontiguousarray(run_of_chip[at])  # run of each block's first chip
             if k == 1:
-                out.append(DecodedBits(data, starts, valid))
+                out.append(DecodedBits(np.ascontiguousarray(data[at]), starts,
+                                       np.ascontiguousarray(valid[at])))
                 continue
-            bits = ((data[:, None] >> self._data_shifts) & 1).reshape(-1).astype(np.uint8)
-            out.append(DecodedBits(bits, np.repeat(starts, k), np.repeat(valid, k)))
+            out.append(DecodedBits(data[at].reshape(-1), np.repeat(starts, k),
+                                   np.repeat(valid[at], k)))
         return out
