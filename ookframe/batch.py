@@ -19,6 +19,7 @@ import numpy as np
 
 from .bits import from_raw, uint_matrix_to_bits
 from .checks.base import check_rows
+from .linecodes.base import LineCode
 from .plan import FramePlan, as_plan
 from .ragged import ragged_index
 from .spec.model import FrameSpec
@@ -192,7 +193,17 @@ def encode_bits(spec: FrameSpec | FramePlan, raws: Raws) -> EncodedBits:
 def rows_of(matrix: np.ndarray, lengths: np.ndarray) -> list[np.ndarray]:
     """Return row ``i`` of ``matrix`` cut to ``lengths[i]`` entries, for every row."""
     flat = matrix[np.arange(matrix.shape[1]) < lengths[:, None]]
-    return np.split(flat, np.cumsum(lengths)[:-1]) if lengths.size else []
+    return split_rows(flat, lengths)
+
+
+def split_rows(flat: np.ndarray, lengths: np.ndarray) -> list[np.ndarray]:
+    """Return the rows (views) of ``flat``, rows of ``lengths[i]`` entries laid end to end:
+    ``np.split(flat, np.cumsum(lengths)[:-1])`` without its per-row overhead (``[]`` for
+    no rows)."""
+    if lengths.size == 0:
+        return []
+    ends = np.cumsum(lengths).tolist()
+    return [flat[a:b] for a, b in zip([0, *ends[:-1]], ends, strict=True)]
 
 
 def frame_bits_batch(spec: FrameSpec | FramePlan, raws: Raws) -> np.ndarray | list[np.ndarray]:
@@ -210,6 +221,23 @@ def frame_bits_of(plan: FramePlan, enc: EncodedBits) -> np.ndarray | list[np.nda
     return [np.concatenate((head, row)) for row in rows_of(enc.body, enc.n_body_bits)]
 
 
+def frame_bits_flat(plan: FramePlan, enc: EncodedBits) -> tuple[np.ndarray, np.ndarray]:
+    """Return (head + body bits of every encoded frame laid end to end, bits per frame):
+    the rows of :func:`frame_bits_of` in one uint8 array."""
+    head = plan.head_bits
+    if plan.is_fixed:
+        bits = frame_bits_of(plan, enc)
+        assert isinstance(bits, np.ndarray)
+        return bits.reshape(-1), np.full(enc.n, bits.shape[1], np.int64)
+    n, width = enc.body.shape
+    h = head.size
+    lengths = h + np.asarray(enc.n_body_bits, np.int64)
+    padded = np.empty((n, h + width), np.uint8)
+    padded[:, :h] = head
+    padded[:, h:] = enc.body
+    return padded[np.arange(h + width) < lengths[:, None]], lengths
+
+
 def frame_chips_batch(spec: FrameSpec | FramePlan, bits: np.ndarray | Sequence[np.ndarray]
                       ) -> np.ndarray | list[np.ndarray]:
     """Chips of frame bits (from :func:`frame_bits_batch`): bit stuffing after the sync,
@@ -217,7 +245,6 @@ def frame_chips_batch(spec: FrameSpec | FramePlan, bits: np.ndarray | Sequence[n
     and no stuffing, else a list of 1-D arrays."""
     plan = as_plan(spec)
     lc = plan.line_code
-    head_n = plan.head_bits.size
     if (isinstance(bits, np.ndarray) and bits.ndim == 2 and lc.chips_per_block is not None
             and lc.max_stuffed_bits(bits.shape[1]) == 0):
         return lc.encode(bits)
@@ -225,7 +252,22 @@ def frame_chips_batch(spec: FrameSpec | FramePlan, bits: np.ndarray | Sequence[n
     if not rows:
         return []
     sizes = np.array([r.size for r in rows], np.int64)
-    flat = np.concatenate(rows).astype(np.uint8, copy=False)
+    chips, n_chips = frame_chips_flat(plan, np.concatenate(rows), sizes)
+    return split_rows(chips, n_chips)
+
+
+def frame_chips_flat(plan: FramePlan, bits: np.ndarray, sizes: np.ndarray
+                     ) -> tuple[np.ndarray, np.ndarray]:
+    """Return (chips of every frame laid end to end, chips per frame) for frame bits laid
+    end to end in ``bits`` (``sizes[i]`` bits each, head first): bit stuffing after the
+    sync, then the line code, each frame on its own (the rows of
+    :func:`frame_chips_batch` in one array)."""
+    lc = plan.line_code
+    head_n = plan.head_bits.size
+    flat = np.asarray(bits).astype(np.uint8, copy=False)
+    sizes = np.asarray(sizes, np.int64)
+    if type(lc).stuff_rows is LineCode.stuff_rows:  # no stuffing: the bits as they are
+        return lc.encode_rows(flat, sizes)
     row_start = np.cumsum(sizes) - sizes
     body, n_body = lc.stuff_rows(flat[ragged_index(row_start + head_n, sizes - head_n)],
                                  sizes - head_n)
@@ -235,5 +277,4 @@ def frame_chips_batch(spec: FrameSpec | FramePlan, bits: np.ndarray | Sequence[n
     heads = (row_start[:, None] + np.arange(head_n)).ravel()
     out[(out_start[:, None] + np.arange(head_n)).ravel()] = flat[heads]
     out[ragged_index(out_start + head_n, n_body)] = body
-    chips, n_chips = lc.encode_rows(out, lengths)
-    return np.split(chips, np.cumsum(n_chips)[:-1])
+    return lc.encode_rows(out, lengths)

@@ -6,9 +6,20 @@ import numpy as np
 import pytest
 
 from ookframe import frame_bits, frame_chips
-from ookframe.batch import frame_bits_batch, frame_chips_batch, random_raw_batch, raw_row
+from ookframe.batch import (
+    encode_bits,
+    frame_bits_batch,
+    frame_bits_flat,
+    frame_bits_of,
+    frame_chips_batch,
+    frame_chips_flat,
+    random_raw_batch,
+    raw_row,
+    split_rows,
+)
 from ookframe.demo import example_names
 from ookframe.linecodes import LINE_CODES
+from ookframe.plan import as_plan
 from ookframe.spec_io import spec_from_dict
 from tests.conftest import example_spec
 
@@ -61,3 +72,30 @@ def test_batch_equals_single_for_every_line_code(line_code):
         values = raw_row(spec, raws, i)
         assert bits[i].tolist() == frame_bits(spec, values).tolist()
         assert np.asarray(chips[i]).tolist() == frame_chips(spec, values).tolist()
+
+
+@pytest.mark.parametrize("line_code", CODE_DOCS, ids=lambda d: "-".join(map(str, d.values())))
+@pytest.mark.parametrize("with_bytes", [False, True])
+def test_flat_rows_equal_the_row_lists(line_code, with_bytes):
+    """frame_bits_flat / frame_chips_flat hold the rows of frame_bits_batch /
+    frame_chips_batch laid end to end, for every line code, fixed and variable layouts."""
+    fields = [{"name": "level", "width_bits": 12}, {"name": "id", "width_bits": 4}]
+    if with_bytes:
+        fields = [{"name": "n", "width_bits": 4, "role": "length"},
+                  {"name": "note", "kind": "bytes", "max_len_bytes": 5}, *fields]
+    spec = spec_from_dict({
+        "frame": {"name": "bed", "unit_us": 500.0}, "line_code": line_code,
+        "preamble": {"pattern": 0xAA, "count": 1}, "sync": {"value": 0x2D, "length_bits": 8},
+        "fields": fields, "check": {"model": "CRC-16/KERMIT", "covers": ["fields"]}})
+    plan = as_plan(spec)
+    raws = random_raw_batch(plan, 25, np.random.default_rng(5))
+    enc = encode_bits(plan, raws)
+    rows = list(frame_bits_of(plan, enc))
+    flat, sizes = frame_bits_flat(plan, enc)
+    assert sizes.tolist() == [r.size for r in rows]
+    assert flat.dtype == np.uint8 and flat.tolist() == np.concatenate(rows).tolist()
+    chip_rows = list(frame_chips_batch(plan, frame_bits_of(plan, enc)))
+    chips, n_chips = frame_chips_flat(plan, flat, sizes)
+    assert n_chips.tolist() == [c.size for c in chip_rows]
+    assert chips.tolist() == np.concatenate(chip_rows).tolist()
+    assert [c.tolist() for c in split_rows(chips, n_chips)] == [c.tolist() for c in chip_rows]

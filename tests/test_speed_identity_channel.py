@@ -17,8 +17,9 @@ import pytest
 
 from ookframe.channel import PRESETS, ChannelSpec, apply_channel
 from ookframe.channel import impairments as im
+from ookframe.linecodes import LINE_CODES
 from ookframe.pulses import PulseTrain
-from ookframe.spec_io import load_spec
+from ookframe.spec_io import load_spec, spec_from_dict
 from ookframe.stress import batch as sb
 from ookframe.stress.runner import Counts, match_frames
 
@@ -324,6 +325,31 @@ def test_join_matches_reference(example, gap_us):
         assert _same(b.train.levels, lv) and _same(b.train.durations_us, du)
         got = sb.join_chips(s, rows, b.payload_hex, gap)  # list input as well as 2-D
         assert _same(got.train.levels, lv) and _same(got.train.durations_us, du)
+
+
+@pytest.mark.parametrize("code", [{"name": n, **cls.DEFAULTS} for n, cls in LINE_CODES.items()]
+                         + [{"name": "nrz", "stuff_after": 3}], ids=lambda d: d["name"])
+@pytest.mark.parametrize("repeats", [1, 3])
+def test_random_batch_equals_join_of_its_rows(code, repeats):
+    """random_batch (rows kept laid end to end) gives the train of join_chips over the
+    rows of random_chips, and the same draws, for every line code with a bytes field."""
+    spec = spec_from_dict({
+        "frame": {"name": "bed", "unit_us": 1e6 / 2400, "repeats": repeats, "gap_us": 900.0},
+        "line_code": code, "preamble": {"pattern": 0xAA, "count": 1},
+        "sync": {"value": 0x2D, "length_bits": 8},
+        "fields": [{"name": "n", "width_bits": 4, "role": "length"},
+                   {"name": "note", "kind": "bytes", "max_len_bytes": 6},
+                   {"name": "id", "width_bits": 4}],
+        "check": {"model": "CRC-16/KERMIT", "covers": ["fields"]}})
+    for n in (0, 1, 13):
+        g1, g2 = np.random.default_rng(n), np.random.default_rng(n)
+        b = sb.random_batch(spec, n, g1, gap_us=333.0)
+        rows, payload = sb.random_chips(spec, n, g2)
+        want = sb.join_chips(spec, rows, payload, 333.0)
+        assert _same(b.train.levels, want.train.levels)
+        assert _same(b.train.durations_us, want.train.durations_us)
+        assert _same(b.starts_us, want.starts_us) and _same(b.ends_us, want.ends_us)
+        assert b.payload_hex == want.payload_hex and g1.random() == g2.random()
 
 
 def test_join_all_zero_rows_and_empty_batch():

@@ -51,8 +51,25 @@ def random_batch(
     first and after the last."""
     plan = as_plan(spec)
     gap = float(plan.gap_us if gap_us is None else gap_us)
-    chips, payload = random_chips(plan, n, rng)
-    return join_chips(plan, chips, payload, gap)
+    enc = _batch.encode_bits(plan, _random_raws(plan, n, rng))
+    payload = enc.payload_hex()
+    lc = plan.line_code
+    if plan.is_fixed:
+        bits = _batch.frame_bits_of(plan, enc)
+        assert isinstance(bits, np.ndarray)
+        if n == 0 or (lc.chips_per_block is not None
+                      and lc.max_stuffed_bits(bits.shape[1]) == 0):  # 2-D chips
+            return join_chips(plan, _batch.frame_chips_batch(plan, bits), payload, gap)
+        flat, sizes = bits.reshape(-1), np.full(n, bits.shape[1], np.int64)
+    else:
+        if n == 0:
+            return join_chips(plan, [], payload, gap)
+        flat, sizes = _batch.frame_bits_flat(plan, enc)
+    # rows of different chip counts: kept laid end to end from bits to slots
+    chips, n_chips = _batch.frame_chips_flat(plan, flat, sizes)
+    if n_chips.min() == 0:
+        return join_chips(plan, _batch.split_rows(chips, n_chips), payload, gap)
+    return _join_slots(plan, _slot_levels_flat(chips, n_chips, plan.repeats), payload, gap)
 
 
 def random_chips(spec: FrameSpec | FramePlan, n: int, rng: np.random.Generator
@@ -73,9 +90,15 @@ def join_chips(
     ``rows``: the chips of each transmission, a 2-D array (fixed layout) or a list.
     """
     plan = as_plan(spec)
+    return _join_slots(plan, _slot_levels(rows, plan.repeats), payload, gap)
+
+
+def _join_slots(plan: FramePlan, slots: tuple[np.ndarray, np.ndarray, np.ndarray],
+                payload: tuple[str, ...], gap: float) -> Batch:
+    """Return the batch of :func:`join_chips` from its slots (``_slot_levels``)."""
     unit = plan.unit_us
     r = plan.repeats
-    levels, lens, gap_slot = _slot_levels(rows, r)
+    levels, lens, gap_slot = slots
     # gap slots: one batch gap in front, then per transmission r - 1 repeat gaps and a batch gap
     gap_w = np.full(gap_slot.size, float(gap))
     if r > 1:
@@ -99,6 +122,8 @@ def _slot_levels(
         gap_slot = np.arange(n * r + 1) * (width + 1)
         return levels, np.full(n, width, np.int64), gap_slot
     lens = np.array([c.size for c in rows], np.int64)
+    if lens.size and lens.min() > 0:
+        return _slot_levels_flat(np.concatenate(rows), lens, r)
     copy_slots = lens + 1  # slots of one copy: its chips and the gap slot after them
     first = 1 + np.concatenate(([0], np.cumsum(r * copy_slots)[:-1]))
     copy_start = first[:, None] + np.arange(r) * copy_slots[:, None]  # (rows, r)
@@ -109,6 +134,32 @@ def _slot_levels(
         within = np.arange(chips.size) - np.repeat(row_first, lens)
         for k in range(r):
             levels[np.repeat(copy_start[:, k], lens) + within] = chips
+    gap_slot = np.concatenate(([0], (copy_start + lens[:, None]).ravel()))
+    return levels, lens, gap_slot
+
+
+def _slot_levels_flat(
+    chips: np.ndarray, lens: np.ndarray, r: int
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """``_slot_levels`` of rows laid end to end in ``chips`` (``lens[i] >= 1`` chips each,
+    at least one row): the rows padded into a matrix with a zero (the gap slot) after
+    each, and its ``r`` copies per row read out without the padding."""
+    n = lens.size
+    copy_slots = lens + 1  # slots of one copy: its chips and the gap slot after them
+    first = 1 + np.concatenate(([0], np.cumsum(r * copy_slots)[:-1]))
+    copy_start = first[:, None] + np.arange(r) * copy_slots[:, None]  # (rows, r)
+    cols = np.arange(int(lens.max()) + 1)
+    padded = np.zeros((n, cols.size), np.uint8)
+    padded[cols < lens[:, None]] = chips
+    keep = cols <= lens[:, None]
+    levels = np.empty(1 + int(r * copy_slots.sum()), np.uint8)
+    levels[0] = 0
+    if r == 1:
+        levels[1:] = padded[keep]
+    else:
+        shape = (n, r, cols.size)
+        levels[1:] = np.broadcast_to(padded[:, None, :], shape)[
+            np.broadcast_to(keep[:, None, :], shape)]
     gap_slot = np.concatenate(([0], (copy_start + lens[:, None]).ravel()))
     return levels, lens, gap_slot
 
