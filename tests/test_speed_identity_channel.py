@@ -207,11 +207,31 @@ def test_min_width_matches_reference(seed):
     rng = np.random.default_rng(seed)
     t = np.cumsum(rng.exponential(5.0, 2000)) + rng.normal(0.0, 2.0, 2000)
     for w in (0.01, 0.5, 3.0):
-        for ts in (t, np.sort(t), np.sort(t) + 10.0):
+        for ts in (t, np.sort(t), np.sort(t) + 10.0, np.sort(t) - 40.0, t - 40.0):
             want = _ref_min_width(1, ts, 2e4, w)
             for own in (False, True):
                 got = im._min_width(im.Edges(1, ts.copy(), 2e4), w, own=own)
                 assert _same(got.t_us, want[1]) and got.end_us == want[2]
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_cumsum_us_equals_cumsum(seed):
+    """Reference: np.cumsum (float64), bit for bit: binary-fraction multiples (summed as
+    integers), other values, zeros, -0.0, negatives, non-finite values, huge and tiny
+    totals, short inputs."""
+    rng = np.random.default_rng(seed)
+    n = int(rng.integers(1000, 30000))
+    whole = rng.integers(1, 40, n) * rng.choice([250.0, 350.0, 312.5, 0.375, 2.0**-40])
+    whole[rng.random(n) < 0.1] = rng.choice([9000.0, 5000.0, 123.25])
+    cases = [whole, whole[:50], whole * (1e6 / 2400) / 250.0, whole + 1e-9,
+             np.concatenate((whole, [0.0])), np.concatenate(([-0.0], whole)),
+             np.concatenate((whole, [-350.0])), whole * 2.0**40, whole * 2.0**-60,
+             np.concatenate((whole, [np.inf])), np.concatenate((whole, [np.nan])),
+             rng.exponential(100.0, n)]
+    for x in cases:
+        got = im.cumsum_us(x)
+        want = np.cumsum(x)
+        assert got.dtype == want.dtype and _same(got.view(np.int64), want.view(np.int64))
 
 
 @pytest.mark.parametrize("seed", range(5))
