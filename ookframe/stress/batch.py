@@ -156,10 +156,8 @@ def _slot_levels_flat(
     levels[0] = 0
     if r == 1:
         levels[1:] = padded[keep]
-    else:
-        shape = (n, r, cols.size)
-        levels[1:] = np.broadcast_to(padded[:, None, :], shape)[
-            np.broadcast_to(keep[:, None, :], shape)]
+    else:  # each row r times in a row (faster than reading a broadcast view)
+        levels[1:] = np.repeat(padded, r, axis=0)[np.repeat(keep, r, axis=0)]
     gap_slot = np.concatenate(([0], (copy_start + lens[:, None]).ravel()))
     return levels, lens, gap_slot
 
