@@ -264,7 +264,7 @@ def test_idle_noise_matches_reference(seed):
             assert got.end_us == want[2] and a.random() == b.random()
 
 
-@pytest.mark.parametrize("seed", range(5))
+@pytest.mark.parametrize("seed", range(12))
 def test_space_positions_merge_like_searchsorted(seed):
     """Reference: _insert_sorted at commit 3ba4d04, also for points pushed off their space
     (onto or past its closing toggle, onto its opening one)."""
@@ -282,7 +282,17 @@ def test_space_positions_merge_like_searchsorted(seed):
         counts.append(pts.size)
     new_us = np.concatenate(new)
     before = im._space_positions(t, new_us, 2 * spaces, np.array(counts))
-    assert _same(im._insert_at(t, new_us, before), _ref_insert_sorted(t, new_us))
+    want = _ref_insert_sorted(t, new_us)
+    assert _same(im._insert_at(t, new_us, before), want)
+    assert _same(im._insert_in_spaces(t, new_us, 2 * spaces, np.array(counts)), want)
+    inside = [p[(p > (t[2 * sp - 1] if sp else -1.0)) & (p < (t[2 * sp] if sp < 20 else np.inf))]
+              for p, sp in zip(new, spaces, strict=True)]  # the block path (nothing off)
+    pts = np.concatenate(inside)
+    got = im._insert_in_spaces(t, pts, 2 * spaces, np.array([p.size for p in inside]))
+    assert _same(got, _ref_insert_sorted(t, pts))
+    empty = np.zeros(0)  # no toggles: one space
+    one = np.sort(g.uniform(0.0, 5.0, 3))
+    assert _same(im._insert_in_spaces(empty, one, np.zeros(1, np.int64), np.array([3])), one)
 
 
 @pytest.mark.parametrize("seed", range(5))

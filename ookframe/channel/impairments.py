@@ -327,7 +327,46 @@ def _k_idle_noise(
     length -= begin
     ok = np.flatnonzero(length > 0)
     noise, counts = _poisson_points_counted(begin[ok], length[ok], mean_us, rng, even=True)
-    return _normalise(0, _insert_at(t, noise, _space_positions(t, noise, 2 * ok, counts)), end)
+    return _normalise(0, _insert_in_spaces(t, noise, 2 * ok, counts), end)
+
+
+def _insert_in_spaces(
+    t_us: np.ndarray, new_us: np.ndarray, first_toggle: np.ndarray, counts: np.ndarray
+) -> np.ndarray:
+    """Return ``_insert_at(t_us, new_us, _space_positions(t_us, new_us, first_toggle,
+    counts))``, the same array: ``counts[r]`` of the sorted ``new_us`` (non-decreasing
+    within each ``r``) belong before toggle ``first_toggle[r]`` (strictly increasing).
+
+    When every point lies inside its space (a point off it, by rounding, is searched for
+    instead), each space's points are one block between two blocks of toggles, so the
+    result is laid out by a mask of alternating blocks; that every point lies inside is
+    seen from the first and last point of each space, as the points of a space are sorted.
+    """
+    n_t = t_us.size
+    some = counts > 0
+    first = first_toggle[some]
+    if n_t == 0 or first.size == 0:
+        return _insert_at(t_us, new_us, _space_positions(t_us, new_us, first_toggle, counts))
+    k = counts[some]
+    last = np.cumsum(counts)[some] - 1  # index of each space's last point
+    lo = t_us[np.maximum(first - 1, 0)]
+    lo[first == 0] = -np.inf
+    hi = t_us[np.minimum(first, n_t - 1)]
+    hi[first >= n_t] = np.inf
+    if not ((new_us[last - k + 1] >= lo).all() and (new_us[last] <= hi).all()):
+        return _insert_at(t_us, new_us, _space_positions(t_us, new_us, first_toggle, counts))
+    blocks = np.empty(2 * first.size + 1, np.int64)  # toggles, points, toggles, ... toggles
+    blocks[0] = first[0]
+    blocks[1:-1:2] = k
+    np.subtract(first[1:], first[:-1], out=blocks[2:-1:2])
+    blocks[-1] = n_t - first[-1]
+    is_toggle = np.zeros(blocks.size, bool)
+    is_toggle[0::2] = True
+    keep = np.repeat(is_toggle, blocks)
+    out = np.empty(n_t + new_us.size)
+    out[keep] = t_us
+    out[~keep] = new_us
+    return out
 
 
 def _shifted_between_spaces(e: Edges, lead_us: float) -> np.ndarray:
