@@ -7,7 +7,8 @@ array with a length per row (:class:`EncodedBits`) and handed out as a list of r
 
 Raw values (``Raws``): per int field an integer array of length ``n`` (two's complement
 patterns as uint64, or signed int64); per bytes field a sequence of ``n`` bytes objects
-(the length field must hold their lengths).
+(the length field must hold their lengths), or an (n x max_len_bytes) uint8 array whose
+row ``i`` holds frame ``i``'s bytes in its first (length field's value) entries.
 """
 
 from __future__ import annotations
@@ -54,11 +55,11 @@ class EncodedBits:
         if width == 0:
             return ("",) * packed.shape[0]
         text = packed.tobytes().hex()
-        rows = [text[i:i + width] for i in range(0, len(text), width)]
         if self.plan.is_fixed:
-            return tuple(rows)
-        return tuple(r[:2 * ((k + 7) // 8)] for r, k in zip(rows, self.n_field_bits.tolist(),
-                                                            strict=True))
+            return tuple([text[i:i + width] for i in range(0, len(text), width)])
+        begin = np.arange(packed.shape[0]) * width
+        end = begin + 2 * ((np.asarray(self.n_field_bits, np.int64) + 7) // 8)
+        return tuple([text[a:b] for a, b in zip(begin.tolist(), end.tolist(), strict=True)])
 
 
 def is_fixed_layout(spec: FrameSpec | FramePlan) -> bool:
@@ -72,7 +73,23 @@ def random_raw_batch(spec: FrameSpec | FramePlan, n: int, rng: np.random.Generat
     bytes field ``n`` random byte strings of uniform length 0..max_len_bytes (the length
     field holds their lengths)."""
     plan = as_plan(spec)
-    out: dict[str, np.ndarray | list[bytes]] = {}
+    out: dict[str, np.ndarray | list[bytes]] = dict(random_raw_arrays(plan, n, rng))
+    if plan.bytes_field is not None:
+        data = out[plan.bytes_field.name]
+        assert isinstance(data, np.ndarray) and plan.length_field is not None
+        lengths = out[plan.length_field.name]
+        out[plan.bytes_field.name] = [row[:k].tobytes() for row, k in zip(data, lengths.tolist(),
+                                                                           strict=True)]
+    return out
+
+
+def random_raw_arrays(spec: FrameSpec | FramePlan, n: int, rng: np.random.Generator
+                      ) -> dict[str, np.ndarray]:
+    """The raw values of :func:`random_raw_batch` (the same draws), a bytes field as an
+    (n x max_len_bytes) uint8 array, row ``i`` zero past its length (the length field's
+    value), which :func:`field_bits_batch` also takes."""
+    plan = as_plan(spec)
+    out: dict[str, np.ndarray] = {}
     for fp in plan.fields:
         f = fp.field
         if fp.width_bits is None:
@@ -86,8 +103,8 @@ def random_raw_batch(spec: FrameSpec | FramePlan, n: int, rng: np.random.Generat
         m = plan.bytes_field.field.max_len_bytes
         lengths = rng.integers(0, m + 1, size=n)
         data = rng.integers(0, 256, size=(n, m), dtype=np.uint8)
-        out[plan.bytes_field.name] = [row[:k].tobytes() for row, k in zip(data, lengths.tolist(),
-                                                                           strict=True)]
+        data[np.arange(m) >= lengths[:, None]] = 0
+        out[plan.bytes_field.name] = data
         assert plan.length_field is not None
         out[plan.length_field.name] = lengths.astype(np.int64)
     return out
@@ -122,9 +139,14 @@ def field_bits_batch(spec: FrameSpec | FramePlan, raws: Raws) -> tuple[np.ndarra
         if fp.width_bits is None:
             blobs = raws[fp.name]
             m = fp.field.max_len_bytes
-            lengths = np.fromiter((len(b) for b in blobs), np.int64, n)  # type: ignore[arg-type]
-            buf = np.zeros((n, m), np.uint8)
-            buf[np.arange(m) < lengths[:, None]] = np.frombuffer(b"".join(blobs), np.uint8)  # type: ignore[arg-type]
+            if isinstance(blobs, np.ndarray):  # (n x m) bytes, zero past each length
+                assert plan.length_field is not None
+                lengths = np.asarray(raws[plan.length_field.name], np.int64)
+                buf = np.where(np.arange(m) < lengths[:, None], blobs, 0).astype(np.uint8, copy=False)
+            else:
+                lengths = np.fromiter((len(b) for b in blobs), np.int64, n)
+                buf = np.zeros((n, m), np.uint8)
+                buf[np.arange(m) < lengths[:, None]] = np.frombuffer(b"".join(blobs), np.uint8)
             bits = np.unpackbits(buf, axis=1)
             if spec.bit_order == "lsb":
                 bits = bits.reshape(n, m, 8)[:, :, ::-1].reshape(n, 8 * m)

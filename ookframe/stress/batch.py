@@ -37,9 +37,9 @@ class Batch:
 
 def _random_raws(plan: FramePlan, n: int, rng: np.random.Generator):
     """Return the raw values of ``n`` random frames, drawn array-wide
-    (``ookframe.batch.random_raw_batch``: every layout, bytes fields too; the distribution
-    of ``frame.random_values``)."""
-    return _batch.random_raw_batch(plan, n, rng)
+    (``ookframe.batch.random_raw_arrays``, the draws of ``random_raw_batch``: every layout,
+    bytes fields too; the distribution of ``frame.random_values``)."""
+    return _batch.random_raw_arrays(plan, n, rng)
 
 
 def random_batch(
@@ -211,12 +211,16 @@ def _reduced_runs_us(n_slots: int, starts: np.ndarray, unit_us: float, gap_slot:
     at the gap slots) at ``starts``, the same floats: runs of chip slots only are looked
     up by their length (``_unit_sums_us``), the rest (runs holding a gap slot, very long
     runs) reduced over their own slots laid end to end."""
-    lengths = np.diff(starts, append=n_slots)
+    lengths = np.empty(starts.size, np.int64)
+    np.subtract(starts[1:], starts[:-1], out=lengths[:-1])
+    lengths[-1] = n_slots - starts[-1]
     run = np.searchsorted(starts, gap_slot, side="right") - 1
     rest = lengths > UNIT_SUMS_MAX
     rest[run] = True
-    out = _unit_sums_us(unit_us)[np.where(rest, 0, lengths)]
     r = np.flatnonzero(rest)
+    looked_up = lengths.copy()
+    looked_up[r] = 0
+    out = _unit_sums_us(unit_us)[looked_up]
     if r.size:
         n = lengths[r]
         weights = np.full(int(n.sum()), unit_us)
