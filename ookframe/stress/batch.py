@@ -104,7 +104,9 @@ def _join_slots(plan: FramePlan, slots: tuple[np.ndarray, np.ndarray, np.ndarray
     if r > 1:
         gap_w[1:].reshape(-1, r)[:, :-1] = plan.gap_us
     starts = np.flatnonzero(np.concatenate(([True], levels[1:] != levels[:-1])))
-    train = PulseTrain(levels[starts], _run_durations_us(levels.size, starts, unit, gap_slot, gap_w))
+    widths = (float(gap), float(plan.gap_us)) if r > 1 else (float(gap),)  # gap_w's values
+    train = PulseTrain(levels[starts],
+                       _run_durations_us(levels.size, starts, unit, gap_slot, gap_w, widths))
     tx_us = r * lens * unit + (r - 1) * plan.gap_us
     begin = gap + np.concatenate(([0.0], np.cumsum(tx_us + gap)[:-1]))
     return Batch(train, begin, begin + tx_us, payload, gap)
@@ -163,14 +165,18 @@ def _slot_levels_flat(
 
 
 def _run_durations_us(
-    n_slots: int, starts: np.ndarray, unit_us: float, gap_slot: np.ndarray, gap_us: np.ndarray
+    n_slots: int, starts: np.ndarray, unit_us: float, gap_slot: np.ndarray, gap_us: np.ndarray,
+    gap_widths: tuple[float, ...] | None = None,
 ) -> np.ndarray:
     """Return the summed weights of the runs of slots beginning at ``starts``: ``unit_us``
     per chip slot, ``gap_us`` at the gap slots; equal to ``np.add.reduceat`` of the slot
     weights. When every weight is a multiple of one power of two and all their sums stay
-    below 2**52 of it, every sum is exact in any order, so runs are counted instead."""
+    below 2**52 of it, every sum is exact in any order, so runs are counted instead (the
+    same floats as the reduction then). ``gap_widths``: the values ``gap_us`` takes (at
+    least those; default: found from ``gap_us``)."""
     bound = (n_slots - gap_slot.size) * unit_us + float(gap_us.sum())
-    if not _sums_exact([unit_us, *np.unique(gap_us).tolist()], bound):
+    widths = np.unique(gap_us).tolist() if gap_widths is None else list(gap_widths)
+    if not _sums_exact([unit_us, *widths], bound):
         return _reduced_runs_us(n_slots, starts, unit_us, gap_slot, gap_us)
     durations_us = np.empty(starts.size)  # slots per run, then chips per run, then µs
     np.subtract(starts[1:], starts[:-1], out=durations_us[:-1])
