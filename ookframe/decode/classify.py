@@ -31,6 +31,7 @@ class RunTable:
     cap_ratio: float
     same: bool  # both levels allow exactly 1 .. top (then rounding decides)
     lookup: np.ndarray  # (2 x top + 2) bool: lookup[lv, n] for 0 <= n <= top + 1
+    by_length: np.ndarray  # lookup transposed and flattened: by_length[2 n + lv]
 
 
 def run_table(space: tuple[int, ...], mark: tuple[int, ...]) -> RunTable:
@@ -42,7 +43,8 @@ def run_table(space: tuple[int, ...], mark: tuple[int, ...]) -> RunTable:
     lookup = np.zeros((2, top + 2), bool)
     for lv in (0, 1):
         lookup[lv, allowed[lv]] = True
-    return RunTable(allowed, mids, top, float(top + 1), same, lookup)  # type: ignore[arg-type]
+    return RunTable(allowed, mids, top, float(top + 1), same, lookup,  # type: ignore[arg-type]
+                    np.ascontiguousarray(lookup.T).ravel())
 
 
 def nearest_runs(ratio: np.ndarray, levels: np.ndarray, table: RunTable
@@ -357,10 +359,12 @@ def is_allowed(n: np.ndarray, levels: np.ndarray, table: RunTable) -> np.ndarray
     """Return True where ``n`` is a run length the code allows at the pulse's level."""
     if table.same:
         return (n >= 1) & (n <= table.top)
-    # the (level, length) table flattened: one look-up per pulse
+    # the (length, level) table flattened: one look-up per pulse at 2 n + level (shift and
+    # add over the whole array: cheaper than adding to the marks picked by a mask)
     at = np.clip(n, 0, table.top + 1)
-    at[levels != 0] += table.top + 2
-    return table.lookup.ravel()[at]
+    at <<= 1
+    at += levels != 0
+    return table.by_length[at]
 
 
 def _repair(c: np.ndarray, residual: np.ndarray, grid: np.ndarray, pulse_edge: np.ndarray,
@@ -374,6 +378,17 @@ def _repair(c: np.ndarray, residual: np.ndarray, grid: np.ndarray, pulse_edge: n
     updated (only the moved edges' residuals are worked out again) and returned."""
     if not in_place:
         c, residual = c.copy(), residual.copy()
+    edge, step, _ = _repair_moves(residual, pulse_edge, n, ok, levels, table)
+    c[edge] += step
+    residual[edge] = grid[edge] - c[edge]
+    return c, residual
+
+
+def _repair_moves(residual: np.ndarray, pulse_edge: np.ndarray, n: np.ndarray,
+                  ok: np.ndarray, levels: np.ndarray, table: RunTable
+                  ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Return the moves of :func:`_repair` (same arguments): (the edges moved, ascending
+    and distinct; the step of each, +-1.0; the pulse ending at each)."""
     bad = np.flatnonzero(~ok)
     e0, e1 = pulse_edge[bad] - 1, pulse_edge[bad]
     edge = np.where(np.abs(residual[e0]) >= np.abs(residual[e1]), e0, e1)
@@ -390,11 +405,9 @@ def _repair(c: np.ndarray, residual: np.ndarray, grid: np.ndarray, pulse_edge: n
     n_after = n[p_before + 1] - step.astype(np.int64)
     fits = is_allowed(n_before, levels[p_before], table) & is_allowed(
         n_after, levels[p_before + 1], table)
-    edge, step = edge[fits], step[fits]
+    edge, step, p_before = edge[fits], step[fits], p_before[fits]
     edge, first = np.unique(edge, return_index=True)
-    c[edge] += step[first]
-    residual[edge] = grid[edge] - c[edge]
-    return c, residual
+    return edge, step[first], p_before[first]
 
 
 def _phase_turns(x: np.ndarray, dropped: np.ndarray, sums: _Sums, in_place: bool = False
@@ -531,10 +544,15 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
     ok = is_allowed(n, levels, table)
     if not ok.all():  # move the less sure edge of a bad pulse to its other grid point
         pulse_edge = np.flatnonzero(ends)
-        c, residual = _repair(c, residual, grid, pulse_edge, n, ok, levels, table,
-                              in_place=True)
-        n = np.diff(c)[inner].astype(np.int64)
-        ok = is_allowed(n, levels, table)
+        edge, step, p_before = _repair_moves(residual, pulse_edge, n, ok, levels, table)
+        c[edge] += step
+        residual[edge] = grid[edge] - c[edge]
+        # only the pulses on either side of a moved edge change: their lengths (whole
+        # numbers: the same differences as over all edges) and verdicts are redone
+        near = np.unique(np.concatenate((p_before, p_before + 1)))
+        pe = pulse_edge[near]
+        n[near] = (c[pe] - c[pe - 1]).astype(np.int64)
+        ok[near] = is_allowed(n[near], levels[near], table)
     del c
     bad = np.flatnonzero(~ok)
     if bad.size:
