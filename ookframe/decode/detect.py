@@ -42,7 +42,8 @@ def edge_tolerance(table: RunTable) -> float:
 
 def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np.ndarray,
                     sig_units: np.ndarray, unit_us: float, table: RunTable,
-                    clock_error: float) -> tuple[np.ndarray, np.ndarray]:
+                    clock_error: float, *, edges_us: np.ndarray | None = None
+                    ) -> tuple[np.ndarray, np.ndarray]:
     """Return (index of the first signature pulse, estimated unit in µs) per candidate.
 
     A candidate is a run of pulses with the signature's levels whose edges lie on the
@@ -67,6 +68,8 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
     survivors are fitted together. When candidates overlap (a periodic preamble longer
     than the signature) only the last is kept: it is the one next to the sync word.
     ``table`` bounds the signature's runs from above (a longer pulse is no frame run).
+    ``edges_us``: the train's edge times ``[0, cumsum(durations_us)]`` if the caller has
+    them (the same values as worked out here).
     """
     k = sig_units.size
     n = durations_us.size - k + 1
@@ -76,14 +79,8 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
     tol = edge_tolerance(table)
     lo_us = np.maximum(r - 2 * tol, 0.0) * (1.0 - clock_error) * unit_us
     hi_us = np.minimum(r + 2 * tol, table.cap_ratio) * (1.0 + clock_error) * unit_us
-    d0 = durations_us[:n]
-    cand = np.flatnonzero((levels[:n] == sig_levels[0]) & (d0 > lo_us[0]) & (d0 < hi_us[0]))
-    cand = _spans_fit(cand, durations_us, r, (1.0 + clock_error) * unit_us, tol)
-    for j in range(1, k):
-        if cand.size == 0:
-            break
-        dj = durations_us[cand + j]
-        cand = cand[(levels[cand + j] == sig_levels[j]) & (dj > lo_us[j]) & (dj < hi_us[j])]
+    cand = np.flatnonzero(_runs_fit(levels, durations_us, sig_levels, lo_us, hi_us))
+    cand = _spans_fit(cand, durations_us, r, (1.0 + clock_error) * unit_us, tol, edges_us)
     if cand.size == 0:
         return cand.astype(np.int64), np.zeros(0)
     # edge times from each candidate's first edge: the running sums of its k durations
@@ -131,6 +128,32 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
     return cand.astype(np.int64), unit
 
 
+def _runs_fit(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np.ndarray,
+              lo_us: np.ndarray, hi_us: np.ndarray) -> np.ndarray:
+    """Return per position i (as many as the signature fits into the train) whether every
+    pulse i + j has the level ``sig_levels[j]`` and a duration strictly between
+    ``lo_us[j]`` and ``hi_us[j]``.
+
+    One pass over the train per distinct (level, bounds) of the signature (a preamble
+    has few), then the signature's tests ANDed along it as shifted slices: cheaper than
+    narrowing the positions run by run (the same values: every test is per pulse).
+    """
+    k = sig_levels.size
+    n = durations_us.size - k + 1
+    tests: dict[tuple[int, float, float], np.ndarray] = {}
+    fits = np.ones(n, bool)
+    for j in range(k):
+        key = (int(sig_levels[j]), float(lo_us[j]), float(hi_us[j]))
+        ok = tests.get(key)
+        if ok is None:
+            ok = levels == sig_levels[j]
+            ok &= durations_us > lo_us[j]
+            ok &= durations_us < hi_us[j]
+            tests[key] = ok
+        fits &= ok[j:j + n]
+    return fits
+
+
 #: fits whose worst edge offsets differ by less than this (units) count as equally good
 FIT_STEP = 0.1
 #: steps by which the best fit must beat the latest candidate to be framed as well
@@ -167,7 +190,8 @@ def _one_per_cluster(cand: np.ndarray, unit: np.ndarray, worst: np.ndarray, k: i
     return cand[keep], unit[keep]
 
 def _spans_fit(cand: np.ndarray, durations_us: np.ndarray, r: np.ndarray, max_unit_us: float,
-               tol: float = MAX_EDGE_OFFSET) -> np.ndarray:
+               tol: float = MAX_EDGE_OFFSET, edges_us: np.ndarray | None = None
+               ) -> np.ndarray:
     """Return the candidates whose spans of pulses keep the signature's proportions.
 
     If every edge lies within ``tol`` units u of its chip (the final test), the time S_j
@@ -175,14 +199,17 @@ def _spans_fit(cand: np.ndarray, durations_us: np.ndarray, r: np.ndarray, max_un
     |S_j C_k - C_j S_k| <= 2 tol (C_k + C_j) u for chip counts C; whatever the clock. Checked
     at every eighth of the signature, it drops most positions
     inside frames (runs of other lengths) before any fit, and never a true head.
+    ``edges_us``: ``[0, cumsum(durations_us)]`` if known (see :func:`find_candidates`).
     """
     k = r.size
     if k < 4 or cand.size == 0:
         return cand
     c = np.concatenate(([0.0], np.cumsum(r)))
-    t = np.empty(durations_us.size + 1)
-    t[0] = 0.0
-    np.cumsum(durations_us, out=t[1:])
+    t = edges_us
+    if t is None:
+        t = np.empty(durations_us.size + 1)
+        t[0] = 0.0
+        np.cumsum(durations_us, out=t[1:])
     begin = t[cand]
     total = t[cand + k] - begin
     for j in sorted({k * q // 8 for q in range(1, 8)} - {0}):

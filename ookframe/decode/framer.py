@@ -511,11 +511,16 @@ class _CandidateWindows:
 def _windows(hm: HeadModel, clean: PulseTrain, unit_us: float) -> _CandidateWindows | None:
     """Return the candidate windows of the glitch-filtered train ``clean`` (None if none)."""
     levels, dur = clean.levels, clean.durations_us
+    # the edge times once, for the candidate search and the windows' start times (the
+    # same running sum as ``clean.edges_us()``)
+    edges = np.empty(dur.size + 1)
+    edges[0] = 0.0
+    np.cumsum(dur, out=edges[1:])
     first, unit0 = find_candidates(levels, dur, hm.sig_levels, hm.sig_units, unit_us,
-                                   hm.runs, MAX_CLOCK_ERROR)
+                                   hm.runs, MAX_CLOCK_ERROR, edges_us=edges)
     if first.size == 0:
         return None
-    t0 = clean.edges_us()
+    t0 = edges[:-1]
     prefix_chips = int(hm.prefix_units.sum())
     burst = burst_end(first, burst_breaks(dur, hm.break_us), dur.size)
     reach_us = t0[first] + (hm.max_frame_chips - prefix_chips) * unit0 * (1 + MAX_CLOCK_ERROR)
