@@ -83,21 +83,25 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
     cand = _spans_fit(cand, durations_us, r, (1.0 + clock_error) * unit_us, tol, edges_us)
     if cand.size == 0:
         return cand.astype(np.int64), np.zeros(0)
-    # edge times from each candidate's first edge: the running sums of its k durations
-    d = sliding_window_view(durations_us, k)[cand]
-    t = np.empty((cand.size, k + 1))
-    t[:, 0] = 0.0
-    np.cumsum(d, axis=1, out=t[:, 1:])
-    if k >= SHORT_SIGNATURE_RUNS:
-        d = None
+    # edge times from each candidate's first edge: the running sums of its k durations,
+    # built as the rows of an (edge, candidate) array ``tt``, one vector add per edge (the
+    # same sums in the same order as a running sum along each candidate, at far less
+    # cost than one over many short rows), then transposed for the fit
+    tt = np.empty((k + 1, cand.size))
+    tt[0] = 0.0
+    np.take(durations_us, cand, out=tt[1])
+    for j in range(2, k + 1):
+        np.add(tt[j - 1], durations_us[cand + (j - 1)], out=tt[j])
+    t = tt.T.copy()
+    d = sliding_window_view(durations_us, k)[cand] if k < SHORT_SIGNATURE_RUNS else None
     scratch = np.empty_like(t)
     unit, offset = _fit_line(t, r, scratch)
-    ok = np.abs(unit / unit_us - 1.0) <= clock_error  # cheap: before the edge offsets
-    # every row's worst edge from the line, taken row by row (the same values as over the
-    # rows in range alone), in the fit's scratch space
-    with np.errstate(invalid="ignore", over="ignore"):
-        line_worst = _worst_edge(t, r, unit, offset, out=scratch)
     del scratch
+    ok = np.abs(unit / unit_us - 1.0) <= clock_error  # cheap: before the edge offsets
+    # every row's worst edge from the line, taken column by column of ``tt`` (the same
+    # values as over the rows in range alone)
+    with np.errstate(invalid="ignore", over="ignore"):
+        line_worst = _worst_edge_columns(tt, r, unit, offset)
     if run_spacing(table) > 1:  # the line, else the best grid (see above)
         worst = np.where(ok, line_worst, np.inf)
         miss = np.flatnonzero(worst >= MAX_EDGE_OFFSET)
@@ -109,7 +113,8 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
             worst[miss[hopeless]] = np.inf
             miss = miss[~hopeless]
         if miss.size:
-            best_unit, best = _minimax_edge(t[miss], r, lo_unit, hi_unit)
+            best_unit, best = _minimax_edge(t[miss], r, lo_unit, hi_unit,
+                                            tt=np.take(tt, miss, axis=1))
             worst[miss] = best
             unit[miss] = np.where(ok[miss], unit[miss], best_unit)  # the line's if in range
         ok = worst < tol
@@ -249,8 +254,8 @@ def _fit_line(t: np.ndarray, r: np.ndarray, scratch: np.ndarray | None = None
     return unit, offset
 
 
-def _minimax_edge(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: float
-                  ) -> tuple[np.ndarray, np.ndarray]:
+def _minimax_edge(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: float, *,
+                  tt: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
     """Return per row (unit in µs, worst edge offset in units of that unit) of the chip
     grid with a unit in [``lo_unit_us``, ``hi_unit_us``] that leaves the smallest worst
     edge offset, for rows of edge times ``t`` (from the first edge, as
@@ -261,10 +266,12 @@ def _minimax_edge(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: f
     linear functions less a minimum of them) in v: a golden-section search over v finds
     its minimum, all rows at once (every row on its own: the rows' values do not depend
     on the other rows). The edges are laid out as the rows of one array, the heads as
-    its columns, so the largest and smallest offsets are taken across rows.
+    its columns, so the largest and smallest offsets are taken across rows (``tt``: that
+    array, C-ordered, if the caller has it).
     """
     c = np.concatenate(([0.0], np.cumsum(r)))[:, None]
-    tt = np.ascontiguousarray(t.T)
+    if tt is None:
+        tt = np.ascontiguousarray(t.T)
     buf = np.empty_like(tt)
 
     def half_spread(v: np.ndarray) -> np.ndarray:
@@ -329,6 +336,19 @@ def _spread_floor(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: f
     at_cross = np.where((cross > lo_v) & (cross < hi_v), upper(cross), np.inf)
     np.minimum(floor, at_cross, out=floor)
     return floor / 2.0
+
+
+def _worst_edge_columns(tt: np.ndarray, r: np.ndarray, unit: np.ndarray, offset: np.ndarray
+                        ) -> np.ndarray:
+    """Return :func:`_worst_edge` of ``tt.T`` (the same values) for edge times laid out as
+    columns (one per row of ``t``): every element is worked out alike, and the largest
+    is taken across rows of ``tt``, which numpy does a whole row at a time."""
+    c = np.concatenate(([0.0], np.cumsum(r)))[:, None]
+    w = np.divide(tt, unit, out=np.empty_like(tt))
+    w -= offset
+    w -= c
+    np.abs(w, out=w)
+    return w.max(axis=0)
 
 
 def _worst_edge(t: np.ndarray, r: np.ndarray, unit: np.ndarray, offset: np.ndarray,
