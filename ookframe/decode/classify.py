@@ -333,6 +333,23 @@ class _Sums:
         self.fix = fix
         self.lo = np.maximum(fix - before, first[seg])
         self.hi = np.minimum(fix + (after + 1), stop[seg])
+        self.first, self.stop = first, stop
+
+    def count_kept(self, dropped: np.ndarray) -> np.ndarray:
+        """Return (float64) per element how many elements of its range are not at the
+        indices ``dropped`` (ascending, distinct): the same values as the moving sums of
+        a keep mask (1.0, 0.0 where dropped), which are whole numbers, counted directly
+        (no running sum)."""
+        count = np.full(self.size, float(self.before + self.after + 1))
+        count[self.fix] = self.hi - self.lo  # where a segment edge cuts the range
+        if dropped.size:
+            # a dropped element is in the ranges of the elements up to ``after`` before
+            # and ``before`` after it, within its segment
+            seg = np.searchsorted(self.stop, dropped, "right")
+            lo = np.maximum(dropped - self.after, self.first[seg])
+            hi = np.minimum(dropped + (self.before + 1), self.stop[seg])
+            count -= np.bincount(ragged_index(lo, hi - lo), minlength=self.size)
+        return count
 
     def __call__(self, x: np.ndarray, out: np.ndarray | None = None) -> np.ndarray:
         """Return the moving sums of ``x`` (into ``out`` if given): the same values as
@@ -524,7 +541,7 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
     rough = _phase_turns(x, dropped, near)
     del near
     _unwrap_in_place(rough)
-    kept = wide(keep)
+    kept = wide.count_kept(dropped)
     np.maximum(kept, 1.0, out=kept)
     rough *= keep
     trend = wide(rough, out=rough)
