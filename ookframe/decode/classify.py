@@ -56,17 +56,34 @@ def nearest_runs(ratio: np.ndarray, levels: np.ndarray, table: RunTable
     chip counts over a gap stay right.
     """
     r = np.asarray(ratio, dtype=np.float64)
+    units = _nearest_units(r, levels, table)
+    return units, np.abs(r - units)
+
+
+def _nearest_units(r: np.ndarray, levels: np.ndarray, table: RunTable) -> np.ndarray:
+    """Return the first part of :func:`nearest_runs` (``r``: float64 ratios)."""
     if table.same:
         units = np.rint(r)
         np.clip(units, 1.0, float(table.top), out=units)
         units = units.astype(np.int64)
     else:  # both levels looked up over the whole array (cheaper than masked parts)
-        a0, a1 = table.allowed
-        units = np.where(levels == 1, a1[_rank(table.mids[1], r)], a0[_rank(table.mids[0], r)])
+        units = np.where(levels == 1, _nearest_allowed(table, 1, r),
+                         _nearest_allowed(table, 0, r))
     beyond = r > table.cap_ratio
     if beyond.any():
         units[beyond] = np.rint(r[beyond]).astype(np.int64)
-    return units, np.abs(r - units)
+    return units
+
+
+def _nearest_allowed(table: RunTable, lv: int, r: np.ndarray) -> np.ndarray | np.int64:
+    """Return ``table.allowed[lv][_rank(table.mids[lv], r)]``: for one allowed length that
+    length, for two a choice by the one threshold (NaN is above it, as ranked)."""
+    a, mids = table.allowed[lv], table.mids[lv]
+    if a.size == 1:
+        return a[0]
+    if a.size == 2:
+        return np.where(r <= mids[0], a[0], a[1])
+    return a[_rank(mids, r)]
 
 
 #: sorted arrays up to this long are ranked by comparisons, not a binary search
@@ -156,6 +173,18 @@ def _column_sums(x: np.ndarray) -> np.ndarray:
     return np.cumsum(x, axis=0)[-1]
 
 
+def _column_running_sums(n: np.ndarray) -> np.ndarray:
+    """Return ``np.cumsum(n, axis=0)`` of a 2-D int64 ``n`` of small whole numbers as
+    float64 (exact either way); with many columns, a row at a time (numpy accumulates
+    down the columns one column at a time)."""
+    if n.shape[1] < 64:
+        return np.cumsum(n, axis=0).astype(np.float64)
+    c = n.astype(np.float64)
+    for i in range(1, c.shape[0]):
+        c[i] += c[i - 1]
+    return c
+
+
 def head_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarray,
               head_units: int, iterations: int = 2, *, levels: np.ndarray | None = None,
               table: RunTable | None = None) -> np.ndarray:
@@ -191,8 +220,8 @@ def head_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarra
         if lv is None:
             n, _ = classify(d, unit)
         else:
-            n, _ = nearest_runs(d / unit, lv, table)  # type: ignore[arg-type]
-        c = np.cumsum(n, axis=0).astype(np.float64)
+            n = _nearest_units(d / unit, lv, table)  # type: ignore[arg-type]
+        c = _column_running_sums(n)
         w = ((c <= head_units) & real).astype(np.float64)  # a prefix of every column
         npts = _column_sums(w) + 1.0  # + the origin edge (0, 0)
         st = _column_sums(t * w)
