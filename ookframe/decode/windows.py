@@ -54,7 +54,6 @@ def classify_windows(spec: FrameSpec, hm: HeadModel, dur: np.ndarray, first: np.
     dec = spec.decoder
     length = stop - first
     offset = np.concatenate(([0], np.cumsum(length)[:-1]))
-    window = np.repeat(np.arange(first.size), length)
     idx = ragged_index(first, length)
     d = dur[idx]
     lv = levels[idx]
@@ -67,7 +66,7 @@ def classify_windows(spec: FrameSpec, hm: HeadModel, dur: np.ndarray, first: np.
         capped = ratio > table.cap_ratio
         g = grid_runs(d, lv, length, start_unit, table, capped=capped,
                       half_window=phase_half_window(dec.loop_gain), ratio=ratio)
-        n, dev = np.where(capped, table.top, g.units), g.deviation
+        n, dev = g.units, g.deviation  # fresh arrays: capped pulses are set below
         end_res = g.end_residual
     else:  # duration by duration, with the tracking loop (follows a fast-drifting clock)
         unit = track_unit(d, length, start_unit, gain=dec.loop_gain, tolerance=dec.tolerance,
@@ -76,10 +75,17 @@ def classify_windows(spec: FrameSpec, hm: HeadModel, dur: np.ndarray, first: np.
         capped = ratio > table.cap_ratio
         n, dev = nearest_runs(ratio, lv, table)
         end_res = np.zeros(d.size)
-    pos = idx - first[window]
-    first_cap = np.minimum.reduceat(np.where(capped, pos, length[window]), offset)
-    length = np.minimum(length, first_cap + 1)
-    dev = np.where(capped, ratio - table.top, dev)
+    # the few capped pulses: each window ends at its first (ascending, so the first of
+    # each window is its first occurrence)
+    cap_at = np.flatnonzero(capped)
+    cap_window = np.searchsorted(offset, cap_at, side="right") - 1
+    windows_capped, first_of = np.unique(cap_window, return_index=True)
+    length = length.copy()
+    length[windows_capped] = np.minimum(length[windows_capped],
+                                        cap_at[first_of] - offset[windows_capped] + 1)
+    if grid:
+        n[cap_at] = table.top
+    dev[cap_at] = ratio[cap_at] - table.top
     return Windows(first, offset, length, start_unit, n, dev, unit, capped, d, ratio, lv,
                    end_res)
 
