@@ -115,7 +115,6 @@ def lay_out(hm: HeadModel, ws: Windows, levels: np.ndarray) -> WindowRuns:
     n_pre = int(hm.prefix_units.size)
     at = ragged_index(ws.offset, m)
     meas_units = ws.units[at]
-    pulse = at - np.repeat(ws.offset, m)  # position of every pulse in its window
     chips = int(hm.prefix_units.sum()) + np.add.reduceat(meas_units, np.cumsum(m) - m) \
         if k else np.zeros(0, np.int64)
     last_level = levels[ws.first + m - 1]
@@ -138,8 +137,8 @@ def lay_out(hm: HeadModel, ws: Windows, levels: np.ndarray) -> WindowRuns:
     pre = run_start[:, None] + np.arange(n_pre)
     lv[pre] = hm.prefix_levels
     un[pre] = hm.prefix_units
-    dest = np.repeat(run_start + n_pre, m) + pulse
-    lv[dest] = levels[np.repeat(ws.first, m) + pulse]
+    dest = ragged_index(run_start + n_pre, m)
+    lv[dest] = ws.levels[at]  # the windows' pulses of ``levels``: the same values
     un[dest] = meas_units
     chip0 = np.cumsum(un) - un
     return WindowRuns(lv, un, chip0, run_start, run_stop, n_pre)
