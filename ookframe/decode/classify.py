@@ -452,8 +452,11 @@ def _repair_moves(residual: np.ndarray, pulse_edge: np.ndarray, n: np.ndarray,
     fits = is_allowed(n_before, levels[p_before], table) & is_allowed(
         n_after, levels[p_before + 1], table)
     edge, step, p_before = edge[fits], step[fits], p_before[fits]
-    edge, first = np.unique(edge, return_index=True)
-    return edge, step[first], p_before[first]
+    # the edges ascend (a pulse's edges lie at or after those of every earlier pulse), so
+    # np.unique's first occurrences are where an edge differs from the one before
+    first = np.ones(edge.size, bool)
+    first[1:] = edge[1:] != edge[:-1]
+    return edge[first], step[first], p_before[first]
 
 
 def _phase_turns(x: np.ndarray, dropped: np.ndarray, sums: _Sums, in_place: bool = False

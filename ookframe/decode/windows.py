@@ -79,7 +79,8 @@ def classify_windows(spec: FrameSpec, hm: HeadModel, dur: np.ndarray, first: np.
     # each window is its first occurrence)
     cap_at = np.flatnonzero(capped)
     cap_window = np.searchsorted(offset, cap_at, side="right") - 1
-    first_of = np.flatnonzero(np.concatenate(([True], cap_window[1:] != cap_window[:-1])))
+    first_of = np.ones(cap_window.size, bool)
+    first_of[1:] = cap_window[1:] != cap_window[:-1]
     windows_capped = cap_window[first_of]
     length = length.copy()
     length[windows_capped] = np.minimum(length[windows_capped],
