@@ -8,13 +8,16 @@ must decode when such noise starts exactly at the frame's last falling edge.
 from __future__ import annotations
 
 from pathlib import Path
+from types import SimpleNamespace
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from ookframe import frame
-from ookframe.decode.framer import decode
-from ookframe.decode.tail import carrier_end_us, join_spans
+from ookframe.decode.framer import _holding, _holds, decode
+from ookframe.decode.tail import carrier_end_us, join_spans, pulse_edges_us
 from ookframe.linecodes import LINE_CODES
 from ookframe.pulses import PulseTrain, merge_runs
 from ookframe.spec_io import load_spec, spec_from_dict
@@ -99,3 +102,26 @@ def test_joined_spans_map_back_to_the_train():
     for k, (a_us, b_us) in enumerate([(50.0, 300.0), (320.0, 600.0), (600.0, 700.0)]):
         assert cuts.start_us[k] + cuts.origin_us[k] == a_us
         assert np.isin(b_us - cuts.origin_us[k], t)
+
+
+@settings(max_examples=100, deadline=None)
+@given(d=st.lists(st.floats(0.01, 5e5, allow_nan=False), max_size=300))
+def test_pulse_edges_are_the_concatenated_cumsum_bit_for_bit(d):
+    """The boundaries written in place hold the same sums as the concatenation."""
+    x = np.array(d, np.float64)
+    want = np.concatenate(([0.0], np.cumsum(x)))
+    assert pulse_edges_us(x).tobytes() == want.tobytes()
+
+
+@settings(max_examples=200, deadline=None)
+@given(times=st.lists(st.integers(0, 40), max_size=8),
+       spans=st.lists(st.tuples(st.integers(-2, 42), st.integers(0, 10)), max_size=8))
+def test_holding_is_holds_per_span(times, spans):
+    """The low-filter and doubtful opinions' vector test equals the one-frame test."""
+    t = np.sort(np.array(times, np.float64))
+    start = np.array([s for s, _ in spans], np.float64)
+    end = start + np.array([n for _, n in spans], np.float64)
+    got = _holding(start, end, t).tolist()
+    want = [_holds(SimpleNamespace(start_us=a, end_us=b), t)
+            for a, b in zip(start.tolist(), end.tolist(), strict=True)]
+    assert got == want

@@ -34,7 +34,7 @@ from .glitch import drop_glitches
 from .head import MAX_CLOCK_ERROR, HeadModel, build_head
 from .merge import FrameMerge, Spans, Verdict, merge_overlapping
 from .segment import burst_breaks, burst_end
-from .tail import MAX_TRAILING_UNITS, CutTrains, cut_trains, join_spans
+from .tail import MAX_TRAILING_UNITS, CutTrains, cut_trains, join_spans, pulse_edges_us
 from .validate import validate_train
 from .windows import WindowRuns, Windows, classify_windows, lay_out
 
@@ -166,9 +166,11 @@ def decode(spec: Receiver, train: PulseTrain, *,
             frames = [f if f.crc_ok else _recover(spec, hm, ctx, k, flips) or f
                       for f, k in found]
         frames = _track_opinions(spec, hm, clean, cw, frames, found, ctx)
+    edges_us = None  # the unfiltered train's pulse boundaries, for both opinions below
     if ctx.unparsed_us.size or not all(f.crc_ok for f in frames):
-        frames = _tail_opinion(spec, hm, train, frames, ctx)
-    frames = _low_filter_opinion(spec, hm, train, clean, cw, frames)
+        edges_us = pulse_edges_us(train.durations_us)
+        frames = _tail_opinion(spec, hm, train, frames, ctx, edges_us)
+    frames = _low_filter_opinion(spec, hm, train, clean, cw, frames, edges_us)
     return [f for f in frames if f.crc_ok or include_bad]
 
 
@@ -285,21 +287,33 @@ def _doubtful_opinion(frames: list[DecodedFrame], other: list[DecodedFrame],
     and overlaps no frame, added. Its false-accept risk is that of one more reading of
     such a window, as for the frames the second opinion replaces."""
     times = np.sort(doubtful_us)
+    # the rule skips a reading that fails or holds none of the times whatever it meets (a
+    # skip changes nothing): only the others are looked up
+    good = [g for g in other if g.crc_ok]
+    if not good or times.size == 0:
+        return frames
+    held = _holding(np.array([g.start_us for g in good]), np.array([g.end_us for g in good]),
+                    times)
+    good = [g for g, h in zip(good, held.tolist(), strict=True) if h]
+    if not good:
+        return frames
 
     def rule(g: DecodedFrame, hit: list[DecodedFrame]) -> Verdict:
-        return Verdict.JOIN if g.crc_ok and not hit and _holds(g, times) else Verdict.SKIP
+        return Verdict.SKIP if hit else Verdict.JOIN
 
-    return merge_overlapping(frames, other, rule)
+    return merge_overlapping(frames, good, rule)
 
 
 def _tail_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
-                  frames: list[DecodedFrame], ctx: _Context) -> list[DecodedFrame]:
+                  frames: list[DecodedFrame], ctx: _Context,
+                  edges_us: np.ndarray | None = None) -> list[DecodedFrame]:
     """Return ``frames`` with every frame whose check failed replaced by the frame read
     from the unfiltered ``train`` cut at its carrier end (``tail.cut_trains``: receiver
     noise right after the last mark), where that frame's check passes; windows whose
     sync word was found but whose body could not be read get the same reading and join
     the frames where it passes. One more reading per such frame, chosen by timing alone
-    (like the second opinion)."""
+    (like the second opinion). ``edges_us``: ``train``'s pulse boundaries
+    (``tail.pulse_edges_us``) when the caller has them."""
     bad = [i for i, f in enumerate(frames) if not f.crc_ok]
     todo: list[tuple[float, float | None, float]] = [
         (frames[i].start_us, frames[i].end_us, frames[i].unit_us) for i in bad]
@@ -314,7 +328,8 @@ def _tail_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
         owner.append(-1)
     trailing = min(int(hm.runs.allowed[0][-1]), MAX_TRAILING_UNITS)
     quiet_us = 2.0 * max(hm.break_us, 16 * spec.unit_us)
-    cuts = cut_trains(train, todo, trailing, quiet_us, hm.body_chip, hm.max_frame_chips)
+    cuts = cut_trains(train, todo, trailing, quiet_us, hm.body_chip, hm.max_frame_chips,
+                      edges_us=edges_us)
     m = FrameMerge(frames)
     for f, k in _read_pieces(spec, hm, cuts, spec.decoder.glitch_fraction * spec.unit_us):
         if abs(cuts.start_us[k] - f.start_us) >= 2 * spec.unit_us:
@@ -349,12 +364,10 @@ def _read_pieces(spec: FrameSpec, hm: HeadModel, cuts: CutTrains, min_us: float
     frames = [f for f, _ in found]
     if spec.check.kind != "none":  # the duration-by-duration readings, as in ``decode``
         frames = _track_opinions(spec, hm, clean, cw, frames, found, ctx)
-    out = []
-    for f in frames:
-        k = int(np.searchsorted(cuts.start_us, f.start_us + PIECE_SLACK_UNITS * spec.unit_us)) - 1
-        if f.crc_ok and k >= 0:
-            out.append((f, k))
-    return out
+    good = [f for f in frames if f.crc_ok]
+    at = np.array([f.start_us for f in good], np.float64) + PIECE_SLACK_UNITS * spec.unit_us
+    piece = (np.searchsorted(cuts.start_us, at) - 1).tolist()
+    return [(f, k) for f, k in zip(good, piece, strict=True) if k >= 0]
 
 
 #: glitch filter of the low-filter opinion, as a fraction of the spec's: heavy edge jitter
@@ -385,9 +398,18 @@ def _holds(frame: DecodedFrame, times_us: np.ndarray) -> bool:
     return i < times_us.size and times_us[i] <= frame.end_us
 
 
+def _holding(start_us: np.ndarray, end_us: np.ndarray, times_us: np.ndarray) -> np.ndarray:
+    """Per span (``start_us``, ``end_us``): ``_holds`` of a frame with those times."""
+    if times_us.size == 0:
+        return np.zeros(start_us.size, bool)
+    i = np.searchsorted(times_us, start_us)
+    return (i < times_us.size) & (times_us[np.minimum(i, times_us.size - 1)] <= end_us)
+
+
 def _low_filter_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
                         clean: PulseTrain, cw: _CandidateWindows,
-                        frames: list[DecodedFrame]) -> list[DecodedFrame]:
+                        frames: list[DecodedFrame], edges_us: np.ndarray | None = None
+                        ) -> list[DecodedFrame]:
     """Return ``frames`` with stretches of the unfiltered ``train`` read once more with the
     glitch filter at ``LOW_FILTER_FRACTION`` of the spec's: heavy edge jitter shrinks a
     1-unit pulse below the filter, which joins its neighbours into a run the code does not
@@ -403,19 +425,23 @@ def _low_filter_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
     ``REREAD_WORST_DEVIATION`` off the grid, and has the same fields (times from the
     reading that kept every pulse) or a smaller worst deviation. Glitches
     shorter than the lower filter still never reach the chip grid; the check vouches for
-    the rest (one more reading per stretch, like the other opinions)."""
+    the rest (one more reading per stretch, like the other opinions). ``edges_us``:
+    ``train``'s pulse boundaries (``tail.pulse_edges_us``) when the caller has them."""
     min_us = spec.decoder.glitch_fraction * spec.unit_us
     low_us = LOW_FILTER_FRACTION * min_us
     d = train.durations_us
     short = np.flatnonzero((d >= low_us) & (d < min_us))
     if short.size == 0:
         return frames
-    edges_us = np.concatenate(([0.0], np.cumsum(d)))
+    if edges_us is None:
+        edges_us = pulse_edges_us(d)
     t_short = edges_us[short]
     t_alone = _shrunk_us(d, short, t_short, min_us, low_us)
-    passed = [f for f in frames if f.crc_ok]
-    f_start = np.array([f.start_us for f in passed])
-    f_end = np.array([f.end_us for f in passed])
+    all_start = np.array([f.start_us for f in frames], np.float64)
+    all_end = np.array([f.end_us for f in frames], np.float64)
+    ok = np.array([f.crc_ok for f in frames], bool)
+    passed = bool(ok.any())
+    f_start, f_end = all_start[ok], all_end[ok]
     # the signature may match anywhere before the sync word
     lead_us = (hm.sync_chip + 4) * spec.unit_us * (1 + MAX_CLOCK_ERROR)
     span_us = stream_span_us(hm)
@@ -461,7 +487,8 @@ def _low_filter_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
                 for f, k in _read_pieces(spec, hm, cuts, low_us))
     # a reading meets the frames it was given and their replacements, not the frames
     # the readings before it joined
-    return merge_overlapping(frames, readings, rule, added_block=False, sort=True)
+    return merge_overlapping(frames, readings, rule, added_block=False, sort=True,
+                             spans=(all_start, all_end))
 
 
 def _shrunk_us(d: np.ndarray, short: np.ndarray, t_short: np.ndarray, min_us: float,
