@@ -16,7 +16,14 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from ookframe import frame
-from ookframe.decode.framer import _holding, _holds, decode
+from ookframe.decode.framer import (
+    ANCHOR_CONTEXT_PULSES,
+    ANCHOR_SHORT_NEIGHBOURS,
+    _holding,
+    _holds,
+    _shrunk_us,
+    decode,
+)
 from ookframe.decode.tail import carrier_end_us, join_spans, pulse_edges_us
 from ookframe.linecodes import LINE_CODES
 from ookframe.pulses import PulseTrain, merge_runs
@@ -125,3 +132,27 @@ def test_holding_is_holds_per_span(times, spans):
     want = [_holds(SimpleNamespace(start_us=a, end_us=b), t)
             for a, b in zip(start.tolist(), end.tolist(), strict=True)]
     assert got == want
+
+
+def _shrunk_before(d, short, t_short, min_us, low_us):
+    """The anchor test as first written (one context matrix per stage)."""
+    keep = np.arange(short.size)
+    for n, spare in ((2, 1), (ANCHOR_CONTEXT_PULSES, ANCHOR_SHORT_NEIGHBOURS)):
+        j = short[keep][:, None] + np.concatenate((np.arange(-n, 0), np.arange(1, n + 1)))
+        ctx = np.where((j >= 0) & (j < d.size), d[np.clip(j, 0, d.size - 1)], np.inf)
+        keep = keep[((ctx >= min_us).sum(axis=1) >= 2 * n - spare)
+                    & ~(ctx < low_us).any(axis=1)]
+    return t_short[keep]
+
+
+@settings(max_examples=300, deadline=None)
+@given(d=st.lists(st.sampled_from([0.1, 0.25, 0.3, 0.45, 0.5] + [1.0] * 12 + [2.0] * 8),
+                  min_size=1, max_size=60))
+def test_shrunk_pulses_equal_the_context_matrix_test(d):
+    """Durations on the filter widths (0.5 and 0.25) and near them, short trains (every
+    pulse near an end) and long ones: the same anchors as the matrix form."""
+    x = np.array(d, np.float64)
+    short = np.flatnonzero((x >= 0.25) & (x < 0.5))
+    t_short = pulse_edges_us(x)[short]
+    got = _shrunk_us(x, short, t_short, 0.5, 0.25)
+    assert got.tolist() == _shrunk_before(x, short, t_short, 0.5, 0.25).tolist()

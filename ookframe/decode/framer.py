@@ -501,10 +501,20 @@ def _shrunk_us(d: np.ndarray, short: np.ndarray, t_short: np.ndarray, min_us: fl
     keep = np.arange(short.size)
     # the 2 either side first (all but one kept): most noise fails there
     for n, spare in ((2, 1), (ANCHOR_CONTEXT_PULSES, ANCHOR_SHORT_NEIGHBOURS)):
-        j = short[keep][:, None] + np.concatenate((np.arange(-n, 0), np.arange(1, n + 1)))
-        ctx = np.where((j >= 0) & (j < d.size), d[np.clip(j, 0, d.size - 1)], np.inf)
-        keep = keep[((ctx >= min_us).sum(axis=1) >= 2 * n - spare)
-                    & ~(ctx < low_us).any(axis=1)]
+        at = short[keep]
+        longer = np.zeros(at.size, np.int64)  # neighbours at least min_us
+        shorter = np.zeros(at.size, bool)  # a neighbour below low_us
+        for k in itertools.chain(range(-n, 0), range(1, n + 1)):
+            v = d.take(at + k, mode="clip")  # wrong only at the train's ends: redone below
+            longer += v >= min_us
+            shorter |= v < low_us
+        ends = np.flatnonzero((at < n) | (at >= d.size - n))
+        if ends.size:
+            j = at[ends][:, None] + np.concatenate((np.arange(-n, 0), np.arange(1, n + 1)))
+            ctx = np.where((j >= 0) & (j < d.size), d[np.clip(j, 0, d.size - 1)], np.inf)
+            longer[ends] = (ctx >= min_us).sum(axis=1)
+            shorter[ends] = (ctx < low_us).any(axis=1)
+        keep = keep[(longer >= 2 * n - spare) & ~shorter]
     return t_short[keep]
 
 
