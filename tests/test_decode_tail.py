@@ -19,9 +19,9 @@ from ookframe import frame
 from ookframe.decode.framer import (
     ANCHOR_CONTEXT_PULSES,
     ANCHOR_SHORT_NEIGHBOURS,
+    _anchors,
     _holding,
     _holds,
-    _shrunk_us,
     decode,
 )
 from ookframe.decode.tail import carrier_end_us, join_spans, pulse_edges_us
@@ -154,5 +154,5 @@ def test_shrunk_pulses_equal_the_context_matrix_test(d):
     x = np.array(d, np.float64)
     short = np.flatnonzero((x >= 0.25) & (x < 0.5))
     t_short = pulse_edges_us(x)[short]
-    got = _shrunk_us(x, short, t_short, 0.5, 0.25)
+    got = t_short[_anchors(x, short, 0.5, 0.25)]
     assert got.tolist() == _shrunk_before(x, short, t_short, 0.5, 0.25).tolist()

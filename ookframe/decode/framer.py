@@ -165,7 +165,7 @@ def decode(spec: Receiver, train: PulseTrain, *,
         if flips > 0 and failing:
             frames = [f if f.crc_ok else _recover(spec, hm, ctx, k, flips) or f
                       for f, k in found]
-        frames = _track_opinions(spec, hm, clean, cw, frames, found, ctx)
+        frames = _track_opinions(spec, hm, clean, cw, frames, found, ctx, failing)
     edges_us = None  # the unfiltered train's pulse boundaries, for both opinions below
     if ctx.unparsed_us.size or not all(f.crc_ok for f in frames):
         edges_us = pulse_edges_us(train.durations_us)
@@ -247,13 +247,15 @@ def _recover(spec: FrameSpec, hm: HeadModel, ctx: _Context, k: int, max_flips: i
 
 def _track_opinions(spec: FrameSpec, hm: HeadModel, clean: PulseTrain,
                     cw: _CandidateWindows, frames: list[DecodedFrame],
-                    found: list[tuple[DecodedFrame, int]], ctx: _Context
-                    ) -> list[DecodedFrame]:
+                    found: list[tuple[DecodedFrame, int]], ctx: _Context,
+                    failing: bool = True) -> list[DecodedFrame]:
     """Return ``frames`` (one per frame of the grid reading ``found`` of ``clean``, after
     any recovery) with the duration-by-duration readings joined: the second opinion over
     the bursts of the frames whose check still fails, then the doubtful windows' own
-    pass (:func:`_doubtful_opinion`)."""
-    failed = [k for f, (_, k) in zip(frames, found, strict=True) if not f.crc_ok]
+    pass (:func:`_doubtful_opinion`). ``failing``: False when no frame of ``found`` failed
+    (the recovery only turns failed frames into passing ones: none fails then)."""
+    failed = ([k for f, (_, k) in zip(frames, found, strict=True) if not f.crc_ok]
+              if failing else [])
     if failed:
         other, _ = _decode_clean(spec, hm, clean, cw.bursts_of(failed), grid=False)
         frames = _second_opinion(spec, frames, [f for f, _ in other])
@@ -416,7 +418,7 @@ def _low_filter_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
     have (even a burst break) or shifts the head. Read again: a frame's reach
     (``stream_span_us``) after every candidate window of ``clean`` that no frame whose
     check passes covers, where the filter dropped a pulse at least the lower width; a
-    frame's reach either side of every dropped pulse amid kept ones (``_shrunk_us``) that
+    frame's reach either side of every dropped pulse amid kept ones (``_anchors``) that
     no frame covers; and the frame itself where one whose check passes holds such a pulse.
 
     A frame found there whose check passes replaces the frames it overlaps when all of
@@ -433,21 +435,24 @@ def _low_filter_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
     short = np.flatnonzero((d >= low_us) & (d < min_us))
     if short.size == 0:
         return frames
-    if edges_us is None:
-        edges_us = pulse_edges_us(d)
-    t_short = edges_us[short]
-    t_alone = _shrunk_us(d, short, t_short, min_us, low_us)
+    alone = _anchors(d, short, min_us, low_us)
     all_start = np.array([f.start_us for f in frames], np.float64)
     all_end = np.array([f.end_us for f in frames], np.float64)
     ok = np.array([f.crc_ok for f in frames], bool)
     passed = bool(ok.any())
     f_start, f_end = all_start[ok], all_end[ok]
-    # the signature may match anywhere before the sync word
-    lead_us = (hm.sync_chip + 4) * spec.unit_us * (1 + MAX_CLOCK_ERROR)
-    span_us = stream_span_us(hm)
     t = cw.t0[cw.first]
     j = np.searchsorted(f_start, t, side="right") - 1
     t = t[(j < 0) | (t > f_end[np.maximum(j, 0)])] if passed else t
+    if t.size == 0 and alone.size == 0:
+        return frames  # nothing to read (and the train's edges not needed)
+    if edges_us is None:
+        edges_us = pulse_edges_us(d)
+    t_short = edges_us[short]
+    t_alone = t_short[alone]
+    # the signature may match anywhere before the sync word
+    lead_us = (hm.sync_chip + 4) * spec.unit_us * (1 + MAX_CLOCK_ERROR)
+    span_us = stream_span_us(hm)
     keep = np.searchsorted(t_short, t + span_us) > np.searchsorted(t_short, t - lead_us)
     t = t[keep]
     # a dropped pulse from a lead before a passing frame to its end: the frame holds it
@@ -491,13 +496,12 @@ def _low_filter_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
                              spans=(all_start, all_end))
 
 
-def _shrunk_us(d: np.ndarray, short: np.ndarray, t_short: np.ndarray, min_us: float,
-               low_us: float) -> np.ndarray:
-    """Return the start times of the pulses ``short`` (indices into durations ``d``,
-    starting at ``t_short``) that lie amid pulses the filter keeps: of the 2 on each side
-    all but one, of the ``ANCHOR_CONTEXT_PULSES`` on each side all but
-    ``ANCHOR_SHORT_NEIGHBOURS`` at least ``min_us``, and none shorter than ``low_us`` (a
-    shrunk pulse, not receiver noise); beyond the train's ends: idle."""
+def _anchors(d: np.ndarray, short: np.ndarray, min_us: float, low_us: float) -> np.ndarray:
+    """Return the places in ``short`` (indices into durations ``d``, ascending) of the
+    pulses that lie amid pulses the filter keeps: of the 2 on each side all but one, of
+    the ``ANCHOR_CONTEXT_PULSES`` on each side all but ``ANCHOR_SHORT_NEIGHBOURS`` at least
+    ``min_us``, and none shorter than ``low_us`` (a shrunk pulse, not receiver noise);
+    beyond the train's ends: idle."""
     keep = np.arange(short.size)
     # the 2 either side first (all but one kept): most noise fails there
     for n, spare in ((2, 1), (ANCHOR_CONTEXT_PULSES, ANCHOR_SHORT_NEIGHBOURS)):
@@ -515,7 +519,7 @@ def _shrunk_us(d: np.ndarray, short: np.ndarray, t_short: np.ndarray, min_us: fl
             longer[ends] = (ctx >= min_us).sum(axis=1)
             shorter[ends] = (ctx < low_us).any(axis=1)
         keep = keep[(longer >= 2 * n - spare) & ~shorter]
-    return t_short[keep]
+    return keep
 
 
 @dataclass(frozen=True, eq=False)
