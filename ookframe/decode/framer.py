@@ -320,12 +320,16 @@ def _tail_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
     todo: list[tuple[float, float | None, float]] = [
         (frames[i].start_us, frames[i].end_us, frames[i].unit_us) for i in bad]
     owner: list[int] = list(bad)
-    # starts read or to be read: the frames' and the unparsed windows' taken so far
-    taken = Spans((k, f.start_us, f.start_us) for k, f in enumerate(frames))
+    # starts read or to be read: the frames' and the unparsed windows' taken so far (an
+    # unparsed window is taken unless one lies within 2 units)
+    starts = np.array([f.start_us for f in frames], np.float64) if ctx.unparsed_us.size \
+        else np.zeros(0)
+    taken: list[float] = []
     for t, u in zip(ctx.unparsed_us.tolist(), ctx.unparsed_unit_us.tolist(), strict=True):
-        if (hit := taken.nearest(t)) is not None and hit[0] < 2 * spec.unit_us:
+        if (starts.size and float(np.abs(starts - t).min()) < 2 * spec.unit_us) \
+                or any(abs(v - t) < 2 * spec.unit_us for v in taken):
             continue
-        taken.add(len(taken), t, t)
+        taken.append(t)
         todo.append((t, None, u))
         owner.append(-1)
     trailing = min(int(hm.runs.allowed[0][-1]), MAX_TRAILING_UNITS)
