@@ -7,7 +7,8 @@ array with a length per row (:class:`EncodedBits`) and handed out as a list of r
 
 Raw values (``Raws``): per int field an integer array of length ``n`` (two's complement
 patterns as uint64, or signed int64); per bytes field a sequence of ``n`` bytes objects
-(the length field must hold their lengths).
+(the length field must hold their lengths), or an (n x max_len_bytes) uint8 array whose
+row ``i`` holds frame ``i``'s bytes in its first (length field's value) entries.
 """
 
 from __future__ import annotations
@@ -19,6 +20,7 @@ import numpy as np
 
 from .bits import from_raw, uint_matrix_to_bits
 from .checks.base import check_rows
+from .linecodes.base import LineCode
 from .plan import FramePlan, as_plan
 from .ragged import ragged_index
 from .spec.model import FrameSpec
@@ -53,11 +55,11 @@ class EncodedBits:
         if width == 0:
             return ("",) * packed.shape[0]
         text = packed.tobytes().hex()
-        rows = [text[i:i + width] for i in range(0, len(text), width)]
         if self.plan.is_fixed:
-            return tuple(rows)
-        return tuple(r[:2 * ((k + 7) // 8)] for r, k in zip(rows, self.n_field_bits.tolist(),
-                                                            strict=True))
+            return tuple([text[i:i + width] for i in range(0, len(text), width)])
+        begin = np.arange(packed.shape[0]) * width
+        end = begin + 2 * ((np.asarray(self.n_field_bits, np.int64) + 7) // 8)
+        return tuple([text[a:b] for a, b in zip(begin.tolist(), end.tolist(), strict=True)])
 
 
 def is_fixed_layout(spec: FrameSpec | FramePlan) -> bool:
@@ -71,7 +73,23 @@ def random_raw_batch(spec: FrameSpec | FramePlan, n: int, rng: np.random.Generat
     bytes field ``n`` random byte strings of uniform length 0..max_len_bytes (the length
     field holds their lengths)."""
     plan = as_plan(spec)
-    out: dict[str, np.ndarray | list[bytes]] = {}
+    out: dict[str, np.ndarray | list[bytes]] = dict(random_raw_arrays(plan, n, rng))
+    if plan.bytes_field is not None:
+        data = out[plan.bytes_field.name]
+        assert isinstance(data, np.ndarray) and plan.length_field is not None
+        lengths = out[plan.length_field.name]
+        out[plan.bytes_field.name] = [row[:k].tobytes() for row, k in zip(data, lengths.tolist(),
+                                                                           strict=True)]
+    return out
+
+
+def random_raw_arrays(spec: FrameSpec | FramePlan, n: int, rng: np.random.Generator
+                      ) -> dict[str, np.ndarray]:
+    """The raw values of :func:`random_raw_batch` (the same draws), a bytes field as an
+    (n x max_len_bytes) uint8 array, row ``i`` zero past its length (the length field's
+    value), which :func:`field_bits_batch` also takes."""
+    plan = as_plan(spec)
+    out: dict[str, np.ndarray] = {}
     for fp in plan.fields:
         f = fp.field
         if fp.width_bits is None:
@@ -85,8 +103,8 @@ def random_raw_batch(spec: FrameSpec | FramePlan, n: int, rng: np.random.Generat
         m = plan.bytes_field.field.max_len_bytes
         lengths = rng.integers(0, m + 1, size=n)
         data = rng.integers(0, 256, size=(n, m), dtype=np.uint8)
-        out[plan.bytes_field.name] = [row[:k].tobytes() for row, k in zip(data, lengths.tolist(),
-                                                                           strict=True)]
+        data[np.arange(m) >= lengths[:, None]] = 0
+        out[plan.bytes_field.name] = data
         assert plan.length_field is not None
         out[plan.length_field.name] = lengths.astype(np.int64)
     return out
@@ -121,9 +139,14 @@ def field_bits_batch(spec: FrameSpec | FramePlan, raws: Raws) -> tuple[np.ndarra
         if fp.width_bits is None:
             blobs = raws[fp.name]
             m = fp.field.max_len_bytes
-            lengths = np.fromiter((len(b) for b in blobs), np.int64, n)  # type: ignore[arg-type]
-            buf = np.zeros((n, m), np.uint8)
-            buf[np.arange(m) < lengths[:, None]] = np.frombuffer(b"".join(blobs), np.uint8)  # type: ignore[arg-type]
+            if isinstance(blobs, np.ndarray):  # (n x m) bytes, zero past each length
+                assert plan.length_field is not None
+                lengths = np.asarray(raws[plan.length_field.name], np.int64)
+                buf = np.where(np.arange(m) < lengths[:, None], blobs, 0).astype(np.uint8, copy=False)
+            else:
+                lengths = np.fromiter((len(b) for b in blobs), np.int64, n)
+                buf = np.zeros((n, m), np.uint8)
+                buf[np.arange(m) < lengths[:, None]] = np.frombuffer(b"".join(blobs), np.uint8)
             bits = np.unpackbits(buf, axis=1)
             if spec.bit_order == "lsb":
                 bits = bits.reshape(n, m, 8)[:, :, ::-1].reshape(n, 8 * m)
@@ -192,7 +215,17 @@ def encode_bits(spec: FrameSpec | FramePlan, raws: Raws) -> EncodedBits:
 def rows_of(matrix: np.ndarray, lengths: np.ndarray) -> list[np.ndarray]:
     """Return row ``i`` of ``matrix`` cut to ``lengths[i]`` entries, for every row."""
     flat = matrix[np.arange(matrix.shape[1]) < lengths[:, None]]
-    return np.split(flat, np.cumsum(lengths)[:-1]) if lengths.size else []
+    return split_rows(flat, lengths)
+
+
+def split_rows(flat: np.ndarray, lengths: np.ndarray) -> list[np.ndarray]:
+    """Return the rows (views) of ``flat``, rows of ``lengths[i]`` entries laid end to end:
+    ``np.split(flat, np.cumsum(lengths)[:-1])`` without its per-row overhead (``[]`` for
+    no rows)."""
+    if lengths.size == 0:
+        return []
+    ends = np.cumsum(lengths).tolist()
+    return [flat[a:b] for a, b in zip([0, *ends[:-1]], ends, strict=True)]
 
 
 def frame_bits_batch(spec: FrameSpec | FramePlan, raws: Raws) -> np.ndarray | list[np.ndarray]:
@@ -210,6 +243,23 @@ def frame_bits_of(plan: FramePlan, enc: EncodedBits) -> np.ndarray | list[np.nda
     return [np.concatenate((head, row)) for row in rows_of(enc.body, enc.n_body_bits)]
 
 
+def frame_bits_flat(plan: FramePlan, enc: EncodedBits) -> tuple[np.ndarray, np.ndarray]:
+    """Return (head + body bits of every encoded frame laid end to end, bits per frame):
+    the rows of :func:`frame_bits_of` in one uint8 array."""
+    head = plan.head_bits
+    if plan.is_fixed:
+        bits = frame_bits_of(plan, enc)
+        assert isinstance(bits, np.ndarray)
+        return bits.reshape(-1), np.full(enc.n, bits.shape[1], np.int64)
+    n, width = enc.body.shape
+    h = head.size
+    lengths = h + np.asarray(enc.n_body_bits, np.int64)
+    padded = np.empty((n, h + width), np.uint8)
+    padded[:, :h] = head
+    padded[:, h:] = enc.body
+    return padded[np.arange(h + width) < lengths[:, None]], lengths
+
+
 def frame_chips_batch(spec: FrameSpec | FramePlan, bits: np.ndarray | Sequence[np.ndarray]
                       ) -> np.ndarray | list[np.ndarray]:
     """Chips of frame bits (from :func:`frame_bits_batch`): bit stuffing after the sync,
@@ -217,7 +267,6 @@ def frame_chips_batch(spec: FrameSpec | FramePlan, bits: np.ndarray | Sequence[n
     and no stuffing, else a list of 1-D arrays."""
     plan = as_plan(spec)
     lc = plan.line_code
-    head_n = plan.head_bits.size
     if (isinstance(bits, np.ndarray) and bits.ndim == 2 and lc.chips_per_block is not None
             and lc.max_stuffed_bits(bits.shape[1]) == 0):
         return lc.encode(bits)
@@ -225,7 +274,22 @@ def frame_chips_batch(spec: FrameSpec | FramePlan, bits: np.ndarray | Sequence[n
     if not rows:
         return []
     sizes = np.array([r.size for r in rows], np.int64)
-    flat = np.concatenate(rows).astype(np.uint8, copy=False)
+    chips, n_chips = frame_chips_flat(plan, np.concatenate(rows), sizes)
+    return split_rows(chips, n_chips)
+
+
+def frame_chips_flat(plan: FramePlan, bits: np.ndarray, sizes: np.ndarray
+                     ) -> tuple[np.ndarray, np.ndarray]:
+    """Return (chips of every frame laid end to end, chips per frame) for frame bits laid
+    end to end in ``bits`` (``sizes[i]`` bits each, head first): bit stuffing after the
+    sync, then the line code, each frame on its own (the rows of
+    :func:`frame_chips_batch` in one array)."""
+    lc = plan.line_code
+    head_n = plan.head_bits.size
+    flat = np.asarray(bits).astype(np.uint8, copy=False)
+    sizes = np.asarray(sizes, np.int64)
+    if type(lc).stuff_rows is LineCode.stuff_rows:  # no stuffing: the bits as they are
+        return lc.encode_rows(flat, sizes)
     row_start = np.cumsum(sizes) - sizes
     body, n_body = lc.stuff_rows(flat[ragged_index(row_start + head_n, sizes - head_n)],
                                  sizes - head_n)
@@ -235,5 +299,4 @@ def frame_chips_batch(spec: FrameSpec | FramePlan, bits: np.ndarray | Sequence[n
     heads = (row_start[:, None] + np.arange(head_n)).ravel()
     out[(out_start[:, None] + np.arange(head_n)).ravel()] = flat[heads]
     out[ragged_index(out_start + head_n, n_body)] = body
-    chips, n_chips = lc.encode_rows(out, lengths)
-    return np.split(chips, np.cumsum(n_chips)[:-1])
+    return lc.encode_rows(out, lengths)

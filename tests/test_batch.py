@@ -6,9 +6,23 @@ import numpy as np
 import pytest
 
 from ookframe import frame_bits, frame_chips
-from ookframe.batch import frame_bits_batch, frame_chips_batch, random_raw_batch, raw_row
+from ookframe.batch import (
+    encode_bits,
+    field_bits_batch,
+    frame_bits_batch,
+    frame_bits_flat,
+    frame_bits_of,
+    frame_chips_batch,
+    frame_chips_flat,
+    random_raw_arrays,
+    random_raw_batch,
+    raw_row,
+    rows_of,
+    split_rows,
+)
 from ookframe.demo import example_names
 from ookframe.linecodes import LINE_CODES
+from ookframe.plan import as_plan
 from ookframe.spec_io import spec_from_dict
 from tests.conftest import example_spec
 
@@ -61,3 +75,58 @@ def test_batch_equals_single_for_every_line_code(line_code):
         values = raw_row(spec, raws, i)
         assert bits[i].tolist() == frame_bits(spec, values).tolist()
         assert np.asarray(chips[i]).tolist() == frame_chips(spec, values).tolist()
+
+
+@pytest.mark.parametrize("line_code", CODE_DOCS, ids=lambda d: "-".join(map(str, d.values())))
+@pytest.mark.parametrize("with_bytes", [False, True])
+def test_flat_rows_equal_the_row_lists(line_code, with_bytes):
+    """frame_bits_flat / frame_chips_flat hold the rows of frame_bits_batch /
+    frame_chips_batch laid end to end, for every line code, fixed and variable layouts."""
+    fields = [{"name": "level", "width_bits": 12}, {"name": "id", "width_bits": 4}]
+    if with_bytes:
+        fields = [{"name": "n", "width_bits": 4, "role": "length"},
+                  {"name": "note", "kind": "bytes", "max_len_bytes": 5}, *fields]
+    spec = spec_from_dict({
+        "frame": {"name": "bed", "unit_us": 500.0}, "line_code": line_code,
+        "preamble": {"pattern": 0xAA, "count": 1}, "sync": {"value": 0x2D, "length_bits": 8},
+        "fields": fields, "check": {"model": "CRC-16/KERMIT", "covers": ["fields"]}})
+    plan = as_plan(spec)
+    raws = random_raw_batch(plan, 25, np.random.default_rng(5))
+    enc = encode_bits(plan, raws)
+    rows = list(frame_bits_of(plan, enc))
+    flat, sizes = frame_bits_flat(plan, enc)
+    assert sizes.tolist() == [r.size for r in rows]
+    assert flat.dtype == np.uint8 and flat.tolist() == np.concatenate(rows).tolist()
+    chip_rows = list(frame_chips_batch(plan, frame_bits_of(plan, enc)))
+    chips, n_chips = frame_chips_flat(plan, flat, sizes)
+    assert n_chips.tolist() == [c.size for c in chip_rows]
+    assert chips.tolist() == np.concatenate(chip_rows).tolist()
+    assert [c.tolist() for c in split_rows(chips, n_chips)] == [c.tolist() for c in chip_rows]
+
+
+@pytest.mark.parametrize("name", ["tank_level", "hive_scale"])
+def test_raw_arrays_are_the_raw_batch(name):
+    """random_raw_arrays draws what random_raw_batch draws (the bytes field as a zero-padded
+    matrix); field_bits_batch and encode_bits give the same bits from either form, also
+    when the matrix holds other values past the lengths; payload_hex is each frame's
+    fields bytes as hex (reference: bytes.hex of the packed bits, row by row)."""
+    spec, _ = example_spec(f"{name}.toml")
+    plan = as_plan(spec)
+    g1, g2 = np.random.default_rng(9), np.random.default_rng(9)
+    listed = random_raw_batch(plan, 60, g1)
+    arrays = random_raw_arrays(plan, 60, g2)
+    assert g1.random() == g2.random() and listed.keys() == arrays.keys()
+    for key, value in listed.items():
+        if isinstance(value, list):
+            assert [bytes(r[:len(b)]) for r, b in zip(arrays[key], value, strict=True)] == value
+            noisy = arrays[key].copy()
+            noisy[np.arange(noisy.shape[1]) >= np.array([len(b) for b in value])[:, None]] = 0xA5
+            for form in (arrays, {**arrays, key: noisy}):
+                want, got = field_bits_batch(plan, listed), field_bits_batch(plan, form)
+                assert np.array_equal(want[0], got[0]) and np.array_equal(want[1], got[1])
+        else:
+            assert np.array_equal(value, arrays[key]) and value.dtype == arrays[key].dtype
+    a, b = encode_bits(plan, listed), encode_bits(plan, arrays)
+    assert np.array_equal(a.body, b.body) and np.array_equal(a.n_body_bits, b.n_body_bits)
+    rows = rows_of(a.fields, a.n_field_bits)
+    assert a.payload_hex() == tuple(np.packbits(r).tobytes().hex() for r in rows)

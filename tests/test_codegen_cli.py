@@ -98,3 +98,30 @@ def test_emit_tx_mode_buffer_refused_when_the_gap_needs_several_periods(capsys, 
     assert "Traceback" not in err and not (tmp_path / "buf").exists()
     code, _, err = run(capsys, "emit", HIVE, "-o", str(tmp_path / "x"), "--tx-mode", "ring")
     assert code == exitcodes.USAGE and "--tx-mode" in err
+
+
+def test_emit_report_follows_the_side(capsys, tmp_path):
+    """--side rx: the text report says the transmitter is left out (no transmitter RAM line)
+    and gives the receiver's RAM, the figure the header states (held to the AVR build's
+    RAM by tests/test_codegen_avr_rx.py); --side both gives both; --side tx no receiver."""
+    reports, texts = {}, {}
+    for side in ("tx", "rx", "both"):
+        code, out, _ = run(capsys, "emit", HIVE, "-o", str(tmp_path / side), "--side", side,
+                           "--json")
+        assert code == 0
+        reports[side] = json.loads(out)
+        code, texts[side], _ = run(capsys, "emit", HIVE, "-o", str(tmp_path / (side + "t")),
+                                   "--side", side)
+        assert code == 0
+    assert reports["tx"]["receiver"] is None and reports["tx"]["transmitter_default_on"]
+    rx = reports["rx"]["receiver"]
+    assert rx == reports["both"]["receiver"]
+    assert 0 < rx["ram_bytes_without_recovery"] < rx["ram_bytes"]
+    header = (tmp_path / "rx" / "hive_scale.h").read_text()
+    assert f"RAM: about {rx['ram_bytes']} bytes" in header
+    assert not reports["rx"]["transmitter_default_on"] and reports["both"]["transmitter_default_on"]
+    assert "transmitter RAM" not in texts["rx"] and "transmitter left out" in texts["rx"]
+    assert f"receiver RAM at most {rx['ram_bytes']} B" in texts["rx"]
+    assert "streaming transmitter RAM" in texts["both"]
+    assert f"receiver RAM at most {rx['ram_bytes']} B" in texts["both"]
+    assert "receiver RAM" not in texts["tx"]

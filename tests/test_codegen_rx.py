@@ -815,6 +815,50 @@ def test_shrunk_pulse_and_glitch_in_one_copy(name):
     assert len({str(f.raw) for f in got}) == 1
 
 
+def _glitch_near_a_start(name: str, seed: int, cut: float, width: float):
+    """A train of ``name`` (a mark-space code) whose first copy has its first longest body
+    space (of the first 40 body pulses) cut ``cut`` unit in by a mark glitch ``width``
+    unit wide: the space before the glitch lies below the glitch filter and above half of
+    it, the glitch above the filter. Returns (spec, the train, the train as sent)."""
+    from ookframe.decode.head import build_head
+
+    spec = example_spec(name)
+    u = spec.unit_us
+    assert spec.decoder.glitch_fraction / 2 < cut < spec.decoder.glitch_fraction < width
+    t = encode(spec, random_values(spec, np.random.default_rng(seed)))
+    lv, d = list(t.levels), list(t.durations_us)
+    body = build_head(spec).units.size + 2
+    longest = max(x for x, lv_ in zip(d[body:body + 40], lv[body:body + 40], strict=True)
+                  if lv_ == 0 and x < 5 * u)
+    i = next(i for i in range(body, body + 40) if lv[i] == 0 and abs(d[i] - longest) < 1e-6)
+    lv[i:i + 1] = [0, 1, 0]
+    d[i:i + 1] = [cut * u, width * u, d[i] - (cut + width) * u]
+    return spec, PulseTrain(np.array(lv, np.uint8), np.array(d)), t
+
+
+@needs_gcc
+@pytest.mark.parametrize("name", ["greenhouse_probe.toml", "gate_sensor.toml"])
+@pytest.mark.parametrize(("cut", "width"), [(0.22, 0.49), (0.28, 0.4)])
+@pytest.mark.parametrize("seed", [0, 2])
+def test_mark_space_drops_the_sliver_before_a_glitch(name, cut, width, seed):
+    """A mark glitch just after a long space starts leaves a sliver of space below the
+    glitch filter between the mark before and the glitch (gate_sensor at its glitch-rate
+    margin, seed 0, the copy at 0.528 s: M1 s0.22 M0.49 s2.29 for M1 s3). The reference
+    drops the sliver, the mark before and the glitch make one pulse and its repair moves
+    that end back; the C read every copy the same but this one: the pulse after the sliver
+    (the glitch) fit a one-unit run loosely, so the sliver was kept as a space and the
+    pair misread. Now the pulse after must also fit from the sliver's start at the grid
+    point the pulse before ends on, where the glitch lies most of a unit short. (Seed 1
+    is left out: there the reference takes a misread of the glitched copy whose XOR-8
+    passes.)"""
+    spec, train, sent = _glitch_near_a_start(name, seed, cut, width)
+    (raw,) = {str(f.raw) for f in decode(spec, sent) if f.crc_ok}
+    ref = [str(f.raw) for f in decode(spec, train) if f.crc_ok]
+    got = [str(f.raw) for f in decode_c(spec, train) if f.crc_ok]
+    assert ref == [raw] * spec.repeats
+    assert got == ref
+
+
 @pytest.mark.slow
 @needs_gcc
 @pytest.mark.parametrize("name", EXAMPLES)
@@ -865,6 +909,15 @@ OTHER_MARGINS = ["mark_bias_us", "clock_error_pct", "quant_step_us", "glitch_rat
                  "dropout_prob"]
 
 
+#: margin rows where the C receiver is known to lose more copies than the reference's
+#: 95 % CI allows (the test fails when such a row passes, so a fix removes it here). None
+#: now: gate_sensor at its glitch-rate margin (0.0316 half-unit glitches per ms) lost
+#: 0.417 of copies against ref 0.364 (<= 0.395) until the low-filter rule also checked the
+#: pulse after a short one from the short one's start (0.384;
+#: test_mark_space_drops_the_sliver_before_a_glitch)
+KNOWN_MARGIN_GAPS: set[tuple[str, str]] = set()
+
+
 @pytest.mark.slow
 @needs_gcc
 @pytest.mark.parametrize("name", EXAMPLES)
@@ -890,10 +943,10 @@ def test_copy_loss_parity_at_other_margins(name):
         assert row.at_limit is not None and c is not None, row.impairment
         (lr, (_, hi)), (lc, _) = copy_loss(row.at_limit, spec.repeats), copy_loss(c, spec.repeats)
         seen.append(f"{row.impairment} {row.limit:.4g}: ref {lr:.3f} (<= {hi:.3f}) C {lc:.3f}")
-        if lc > hi:
+        if (lc > hi) != ((name, row.impairment) in KNOWN_MARGIN_GAPS):
             bad.append(seen[-1])
     print(f"{name}: " + "; ".join(seen))
-    assert not bad, bad
+    assert not bad, (bad, "a row of KNOWN_MARGIN_GAPS that now passes must leave it")
 
 
 @pytest.mark.slow

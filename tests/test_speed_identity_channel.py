@@ -17,8 +17,9 @@ import pytest
 
 from ookframe.channel import PRESETS, ChannelSpec, apply_channel
 from ookframe.channel import impairments as im
+from ookframe.linecodes import LINE_CODES
 from ookframe.pulses import PulseTrain
-from ookframe.spec_io import load_spec
+from ookframe.spec_io import load_spec, spec_from_dict
 from ookframe.stress import batch as sb
 from ookframe.stress.runner import Counts, match_frames
 
@@ -206,11 +207,31 @@ def test_min_width_matches_reference(seed):
     rng = np.random.default_rng(seed)
     t = np.cumsum(rng.exponential(5.0, 2000)) + rng.normal(0.0, 2.0, 2000)
     for w in (0.01, 0.5, 3.0):
-        for ts in (t, np.sort(t), np.sort(t) + 10.0):
+        for ts in (t, np.sort(t), np.sort(t) + 10.0, np.sort(t) - 40.0, t - 40.0):
             want = _ref_min_width(1, ts, 2e4, w)
             for own in (False, True):
                 got = im._min_width(im.Edges(1, ts.copy(), 2e4), w, own=own)
                 assert _same(got.t_us, want[1]) and got.end_us == want[2]
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_cumsum_us_equals_cumsum(seed):
+    """Reference: np.cumsum (float64), bit for bit: binary-fraction multiples (summed as
+    integers), other values, zeros, -0.0, negatives, non-finite values, huge and tiny
+    totals, short inputs."""
+    rng = np.random.default_rng(seed)
+    n = int(rng.integers(1000, 30000))
+    whole = rng.integers(1, 40, n) * rng.choice([250.0, 350.0, 312.5, 0.375, 2.0**-40])
+    whole[rng.random(n) < 0.1] = rng.choice([9000.0, 5000.0, 123.25])
+    cases = [whole, whole[:50], whole * (1e6 / 2400) / 250.0, whole + 1e-9,
+             np.concatenate((whole, [0.0])), np.concatenate(([-0.0], whole)),
+             np.concatenate((whole, [-350.0])), whole * 2.0**40, whole * 2.0**-60,
+             np.concatenate((whole, [np.inf])), np.concatenate((whole, [np.nan])),
+             rng.exponential(100.0, n)]
+    for x in cases:
+        got = im.cumsum_us(x)
+        want = np.cumsum(x)
+        assert got.dtype == want.dtype and _same(got.view(np.int64), want.view(np.int64))
 
 
 @pytest.mark.parametrize("seed", range(5))
@@ -243,7 +264,7 @@ def test_idle_noise_matches_reference(seed):
             assert got.end_us == want[2] and a.random() == b.random()
 
 
-@pytest.mark.parametrize("seed", range(5))
+@pytest.mark.parametrize("seed", range(12))
 def test_space_positions_merge_like_searchsorted(seed):
     """Reference: _insert_sorted at commit 3ba4d04, also for points pushed off their space
     (onto or past its closing toggle, onto its opening one)."""
@@ -261,7 +282,17 @@ def test_space_positions_merge_like_searchsorted(seed):
         counts.append(pts.size)
     new_us = np.concatenate(new)
     before = im._space_positions(t, new_us, 2 * spaces, np.array(counts))
-    assert _same(im._insert_at(t, new_us, before), _ref_insert_sorted(t, new_us))
+    want = _ref_insert_sorted(t, new_us)
+    assert _same(im._insert_at(t, new_us, before), want)
+    assert _same(im._insert_in_spaces(t, new_us, 2 * spaces, np.array(counts)), want)
+    inside = [p[(p > (t[2 * sp - 1] if sp else -1.0)) & (p < (t[2 * sp] if sp < 20 else np.inf))]
+              for p, sp in zip(new, spaces, strict=True)]  # the block path (nothing off)
+    pts = np.concatenate(inside)
+    got = im._insert_in_spaces(t, pts, 2 * spaces, np.array([p.size for p in inside]))
+    assert _same(got, _ref_insert_sorted(t, pts))
+    empty = np.zeros(0)  # no toggles: one space
+    one = np.sort(g.uniform(0.0, 5.0, 3))
+    assert _same(im._insert_in_spaces(empty, one, np.zeros(1, np.int64), np.array([3])), one)
 
 
 @pytest.mark.parametrize("seed", range(5))
@@ -324,6 +355,31 @@ def test_join_matches_reference(example, gap_us):
         assert _same(b.train.levels, lv) and _same(b.train.durations_us, du)
         got = sb.join_chips(s, rows, b.payload_hex, gap)  # list input as well as 2-D
         assert _same(got.train.levels, lv) and _same(got.train.durations_us, du)
+
+
+@pytest.mark.parametrize("code", [{"name": n, **cls.DEFAULTS} for n, cls in LINE_CODES.items()]
+                         + [{"name": "nrz", "stuff_after": 3}], ids=lambda d: d["name"])
+@pytest.mark.parametrize("repeats", [1, 3])
+def test_random_batch_equals_join_of_its_rows(code, repeats):
+    """random_batch (rows kept laid end to end) gives the train of join_chips over the
+    rows of random_chips, and the same draws, for every line code with a bytes field."""
+    spec = spec_from_dict({
+        "frame": {"name": "bed", "unit_us": 1e6 / 2400, "repeats": repeats, "gap_us": 900.0},
+        "line_code": code, "preamble": {"pattern": 0xAA, "count": 1},
+        "sync": {"value": 0x2D, "length_bits": 8},
+        "fields": [{"name": "n", "width_bits": 4, "role": "length"},
+                   {"name": "note", "kind": "bytes", "max_len_bytes": 6},
+                   {"name": "id", "width_bits": 4}],
+        "check": {"model": "CRC-16/KERMIT", "covers": ["fields"]}})
+    for n in (0, 1, 13):
+        g1, g2 = np.random.default_rng(n), np.random.default_rng(n)
+        b = sb.random_batch(spec, n, g1, gap_us=333.0)
+        rows, payload = sb.random_chips(spec, n, g2)
+        want = sb.join_chips(spec, rows, payload, 333.0)
+        assert _same(b.train.levels, want.train.levels)
+        assert _same(b.train.durations_us, want.train.durations_us)
+        assert _same(b.starts_us, want.starts_us) and _same(b.ends_us, want.ends_us)
+        assert b.payload_hex == want.payload_hex and g1.random() == g2.random()
 
 
 def test_join_all_zero_rows_and_empty_batch():

@@ -46,3 +46,23 @@ def test_margin_searches_glitches_and_dropouts_on_the_default_channel():
         assert rows[name].status == "ok" and rows[name].first_fail is not None
     assert rows["glitch_rate_per_ms"].at_limit.channel.glitch_width_us in (
         0.0, 0.5 * spec.unit_us)
+
+
+def test_rate_margins_are_found_on_a_log_scale():
+    """Glitch rate and dropout probability are searched on a log scale: hive_scale at PER
+    < 0.1 fails at the first linear step (1/64 of the search limit), so a linear bisection
+    reported 0; the log search brackets a non-zero limit whose ratio to the first failing
+    value is within 1 + 5 * resolution, and the limit's own run passes."""
+    from ookframe.stress.margin import RATE_FLOOR, search_limit
+
+    spec, _ = example_spec("hive_scale.toml")
+    res = 0.05
+    r = run_margin(spec, 0.1, impairments=["glitch_rate_per_ms", "dropout_prob"], n_frames=60,
+                   resolution=res, chunk_frames=30)
+    for row in r.rows:
+        lim = search_limit(spec, row.impairment)
+        assert row.status == "ok" and RATE_FLOOR * lim <= row.limit < row.first_fail
+        assert row.first_fail / row.limit <= 1 + 5 * res
+        assert row.at_limit.per_ci95[1] < 0.1
+    glitch = next(x for x in r.rows if x.impairment == "glitch_rate_per_ms")
+    assert glitch.limit < search_limit(spec, "glitch_rate_per_ms") / 64

@@ -54,11 +54,13 @@ def apply_channel(
     if len(train) == 0:
         return train
     c = channel
+    # every kernel below gets toggle times that only this call holds (from_arrays makes a
+    # new array; each kernel returns a new one or its input's), so they may work in place
     e = Edges.from_arrays(train.levels, train.durations_us)
     if c.clock_error_pct or c.drift_pct_per_s:
         e = _k_clock(e, c.clock_error_pct, c.drift_pct_per_s, burst_starts_us)
     if c.mark_bias_us:
-        e = _k_mark_bias(e, c.mark_bias_us, c.min_width_us)
+        e = _k_mark_bias(e, c.mark_bias_us, c.min_width_us, own=True)
     if c.dropout_prob:
         e = _k_dropout(e, c.dropout_prob, rng)
     if c.idle_noise_us:
@@ -68,7 +70,7 @@ def apply_channel(
     if c.jitter_us:
         e = _k_jitter(e, c.jitter_us, c.jitter_kind, c.min_width_us, rng)
     if c.quant_step_us:
-        e = _k_quantise(e, c.quant_step_us, rng)
+        e = _k_quantise(e, c.quant_step_us, rng, own=True)
     elif c.idle_noise_us or c.glitch_rate_per_ms:
         e = _min_width(e, c.min_width_us)
     return e.to_train()

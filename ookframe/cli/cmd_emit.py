@@ -71,8 +71,18 @@ def report_table(report: dict) -> Table:
     return t
 
 
+def _rx_ram_line(report: dict) -> str:
+    """Return the receiver's RAM as one line of the text report."""
+    rx = report["receiver"]
+    return (f"receiver RAM at most {rx['ram_bytes']} B ({rx['ram_bytes_without_recovery']} B "
+            "with <PREFIX>_RX_RECOVERY 0); 32-bit targets may pad a few bytes")
+
+
 def _ram_line(report: dict) -> str:
     """Return the RAM of both transmitters as one line of the text report."""
+    if not report["transmitter_default_on"]:
+        return ("receive-only header: transmitter left out (<PREFIX>_WANT_TX defaults to 0; "
+                "--side both for both)")
     stream = report["streaming"]["ram_bytes"]
     text = (f"streaming transmitter RAM {stream['avr']} B (8-bit AVR) / {stream['arm32']} B "
             "(32-bit MCU); ")
@@ -104,6 +114,8 @@ def run(args: argparse.Namespace) -> int:
                   f"ticks; frame up to {report['max_frame_bits']} bits"
                   + (f"; CRC code {report['crc_impl']}" if report["crc_impl"] else ""))
         out.print(_ram_line(report))
+        if report["receiver"] is not None:
+            out.print(_rx_ram_line(report))
         periods = report["gap_timer_periods"]
         if len(periods) > 1:
             out.print(f"repeat gap longer than one {report['timer_bits']}-bit timer period: sent "

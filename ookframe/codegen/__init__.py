@@ -64,6 +64,13 @@ class Emitted:
                 if m.txbuf["avr_isr"] else None},
             "run_buffer_refusal": m.txbuf_refusal or None,
             "streaming": {"ram_bytes": dict(m.stream_ram)},
+            "side": m.side,
+            # emit --side rx: the transmitter is in the header but off by default
+            # (<PREFIX>_WANT_TX 0), so its RAM figures above apply only when it is turned on
+            "transmitter_default_on": m.side != "rx",
+            "receiver": None if m.rx is None else {
+                "ram_bytes": m.rx.ram_bytes,
+                "ram_bytes_without_recovery": m.rx.ram_bytes_plain},
         }
 
 

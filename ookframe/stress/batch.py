@@ -37,9 +37,9 @@ class Batch:
 
 def _random_raws(plan: FramePlan, n: int, rng: np.random.Generator):
     """Return the raw values of ``n`` random frames, drawn array-wide
-    (``ookframe.batch.random_raw_batch``: every layout, bytes fields too; the distribution
-    of ``frame.random_values``)."""
-    return _batch.random_raw_batch(plan, n, rng)
+    (``ookframe.batch.random_raw_arrays``, the draws of ``random_raw_batch``: every layout,
+    bytes fields too; the distribution of ``frame.random_values``)."""
+    return _batch.random_raw_arrays(plan, n, rng)
 
 
 def random_batch(
@@ -51,8 +51,25 @@ def random_batch(
     first and after the last."""
     plan = as_plan(spec)
     gap = float(plan.gap_us if gap_us is None else gap_us)
-    chips, payload = random_chips(plan, n, rng)
-    return join_chips(plan, chips, payload, gap)
+    enc = _batch.encode_bits(plan, _random_raws(plan, n, rng))
+    payload = enc.payload_hex()
+    lc = plan.line_code
+    if plan.is_fixed:
+        bits = _batch.frame_bits_of(plan, enc)
+        assert isinstance(bits, np.ndarray)
+        if n == 0 or (lc.chips_per_block is not None
+                      and lc.max_stuffed_bits(bits.shape[1]) == 0):  # 2-D chips
+            return join_chips(plan, _batch.frame_chips_batch(plan, bits), payload, gap)
+        flat, sizes = bits.reshape(-1), np.full(n, bits.shape[1], np.int64)
+    else:
+        if n == 0:
+            return join_chips(plan, [], payload, gap)
+        flat, sizes = _batch.frame_bits_flat(plan, enc)
+    # rows of different chip counts: kept laid end to end from bits to slots
+    chips, n_chips = _batch.frame_chips_flat(plan, flat, sizes)
+    if n_chips.min() == 0:
+        return join_chips(plan, _batch.split_rows(chips, n_chips), payload, gap)
+    return _join_slots(plan, _slot_levels_flat(chips, n_chips, plan.repeats), payload, gap)
 
 
 def random_chips(spec: FrameSpec | FramePlan, n: int, rng: np.random.Generator
@@ -73,15 +90,23 @@ def join_chips(
     ``rows``: the chips of each transmission, a 2-D array (fixed layout) or a list.
     """
     plan = as_plan(spec)
+    return _join_slots(plan, _slot_levels(rows, plan.repeats), payload, gap)
+
+
+def _join_slots(plan: FramePlan, slots: tuple[np.ndarray, np.ndarray, np.ndarray],
+                payload: tuple[str, ...], gap: float) -> Batch:
+    """Return the batch of :func:`join_chips` from its slots (``_slot_levels``)."""
     unit = plan.unit_us
     r = plan.repeats
-    levels, lens, gap_slot = _slot_levels(rows, r)
+    levels, lens, gap_slot = slots
     # gap slots: one batch gap in front, then per transmission r - 1 repeat gaps and a batch gap
     gap_w = np.full(gap_slot.size, float(gap))
     if r > 1:
         gap_w[1:].reshape(-1, r)[:, :-1] = plan.gap_us
     starts = np.flatnonzero(np.concatenate(([True], levels[1:] != levels[:-1])))
-    train = PulseTrain(levels[starts], _run_durations_us(levels.size, starts, unit, gap_slot, gap_w))
+    widths = (float(gap), float(plan.gap_us)) if r > 1 else (float(gap),)  # gap_w's values
+    train = PulseTrain(levels[starts],
+                       _run_durations_us(levels.size, starts, unit, gap_slot, gap_w, widths))
     tx_us = r * lens * unit + (r - 1) * plan.gap_us
     begin = gap + np.concatenate(([0.0], np.cumsum(tx_us + gap)[:-1]))
     return Batch(train, begin, begin + tx_us, payload, gap)
@@ -99,6 +124,8 @@ def _slot_levels(
         gap_slot = np.arange(n * r + 1) * (width + 1)
         return levels, np.full(n, width, np.int64), gap_slot
     lens = np.array([c.size for c in rows], np.int64)
+    if lens.size and lens.min() > 0:
+        return _slot_levels_flat(np.concatenate(rows), lens, r)
     copy_slots = lens + 1  # slots of one copy: its chips and the gap slot after them
     first = 1 + np.concatenate(([0], np.cumsum(r * copy_slots)[:-1]))
     copy_start = first[:, None] + np.arange(r) * copy_slots[:, None]  # (rows, r)
@@ -113,15 +140,43 @@ def _slot_levels(
     return levels, lens, gap_slot
 
 
+def _slot_levels_flat(
+    chips: np.ndarray, lens: np.ndarray, r: int
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """``_slot_levels`` of rows laid end to end in ``chips`` (``lens[i] >= 1`` chips each,
+    at least one row): the rows padded into a matrix with a zero (the gap slot) after
+    each, and its ``r`` copies per row read out without the padding."""
+    n = lens.size
+    copy_slots = lens + 1  # slots of one copy: its chips and the gap slot after them
+    first = 1 + np.concatenate(([0], np.cumsum(r * copy_slots)[:-1]))
+    copy_start = first[:, None] + np.arange(r) * copy_slots[:, None]  # (rows, r)
+    cols = np.arange(int(lens.max()) + 1)
+    padded = np.zeros((n, cols.size), np.uint8)
+    padded[cols < lens[:, None]] = chips
+    keep = cols <= lens[:, None]
+    levels = np.empty(1 + int(r * copy_slots.sum()), np.uint8)
+    levels[0] = 0
+    if r == 1:
+        levels[1:] = padded[keep]
+    else:  # each row r times in a row (faster than reading a broadcast view)
+        levels[1:] = np.repeat(padded, r, axis=0)[np.repeat(keep, r, axis=0)]
+    gap_slot = np.concatenate(([0], (copy_start + lens[:, None]).ravel()))
+    return levels, lens, gap_slot
+
+
 def _run_durations_us(
-    n_slots: int, starts: np.ndarray, unit_us: float, gap_slot: np.ndarray, gap_us: np.ndarray
+    n_slots: int, starts: np.ndarray, unit_us: float, gap_slot: np.ndarray, gap_us: np.ndarray,
+    gap_widths: tuple[float, ...] | None = None,
 ) -> np.ndarray:
     """Return the summed weights of the runs of slots beginning at ``starts``: ``unit_us``
     per chip slot, ``gap_us`` at the gap slots; equal to ``np.add.reduceat`` of the slot
     weights. When every weight is a multiple of one power of two and all their sums stay
-    below 2**52 of it, every sum is exact in any order, so runs are counted instead."""
+    below 2**52 of it, every sum is exact in any order, so runs are counted instead (the
+    same floats as the reduction then). ``gap_widths``: the values ``gap_us`` takes (at
+    least those; default: found from ``gap_us``)."""
     bound = (n_slots - gap_slot.size) * unit_us + float(gap_us.sum())
-    if not _sums_exact([unit_us, *np.unique(gap_us).tolist()], bound):
+    widths = np.unique(gap_us).tolist() if gap_widths is None else list(gap_widths)
+    if not _sums_exact([unit_us, *widths], bound):
         return _reduced_runs_us(n_slots, starts, unit_us, gap_slot, gap_us)
     durations_us = np.empty(starts.size)  # slots per run, then chips per run, then µs
     np.subtract(starts[1:], starts[:-1], out=durations_us[:-1])
@@ -162,12 +217,16 @@ def _reduced_runs_us(n_slots: int, starts: np.ndarray, unit_us: float, gap_slot:
     at the gap slots) at ``starts``, the same floats: runs of chip slots only are looked
     up by their length (``_unit_sums_us``), the rest (runs holding a gap slot, very long
     runs) reduced over their own slots laid end to end."""
-    lengths = np.diff(starts, append=n_slots)
+    lengths = np.empty(starts.size, np.int64)
+    np.subtract(starts[1:], starts[:-1], out=lengths[:-1])
+    lengths[-1] = n_slots - starts[-1]
     run = np.searchsorted(starts, gap_slot, side="right") - 1
     rest = lengths > UNIT_SUMS_MAX
     rest[run] = True
-    out = _unit_sums_us(unit_us)[np.where(rest, 0, lengths)]
     r = np.flatnonzero(rest)
+    looked_up = lengths.copy()
+    looked_up[r] = 0
+    out = _unit_sums_us(unit_us)[looked_up]
     if r.size:
         n = lengths[r]
         weights = np.full(int(n.sum()), unit_us)

@@ -114,7 +114,10 @@ def run_margin(
     """Return, for each impairment alone (added to ``channel``, default ideal), the largest
     value whose PER upper 95 % bound stays below ``target_per``; signed impairments are
     searched in both directions. Bisection assumes PER grows with the magnitude and
-    stops when the bracket is narrower than ``resolution`` * search limit; every point
+    stops when the bracket is narrower than ``resolution`` * search limit; rates
+    (``RATE_IMPAIRMENTS``: glitch rate, dropout probability) are searched on a log scale
+    down to ``RATE_FLOOR`` of the limit and stop when the bracket's ratio is at most
+    1 + 5 * ``resolution``; every point
     uses the same seed (common random numbers). Glitches searched on a channel without a
     glitch width get half a symbol unit (``sweep.channel_at``). ``decoder``: as in
     ``run_stress`` (default the reference decoder; e.g. ``codegen.host_rx.decode_c``)."""
@@ -177,6 +180,16 @@ def run_at_margins(
     return tuple(out)
 
 
+#: impairments that are rates or probabilities: their margins span decades (a frame of
+#: 200 units fails at a glitch rate of 1 per 64 units, the first linear step), so they are
+#: searched on a log scale (``_bisect``)
+RATE_IMPAIRMENTS: frozenset[str] = frozenset({"glitch_rate_per_ms", "dropout_prob"})
+#: the smallest rate searched, as a fraction of the search limit: below it the margin is 0
+RATE_FLOOR = 1e-4
+#: factor by which the rate search steps down from a failing value until one passes
+RATE_STEP_DOWN = 4.0
+
+
 def _bisect(name, sign, start, limit, resolution, evaluate, passes) -> MarginRow:
     at0 = evaluate(name, start)
     if not passes(at0):
@@ -185,9 +198,37 @@ def _bisect(name, sign, start, limit, resolution, evaluate, passes) -> MarginRow
     at_far = evaluate(name, far)
     if passes(at_far):
         return MarginRow(name, sign, far, None, "beyond", at_far)
+    if name in RATE_IMPAIRMENTS:
+        return _bisect_rate(name, sign, start, far, limit, resolution, evaluate, passes, at0)
     good, good_r, bad = start, at0, far
     while abs(bad - good) > resolution * limit:
         mid = (good + bad) / 2
+        r = evaluate(name, mid)
+        if passes(r):
+            good, good_r = mid, r
+        else:
+            bad = mid
+    return MarginRow(name, sign, good, bad, "ok", good_r)
+
+
+def _bisect_rate(name, sign, start, far, limit, resolution, evaluate, passes, at0) -> MarginRow:
+    """Bisect a rate impairment on a log scale between ``start`` (passes) and ``far``
+    (fails): from a start of 0, step down by ``RATE_STEP_DOWN`` from ``far`` until a value
+    passes (none above ``RATE_FLOOR`` * ``limit``: the margin is ``start``), then halve the
+    bracket's log width until its ratio is at most 1 + 5 * ``resolution``."""
+    good, good_r, bad = start, at0, far
+    if good == 0:
+        while True:
+            v = bad / RATE_STEP_DOWN
+            if v < RATE_FLOOR * limit:
+                return MarginRow(name, sign, start, bad, "ok", at0)
+            r = evaluate(name, v)
+            if passes(r):
+                good, good_r = v, r
+                break
+            bad = v
+    while bad / good > 1 + 5 * resolution:
+        mid = math.sqrt(good * bad)
         r = evaluate(name, mid)
         if passes(r):
             good, good_r = mid, r
