@@ -14,6 +14,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from ookframe.decode import merge
 from ookframe.decode.merge import FrameMerge, Spans, Verdict, merge_overlapping
 
 
@@ -94,6 +95,34 @@ def test_merge_overlapping_equals_the_quadratic_oracle(frames, readings, rule, a
     got = merge_overlapping(frames, readings, rule, added_block=added_block, sort=sort)
     want = _oracle(frames, readings, rule, added_block=added_block, sort=sort)
     assert [f.tag for f in got] == [f.tag for f in want]
+
+
+@settings(max_examples=300, deadline=None)
+@given(frames=_frames(), readings=_frames(tag0=100), rule=st.sampled_from(RULES),
+       added_block=st.booleans(), sort=st.sampled_from([None, True, False]),
+       scans=st.sampled_from([0, 1, 3]), given_spans=st.booleans())
+def test_merge_overlapping_equals_the_oracle_across_the_index_switch(
+        frames, readings, rule, added_block, sort, scans, given_spans):
+    """The scan of the frames' arrays for the first ``scans`` readings, the Spans index
+    after (built from the frames then held), with the arrays given by the caller or not:
+    the same result as the oracle."""
+    spans = (np.array([f.start_us for f in frames], float),
+             np.array([f.end_us for f in frames], float)) if given_spans else None
+    before = merge.SCAN_QUERIES
+    merge.SCAN_QUERIES = scans
+    try:
+        got = merge_overlapping(frames, readings, rule, added_block=added_block, sort=sort,
+                                spans=spans)
+    finally:
+        merge.SCAN_QUERIES = before
+    want = _oracle(frames, readings, rule, added_block=added_block, sort=sort)
+    assert [f.tag for f in got] == [f.tag for f in want]
+
+
+def test_given_spans_must_match_the_frames():
+    frames = [_Frame(0.0, 1.0, True, 1)]
+    with pytest.raises(ValueError, match="one start and one end per frame"):
+        FrameMerge(frames, spans=(np.zeros(2), np.zeros(2)))
 
 
 def _doubtful_before(frames, other):

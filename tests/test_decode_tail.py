@@ -8,13 +8,23 @@ must decode when such noise starts exactly at the frame's last falling edge.
 from __future__ import annotations
 
 from pathlib import Path
+from types import SimpleNamespace
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from ookframe import frame
-from ookframe.decode.framer import decode
-from ookframe.decode.tail import carrier_end_us, join_spans
+from ookframe.decode.framer import (
+    ANCHOR_CONTEXT_PULSES,
+    ANCHOR_SHORT_NEIGHBOURS,
+    _anchors,
+    _holding,
+    _holds,
+    decode,
+)
+from ookframe.decode.tail import carrier_end_us, join_spans, pulse_edges_us
 from ookframe.linecodes import LINE_CODES
 from ookframe.pulses import PulseTrain, merge_runs
 from ookframe.spec_io import load_spec, spec_from_dict
@@ -99,3 +109,50 @@ def test_joined_spans_map_back_to_the_train():
     for k, (a_us, b_us) in enumerate([(50.0, 300.0), (320.0, 600.0), (600.0, 700.0)]):
         assert cuts.start_us[k] + cuts.origin_us[k] == a_us
         assert np.isin(b_us - cuts.origin_us[k], t)
+
+
+@settings(max_examples=100, deadline=None)
+@given(d=st.lists(st.floats(0.01, 5e5, allow_nan=False), max_size=300))
+def test_pulse_edges_are_the_concatenated_cumsum_bit_for_bit(d):
+    """The boundaries written in place hold the same sums as the concatenation."""
+    x = np.array(d, np.float64)
+    want = np.concatenate(([0.0], np.cumsum(x)))
+    assert pulse_edges_us(x).tobytes() == want.tobytes()
+
+
+@settings(max_examples=200, deadline=None)
+@given(times=st.lists(st.integers(0, 40), max_size=8),
+       spans=st.lists(st.tuples(st.integers(-2, 42), st.integers(0, 10)), max_size=8))
+def test_holding_is_holds_per_span(times, spans):
+    """The low-filter and doubtful opinions' vector test equals the one-frame test."""
+    t = np.sort(np.array(times, np.float64))
+    start = np.array([s for s, _ in spans], np.float64)
+    end = start + np.array([n for _, n in spans], np.float64)
+    got = _holding(start, end, t).tolist()
+    want = [_holds(SimpleNamespace(start_us=a, end_us=b), t)
+            for a, b in zip(start.tolist(), end.tolist(), strict=True)]
+    assert got == want
+
+
+def _shrunk_before(d, short, t_short, min_us, low_us):
+    """The anchor test as first written (one context matrix per stage)."""
+    keep = np.arange(short.size)
+    for n, spare in ((2, 1), (ANCHOR_CONTEXT_PULSES, ANCHOR_SHORT_NEIGHBOURS)):
+        j = short[keep][:, None] + np.concatenate((np.arange(-n, 0), np.arange(1, n + 1)))
+        ctx = np.where((j >= 0) & (j < d.size), d[np.clip(j, 0, d.size - 1)], np.inf)
+        keep = keep[((ctx >= min_us).sum(axis=1) >= 2 * n - spare)
+                    & ~(ctx < low_us).any(axis=1)]
+    return t_short[keep]
+
+
+@settings(max_examples=300, deadline=None)
+@given(d=st.lists(st.sampled_from([0.1, 0.25, 0.3, 0.45, 0.5] + [1.0] * 12 + [2.0] * 8),
+                  min_size=1, max_size=60))
+def test_shrunk_pulses_equal_the_context_matrix_test(d):
+    """Durations on the filter widths (0.5 and 0.25) and near them, short trains (every
+    pulse near an end) and long ones: the same anchors as the matrix form."""
+    x = np.array(d, np.float64)
+    short = np.flatnonzero((x >= 0.25) & (x < 0.5))
+    t_short = pulse_edges_us(x)[short]
+    got = t_short[_anchors(x, short, 0.5, 0.25)]
+    assert got.tolist() == _shrunk_before(x, short, t_short, 0.5, 0.25).tolist()

@@ -31,6 +31,7 @@ class RunTable:
     cap_ratio: float
     same: bool  # both levels allow exactly 1 .. top (then rounding decides)
     lookup: np.ndarray  # (2 x top + 2) bool: lookup[lv, n] for 0 <= n <= top + 1
+    by_length: np.ndarray  # lookup transposed and flattened: by_length[2 n + lv]
 
 
 def run_table(space: tuple[int, ...], mark: tuple[int, ...]) -> RunTable:
@@ -42,7 +43,8 @@ def run_table(space: tuple[int, ...], mark: tuple[int, ...]) -> RunTable:
     lookup = np.zeros((2, top + 2), bool)
     for lv in (0, 1):
         lookup[lv, allowed[lv]] = True
-    return RunTable(allowed, mids, top, float(top + 1), same, lookup)  # type: ignore[arg-type]
+    return RunTable(allowed, mids, top, float(top + 1), same, lookup,  # type: ignore[arg-type]
+                    np.ascontiguousarray(lookup.T).ravel())
 
 
 def nearest_runs(ratio: np.ndarray, levels: np.ndarray, table: RunTable
@@ -54,17 +56,34 @@ def nearest_runs(ratio: np.ndarray, levels: np.ndarray, table: RunTable
     chip counts over a gap stay right.
     """
     r = np.asarray(ratio, dtype=np.float64)
+    units = _nearest_units(r, levels, table)
+    return units, np.abs(r - units)
+
+
+def _nearest_units(r: np.ndarray, levels: np.ndarray, table: RunTable) -> np.ndarray:
+    """Return the first part of :func:`nearest_runs` (``r``: float64 ratios)."""
     if table.same:
         units = np.rint(r)
         np.clip(units, 1.0, float(table.top), out=units)
         units = units.astype(np.int64)
     else:  # both levels looked up over the whole array (cheaper than masked parts)
-        a0, a1 = table.allowed
-        units = np.where(levels == 1, a1[_rank(table.mids[1], r)], a0[_rank(table.mids[0], r)])
+        units = np.where(levels == 1, _nearest_allowed(table, 1, r),
+                         _nearest_allowed(table, 0, r))
     beyond = r > table.cap_ratio
     if beyond.any():
         units[beyond] = np.rint(r[beyond]).astype(np.int64)
-    return units, np.abs(r - units)
+    return units
+
+
+def _nearest_allowed(table: RunTable, lv: int, r: np.ndarray) -> np.ndarray | np.int64:
+    """Return ``table.allowed[lv][_rank(table.mids[lv], r)]``: for one allowed length that
+    length, for two a choice by the one threshold (NaN is above it, as ranked)."""
+    a, mids = table.allowed[lv], table.mids[lv]
+    if a.size == 1:
+        return a[0]
+    if a.size == 2:
+        return np.where(r <= mids[0], a[0], a[1])
+    return a[_rank(mids, r)]
 
 
 #: sorted arrays up to this long are ranked by comparisons, not a binary search
@@ -154,6 +173,18 @@ def _column_sums(x: np.ndarray) -> np.ndarray:
     return np.cumsum(x, axis=0)[-1]
 
 
+def _column_running_sums(n: np.ndarray) -> np.ndarray:
+    """Return ``np.cumsum(n, axis=0)`` of a 2-D int64 ``n`` of small whole numbers as
+    float64 (exact either way); with many columns, a row at a time (numpy accumulates
+    down the columns one column at a time)."""
+    if n.shape[1] < 64:
+        return np.cumsum(n, axis=0).astype(np.float64)
+    c = n.astype(np.float64)
+    for i in range(1, c.shape[0]):
+        c[i] += c[i - 1]
+    return c
+
+
 def head_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarray,
               head_units: int, iterations: int = 2, *, levels: np.ndarray | None = None,
               table: RunTable | None = None) -> np.ndarray:
@@ -189,8 +220,8 @@ def head_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarra
         if lv is None:
             n, _ = classify(d, unit)
         else:
-            n, _ = nearest_runs(d / unit, lv, table)  # type: ignore[arg-type]
-        c = np.cumsum(n, axis=0).astype(np.float64)
+            n = _nearest_units(d / unit, lv, table)  # type: ignore[arg-type]
+        c = _column_running_sums(n)
         w = ((c <= head_units) & real).astype(np.float64)  # a prefix of every column
         npts = _column_sums(w) + 1.0  # + the origin edge (0, 0)
         st = _column_sums(t * w)
@@ -331,6 +362,23 @@ class _Sums:
         self.fix = fix
         self.lo = np.maximum(fix - before, first[seg])
         self.hi = np.minimum(fix + (after + 1), stop[seg])
+        self.first, self.stop = first, stop
+
+    def count_kept(self, dropped: np.ndarray) -> np.ndarray:
+        """Return (float64) per element how many elements of its range are not at the
+        indices ``dropped`` (ascending, distinct): the same values as the moving sums of
+        a keep mask (1.0, 0.0 where dropped), which are whole numbers, counted directly
+        (no running sum)."""
+        count = np.full(self.size, float(self.before + self.after + 1))
+        count[self.fix] = self.hi - self.lo  # where a segment edge cuts the range
+        if dropped.size:
+            # a dropped element is in the ranges of the elements up to ``after`` before
+            # and ``before`` after it, within its segment
+            seg = np.searchsorted(self.stop, dropped, "right")
+            lo = np.maximum(dropped - self.after, self.first[seg])
+            hi = np.minimum(dropped + (self.before + 1), self.stop[seg])
+            count -= np.bincount(ragged_index(lo, hi - lo), minlength=self.size)
+        return count
 
     def __call__(self, x: np.ndarray, out: np.ndarray | None = None) -> np.ndarray:
         """Return the moving sums of ``x`` (into ``out`` if given): the same values as
@@ -357,10 +405,12 @@ def is_allowed(n: np.ndarray, levels: np.ndarray, table: RunTable) -> np.ndarray
     """Return True where ``n`` is a run length the code allows at the pulse's level."""
     if table.same:
         return (n >= 1) & (n <= table.top)
-    # the (level, length) table flattened: one look-up per pulse
+    # the (length, level) table flattened: one look-up per pulse at 2 n + level (shift and
+    # add over the whole array: cheaper than adding to the marks picked by a mask)
     at = np.clip(n, 0, table.top + 1)
-    at[levels != 0] += table.top + 2
-    return table.lookup.ravel()[at]
+    at <<= 1
+    at += levels != 0
+    return table.by_length[at]
 
 
 def _repair(c: np.ndarray, residual: np.ndarray, grid: np.ndarray, pulse_edge: np.ndarray,
@@ -374,6 +424,17 @@ def _repair(c: np.ndarray, residual: np.ndarray, grid: np.ndarray, pulse_edge: n
     updated (only the moved edges' residuals are worked out again) and returned."""
     if not in_place:
         c, residual = c.copy(), residual.copy()
+    edge, step, _ = _repair_moves(residual, pulse_edge, n, ok, levels, table)
+    c[edge] += step
+    residual[edge] = grid[edge] - c[edge]
+    return c, residual
+
+
+def _repair_moves(residual: np.ndarray, pulse_edge: np.ndarray, n: np.ndarray,
+                  ok: np.ndarray, levels: np.ndarray, table: RunTable
+                  ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Return the moves of :func:`_repair` (same arguments): (the edges moved, ascending
+    and distinct; the step of each, +-1.0; the pulse ending at each)."""
     bad = np.flatnonzero(~ok)
     e0, e1 = pulse_edge[bad] - 1, pulse_edge[bad]
     edge = np.where(np.abs(residual[e0]) >= np.abs(residual[e1]), e0, e1)
@@ -390,11 +451,12 @@ def _repair(c: np.ndarray, residual: np.ndarray, grid: np.ndarray, pulse_edge: n
     n_after = n[p_before + 1] - step.astype(np.int64)
     fits = is_allowed(n_before, levels[p_before], table) & is_allowed(
         n_after, levels[p_before + 1], table)
-    edge, step = edge[fits], step[fits]
-    edge, first = np.unique(edge, return_index=True)
-    c[edge] += step[first]
-    residual[edge] = grid[edge] - c[edge]
-    return c, residual
+    edge, step, p_before = edge[fits], step[fits], p_before[fits]
+    # the edges ascend (a pulse's edges lie at or after those of every earlier pulse), so
+    # np.unique's first occurrences are where an edge differs from the one before
+    first = np.ones(edge.size, bool)
+    first[1:] = edge[1:] != edge[:-1]
+    return edge[first], step[first], p_before[first]
 
 
 def _phase_turns(x: np.ndarray, dropped: np.ndarray, sums: _Sums, in_place: bool = False
@@ -511,7 +573,7 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
     rough = _phase_turns(x, dropped, near)
     del near
     _unwrap_in_place(rough)
-    kept = wide(keep)
+    kept = wide.count_kept(dropped)
     np.maximum(kept, 1.0, out=kept)
     rough *= keep
     trend = wide(rough, out=rough)
@@ -531,10 +593,15 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
     ok = is_allowed(n, levels, table)
     if not ok.all():  # move the less sure edge of a bad pulse to its other grid point
         pulse_edge = np.flatnonzero(ends)
-        c, residual = _repair(c, residual, grid, pulse_edge, n, ok, levels, table,
-                              in_place=True)
-        n = np.diff(c)[inner].astype(np.int64)
-        ok = is_allowed(n, levels, table)
+        edge, step, p_before = _repair_moves(residual, pulse_edge, n, ok, levels, table)
+        c[edge] += step
+        residual[edge] = grid[edge] - c[edge]
+        # only the pulses on either side of a moved edge change: their lengths (whole
+        # numbers: the same differences as over all edges) and verdicts are redone
+        near = np.unique(np.concatenate((p_before, p_before + 1)))
+        pe = pulse_edge[near]
+        n[near] = (c[pe] - c[pe - 1]).astype(np.int64)
+        ok[near] = is_allowed(n[near], levels[near], table)
     del c
     bad = np.flatnonzero(~ok)
     if bad.size:

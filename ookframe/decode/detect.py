@@ -42,7 +42,8 @@ def edge_tolerance(table: RunTable) -> float:
 
 def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np.ndarray,
                     sig_units: np.ndarray, unit_us: float, table: RunTable,
-                    clock_error: float) -> tuple[np.ndarray, np.ndarray]:
+                    clock_error: float, *, edges_us: np.ndarray | None = None
+                    ) -> tuple[np.ndarray, np.ndarray]:
     """Return (index of the first signature pulse, estimated unit in µs) per candidate.
 
     A candidate is a run of pulses with the signature's levels whose edges lie on the
@@ -67,6 +68,8 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
     survivors are fitted together. When candidates overlap (a periodic preamble longer
     than the signature) only the last is kept: it is the one next to the sync word.
     ``table`` bounds the signature's runs from above (a longer pulse is no frame run).
+    ``edges_us``: the train's edge times ``[0, cumsum(durations_us)]`` if the caller has
+    them (the same values as worked out here).
     """
     k = sig_units.size
     n = durations_us.size - k + 1
@@ -76,31 +79,29 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
     tol = edge_tolerance(table)
     lo_us = np.maximum(r - 2 * tol, 0.0) * (1.0 - clock_error) * unit_us
     hi_us = np.minimum(r + 2 * tol, table.cap_ratio) * (1.0 + clock_error) * unit_us
-    d0 = durations_us[:n]
-    cand = np.flatnonzero((levels[:n] == sig_levels[0]) & (d0 > lo_us[0]) & (d0 < hi_us[0]))
-    cand = _spans_fit(cand, durations_us, r, (1.0 + clock_error) * unit_us, tol)
-    for j in range(1, k):
-        if cand.size == 0:
-            break
-        dj = durations_us[cand + j]
-        cand = cand[(levels[cand + j] == sig_levels[j]) & (dj > lo_us[j]) & (dj < hi_us[j])]
+    cand = np.flatnonzero(_runs_fit(levels, durations_us, sig_levels, lo_us, hi_us))
+    cand = _spans_fit(cand, durations_us, r, (1.0 + clock_error) * unit_us, tol, edges_us)
     if cand.size == 0:
         return cand.astype(np.int64), np.zeros(0)
-    # edge times from each candidate's first edge: the running sums of its k durations
-    d = sliding_window_view(durations_us, k)[cand]
-    t = np.empty((cand.size, k + 1))
-    t[:, 0] = 0.0
-    np.cumsum(d, axis=1, out=t[:, 1:])
-    if k >= SHORT_SIGNATURE_RUNS:
-        d = None
+    # edge times from each candidate's first edge: the running sums of its k durations,
+    # built as the rows of an (edge, candidate) array ``tt``, one vector add per edge (the
+    # same sums in the same order as a running sum along each candidate, at far less
+    # cost than one over many short rows), then transposed for the fit
+    tt = np.empty((k + 1, cand.size))
+    tt[0] = 0.0
+    np.take(durations_us, cand + np.arange(k)[:, None], out=tt[1:])
+    for j in range(2, k + 1):
+        tt[j] += tt[j - 1]
+    t = tt.T.copy()
+    d = sliding_window_view(durations_us, k)[cand] if k < SHORT_SIGNATURE_RUNS else None
     scratch = np.empty_like(t)
     unit, offset = _fit_line(t, r, scratch)
-    ok = np.abs(unit / unit_us - 1.0) <= clock_error  # cheap: before the edge offsets
-    # every row's worst edge from the line, taken row by row (the same values as over the
-    # rows in range alone), in the fit's scratch space
-    with np.errstate(invalid="ignore", over="ignore"):
-        line_worst = _worst_edge(t, r, unit, offset, out=scratch)
     del scratch
+    ok = np.abs(unit / unit_us - 1.0) <= clock_error  # cheap: before the edge offsets
+    # every row's worst edge from the line, taken column by column of ``tt`` (the same
+    # values as over the rows in range alone)
+    with np.errstate(invalid="ignore", over="ignore"):
+        line_worst = _worst_edge_columns(tt, r, unit, offset)
     if run_spacing(table) > 1:  # the line, else the best grid (see above)
         worst = np.where(ok, line_worst, np.inf)
         miss = np.flatnonzero(worst >= MAX_EDGE_OFFSET)
@@ -112,7 +113,8 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
             worst[miss[hopeless]] = np.inf
             miss = miss[~hopeless]
         if miss.size:
-            best_unit, best = _minimax_edge(t[miss], r, lo_unit, hi_unit)
+            best_unit, best = _minimax_edge(t[miss], r, lo_unit, hi_unit,
+                                            tt=np.take(tt, miss, axis=1))
             worst[miss] = best
             unit[miss] = np.where(ok[miss], unit[miss], best_unit)  # the line's if in range
         ok = worst < tol
@@ -129,6 +131,32 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
     if cand.size > 1:
         cand, unit = _one_per_cluster(cand, unit, worst, k)
     return cand.astype(np.int64), unit
+
+
+def _runs_fit(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np.ndarray,
+              lo_us: np.ndarray, hi_us: np.ndarray) -> np.ndarray:
+    """Return per position i (as many as the signature fits into the train) whether every
+    pulse i + j has the level ``sig_levels[j]`` and a duration strictly between
+    ``lo_us[j]`` and ``hi_us[j]``.
+
+    One pass over the train per distinct (level, bounds) of the signature (a preamble
+    has few), then the signature's tests ANDed along it as shifted slices: cheaper than
+    narrowing the positions run by run (the same values: every test is per pulse).
+    """
+    k = sig_levels.size
+    n = durations_us.size - k + 1
+    tests: dict[tuple[int, float, float], np.ndarray] = {}
+    fits = np.ones(n, bool)
+    for j in range(k):
+        key = (int(sig_levels[j]), float(lo_us[j]), float(hi_us[j]))
+        ok = tests.get(key)
+        if ok is None:
+            ok = levels == sig_levels[j]
+            ok &= durations_us > lo_us[j]
+            ok &= durations_us < hi_us[j]
+            tests[key] = ok
+        fits &= ok[j:j + n]
+    return fits
 
 
 #: fits whose worst edge offsets differ by less than this (units) count as equally good
@@ -167,7 +195,8 @@ def _one_per_cluster(cand: np.ndarray, unit: np.ndarray, worst: np.ndarray, k: i
     return cand[keep], unit[keep]
 
 def _spans_fit(cand: np.ndarray, durations_us: np.ndarray, r: np.ndarray, max_unit_us: float,
-               tol: float = MAX_EDGE_OFFSET) -> np.ndarray:
+               tol: float = MAX_EDGE_OFFSET, edges_us: np.ndarray | None = None
+               ) -> np.ndarray:
     """Return the candidates whose spans of pulses keep the signature's proportions.
 
     If every edge lies within ``tol`` units u of its chip (the final test), the time S_j
@@ -175,21 +204,30 @@ def _spans_fit(cand: np.ndarray, durations_us: np.ndarray, r: np.ndarray, max_un
     |S_j C_k - C_j S_k| <= 2 tol (C_k + C_j) u for chip counts C; whatever the clock. Checked
     at every eighth of the signature, it drops most positions
     inside frames (runs of other lengths) before any fit, and never a true head.
+    ``edges_us``: ``[0, cumsum(durations_us)]`` if known (see :func:`find_candidates`).
     """
     k = r.size
     if k < 4 or cand.size == 0:
         return cand
     c = np.concatenate(([0.0], np.cumsum(r)))
-    t = np.empty(durations_us.size + 1)
-    t[0] = 0.0
-    np.cumsum(durations_us, out=t[1:])
+    t = edges_us
+    if t is None:
+        t = np.empty(durations_us.size + 1)
+        t[0] = 0.0
+        np.cumsum(durations_us, out=t[1:])
     begin = t[cand]
     total = t[cand + k] - begin
+    # every test over all candidates, worked out in place, and one selection at the end
+    # (cheaper than narrowing three arrays after each test; the same verdicts)
+    keep = np.ones(cand.size, bool)
     for j in sorted({k * q // 8 for q in range(1, 8)} - {0}):
-        part = t[cand + j] - begin
-        ok = np.abs(part * c[k] - c[j] * total) <= 2 * tol * (c[k] + c[j]) * max_unit_us
-        cand, total, begin = cand[ok], total[ok], begin[ok]
-    return cand
+        part = t[cand + j]
+        part -= begin
+        part *= c[k]
+        part -= c[j] * total
+        np.abs(part, out=part)
+        keep &= part <= 2 * tol * (c[k] + c[j]) * max_unit_us
+    return cand[keep]
 
 
 def _edge_line(d: np.ndarray, r: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -222,8 +260,8 @@ def _fit_line(t: np.ndarray, r: np.ndarray, scratch: np.ndarray | None = None
     return unit, offset
 
 
-def _minimax_edge(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: float
-                  ) -> tuple[np.ndarray, np.ndarray]:
+def _minimax_edge(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: float, *,
+                  tt: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
     """Return per row (unit in µs, worst edge offset in units of that unit) of the chip
     grid with a unit in [``lo_unit_us``, ``hi_unit_us``] that leaves the smallest worst
     edge offset, for rows of edge times ``t`` (from the first edge, as
@@ -234,10 +272,12 @@ def _minimax_edge(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: f
     linear functions less a minimum of them) in v: a golden-section search over v finds
     its minimum, all rows at once (every row on its own: the rows' values do not depend
     on the other rows). The edges are laid out as the rows of one array, the heads as
-    its columns, so the largest and smallest offsets are taken across rows.
+    its columns, so the largest and smallest offsets are taken across rows (``tt``: that
+    array, C-ordered, if the caller has it).
     """
     c = np.concatenate(([0.0], np.cumsum(r)))[:, None]
-    tt = np.ascontiguousarray(t.T)
+    if tt is None:
+        tt = np.ascontiguousarray(t.T)
     buf = np.empty_like(tt)
 
     def half_spread(v: np.ndarray) -> np.ndarray:
@@ -302,6 +342,19 @@ def _spread_floor(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: f
     at_cross = np.where((cross > lo_v) & (cross < hi_v), upper(cross), np.inf)
     np.minimum(floor, at_cross, out=floor)
     return floor / 2.0
+
+
+def _worst_edge_columns(tt: np.ndarray, r: np.ndarray, unit: np.ndarray, offset: np.ndarray
+                        ) -> np.ndarray:
+    """Return :func:`_worst_edge` of ``tt.T`` (the same values) for edge times laid out as
+    columns (one per row of ``t``): every element is worked out alike, and the largest
+    is taken across rows of ``tt``, which numpy does a whole row at a time."""
+    c = np.concatenate(([0.0], np.cumsum(r)))[:, None]
+    w = np.divide(tt, unit, out=np.empty_like(tt))
+    w -= offset
+    w -= c
+    np.abs(w, out=w)
+    return w.max(axis=0)
 
 
 def _worst_edge(t: np.ndarray, r: np.ndarray, unit: np.ndarray, offset: np.ndarray,

@@ -35,7 +35,7 @@ from .glitch import drop_glitches
 from .head import MAX_CLOCK_ERROR, HeadModel, build_head
 from .merge import FrameMerge, Spans, Verdict, merge_overlapping
 from .segment import burst_breaks, burst_end
-from .tail import MAX_TRAILING_UNITS, CutTrains, cut_trains, join_spans
+from .tail import MAX_TRAILING_UNITS, CutTrains, cut_trains, join_spans, pulse_edges_us
 from .validate import validate_train
 from .windows import WindowRuns, Windows, classify_windows, lay_out
 
@@ -166,10 +166,12 @@ def decode(spec: Receiver, train: PulseTrain, *,
         if flips > 0 and failing:
             frames = [f if f.crc_ok else _recover(spec, hm, ctx, k, flips) or f
                       for f, k in found]
-        frames = _track_opinions(spec, hm, clean, cw, frames, found, ctx)
+        frames = _track_opinions(spec, hm, clean, cw, frames, found, ctx, failing)
+    edges_us = None  # the unfiltered train's pulse boundaries, for both opinions below
     if ctx.unparsed_us.size or not all(f.crc_ok for f in frames):
-        frames = _tail_opinion(spec, hm, train, frames, ctx)
-    frames = _low_filter_opinion(spec, hm, train, clean, cw, frames)
+        edges_us = pulse_edges_us(train.durations_us)
+        frames = _tail_opinion(spec, hm, train, frames, ctx, edges_us)
+    frames = _low_filter_opinion(spec, hm, train, clean, cw, frames, edges_us)
     return [f for f in frames if f.crc_ok or include_bad]
 
 
@@ -246,13 +248,15 @@ def _recover(spec: FrameSpec, hm: HeadModel, ctx: _Context, k: int, max_flips: i
 
 def _track_opinions(spec: FrameSpec, hm: HeadModel, clean: PulseTrain,
                     cw: _CandidateWindows, frames: list[DecodedFrame],
-                    found: list[tuple[DecodedFrame, int]], ctx: _Context
-                    ) -> list[DecodedFrame]:
+                    found: list[tuple[DecodedFrame, int]], ctx: _Context,
+                    failing: bool = True) -> list[DecodedFrame]:
     """Return ``frames`` (one per frame of the grid reading ``found`` of ``clean``, after
     any recovery) with the duration-by-duration readings joined: the second opinion over
     the bursts of the frames whose check still fails, then the doubtful windows' own
-    pass (:func:`_doubtful_opinion`)."""
-    failed = [k for f, (_, k) in zip(frames, found, strict=True) if not f.crc_ok]
+    pass (:func:`_doubtful_opinion`). ``failing``: False when no frame of ``found`` failed
+    (the recovery only turns failed frames into passing ones: none fails then)."""
+    failed = ([k for f, (_, k) in zip(frames, found, strict=True) if not f.crc_ok]
+              if failing else [])
     if failed:
         other, _ = _decode_clean(spec, hm, clean, cw.bursts_of(failed), grid=False)
         frames = _second_opinion(spec, frames, [f for f, _ in other])
@@ -286,36 +290,53 @@ def _doubtful_opinion(frames: list[DecodedFrame], other: list[DecodedFrame],
     and overlaps no frame, added. Its false-accept risk is that of one more reading of
     such a window, as for the frames the second opinion replaces."""
     times = np.sort(doubtful_us)
+    # the rule skips a reading that fails or holds none of the times whatever it meets (a
+    # skip changes nothing): only the others are looked up
+    good = [g for g in other if g.crc_ok]
+    if not good or times.size == 0:
+        return frames
+    held = _holding(np.array([g.start_us for g in good]), np.array([g.end_us for g in good]),
+                    times)
+    good = [g for g, h in zip(good, held.tolist(), strict=True) if h]
+    if not good:
+        return frames
 
     def rule(g: DecodedFrame, hit: list[DecodedFrame]) -> Verdict:
-        return Verdict.JOIN if g.crc_ok and not hit and _holds(g, times) else Verdict.SKIP
+        return Verdict.SKIP if hit else Verdict.JOIN
 
-    return merge_overlapping(frames, other, rule)
+    return merge_overlapping(frames, good, rule)
 
 
 def _tail_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
-                  frames: list[DecodedFrame], ctx: _Context) -> list[DecodedFrame]:
+                  frames: list[DecodedFrame], ctx: _Context,
+                  edges_us: np.ndarray | None = None) -> list[DecodedFrame]:
     """Return ``frames`` with every frame whose check failed replaced by the frame read
     from the unfiltered ``train`` cut at its carrier end (``tail.cut_trains``: receiver
     noise right after the last mark), where that frame's check passes; windows whose
     sync word was found but whose body could not be read get the same reading and join
     the frames where it passes. One more reading per such frame, chosen by timing alone
-    (like the second opinion)."""
+    (like the second opinion). ``edges_us``: ``train``'s pulse boundaries
+    (``tail.pulse_edges_us``) when the caller has them."""
     bad = [i for i, f in enumerate(frames) if not f.crc_ok]
     todo: list[tuple[float, float | None, float]] = [
         (frames[i].start_us, frames[i].end_us, frames[i].unit_us) for i in bad]
     owner: list[int] = list(bad)
-    # starts read or to be read: the frames' and the unparsed windows' taken so far
-    taken = Spans((k, f.start_us, f.start_us) for k, f in enumerate(frames))
+    # starts read or to be read: the frames' and the unparsed windows' taken so far (an
+    # unparsed window is taken unless one lies within 2 units)
+    starts = np.array([f.start_us for f in frames], np.float64) if ctx.unparsed_us.size \
+        else np.zeros(0)
+    taken: list[float] = []
     for t, u in zip(ctx.unparsed_us.tolist(), ctx.unparsed_unit_us.tolist(), strict=True):
-        if (hit := taken.nearest(t)) is not None and hit[0] < 2 * spec.unit_us:
+        if (starts.size and float(np.abs(starts - t).min()) < 2 * spec.unit_us) \
+                or any(abs(v - t) < 2 * spec.unit_us for v in taken):
             continue
-        taken.add(len(taken), t, t)
+        taken.append(t)
         todo.append((t, None, u))
         owner.append(-1)
     trailing = min(int(hm.runs.allowed[0][-1]), MAX_TRAILING_UNITS)
     quiet_us = 2.0 * max(hm.break_us, 16 * spec.unit_us)
-    cuts = cut_trains(train, todo, trailing, quiet_us, hm.body_chip, hm.max_frame_chips)
+    cuts = cut_trains(train, todo, trailing, quiet_us, hm.body_chip, hm.max_frame_chips,
+                      edges_us=edges_us)
     m = FrameMerge(frames)
     for f, k in _read_pieces(spec, hm, cuts, spec.decoder.glitch_fraction * spec.unit_us):
         if abs(cuts.start_us[k] - f.start_us) >= 2 * spec.unit_us:
@@ -350,12 +371,10 @@ def _read_pieces(spec: FrameSpec, hm: HeadModel, cuts: CutTrains, min_us: float
     frames = [f for f, _ in found]
     if spec.check.kind != "none":  # the duration-by-duration readings, as in ``decode``
         frames = _track_opinions(spec, hm, clean, cw, frames, found, ctx)
-    out = []
-    for f in frames:
-        k = int(np.searchsorted(cuts.start_us, f.start_us + PIECE_SLACK_UNITS * spec.unit_us)) - 1
-        if f.crc_ok and k >= 0:
-            out.append((f, k))
-    return out
+    good = [f for f in frames if f.crc_ok]
+    at = np.array([f.start_us for f in good], np.float64) + PIECE_SLACK_UNITS * spec.unit_us
+    piece = (np.searchsorted(cuts.start_us, at) - 1).tolist()
+    return [(f, k) for f, k in zip(good, piece, strict=True) if k >= 0]
 
 
 #: glitch filter of the low-filter opinion, as a fraction of the spec's: heavy edge jitter
@@ -386,16 +405,25 @@ def _holds(frame: DecodedFrame, times_us: np.ndarray) -> bool:
     return i < times_us.size and times_us[i] <= frame.end_us
 
 
+def _holding(start_us: np.ndarray, end_us: np.ndarray, times_us: np.ndarray) -> np.ndarray:
+    """Per span (``start_us``, ``end_us``): ``_holds`` of a frame with those times."""
+    if times_us.size == 0:
+        return np.zeros(start_us.size, bool)
+    i = np.searchsorted(times_us, start_us)
+    return (i < times_us.size) & (times_us[np.minimum(i, times_us.size - 1)] <= end_us)
+
+
 def _low_filter_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
                         clean: PulseTrain, cw: _CandidateWindows,
-                        frames: list[DecodedFrame]) -> list[DecodedFrame]:
+                        frames: list[DecodedFrame], edges_us: np.ndarray | None = None
+                        ) -> list[DecodedFrame]:
     """Return ``frames`` with stretches of the unfiltered ``train`` read once more with the
     glitch filter at ``LOW_FILTER_FRACTION`` of the spec's: heavy edge jitter shrinks a
     1-unit pulse below the filter, which joins its neighbours into a run the code does not
     have (even a burst break) or shifts the head. Read again: a frame's reach
     (``stream_span_us``) after every candidate window of ``clean`` that no frame whose
     check passes covers, where the filter dropped a pulse at least the lower width; a
-    frame's reach either side of every dropped pulse amid kept ones (``_shrunk_us``) that
+    frame's reach either side of every dropped pulse amid kept ones (``_anchors``) that
     no frame covers; and the frame itself where one whose check passes holds such a pulse.
 
     A frame found there whose check passes replaces the frames it overlaps when all of
@@ -404,25 +432,32 @@ def _low_filter_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
     ``REREAD_WORST_DEVIATION`` off the grid, and has the same fields (times from the
     reading that kept every pulse) or a smaller worst deviation. Glitches
     shorter than the lower filter still never reach the chip grid; the check vouches for
-    the rest (one more reading per stretch, like the other opinions)."""
+    the rest (one more reading per stretch, like the other opinions). ``edges_us``:
+    ``train``'s pulse boundaries (``tail.pulse_edges_us``) when the caller has them."""
     min_us = spec.decoder.glitch_fraction * spec.unit_us
     low_us = LOW_FILTER_FRACTION * min_us
     d = train.durations_us
     short = np.flatnonzero((d >= low_us) & (d < min_us))
     if short.size == 0:
         return frames
-    edges_us = np.concatenate(([0.0], np.cumsum(d)))
-    t_short = edges_us[short]
-    t_alone = _shrunk_us(d, short, t_short, min_us, low_us)
-    passed = [f for f in frames if f.crc_ok]
-    f_start = np.array([f.start_us for f in passed])
-    f_end = np.array([f.end_us for f in passed])
-    # the signature may match anywhere before the sync word
-    lead_us = (hm.sync_chip + 4) * spec.unit_us * (1 + MAX_CLOCK_ERROR)
-    span_us = stream_span_us(hm)
+    alone = _anchors(d, short, min_us, low_us)
+    all_start = np.array([f.start_us for f in frames], np.float64)
+    all_end = np.array([f.end_us for f in frames], np.float64)
+    ok = np.array([f.crc_ok for f in frames], bool)
+    passed = bool(ok.any())
+    f_start, f_end = all_start[ok], all_end[ok]
     t = cw.t0[cw.first]
     j = np.searchsorted(f_start, t, side="right") - 1
     t = t[(j < 0) | (t > f_end[np.maximum(j, 0)])] if passed else t
+    if t.size == 0 and alone.size == 0:
+        return frames  # nothing to read (and the train's edges not needed)
+    if edges_us is None:
+        edges_us = pulse_edges_us(d)
+    t_short = edges_us[short]
+    t_alone = t_short[alone]
+    # the signature may match anywhere before the sync word
+    lead_us = (hm.sync_chip + 4) * spec.unit_us * (1 + MAX_CLOCK_ERROR)
+    span_us = stream_span_us(hm)
     keep = np.searchsorted(t_short, t + span_us) > np.searchsorted(t_short, t - lead_us)
     t = t[keep]
     # a dropped pulse from a lead before a passing frame to its end: the frame holds it
@@ -462,24 +497,34 @@ def _low_filter_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
                 for f, k in _read_pieces(spec, hm, cuts, low_us))
     # a reading meets the frames it was given and their replacements, not the frames
     # the readings before it joined
-    return merge_overlapping(frames, readings, rule, added_block=False, sort=True)
+    return merge_overlapping(frames, readings, rule, added_block=False, sort=True,
+                             spans=(all_start, all_end))
 
 
-def _shrunk_us(d: np.ndarray, short: np.ndarray, t_short: np.ndarray, min_us: float,
-               low_us: float) -> np.ndarray:
-    """Return the start times of the pulses ``short`` (indices into durations ``d``,
-    starting at ``t_short``) that lie amid pulses the filter keeps: of the 2 on each side
-    all but one, of the ``ANCHOR_CONTEXT_PULSES`` on each side all but
-    ``ANCHOR_SHORT_NEIGHBOURS`` at least ``min_us``, and none shorter than ``low_us`` (a
-    shrunk pulse, not receiver noise); beyond the train's ends: idle."""
+def _anchors(d: np.ndarray, short: np.ndarray, min_us: float, low_us: float) -> np.ndarray:
+    """Return the places in ``short`` (indices into durations ``d``, ascending) of the
+    pulses that lie amid pulses the filter keeps: of the 2 on each side all but one, of
+    the ``ANCHOR_CONTEXT_PULSES`` on each side all but ``ANCHOR_SHORT_NEIGHBOURS`` at least
+    ``min_us``, and none shorter than ``low_us`` (a shrunk pulse, not receiver noise);
+    beyond the train's ends: idle."""
     keep = np.arange(short.size)
     # the 2 either side first (all but one kept): most noise fails there
     for n, spare in ((2, 1), (ANCHOR_CONTEXT_PULSES, ANCHOR_SHORT_NEIGHBOURS)):
-        j = short[keep][:, None] + np.concatenate((np.arange(-n, 0), np.arange(1, n + 1)))
-        ctx = np.where((j >= 0) & (j < d.size), d[np.clip(j, 0, d.size - 1)], np.inf)
-        keep = keep[((ctx >= min_us).sum(axis=1) >= 2 * n - spare)
-                    & ~(ctx < low_us).any(axis=1)]
-    return t_short[keep]
+        at = short[keep]
+        longer = np.zeros(at.size, np.int64)  # neighbours at least min_us
+        shorter = np.zeros(at.size, bool)  # a neighbour below low_us
+        for k in itertools.chain(range(-n, 0), range(1, n + 1)):
+            v = d.take(at + k, mode="clip")  # wrong only at the train's ends: redone below
+            longer += v >= min_us
+            shorter |= v < low_us
+        ends = np.flatnonzero((at < n) | (at >= d.size - n))
+        if ends.size:
+            j = at[ends][:, None] + np.concatenate((np.arange(-n, 0), np.arange(1, n + 1)))
+            ctx = np.where((j >= 0) & (j < d.size), d[np.clip(j, 0, d.size - 1)], np.inf)
+            longer[ends] = (ctx >= min_us).sum(axis=1)
+            shorter[ends] = (ctx < low_us).any(axis=1)
+        keep = keep[(longer >= 2 * n - spare) & ~shorter]
+    return keep
 
 
 @dataclass(frozen=True, eq=False)
@@ -512,11 +557,16 @@ class _CandidateWindows:
 def _windows(hm: HeadModel, clean: PulseTrain, unit_us: float) -> _CandidateWindows | None:
     """Return the candidate windows of the glitch-filtered train ``clean`` (None if none)."""
     levels, dur = clean.levels, clean.durations_us
+    # the edge times once, for the candidate search and the windows' start times (the
+    # same running sum as ``clean.edges_us()``)
+    edges = np.empty(dur.size + 1)
+    edges[0] = 0.0
+    np.cumsum(dur, out=edges[1:])
     first, unit0 = find_candidates(levels, dur, hm.sig_levels, hm.sig_units, unit_us,
-                                   hm.runs, MAX_CLOCK_ERROR)
+                                   hm.runs, MAX_CLOCK_ERROR, edges_us=edges)
     if first.size == 0:
         return None
-    t0 = clean.edges_us()
+    t0 = edges[:-1]
     prefix_chips = int(hm.prefix_units.sum())
     burst = burst_end(first, burst_breaks(dur, hm.break_us), dur.size)
     reach_us = t0[first] + (hm.max_frame_chips - prefix_chips) * unit0 * (1 + MAX_CLOCK_ERROR)

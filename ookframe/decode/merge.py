@@ -6,8 +6,10 @@ frames: a reading takes the place of one frame (same slot), takes the place of e
 it overlaps, or is added. :class:`FrameMerge` holds that state and builds the result
 (slot order, sorted by start when a frame was added); :func:`merge_overlapping` is the
 loop of the opinions that decide by overlap, each passing only its rule
-(:class:`Verdict`). Overlaps and nearest starts are looked up in :class:`Spans` (starts
-kept sorted, binary search), never by testing every frame.
+(:class:`Verdict`). Nearest starts are looked up in :class:`Spans` (starts kept sorted,
+binary search); overlaps by one numpy pass over the frames' spans for the first few
+readings (an opinion's cost then grows with its readings, not with a Python sort of every
+frame), then in a :class:`Spans` index.
 
 Two spans overlap when each starts before the other ends (strictly: spans that only touch
 do not overlap).
@@ -17,8 +19,10 @@ from __future__ import annotations
 
 import bisect
 import enum
-from collections.abc import Callable, Iterable
+from collections.abc import Callable, Iterable, Iterator
 from typing import Generic, Protocol, TypeVar
+
+import numpy as np
 
 
 class _Timed(Protocol):
@@ -109,20 +113,70 @@ class Verdict(enum.Enum):
     REPLACE = "replace"  # the reading takes the slot of the one frame it overlaps
 
 
+#: queries a FrameMerge answers by scanning its arrays before it builds a :class:`Spans`
+#: (a scan costs one pass of numpy over the frames; an opinion meets a handful of
+#: readings, while the sorted index costs a Python sort of every frame up front)
+SCAN_QUERIES = 16
+
+
+class _Scan:
+    """Spans in slot order as numpy arrays, answering overlaps by testing them all.
+
+    ``starts`` / ``ends``: the spans of slots 0..n-1 (not written to); ``alive``: the
+    slots they still hold; ``extra``: slot -> span of the slots replaced or added since.
+    ``overlapping`` returns the same keys as :meth:`Spans.overlapping`, which finds
+    exactly the spans with start < end and end > start (see there)."""
+
+    def __init__(self, starts: np.ndarray, ends: np.ndarray, alive: np.ndarray) -> None:
+        self.starts, self.ends, self.alive = starts, ends, alive
+        self.extra: dict[int, tuple[float, float]] = {}
+
+    def overlapping(self, start_us: float, end_us: float) -> list[int]:
+        hit = np.flatnonzero((self.starts < end_us) & (self.ends > start_us)
+                             & self.alive).tolist()
+        if self.extra:
+            hit += [k for k, (s, e) in self.extra.items() if s < end_us and e > start_us]
+            hit.sort()
+        return hit
+
+    def set(self, slot: int, span: tuple[float, float] | None) -> None:
+        """Hold ``span`` (None: nothing) in ``slot``."""
+        if slot < self.alive.size:
+            self.alive[slot] = False
+        if span is None:
+            self.extra.pop(slot, None)
+        else:
+            self.extra[slot] = span
+
+
 class FrameMerge(Generic[F]):
     """The frames an opinion merges its readings into.
 
     Slots: the frames in their order, then the frames added; a slot is replaced in place
     or dropped. ``added_block``: frames added are found by ``overlapping`` (else only the
-    original slots and their replacements are). The span index is built on the first
-    ``overlapping`` call and kept up to date from then on.
+    original slots and their replacements are). ``spans``: the frames' starts and ends
+    (numpy arrays in slot order, equal to their ``start_us`` / ``end_us``) when the caller
+    has them. Overlaps are found by scanning those arrays (made on the first
+    ``overlapping`` call when not given) for the first ``SCAN_QUERIES`` calls, by a
+    :class:`Spans` index of the frames then held from then on; both are kept up to date.
     """
 
-    def __init__(self, frames: Iterable[F], *, added_block: bool = True) -> None:
+    def __init__(self, frames: Iterable[F], *, added_block: bool = True,
+                 spans: tuple[np.ndarray, np.ndarray] | None = None) -> None:
         self._slots: list[F | None] = list(frames)
         self._original = len(self._slots)
         self._added_block = added_block
         self._spans: Spans | None = None
+        self._scan: _Scan | None = None
+        self._queries = 0
+        self._changed = False
+        self._starts0: np.ndarray | None = None  # the starts in slot order, nothing changed
+        if spans is not None:
+            self._starts0 = spans[0]
+            starts, ends = spans
+            if starts.shape != (self._original,) or ends.shape != (self._original,):
+                raise ValueError("spans must hold one start and one end per frame")
+            self._scan = _Scan(starts, ends, np.ones(self._original, bool))
 
     def frame(self, slot: int) -> F:
         """The frame in ``slot`` (not dropped)."""
@@ -133,35 +187,63 @@ class FrameMerge(Generic[F]):
     def _indexed(self, slot: int) -> bool:
         return self._added_block or slot < self._original
 
+    def _held(self) -> Iterator[tuple[int, F]]:
+        """The slots the index holds, with their frames."""
+        return ((k, f) for k, f in enumerate(self._slots) if f is not None and self._indexed(k))
+
     def overlapping(self, start_us: float, end_us: float) -> list[int]:
         """Return the slots (ascending) of the frames held that overlap the span."""
-        if self._spans is None:
-            self._spans = Spans((k, f.start_us, f.end_us) for k, f in enumerate(self._slots)
-                                if f is not None and self._indexed(k))
-        return self._spans.overlapping(start_us, end_us)
+        if self._spans is not None:
+            return self._spans.overlapping(start_us, end_us)
+        self._queries += 1
+        if self._queries > SCAN_QUERIES:
+            self._spans = Spans((k, f.start_us, f.end_us) for k, f in self._held())
+            self._scan = None
+            return self._spans.overlapping(start_us, end_us)
+        if self._scan is None:
+            alive = np.array([f is not None and self._indexed(k)
+                              for k, f in enumerate(self._slots)], bool)
+            starts = np.array([0.0 if f is None else f.start_us for f in self._slots],
+                              np.float64)
+            ends = np.array([0.0 if f is None else f.end_us for f in self._slots],
+                            np.float64)
+            self._scan = _Scan(starts, ends, alive)
+            if not self._changed:
+                self._starts0 = starts
+        return self._scan.overlapping(start_us, end_us)
+
+    def _set(self, slot: int, frame: F | None) -> None:
+        """Put ``frame`` (None: drop) in ``slot`` and keep the index up to date."""
+        old = self._slots[slot] if slot < len(self._slots) else None
+        self._changed = True
+        if self._indexed(slot):
+            if self._spans is not None:
+                if old is not None:
+                    self._spans.remove(slot, old.start_us)
+                if frame is not None:
+                    self._spans.add(slot, frame.start_us, frame.end_us)
+            if self._scan is not None:
+                self._scan.set(slot, None if frame is None
+                               else (float(frame.start_us), float(frame.end_us)))
+        if slot == len(self._slots):
+            self._slots.append(frame)
+        else:
+            self._slots[slot] = frame
 
     def replace(self, slot: int, frame: F) -> None:
         """Put ``frame`` in ``slot`` (not dropped) in place of its frame."""
-        old = self.frame(slot)
-        if self._spans is not None and self._indexed(slot):
-            self._spans.remove(slot, old.start_us)
-            self._spans.add(slot, frame.start_us, frame.end_us)
-        self._slots[slot] = frame
+        self.frame(slot)
+        self._set(slot, frame)
 
     def drop(self, slots: Iterable[int]) -> None:
         """Take the frames in ``slots`` out."""
         for k in slots:
-            old = self.frame(k)
-            if self._spans is not None and self._indexed(k):
-                self._spans.remove(k, old.start_us)
-            self._slots[k] = None
+            self.frame(k)
+            self._set(k, None)
 
     def add(self, frame: F) -> None:
         """Add ``frame`` after the last slot."""
-        k = len(self._slots)
-        self._slots.append(frame)
-        if self._spans is not None and self._indexed(k):
-            self._spans.add(k, frame.start_us, frame.end_us)
+        self._set(len(self._slots), frame)
 
     @property
     def added(self) -> bool:
@@ -172,19 +254,27 @@ class FrameMerge(Generic[F]):
         """Return the frames held in slot order, sorted by start (stable) when ``sort``
         (default: when a frame was added)."""
         out = [f for f in self._slots if f is not None]
-        if self.added if sort is None else sort:
+        if (self.added if sort is None else sort) and not self._in_order():
             out.sort(key=lambda f: f.start_us)
         return out
+
+    def _in_order(self) -> bool:
+        """True when nothing changed and the starts never decrease: a stable sort by start
+        would keep the slots as they are."""
+        starts = self._starts0
+        return (not self._changed and starts is not None
+                and bool((starts[1:] >= starts[:-1]).all()))
 
 
 def merge_overlapping(frames: Iterable[F], readings: Iterable[F],
                       rule: Callable[[F, list[F]], Verdict], *, added_block: bool = True,
-                      sort: bool | None = None) -> list[F]:
+                      sort: bool | None = None,
+                      spans: tuple[np.ndarray, np.ndarray] | None = None) -> list[F]:
     """Return ``frames`` with ``readings`` merged in, one at a time in their order: ``rule``
     gets the reading and the frames it overlaps at that point (slot order) and says what
-    happens (:class:`Verdict`; REPLACE only when it overlaps exactly one). ``added_block``
-    and the result's order as for :class:`FrameMerge`."""
-    m = FrameMerge(frames, added_block=added_block)
+    happens (:class:`Verdict`; REPLACE only when it overlaps exactly one). ``added_block``,
+    ``spans`` and the result's order as for :class:`FrameMerge`."""
+    m = FrameMerge(frames, added_block=added_block, spans=spans)
     for r in readings:
         hits = m.overlapping(r.start_us, r.end_us)
         verdict = rule(r, [m.frame(k) for k in hits])

@@ -98,6 +98,16 @@ def carrier_end_us(edges_us: np.ndarray, levels: np.ndarray, start_us: float,
     return float(edges_us[i0 + int(np.flatnonzero(fall)[-1])])
 
 
+def pulse_edges_us(durations_us: np.ndarray) -> np.ndarray:
+    """Return the pulse boundaries of a train of ``durations_us``: its pulses' start times
+    and its end (``concatenate(([0.0], cumsum(durations_us)))``, the same sums, written
+    in place)."""
+    edges = np.empty(durations_us.size + 1)
+    edges[0] = 0.0
+    np.cumsum(durations_us, out=edges[1:])
+    return edges
+
+
 def join_spans(train: PulseTrain, spans: list[tuple[float, float]], quiet_us: float,
                edges_us: np.ndarray | None = None) -> CutTrains:
     """Return the pieces ``[a_us, b_us)`` of ``train`` (``b_us`` rounded up to the pulse
@@ -105,8 +115,7 @@ def join_spans(train: PulseTrain, spans: list[tuple[float, float]], quiet_us: fl
     end; ``frame[k]`` is the index in ``spans`` of piece k and ``start_us[k]`` its ``a_us``
     in the joined train (pieces holding no part of a pulse are left out). ``edges_us``:
     the train's pulse boundaries (its start times plus its end) when the caller has them."""
-    edges = (np.concatenate(([0.0], np.cumsum(train.durations_us))) if edges_us is None
-             else edges_us)
+    edges = pulse_edges_us(train.durations_us) if edges_us is None else edges_us
     lv_parts: list[np.ndarray] = []
     du_parts: list[np.ndarray] = []
     origins, which, starts = [], [], []
@@ -136,13 +145,14 @@ def join_spans(train: PulseTrain, spans: list[tuple[float, float]], quiet_us: fl
 
 def cut_trains(train: PulseTrain, frames: list[tuple[float, float | None, float]],
                trailing_units: int, quiet_us: float, body_chip: int = 0, max_chips: int = 0,
-               lead_units: float = 2.0) -> CutTrains:
+               lead_units: float = 2.0, edges_us: np.ndarray | None = None) -> CutTrains:
     """Return, for every frame ``(start_us, end_us or None, unit_us)`` whose carrier end is
     found (:func:`carrier_end_us`), the unfiltered ``train`` from ``lead_units`` before
     the frame's start to its carrier end, after and followed by ``quiet_us`` of space;
     the pieces laid end to end (:func:`join_spans`; ``start_us[k]``: the frame's start in
-    the joined train)."""
-    edges = np.concatenate(([0.0], np.cumsum(train.durations_us)))
+    the joined train). ``edges_us``: the train's pulse boundaries (:func:`pulse_edges_us`)
+    when the caller has them."""
+    edges = pulse_edges_us(train.durations_us) if edges_us is None else edges_us
     spans, owner = [], []
     for k, (start_us, end_us, unit_us) in enumerate(frames):
         cut = carrier_end_us(edges, train.levels, start_us, unit_us, end_us, trailing_units,

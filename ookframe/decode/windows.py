@@ -54,7 +54,6 @@ def classify_windows(spec: FrameSpec, hm: HeadModel, dur: np.ndarray, first: np.
     dec = spec.decoder
     length = stop - first
     offset = np.concatenate(([0], np.cumsum(length)[:-1]))
-    window = np.repeat(np.arange(first.size), length)
     idx = ragged_index(first, length)
     d = dur[idx]
     lv = levels[idx]
@@ -67,7 +66,7 @@ def classify_windows(spec: FrameSpec, hm: HeadModel, dur: np.ndarray, first: np.
         capped = ratio > table.cap_ratio
         g = grid_runs(d, lv, length, start_unit, table, capped=capped,
                       half_window=phase_half_window(dec.loop_gain), ratio=ratio)
-        n, dev = np.where(capped, table.top, g.units), g.deviation
+        n, dev = g.units, g.deviation  # fresh arrays: capped pulses are set below
         end_res = g.end_residual
     else:  # duration by duration, with the tracking loop (follows a fast-drifting clock)
         unit = track_unit(d, length, start_unit, gain=dec.loop_gain, tolerance=dec.tolerance,
@@ -76,10 +75,19 @@ def classify_windows(spec: FrameSpec, hm: HeadModel, dur: np.ndarray, first: np.
         capped = ratio > table.cap_ratio
         n, dev = nearest_runs(ratio, lv, table)
         end_res = np.zeros(d.size)
-    pos = idx - first[window]
-    first_cap = np.minimum.reduceat(np.where(capped, pos, length[window]), offset)
-    length = np.minimum(length, first_cap + 1)
-    dev = np.where(capped, ratio - table.top, dev)
+    # the few capped pulses: each window ends at its first (ascending, so the first of
+    # each window is its first occurrence)
+    cap_at = np.flatnonzero(capped)
+    cap_window = np.searchsorted(offset, cap_at, side="right") - 1
+    first_of = np.ones(cap_window.size, bool)
+    first_of[1:] = cap_window[1:] != cap_window[:-1]
+    windows_capped = cap_window[first_of]
+    length = length.copy()
+    length[windows_capped] = np.minimum(length[windows_capped],
+                                        cap_at[first_of] - offset[windows_capped] + 1)
+    if grid:
+        n[cap_at] = table.top
+    dev[cap_at] = ratio[cap_at] - table.top
     return Windows(first, offset, length, start_unit, n, dev, unit, capped, d, ratio, lv,
                    end_res)
 
@@ -109,7 +117,6 @@ def lay_out(hm: HeadModel, ws: Windows, levels: np.ndarray) -> WindowRuns:
     n_pre = int(hm.prefix_units.size)
     at = ragged_index(ws.offset, m)
     meas_units = ws.units[at]
-    pulse = at - np.repeat(ws.offset, m)  # position of every pulse in its window
     chips = int(hm.prefix_units.sum()) + np.add.reduceat(meas_units, np.cumsum(m) - m) \
         if k else np.zeros(0, np.int64)
     last_level = levels[ws.first + m - 1]
@@ -132,8 +139,8 @@ def lay_out(hm: HeadModel, ws: Windows, levels: np.ndarray) -> WindowRuns:
     pre = run_start[:, None] + np.arange(n_pre)
     lv[pre] = hm.prefix_levels
     un[pre] = hm.prefix_units
-    dest = np.repeat(run_start + n_pre, m) + pulse
-    lv[dest] = levels[np.repeat(ws.first, m) + pulse]
+    dest = ragged_index(run_start + n_pre, m)
+    lv[dest] = ws.levels[at]  # the windows' pulses of ``levels``: the same values
     un[dest] = meas_units
     chip0 = np.cumsum(un) - un
     return WindowRuns(lv, un, chip0, run_start, run_stop, n_pre)
