@@ -200,9 +200,15 @@ def _bisect(name, sign, start, limit, resolution, evaluate, passes) -> MarginRow
         return MarginRow(name, sign, far, None, "beyond", at_far)
     if name in RATE_IMPAIRMENTS:
         return _bisect_rate(name, sign, start, far, limit, resolution, evaluate, passes, at0)
-    good, good_r, bad = start, at0, far
-    while abs(bad - good) > resolution * limit:
-        mid = (good + bad) / 2
+    return _narrow(name, sign, start, at0, far, lambda g, b: (g + b) / 2,
+                   lambda g, b: abs(b - g) > resolution * limit, evaluate, passes)
+
+
+def _narrow(name, sign, good, good_r, bad, middle, too_wide, evaluate, passes) -> MarginRow:
+    """Bisect the bracket ``good`` (passes, result ``good_r``) .. ``bad`` (fails) at
+    ``middle(good, bad)`` while ``too_wide(good, bad)``."""
+    while too_wide(good, bad):
+        mid = middle(good, bad)
         r = evaluate(name, mid)
         if passes(r):
             good, good_r = mid, r
@@ -227,11 +233,5 @@ def _bisect_rate(name, sign, start, far, limit, resolution, evaluate, passes, at
                 good, good_r = v, r
                 break
             bad = v
-    while bad / good > 1 + 5 * resolution:
-        mid = math.sqrt(good * bad)
-        r = evaluate(name, mid)
-        if passes(r):
-            good, good_r = mid, r
-        else:
-            bad = mid
-    return MarginRow(name, sign, good, bad, "ok", good_r)
+    return _narrow(name, sign, good, good_r, bad, lambda g, b: math.sqrt(g * b),
+                   lambda g, b: b / g > 1 + 5 * resolution, evaluate, passes)
