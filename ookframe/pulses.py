@@ -48,6 +48,16 @@ class PulseTrain:
         return hash((self.levels.tobytes(), self.durations_us.tobytes()))
 
 
+def pulse_edges_us(durations_us: np.ndarray) -> np.ndarray:
+    """Return the pulse boundaries of a train of ``durations_us``: its pulses' start times
+    and its end (``concatenate(([0.0], cumsum(durations_us)))``, the same sums, written
+    in place)."""
+    edges = np.empty(durations_us.size + 1)
+    edges[0] = 0.0
+    np.cumsum(durations_us, out=edges[1:])
+    return edges
+
+
 def _run_starts(levels: np.ndarray) -> np.ndarray:
     """Return the index of the first pulse of every run of equal ``levels`` (non-empty)."""
     return np.flatnonzero(np.concatenate(([True], levels[1:] != levels[:-1])))

@@ -24,9 +24,9 @@ from ookframe.decode.framer import (
     _holds,
     decode,
 )
-from ookframe.decode.tail import carrier_end_us, join_spans, pulse_edges_us
+from ookframe.decode.tail import carrier_end_us, join_spans
 from ookframe.linecodes import LINE_CODES
-from ookframe.pulses import PulseTrain, merge_runs
+from ookframe.pulses import PulseTrain, merge_runs, pulse_edges_us
 from ookframe.spec_io import load_spec, spec_from_dict
 
 EXAMPLES = sorted((Path(__file__).parent.parent / "ookframe" / "examples").glob("*.toml"))

@@ -7,6 +7,7 @@ import math
 import numpy as np
 from numpy.lib.stride_tricks import sliding_window_view
 
+from ..pulses import pulse_edges_us
 from .classify import RunTable, nearest_runs
 
 #: signatures of fewer runs also need every duration's nearest allowed length to match
@@ -210,11 +211,7 @@ def _spans_fit(cand: np.ndarray, durations_us: np.ndarray, r: np.ndarray, max_un
     if k < 4 or cand.size == 0:
         return cand
     c = np.concatenate(([0.0], np.cumsum(r)))
-    t = edges_us
-    if t is None:
-        t = np.empty(durations_us.size + 1)
-        t[0] = 0.0
-        np.cumsum(durations_us, out=t[1:])
+    t = pulse_edges_us(durations_us) if edges_us is None else edges_us
     begin = t[cand]
     total = t[cand + k] - begin
     # every test over all candidates, worked out in place, and one selection at the end

@@ -26,7 +26,7 @@ from .._require import require_spec, require_train
 from ..checks.strength import check_strength, covered_bits
 from ..linecodes import DecodedBits
 from ..plan import FramePlan
-from ..pulses import PulseTrain
+from ..pulses import PulseTrain, pulse_edges_us
 from ..spec.model import FrameSpec
 from .classify import is_allowed
 from .detect import find_candidates
@@ -35,7 +35,7 @@ from .glitch import drop_glitches
 from .head import MAX_CLOCK_ERROR, HeadModel, build_head
 from .merge import FrameMerge, Spans, Verdict, merge_overlapping
 from .segment import burst_breaks, burst_end
-from .tail import MAX_TRAILING_UNITS, CutTrains, cut_trains, join_spans, pulse_edges_us
+from .tail import MAX_TRAILING_UNITS, CutTrains, cut_trains, join_spans
 from .validate import validate_train
 from .windows import WindowRuns, Windows, classify_windows, lay_out
 
@@ -316,7 +316,7 @@ def _tail_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
     sync word was found but whose body could not be read get the same reading and join
     the frames where it passes. One more reading per such frame, chosen by timing alone
     (like the second opinion). ``edges_us``: ``train``'s pulse boundaries
-    (``tail.pulse_edges_us``) when the caller has them."""
+    (``pulses.pulse_edges_us``) when the caller has them."""
     bad = [i for i, f in enumerate(frames) if not f.crc_ok]
     todo: list[tuple[float, float | None, float]] = [
         (frames[i].start_us, frames[i].end_us, frames[i].unit_us) for i in bad]
@@ -433,7 +433,7 @@ def _low_filter_opinion(spec: FrameSpec, hm: HeadModel, train: PulseTrain,
     reading that kept every pulse) or a smaller worst deviation. Glitches
     shorter than the lower filter still never reach the chip grid; the check vouches for
     the rest (one more reading per stretch, like the other opinions). ``edges_us``:
-    ``train``'s pulse boundaries (``tail.pulse_edges_us``) when the caller has them."""
+    ``train``'s pulse boundaries (``pulses.pulse_edges_us``) when the caller has them."""
     min_us = spec.decoder.glitch_fraction * spec.unit_us
     low_us = LOW_FILTER_FRACTION * min_us
     d = train.durations_us
@@ -559,9 +559,7 @@ def _windows(hm: HeadModel, clean: PulseTrain, unit_us: float) -> _CandidateWind
     levels, dur = clean.levels, clean.durations_us
     # the edge times once, for the candidate search and the windows' start times (the
     # same running sum as ``clean.edges_us()``)
-    edges = np.empty(dur.size + 1)
-    edges[0] = 0.0
-    np.cumsum(dur, out=edges[1:])
+    edges = pulse_edges_us(dur)
     first, unit0 = find_candidates(levels, dur, hm.sig_levels, hm.sig_units, unit_us,
                                    hm.runs, MAX_CLOCK_ERROR, edges_us=edges)
     if first.size == 0:

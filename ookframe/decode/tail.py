@@ -21,7 +21,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..pulses import PulseTrain
+from ..pulses import PulseTrain, pulse_edges_us
 
 #: an edge is on the chip grid within this many units (edge jitter of a cheap link is a
 #: few hundredths of a unit; receiver noise edges fall anywhere)
@@ -96,16 +96,6 @@ def carrier_end_us(edges_us: np.ndarray, levels: np.ndarray, start_us: float,
     if not fall.any():
         return None
     return float(edges_us[i0 + int(np.flatnonzero(fall)[-1])])
-
-
-def pulse_edges_us(durations_us: np.ndarray) -> np.ndarray:
-    """Return the pulse boundaries of a train of ``durations_us``: its pulses' start times
-    and its end (``concatenate(([0.0], cumsum(durations_us)))``, the same sums, written
-    in place)."""
-    edges = np.empty(durations_us.size + 1)
-    edges[0] = 0.0
-    np.cumsum(durations_us, out=edges[1:])
-    return edges
 
 
 def join_spans(train: PulseTrain, spans: list[tuple[float, float]], quiet_us: float,
