@@ -178,12 +178,6 @@ def _segments(lengths: np.ndarray) -> _Segments:
     return _Segments(lengths, starts, nz, starts[nz], int(ends[-1]) if ends.size else 0)
 
 
-def _ragged(starts: np.ndarray, seg: _Segments) -> np.ndarray:
-    """Return the indices of the ranges [starts, starts + seg.lengths) laid end to end
-    (``ragged_index`` with the segments' own starts already at hand)."""
-    return np.arange(seg.size) + np.repeat(starts - seg.starts, seg.lengths)
-
-
 def _sums(values: np.ndarray, seg: _Segments) -> np.ndarray:
     """Return the sum of every segment of ``values`` (along the last axis; a 2-D array's
     rows are summed each on its own, as ``reduceat`` sums a 1-D row) as float."""
@@ -451,7 +445,7 @@ def frame_windows(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,
     i1 = i1 - ((i1 == last + 1) & last_capped)
     cnt = np.maximum(i1 - i0, 0)
     seg = _segments(cnt)
-    at = _ragged(off + i0 - n_pre, seg)  # the runs in the Windows arrays
+    at = ragged_index(off + i0 - n_pre, seg.lengths, seg.starts)  # the runs in the Windows arrays
     dev = ws.deviation[at]
     worst = np.zeros(f.size)
     if dev.size:
