@@ -237,27 +237,32 @@ def frame_bits_batch(spec: FrameSpec | FramePlan, raws: Raws) -> np.ndarray | li
 
 def frame_bits_of(plan: FramePlan, enc: EncodedBits) -> np.ndarray | list[np.ndarray]:
     """Head + body bits of encoded frames (2-D for a fixed layout, else a list of rows)."""
-    head = plan.head_bits
+    padded, lengths = _padded_bits(plan, enc)
     if plan.is_fixed:
-        return np.concatenate((np.broadcast_to(head, (enc.n, head.size)), enc.body), axis=1)
-    return [np.concatenate((head, row)) for row in rows_of(enc.body, enc.n_body_bits)]
+        return padded
+    return split_rows(padded[np.arange(padded.shape[1]) < lengths[:, None]], lengths)
+
+
+def _padded_bits(plan: FramePlan, enc: EncodedBits) -> tuple[np.ndarray, np.ndarray]:
+    """Return (head + body bits of every frame as an (n x head + body width) matrix, a row
+    valid up to its length; bits per frame)."""
+    n, width = enc.body.shape
+    h = plan.head_bits.size
+    padded = np.empty((n, h + width), np.result_type(plan.head_bits, enc.body))
+    padded[:, :h] = plan.head_bits
+    padded[:, h:] = enc.body
+    if plan.is_fixed:
+        return padded, np.full(n, h + width, np.int64)
+    return padded, h + np.asarray(enc.n_body_bits, np.int64)
 
 
 def frame_bits_flat(plan: FramePlan, enc: EncodedBits) -> tuple[np.ndarray, np.ndarray]:
     """Return (head + body bits of every encoded frame laid end to end, bits per frame):
     the rows of :func:`frame_bits_of` in one uint8 array."""
-    head = plan.head_bits
+    padded, lengths = _padded_bits(plan, enc)
     if plan.is_fixed:
-        bits = frame_bits_of(plan, enc)
-        assert isinstance(bits, np.ndarray)
-        return bits.reshape(-1), np.full(enc.n, bits.shape[1], np.int64)
-    n, width = enc.body.shape
-    h = head.size
-    lengths = h + np.asarray(enc.n_body_bits, np.int64)
-    padded = np.empty((n, h + width), np.uint8)
-    padded[:, :h] = head
-    padded[:, h:] = enc.body
-    return padded[np.arange(h + width) < lengths[:, None]], lengths
+        return padded.reshape(-1), lengths
+    return padded[np.arange(padded.shape[1]) < lengths[:, None]], lengths
 
 
 def frame_chips_batch(spec: FrameSpec | FramePlan, bits: np.ndarray | Sequence[np.ndarray]
