@@ -195,18 +195,21 @@ def test_all_algorithms_agree_with_crccheck(c: Crc, data: bytes) -> None:
 @settings(max_examples=150, deadline=None)
 @given(c=crc_st(), rows=st.lists(st.binary(min_size=7, max_size=7), min_size=1, max_size=12))
 def test_compute_rows_agrees_with_crccheck(c: Crc, rows: list[bytes]) -> None:
-    """Crc.compute_rows (the 256-table algorithm down the columns of a rows x bytes array,
-    any parameters, refin != refout too; whole rows and each row's first n bytes) gives
-    every row's value of crccheck 1.3.x's generic Crc."""
+    """Crc.compute_rows (row by row through crcmod where it applies, else the 256-table
+    algorithm down the columns of a rows x bytes array) and compute_rows_table (that
+    algorithm, any parameters, refin != refout too), whole rows and each row's first n
+    bytes, give every row's value of crccheck 1.3.x's generic Crc."""
     import numpy as np
 
     data = np.frombuffer(b"".join(rows), np.uint8).reshape(len(rows), 7)
-    got = c.compute_rows(data)
-    assert got.dtype == np.uint64
-    assert got.tolist() == [crccheck_generic(c).calc(r) for r in rows]
-    n_bytes = np.arange(len(rows)) % 8  # rows of 0..7 bytes
-    assert c.compute_rows(data, n_bytes).tolist() == [
-        crccheck_generic(c).calc(r[:k]) for r, k in zip(rows, n_bytes.tolist(), strict=True)]
+    whole = [crccheck_generic(c).calc(r) for r in rows]
+    n_bytes = np.arange(len(rows)) % 9  # rows of 0..8 bytes (8: more than the row holds)
+    cut = [crccheck_generic(c).calc(r[:k]) for r, k in zip(rows, n_bytes.tolist(), strict=True)]
+    for rows_of in (c.compute_rows, c.compute_rows_table):
+        got = rows_of(data)
+        assert got.dtype == np.uint64
+        assert got.tolist() == whole
+        assert rows_of(data, n_bytes).tolist() == cut
 
 
 @pytest.mark.parametrize("name", ["sum8", "xor8", "fletcher16"])

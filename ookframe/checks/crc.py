@@ -49,6 +49,9 @@ from .catalogue import CATALOGUE, resolve_name
 CRCMOD_WIDTHS: frozenset[int] = frozenset({8, 16, 24, 32, 64})
 MIN_WIDTH_BITS = 3
 MAX_WIDTH_BITS = 64
+#: :meth:`Crc.compute_rows` runs crcmod row by row up to this many rows per byte of row
+#: width: a row costs about 0.3 us there, a column of the table algorithm about 5 us
+ROWS_PER_COLUMN = 20
 #: the standard check input
 CHECK_INPUT = b"123456789"
 #: True when crcmod runs on its C extension (else its pure-Python fallback)
@@ -184,8 +187,28 @@ class Crc(CrcParams):
 
     def compute_rows(self, data: np.ndarray, n_bytes: np.ndarray | None = None) -> np.ndarray:
         """Return the CRC of every row of the (n x bytes) uint8 ``data`` (its first
-        ``n_bytes`` bytes) as uint64: the 256-entry table algorithm run down the columns,
-        all rows at once (a row's register stays as it is past its own bytes)."""
+        ``n_bytes`` bytes) as uint64: row by row through crcmod's C extension where it
+        applies and the rows are few for their width (``ROWS_PER_COLUMN``), else
+        :meth:`compute_rows_table`."""
+        d = np.asarray(data, dtype=np.uint8)
+        n, width = d.shape
+        if (CRCMOD_C_EXTENSION and self.width in CRCMOD_WIDTHS and self.refin == self.refout
+                and n <= ROWS_PER_COLUMN * width):
+            fun = _crcmod_fun(self.width, self.poly, self.init, self.refin, self.xorout)
+            text = d.tobytes()
+            starts = range(0, n * width, width)
+            if n_bytes is None:
+                pieces = [text[i:i + width] for i in starts]
+            else:
+                cut = np.clip(n_bytes, 0, width).tolist()
+                pieces = [text[i:i + k] for i, k in zip(starts, cut, strict=True)]
+            return np.fromiter(map(fun, pieces), np.uint64, n)
+        return self.compute_rows_table(d, n_bytes)
+
+    def compute_rows_table(self, data: np.ndarray, n_bytes: np.ndarray | None = None
+                           ) -> np.ndarray:
+        """Return :meth:`compute_rows` by the 256-entry table algorithm run down the
+        columns, all rows at once (a row's register stays as it is past its own bytes)."""
         d = np.asarray(data, dtype=np.uint8)
         t = np.array(self.table(256), np.uint64)
         w = self.width
