@@ -48,6 +48,18 @@ class BlockCode(LineCode):
         return inv
 
     @cached_property
+    def _block_bits(self) -> np.ndarray:
+        """(2 ** n x k) uint8: the data bits (first sent first) of every n-chip value, 0
+        for a value that is no codeword."""
+        data = np.maximum(self._decode_table, 0).astype(np.uint8)
+        return ((data[:, None] >> self._data_shifts) & 1).astype(np.uint8)
+
+    @cached_property
+    def _block_valid(self) -> np.ndarray:
+        """(2 ** n x k) bool: whether each n-chip value is a codeword, once per data bit."""
+        return np.repeat((self._decode_table >= 0)[:, None], self.DATA_BITS, axis=1)
+
+    @cached_property
     def _data_shifts(self) -> np.ndarray:
         return np.arange(self.DATA_BITS - 1, -1, -1, dtype=np.uint8)
 
@@ -117,26 +129,30 @@ class BlockCode(LineCode):
         lv, un = as_runs(levels, units)
         chips, run_of_chip = expand_runs(lv, un)
         k, n = self.DATA_BITS, self.CODE_CHIPS
-        # the codeword starting at every chip (chip j of it weighs 2 ** (n - 1 - j)); phase
-        # p's blocks are those starting at p, p + n, ...
-        span = max(chips.size - n + 1, 0)
-        values = np.zeros(span, np.uint8)
+        # the codeword starting at every chip (chip j of it weighs 2 ** (n - 1 - j)), laid
+        # out as (phases x blocks): row p holds phase p's blocks (those starting at p,
+        # p + n, ...); a phase whose last block would run past the chips has one less
+        blocks = chips.size // n
+        span = max(chips.size - n + 1, 0)  # <= blocks * n: the rest stays 0
+        values = np.zeros(blocks * n, np.uint8)
         for j in range(n):
-            values |= chips[j:j + span] << (n - 1 - j)
-        data = self._decode_table[values]
-        valid = data >= 0
-        data = np.where(valid, data, 0).astype(np.uint8)
+            values[:span] |= chips[j:j + span] << (n - 1 - j)
+        # (an intp index: numpy's fancy indexing takes it without a conversion of its own)
+        by_phase = values.reshape(blocks, n).T.astype(np.intp, order="C")
+        # every block's k bits (and k validity flags) looked up as one item of k bytes
+        bits = self._block_bits.view(_item(k))[:, 0][by_phase].view(np.uint8)
+        valid = self._block_valid.view(_item(k))[:, 0][by_phase].view(bool)
+        # the run of each block's first chip, once per data bit of the block
+        runs = np.ascontiguousarray(run_of_chip[:blocks * n].reshape(blocks, n).T)
         if k > 1:
-            data = ((data[:, None] >> self._data_shifts) & 1).astype(np.uint8)
+            runs = np.repeat(runs, k, axis=1)
         out = []
         for phase in range(n):
-            m = max(chips.size - phase, 0) // n
-            at = slice(phase, phase + m * n, n)
-            starts = np.ascontiguousarray(run_of_chip[at])  # run of each block's first chip
-            if k == 1:
-                out.append(DecodedBits(np.ascontiguousarray(data[at]), starts,
-                                       np.ascontiguousarray(valid[at])))
-                continue
-            out.append(DecodedBits(data[at].reshape(-1), np.repeat(starts, k),
-                                   np.repeat(valid[at], k)))
+            m = (chips.size - phase) // n * k if chips.size > phase else 0
+            out.append(DecodedBits(bits[phase, :m], runs[phase, :m], valid[phase, :m]))
         return out
+
+
+def _item(k: int) -> np.dtype:
+    """Return a dtype of ``k`` bytes (an unsigned integer where there is one)."""
+    return np.dtype(f"u{k}") if k in (1, 2, 4, 8) else np.dtype(f"V{k}")
