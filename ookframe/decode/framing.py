@@ -11,6 +11,7 @@ one, and everything else stays array-wide.
 
 from __future__ import annotations
 
+import itertools
 from dataclasses import dataclass
 
 import numpy as np
@@ -81,17 +82,16 @@ def _rows(*arrays: np.ndarray) -> np.ndarray:
 
 def _streams(runs: WindowRuns, cands: list[DecodedBits]) -> _Streams:
     run = np.concatenate([c.run_index for c in cands] + [np.zeros(1, np.int64)])
-    # every candidate's run indices lifted above the previous one's (by more than every run
-    # index and window bound), so one search over them all finds each window's part of
-    # each candidate (as one search per candidate, offset by the bits before it)
-    span = runs.levels.size + 1
-    lift = np.arange(len(cands)) * span
-    key = run[:-1] + np.repeat(lift, [c.bits.size for c in cands])
-    bounds = _rows(runs.run_start, runs.run_stop)[:, None, :] + lift[:, None]
-    lo, hi = np.searchsorted(key, bounds)
+    # each window's part of each candidate: a search of its run indices (sorted), offset
+    # by the bits of the candidates before it
+    bounds = np.concatenate((runs.run_start, runs.run_stop))
+    before = itertools.accumulate([c.bits.size for c in cands[:-1]], initial=0)
+    lo_hi = np.concatenate([np.searchsorted(c.run_index, bounds) + at
+                            for c, at in zip(cands, before, strict=True)])
+    lo_hi = lo_hi.reshape(len(cands), 2, -1)
     return _Streams(np.concatenate([c.bits for c in cands] + [np.zeros(1, np.uint8)]),
                     np.concatenate([c.valid for c in cands] + [np.zeros(1, bool)]),
-                    run, lo, hi)
+                    run, lo_hi[:, 0], lo_hi[:, 1])
 
 
 def _errors(st: _Streams, at: np.ndarray, pattern: np.ndarray) -> np.ndarray:
