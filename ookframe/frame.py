@@ -305,10 +305,14 @@ class ParsedFrames:
 
 
 def _dicts(names: list[str], columns: list[list], n: int) -> list[dict[str, object]]:
-    """Return ``n`` dicts, the i-th mapping ``names`` to entry i of every column."""
-    if not names:
-        return [{} for _ in range(n)]
-    return list(map(dict, map(zip, itertools.repeat(names), zip(*columns, strict=True))))
+    """Return ``n`` dicts, the i-th mapping ``names`` to entry i of every column (copies
+    of one dict of the names, filled column by column: about half the cost of building
+    each from pairs)."""
+    out = list(map(dict.copy, itertools.repeat(dict.fromkeys(names), n)))
+    for name, col in zip(names, columns, strict=True):
+        for d, v in zip(out, col, strict=True):
+            d[name] = v
+    return out
 
 
 @dataclass(frozen=True, eq=False)
