@@ -47,12 +47,16 @@ def mark_space_pairs(
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Return (run index of each mark, mark units, units of the space after it, -1 if none)."""
     marks = np.flatnonzero(levels == 1)
-    nxt = marks + 1
-    has_space = nxt < levels.size
-    has_space[has_space] = levels[nxt[has_space]] == 0
-    space = np.full(marks.size, -1, dtype=np.int64)
-    space[has_space] = units[nxt[has_space]]
-    return marks.astype(np.int64), units[marks], space
+    # every run's following space: its units where the next run is a space, else -1
+    space_after = np.full(levels.size, -1, np.int64)
+    space_after[:-1] = np.where(levels[1:] == 0, units[1:], -1)
+    return marks.astype(np.int64, copy=False), units[marks], space_after[marks]
+
+
+def marks_with_space(levels: np.ndarray) -> np.ndarray:
+    """Return the run index (int64) of every mark that a space follows (checked 0/1 uint8
+    levels: a 1 before a 0)."""
+    return np.flatnonzero(levels[:-1] > levels[1:]).astype(np.int64, copy=False)
 
 
 def empty_candidate() -> DecodedBits:

@@ -14,7 +14,7 @@ import numpy as np
 
 from ..errors import SpecError
 from ..spec.model import LineCodeSpec
-from ._chips import as_bits, as_runs, mark_space_pairs
+from ._chips import as_bits, as_runs, marks_with_space
 from ._params import ParamReader
 from .base import DecodedBits, LineCode
 
@@ -105,9 +105,8 @@ class PulseDistance(LineCode):
     def decode(self, levels: np.ndarray, units: np.ndarray) -> list[DecodedBits]:
         """Return one candidate: one bit per mark followed by a space (1 = one_space_units)."""
         lv, un = as_runs(levels, units)
-        run, mark, space = mark_space_pairs(lv, un)
-        keep = space >= 0
-        run, mark, space = run[keep], mark[keep], space[keep]
+        run = marks_with_space(lv)
+        mark, space = un[run], un[run + 1]
         one = space == self.one_space_units
         valid = (mark == self.mark_units) & (one | (space == self.zero_space_units))
         return [DecodedBits((one & valid).astype(np.uint8), run, valid)]
