@@ -64,8 +64,10 @@ class WindowFrames:
 
 @dataclass(frozen=True)
 class _Streams:
-    """The line-code candidates (one per chip phase) laid end to end, and where each
-    window's part of each candidate lies: ``lo``/``hi`` are (phases x windows)."""
+    """The line-code candidates (one per chip phase) laid end to end, then zeros (bits 0,
+    not valid: as many as the longest frame's on-air body, so a row of them can be taken
+    from any stream index, :func:`_take_rows`), and where each window's part of each
+    candidate lies: ``lo``/``hi`` are (phases x windows)."""
 
     bits: np.ndarray
     valid: np.ndarray
@@ -80,7 +82,7 @@ def _rows(*arrays: np.ndarray) -> np.ndarray:
     return np.concatenate(arrays).reshape(len(arrays), -1)
 
 
-def _streams(runs: WindowRuns, cands: list[DecodedBits]) -> _Streams:
+def _streams(runs: WindowRuns, cands: list[DecodedBits], pad: int) -> _Streams:
     run = np.concatenate([c.run_index for c in cands] + [np.zeros(1, np.int64)])
     # each window's part of each candidate: a search of its run indices (sorted), offset
     # by the bits of the candidates before it
@@ -89,9 +91,18 @@ def _streams(runs: WindowRuns, cands: list[DecodedBits]) -> _Streams:
     lo_hi = np.concatenate([np.searchsorted(c.run_index, bounds) + at
                             for c, at in zip(cands, before, strict=True)])
     lo_hi = lo_hi.reshape(len(cands), 2, -1)
-    return _Streams(np.concatenate([c.bits for c in cands] + [np.zeros(1, np.uint8)]),
-                    np.concatenate([c.valid for c in cands] + [np.zeros(1, bool)]),
+    pad = max(pad, 1)
+    return _Streams(np.concatenate([c.bits for c in cands] + [np.zeros(pad, np.uint8)]),
+                    np.concatenate([c.valid for c in cands] + [np.zeros(pad, bool)]),
                     run, lo_hi[:, 0], lo_hi[:, 1])
+
+
+def _take_rows(a: np.ndarray, starts: np.ndarray, width: int) -> np.ndarray:
+    """Return the rows ``a[s:s + width]`` for every ``s`` of ``starts`` (a new array; ``a``
+    holds ``width`` entries past every start): a copy of whole rows, not of entry after
+    entry."""
+    every = np.ndarray((a.size - width + 1, width), a.dtype, a, 0, (a.itemsize, a.itemsize))
+    return every[starts]
 
 
 def _errors(st: _Streams, at: np.ndarray, pattern: np.ndarray) -> np.ndarray:
@@ -228,11 +239,11 @@ def _bodies(spec: FrameSpec, hm: HeadModel, st: _Streams, lo: np.ndarray, hi: np
     n_fixed = array_body_bits(spec, hm)
     if n_fixed is not None:
         ok = hi - lo - body_at >= n_fixed
-        at = lo[ok, None] + body_at[ok, None] + np.arange(n_fixed)
-        pf = parse_frames(hm.plan, st.bits[at])  # every row holds the whole body
+        at = lo[ok] + body_at[ok]
+        pf = parse_frames(hm.plan, _take_rows(st.bits, at, n_fixed))  # each the whole body
         parsed = pf.columns(np.arange(pf.complete.size))
         code = np.zeros(lo.size, np.int64)
-        code[ok] = (~st.valid[at]).sum(axis=1)
+        code[ok] = (~_take_rows(st.valid, at, n_fixed)).sum(axis=1)
         return ok, parsed, np.full(lo.size, n_fixed, np.int64), code
     ok = np.zeros(lo.size, bool)
     n_air = np.zeros(lo.size, np.int64)
@@ -242,14 +253,14 @@ def _bodies(spec: FrameSpec, hm: HeadModel, st: _Streams, lo: np.ndarray, hi: np
         width = hm.plan.max_body_bits
         col = np.arange(width)
         avail = np.minimum(hi - starts, width)
-        # past a row's own bits: the streams' last entry (a 0, not valid)
-        at = np.where(col < avail[:, None], starts[:, None] + col, st.bits.size - 1)
-        pr = parse_rows(hm.plan, st.bits[at], avail)
+        rows = _take_rows(st.bits, starts, width)
+        rows &= col < avail[:, None]  # zero past a row's own bits
+        pr = parse_rows(hm.plan, rows, avail)
         i = np.flatnonzero(pr.complete)
         n = pr.n_bits[i]  # a complete frame's bits are all there (no stuffing to run past)
         ok[i] = True
         n_air[i] = n
-        code[i] = (~st.valid[at[i]] & (col < n[:, None])).sum(axis=1)
+        code[i] = (~_take_rows(st.valid, starts[i], width) & (col < n[:, None])).sum(axis=1)
         return ok, pr.columns(i), n_air, code
     received, n_rx = lc.unstuff_rows(st.bits[ragged_index(starts, hi - starts)], hi - starts)
     at = np.cumsum(n_rx) - n_rx
@@ -285,7 +296,7 @@ def _frame_chips(hm: HeadModel, st: _Streams, lo: np.ndarray, body_at: np.ndarra
     col = np.arange(int(n_air.max()))
     rows = np.empty((n_air.size, h + col.size), np.uint8)
     rows[:, :h] = head
-    rows[:, h:] = st.bits[np.minimum((lo + body_at)[:, None] + col, st.bits.size - 1)]
+    rows[:, h:] = _take_rows(st.bits, lo + body_at, col.size)
     return lc.chip_counts(rows[np.arange(rows.shape[1]) < lengths[:, None]], lengths)
 
 
@@ -390,7 +401,8 @@ def frame_windows(spec: FrameSpec, hm: HeadModel, ws: Windows, runs: WindowRuns,
     ``cands`` are the line-code candidates of ``runs`` (one ``decode`` call), ``dur`` and
     ``t0`` the durations and start times of the (glitch-filtered) train.
     """
-    st = _streams(runs, cands)
+    width = hm.plan.max_body_bits
+    st = _streams(runs, cands, width + hm.line_code.max_stuffed_bits(width))
     n_win = ws.first.size
     found, phase, pos, sync_err = _find_sync(spec, hm, st)
     win = np.arange(n_win)
