@@ -257,6 +257,12 @@ def _fit_line(t: np.ndarray, r: np.ndarray, scratch: np.ndarray | None = None
     return unit, offset
 
 
+#: at most this many edge offsets (heads x edges) a step, :func:`_minimax_edge` searches
+#: head by head in Python floats (cheaper than numpy's cost per call), else all heads at
+#: once in arrays; the same values
+SCALAR_WORK = 96
+
+
 def _minimax_edge(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: float, *,
                   tt: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
     """Return per row (unit in µs, worst edge offset in units of that unit) of the chip
@@ -267,39 +273,87 @@ def _minimax_edge(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: f
     In the inverse unit v the offset of edge j is t_j v - c_j - o, linear in (v, o); the
     best o halves the spread of t_j v - c_j, and that spread is convex (a maximum of
     linear functions less a minimum of them) in v: a golden-section search over v finds
-    its minimum, all rows at once (every row on its own: the rows' values do not depend
-    on the other rows). The edges are laid out as the rows of one array, the heads as
-    its columns, so the largest and smallest offsets are taken across rows (``tt``: that
-    array, C-ordered, if the caller has it).
+    its minimum, every row on its own (the rows' values do not depend on the other
+    rows). Few rows are searched one by one in Python floats (:func:`_minimax_rows`),
+    more all at once in arrays (:func:`_minimax_columns`; ``tt``: ``t.T``, C-ordered,
+    if the caller has it): the same values.
     """
-    c = np.concatenate(([0.0], np.cumsum(r)))[:, None]
+    if t.shape[0] * t.shape[1] <= SCALAR_WORK:
+        return _minimax_rows(t, r, lo_unit_us, hi_unit_us)
     if tt is None:
         tt = np.ascontiguousarray(t.T)
+    return _minimax_columns(tt, r, lo_unit_us, hi_unit_us)
+
+
+def _minimax_rows(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: float
+                  ) -> tuple[np.ndarray, np.ndarray]:
+    """Return :func:`_minimax_edge` of rows ``t`` (the same values), row by row in Python
+    floats: each elementwise step (``*``, ``-``, ``/``) is the same IEEE double operation
+    as numpy's on float64, and a largest or smallest value is exact in any order; the
+    times are finite (candidates' durations are bounded), so no NaN orders differently."""
+    cs = np.concatenate(([0.0], np.cumsum(r))).tolist()
+    phi = (math.sqrt(5.0) - 1.0) / 2.0
+    lo_v, hi_v = 1.0 / hi_unit_us, 1.0 / lo_unit_us
+    units: list[float] = []
+    worst: list[float] = []
+    for row in t.tolist():
+        edges = list(zip(row, cs, strict=True))
+
+        def half_spread(v: float, edges: list[tuple[float, float]] = edges) -> float:
+            e = [tj * v - cj for tj, cj in edges]
+            return (max(e) - min(e)) / 2.0
+
+        a, b = lo_v, hi_v
+        step = (b - a) * phi
+        x1, x2 = b - step, a + step
+        f1, f2 = half_spread(x1), half_spread(x2)
+        for _ in range(MINIMAX_STEPS):
+            if f1 <= f2:  # the minimum lies in [a, x2]
+                b, x2, f2 = x2, x1, f1
+                x1 = b - (b - a) * phi
+                f1 = half_spread(x1)
+            else:
+                a, x1, f1 = x1, x2, f2
+                x2 = a + (b - a) * phi
+                f2 = half_spread(x2)
+        units.append(1.0 / (x1 if f1 <= f2 else x2))
+        worst.append(f1 if f1 <= f2 else f2)
+    return np.array(units, dtype=np.float64), np.array(worst, dtype=np.float64)
+
+
+def _minimax_columns(tt: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: float
+                     ) -> tuple[np.ndarray, np.ndarray]:
+    """Return :func:`_minimax_edge` for edge times laid out as columns (``tt``: one
+    column per row of ``t``), all rows at once: the largest and smallest offsets are
+    taken across rows of ``tt``, which numpy does a whole row at a time."""
+    c = np.concatenate(([0.0], np.cumsum(r)))[:, None]
     buf = np.empty_like(tt)
 
     def half_spread(v: np.ndarray) -> np.ndarray:
         e = np.multiply(tt, v, out=buf)
-        e -= c
-        out = e.max(axis=0)
-        out -= e.min(axis=0)
+        np.subtract(e, c, out=e)
+        out = np.maximum.reduce(e, axis=0)
+        out -= np.minimum.reduce(e, axis=0)
         out /= 2.0
         return out
 
-    a = np.full(t.shape[0], 1.0 / hi_unit_us)
-    b = np.full(t.shape[0], 1.0 / lo_unit_us)
+    a = np.full(tt.shape[1], 1.0 / hi_unit_us)
+    b = np.full(tt.shape[1], 1.0 / lo_unit_us)
     phi = (math.sqrt(5.0) - 1.0) / 2.0
-    x1, x2 = b - phi * (b - a), a + phi * (b - a)
+    step = b - a
+    step *= phi
+    x1, x2 = b - step, a + step
     f1, f2 = half_spread(x1), half_spread(x2)
     for _ in range(MINIMAX_STEPS):
         left = f1 <= f2  # the minimum lies in [a, x2]
         b = np.where(left, x2, b)
         a = np.where(left, a, x1)
-        x2n = np.where(left, x1, a + phi * (b - a))
-        x1n = np.where(left, b - phi * (b - a), x2)
-        new = np.where(left, x1n, x2n)
+        step = b - a
+        step *= phi  # phi (b - a) once, for both ends
+        new = np.where(left, b - step, a + step)
         fn = half_spread(new)
+        x1, x2 = np.where(left, new, x2), np.where(left, x1, new)
         f1, f2 = np.where(left, fn, f2), np.where(left, f1, fn)
-        x1, x2 = x1n, x2n
     return 1.0 / np.where(f1 <= f2, x1, x2), np.minimum(f1, f2)
 
 
