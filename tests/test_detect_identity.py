@@ -352,3 +352,27 @@ def test_candidates_match_reference_on_example_trains(path):
             for edges in (None, pulse_edges_us(clean.durations_us)):
                 first, unit = find_candidates(*args, edges_us=edges)
                 assert _same(first, want_first) and _same(unit, want_unit), (k, seed)
+
+
+def test_helpers_match_reference_on_random_candidates():
+    """_one_per_cluster (clusters of every size, tied and untied scores), _spans_fit and
+    _fit_line equal the reference on random candidates, one to thousands."""
+    rng = np.random.default_rng(21)
+    for n in (1, 2, 5, 40, 3000):
+        for k in (4, 12, 29):
+            cand = np.sort(rng.choice(20 * n + k, n, replace=False)).astype(np.int64)
+            unit = rng.uniform(300.0, 400.0, n)
+            worst = rng.choice([0.05, 0.1, 0.2, 0.25, 0.31, 0.45], n) + rng.uniform(0, 0.02, n)
+            got = detect._one_per_cluster(cand, unit, worst, k)
+            want = _ref_one_per_cluster(cand, unit, worst, k)
+            assert _same(got[0], want[0]) and _same(got[1], want[1]), (n, k)
+            r = rng.choice([1.0, 3.0], k)
+            d = np.round(rng.uniform(150.0, 1300.0, 21 * n + 2 * k))
+            pos = cand[cand + k <= d.size]
+            for tol in (0.5, 0.75):
+                assert _same(detect._spans_fit(pos, d, r, 385.0, tol),
+                             _ref_spans_fit(pos, d, r, 385.0, tol)), (n, k, tol)
+            rows = np.round(rng.uniform(150.0, 1300.0, (n, k)))
+            t = np.concatenate((np.zeros((n, 1)), np.cumsum(rows, axis=1)), axis=1)
+            for got_a, want_a in zip(detect._fit_line(t, r), _ref_fit_line(t, r), strict=True):
+                assert _same(got_a, want_a), (n, k)

@@ -41,6 +41,14 @@ def edge_tolerance(table: RunTable) -> float:
     return max(MAX_EDGE_OFFSET, run_spacing(table) / 4.0)
 
 
+def _chips(r: np.ndarray) -> np.ndarray:
+    """Return the chip count at each edge of runs of lengths ``r``: ``[0, cumsum(r)]``
+    as float64 (the running sum written in place)."""
+    c = np.zeros(r.size + 1)
+    np.cumsum(r, out=c[1:], dtype=np.float64)
+    return c
+
+
 def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np.ndarray,
                     sig_units: np.ndarray, unit_us: float, table: RunTable,
                     clock_error: float, *, edges_us: np.ndarray | None = None
@@ -77,7 +85,8 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
     if k == 0 or n <= 0:
         return np.zeros(0, np.int64), np.zeros(0)
     r = sig_units.astype(np.float64)
-    tol = edge_tolerance(table)
+    spacing = run_spacing(table)
+    tol = max(MAX_EDGE_OFFSET, spacing / 4.0)  # edge_tolerance(table)
     lo_us = np.maximum(r - 2 * tol, 0.0) * (1.0 - clock_error) * unit_us
     hi_us = np.minimum(r + 2 * tol, table.cap_ratio) * (1.0 + clock_error) * unit_us
     cand = np.flatnonzero(_runs_fit(levels, durations_us, sig_levels, lo_us, hi_us))
@@ -87,10 +96,12 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
     # edge times from each candidate's first edge: the running sums of its k durations,
     # built as the rows of an (edge, candidate) array ``tt``, one vector add per edge (the
     # same sums in the same order as a running sum along each candidate, at far less
-    # cost than one over many short rows), then transposed for the fit
+    # cost than one over many short rows), then transposed for the fit; the durations
+    # are gathered straight into ``tt`` (mode "clip": every index is in range, so the
+    # same values, without the copy numpy's default mode makes of its output)
     tt = np.empty((k + 1, cand.size))
     tt[0] = 0.0
-    np.take(durations_us, cand + np.arange(k)[:, None], out=tt[1:])
+    np.take(durations_us, cand + np.arange(k)[:, None], out=tt[1:], mode="clip")
     for j in range(2, k + 1):
         tt[j] += tt[j - 1]
     t = tt.T.copy()
@@ -103,7 +114,7 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
     # values as over the rows in range alone)
     with np.errstate(invalid="ignore", over="ignore"):
         line_worst = _worst_edge_columns(tt, r, unit, offset)
-    if run_spacing(table) > 1:  # the line, else the best grid (see above)
+    if spacing > 1:  # the line, else the best grid (see above)
         worst = np.where(ok, line_worst, np.inf)
         miss = np.flatnonzero(worst >= MAX_EDGE_OFFSET)
         if miss.size:
@@ -177,11 +188,20 @@ def _one_per_cluster(cand: np.ndarray, unit: np.ndarray, worst: np.ndarray, k: i
     the clock (short signatures), leaving some edge far off its chip: then the best fit
     is the true one. Both are framed; a frame found from the earlier one covers the other.
     """
-    cluster = np.concatenate(([0], np.cumsum(np.diff(cand) >= k)))
+    n = cand.size
+    split = cand[1:] - cand[:-1] >= k  # a new cluster starts after each True
+    cluster = np.zeros(n, np.int64)
+    np.cumsum(split, dtype=np.int64, out=cluster[1:])
     score = np.floor(worst / FIT_STEP)
     order = np.lexsort((-cand, score, cluster))  # per cluster: best score, latest first
-    best_i = order[np.concatenate(([True], cluster[order][1:] != cluster[order][:-1]))]
-    last = np.append(cluster[1:] != cluster[:-1], True)
+    sorted_cluster = cluster[order]
+    first = np.empty(n, bool)
+    first[0] = True
+    np.not_equal(sorted_cluster[1:], sorted_cluster[:-1], out=first[1:])
+    best_i = order[first]
+    last = np.empty(n, bool)  # the latest of each cluster
+    last[:-1] = split
+    last[-1] = True
     last_i = np.flatnonzero(last)
     # the best fit also, where it is clearly better than the latest (by CLEARLY_BETTER)
     clearly = score[best_i] <= score[last_i] - CLEARLY_BETTER
@@ -192,7 +212,7 @@ def _one_per_cluster(cand: np.ndarray, unit: np.ndarray, worst: np.ndarray, k: i
     # ends at a clearly worse fit (a shift reaching into the sync) is a place the sync may
     # follow, so the latest of each such run is framed too.
     good = score < score[best_i][cluster] + CLEARLY_BETTER
-    keep[:-1] |= good[:-1] & ~good[1:] & (cluster[1:] == cluster[:-1])
+    keep[:-1] |= good[:-1] & ~good[1:] & ~split
     return cand[keep], unit[keep]
 
 def _spans_fit(cand: np.ndarray, durations_us: np.ndarray, r: np.ndarray, max_unit_us: float,
@@ -210,20 +230,19 @@ def _spans_fit(cand: np.ndarray, durations_us: np.ndarray, r: np.ndarray, max_un
     k = r.size
     if k < 4 or cand.size == 0:
         return cand
-    c = np.concatenate(([0.0], np.cumsum(r)))
+    c = _chips(r)
     t = pulse_edges_us(durations_us) if edges_us is None else edges_us
     begin = t[cand]
     total = t[cand + k] - begin
-    # every test over all candidates, worked out in place, and one selection at the end
-    # (cheaper than narrowing three arrays after each test; the same verdicts)
-    keep = np.ones(cand.size, bool)
-    for j in sorted({k * q // 8 for q in range(1, 8)} - {0}):
-        part = t[cand + j]
-        part -= begin
-        part *= c[k]
-        part -= c[j] * total
-        np.abs(part, out=part)
-        keep &= part <= 2 * tol * (c[k] + c[j]) * max_unit_us
+    # every test over all candidates at once, one row per tested edge j (the same
+    # operations, element by element, as one test after the other)
+    js = np.array(sorted({k * q // 8 for q in range(1, 8)} - {0}))
+    part = t[cand + js[:, None]]
+    part -= begin
+    part *= c[k]
+    part -= c[js][:, None] * total
+    np.abs(part, out=part)
+    keep = (part <= (2 * tol * (c[k] + c[js]) * max_unit_us)[:, None]).all(axis=0)
     return cand[keep]
 
 
@@ -247,11 +266,14 @@ def _fit_line(t: np.ndarray, r: np.ndarray, scratch: np.ndarray | None = None
               ) -> tuple[np.ndarray, np.ndarray]:
     """Return (unit, offset) of :func:`_edge_line` from its edge times ``t``; ``scratch``
     (the shape of ``t``) holds the centred times if given."""
-    c = np.concatenate(([0.0], np.cumsum(r)))
-    cm = c.mean()
-    tm = t.mean(axis=1)
+    c = _chips(r)
+    # the means as numpy's mean works them out (a sum, then one division by the count)
+    cm = np.add.reduce(c) / c.size
+    tm = np.add.reduce(t, axis=1)
+    tm /= t.shape[1]
     centred = np.subtract(t, tm[:, None], out=scratch)
-    slope = (centred @ (c - cm)) / ((c - cm) @ (c - cm))
+    dc = c - cm
+    slope = (centred @ dc) / (dc @ dc)
     unit = np.where(slope > 0, slope, np.nan)
     offset = (tm - slope * cm) / unit
     return unit, offset
@@ -291,7 +313,7 @@ def _minimax_rows(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: f
     floats: each elementwise step (``*``, ``-``, ``/``) is the same IEEE double operation
     as numpy's on float64, and a largest or smallest value is exact in any order; the
     times are finite (candidates' durations are bounded), so no NaN orders differently."""
-    cs = np.concatenate(([0.0], np.cumsum(r))).tolist()
+    cs = _chips(r).tolist()
     phi = (math.sqrt(5.0) - 1.0) / 2.0
     lo_v, hi_v = 1.0 / hi_unit_us, 1.0 / lo_unit_us
     units: list[float] = []
@@ -326,7 +348,7 @@ def _minimax_columns(tt: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_u
     """Return :func:`_minimax_edge` for edge times laid out as columns (``tt``: one
     column per row of ``t``), all rows at once: the largest and smallest offsets are
     taken across rows of ``tt``, which numpy does a whole row at a time."""
-    c = np.concatenate(([0.0], np.cumsum(r)))[:, None]
+    c = _chips(r)[:, None]
     buf = np.empty_like(tt)
 
     def half_spread(v: np.ndarray) -> np.ndarray:
@@ -372,7 +394,7 @@ def _spread_floor(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: f
     spread at either end of the range gives two lines under h; the smallest value of the
     larger of them over the range (at an end or where they cross) is under h's minimum.
     """
-    c = np.concatenate(([0.0], np.cumsum(r)))
+    c = _chips(r)
     lo_v, hi_v = 1.0 / hi_unit_us, 1.0 / lo_unit_us
     rows = np.arange(t.shape[0])
 
@@ -400,7 +422,7 @@ def _worst_edge_columns(tt: np.ndarray, r: np.ndarray, unit: np.ndarray, offset:
     """Return :func:`_worst_edge` of ``tt.T`` (the same values) for edge times laid out as
     columns (one per row of ``t``): every element is worked out alike, and the largest
     is taken across rows of ``tt``, which numpy does a whole row at a time."""
-    c = np.concatenate(([0.0], np.cumsum(r)))[:, None]
+    c = _chips(r)[:, None]
     w = np.divide(tt, unit, out=np.empty_like(tt))
     w -= offset
     w -= c
@@ -413,7 +435,7 @@ def _worst_edge(t: np.ndarray, r: np.ndarray, unit: np.ndarray, offset: np.ndarr
     """Return per row the largest distance (units) of an edge at times ``t`` from the
     line ``unit``, ``offset`` (see :func:`_edge_line`) for rows with run lengths ``r``
     (``out``: space the shape of ``t`` to work in)."""
-    c = np.concatenate(([0.0], np.cumsum(r)))
+    c = _chips(r)
     w = np.divide(t, unit[:, None], out=out)
     w -= offset[:, None]
     w -= c
