@@ -376,3 +376,53 @@ def test_helpers_match_reference_on_random_candidates():
             t = np.concatenate((np.zeros((n, 1)), np.cumsum(rows, axis=1)), axis=1)
             for got_a, want_a in zip(detect._fit_line(t, r), _ref_fit_line(t, r), strict=True):
                 assert _same(got_a, want_a), (n, k)
+
+
+def test_runs_fit_matches_reference_on_periodic_and_mixed_signatures():
+    """_runs_fit (tests ANDed over evenly spaced shifts by doubling) equals the
+    reference for periodic preambles of every period and length and for irregular
+    signatures, on random trains."""
+    rng = np.random.default_rng(8)
+    for _ in range(300):
+        k = int(rng.integers(1, 33))
+        period = int(rng.integers(1, 5))
+        base_units = rng.choice([1.0, 2.0, 3.0], period)
+        units = np.resize(base_units, k)
+        if rng.random() < 0.3:
+            units[-1] = 5.0  # a sync run at the end breaks the period
+        if rng.random() < 0.2:
+            units = rng.choice([1.0, 2.0, 3.0], k)
+        sig_levels = (np.arange(k) + int(rng.integers(0, 2))) % 2
+        lo = np.maximum(units - 1.0, 0.0) * 0.9 * 300.0
+        hi = (units + 1.0) * 1.1 * 300.0
+        n = int(rng.integers(k, k + 400))
+        levels = (np.arange(n) % 2).astype(np.int8)
+        d = rng.choice(units, n) * 300.0 * rng.uniform(0.7, 1.3, n)
+        at = int(rng.integers(0, n - k + 1))  # one sure match
+        levels[at:at + k], d[at:at + k] = sig_levels, units * 300.0
+        got = detect._runs_fit(levels, d, sig_levels, lo, hi)
+        want = _ref_runs_fit(levels, d, sig_levels, lo, hi)
+        assert _same(got, want), (k, period)
+        assert want[at]
+
+
+def test_and_over_shifts_equals_one_and_per_shift():
+    """_and_over_shifts equals ANDing the shifted slices one by one, for evenly spaced
+    shifts (every step, start and count) and irregular ones."""
+    rng = np.random.default_rng(4)
+    for _ in range(3000):
+        k, n = int(rng.integers(1, 40)), int(rng.integers(1, 60))
+        ok = rng.random(n + k - 1) < rng.uniform(0.5, 1.0)
+        if rng.random() < 0.6:
+            p = int(rng.integers(1, 5))
+            m = int(rng.integers(1, (k - 1) // p + 2))
+            j0 = int(rng.integers(0, k - (m - 1) * p))
+            js = list(range(j0, j0 + m * p, p))
+        else:
+            js = sorted(rng.choice(k, int(rng.integers(1, k + 1)), replace=False).tolist())
+        got = rng.random(n) < 0.9
+        want = got.copy()
+        detect._and_over_shifts(got, ok, js)
+        for j in js:
+            want &= ok[j:j + n]
+        assert _same(got, want), js

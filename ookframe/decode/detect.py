@@ -153,24 +153,47 @@ def _runs_fit(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np.ndarr
 
     One pass over the train per distinct (level, bounds) of the signature (a preamble
     has few), then the signature's tests ANDed along it as shifted slices: cheaper than
-    narrowing the positions run by run (the same values: every test is per pulse).
+    narrowing the positions run by run (the same values: every test is per pulse). A
+    test that recurs at evenly spaced runs (a periodic preamble) is ANDed over all its
+    shifts by doubling (:func:`_and_over_shifts`): AND is exact in any order and grouping.
     """
     k = sig_levels.size
     n = durations_us.size - k + 1
-    tests: dict[tuple[int, float, float], np.ndarray] = {}
+    shifts: dict[tuple[int, float, float], list[int]] = {}
+    for j, key in enumerate(zip(sig_levels.tolist(), lo_us.tolist(), hi_us.tolist(),
+                                strict=True)):
+        shifts.setdefault(key, []).append(j)
     fits = np.ones(n, bool)
-    for j in range(k):
-        key = (int(sig_levels[j]), float(lo_us[j]), float(hi_us[j]))
-        ok = tests.get(key)
-        if ok is None:
-            ok = levels == sig_levels[j]
-            ok &= durations_us > lo_us[j]
-            ok &= durations_us < hi_us[j]
-            tests[key] = ok
-        fits &= ok[j:j + n]
+    for (level, lo, hi), js in shifts.items():
+        ok = levels == level
+        ok &= durations_us > lo
+        ok &= durations_us < hi
+        _and_over_shifts(fits, ok, js)
     return fits
 
 
+def _and_over_shifts(fits: np.ndarray, ok: np.ndarray, js: list[int]) -> None:
+    """AND into ``fits`` (length n) ``ok[j:j + n]`` for every shift j of ``js`` (ascending,
+    ``ok`` long enough for the last). Evenly spaced shifts j0 + q p (q < m) take about
+    2 log2(m) passes: the AND of 2h shifts is that of h shifts and of the same h moved
+    by h p, and m's binary digits say which of these blocks to AND in."""
+    n = fits.size
+    j0, m = js[0], len(js)
+    p = js[1] - j0 if m > 1 else 1
+    if m < 4 or js != list(range(j0, j0 + m * p, p)):
+        for j in js:
+            fits &= ok[j:j + n]
+        return
+    block = ok[j0:]  # block[i]: the AND over h shifts from j0 + i (h = 1, 2, 4, ...)
+    h, done = 1, 0
+    while True:
+        if m & h:
+            fits &= block[done * p:done * p + n]
+            done += h
+        if 2 * h > m:
+            return
+        block = block[:-h * p] & block[h * p:]
+        h *= 2
 #: fits whose worst edge offsets differ by less than this (units) count as equally good
 FIT_STEP = 0.1
 #: steps by which the best fit must beat the latest candidate to be framed as well
