@@ -41,6 +41,11 @@ def edge_tolerance(table: RunTable) -> float:
     return max(MAX_EDGE_OFFSET, run_spacing(table) / 4.0)
 
 
+#: at most this many candidates, find_candidates sums their durations by one running sum
+#: down the columns (cheaper per call), else by one add per edge (cheaper per element)
+FEW_COLUMNS = 128
+
+
 def _chips(r: np.ndarray) -> np.ndarray:
     """Return the chip count at each edge of runs of lengths ``r``: ``[0, cumsum(r)]``
     as float64 (the running sum written in place)."""
@@ -98,12 +103,16 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
     # same sums in the same order as a running sum along each candidate, at far less
     # cost than one over many short rows), then transposed for the fit; the durations
     # are gathered straight into ``tt`` (mode "clip": every index is in range, so the
-    # same values, without the copy numpy's default mode makes of its output)
+    # same values, without the copy numpy's default mode makes of its output). For few
+    # candidates one running sum down the columns does the same adds in one call.
     tt = np.empty((k + 1, cand.size))
     tt[0] = 0.0
     np.take(durations_us, cand + np.arange(k)[:, None], out=tt[1:], mode="clip")
-    for j in range(2, k + 1):
-        tt[j] += tt[j - 1]
+    if cand.size <= FEW_COLUMNS:
+        np.cumsum(tt, axis=0, out=tt)
+    else:
+        for j in range(2, k + 1):
+            tt[j] += tt[j - 1]
     t = tt.T.copy()
     d = sliding_window_view(durations_us, k)[cand] if k < SHORT_SIGNATURE_RUNS else None
     scratch = np.empty_like(t)
