@@ -32,6 +32,7 @@ class RunTable:
     same: bool  # both levels allow exactly 1 .. top (then rounding decides)
     lookup: np.ndarray  # (2 x top + 2) bool: lookup[lv, n] for 0 <= n <= top + 1
     by_length: np.ndarray  # lookup transposed and flattened: by_length[2 n + lv]
+    no_zero: bool = False  # neither level allows 0 (so 2 n + lv may be clipped as one index)
 
 
 def run_table(space: tuple[int, ...], mark: tuple[int, ...]) -> RunTable:
@@ -44,7 +45,7 @@ def run_table(space: tuple[int, ...], mark: tuple[int, ...]) -> RunTable:
     for lv in (0, 1):
         lookup[lv, allowed[lv]] = True
     return RunTable(allowed, mids, top, float(top + 1), same, lookup,  # type: ignore[arg-type]
-                    np.ascontiguousarray(lookup.T).ravel())
+                    np.ascontiguousarray(lookup.T).ravel(), not lookup[:, 0].any())
 
 
 def nearest_runs(ratio: np.ndarray, levels: np.ndarray, table: RunTable
@@ -364,21 +365,44 @@ class _Sums:
         self.hi = np.minimum(fix + (after + 1), stop[seg])
         self.first, self.stop = first, stop
 
-    def count_kept(self, dropped: np.ndarray) -> np.ndarray:
+    def count_kept(self, dropped: np.ndarray, *, at_least_one: bool = False) -> np.ndarray:
         """Return (float64) per element how many elements of its range are not at the
         indices ``dropped`` (ascending, distinct): the same values as the moving sums of
         a keep mask (1.0, 0.0 where dropped), which are whole numbers, counted directly
-        (no running sum)."""
+        (no running sum); ``at_least_one``: 1.0 where none is kept (``np.maximum(count,
+        1.0)``: only a range holding a dropped element can count none)."""
         count = np.full(self.size, float(self.before + self.after + 1))
         count[self.fix] = self.hi - self.lo  # where a segment edge cuts the range
         if dropped.size:
             # a dropped element is in the ranges of the elements up to ``after`` before
-            # and ``before`` after it, within its segment
+            # and ``before`` after it, within its segment (one subtraction per element
+            # and dropped element in its range: whole numbers, exact in any order)
             seg = np.searchsorted(self.stop, dropped, "right")
             lo = np.maximum(dropped - self.after, self.first[seg])
             hi = np.minimum(dropped + (self.before + 1), self.stop[seg])
-            count -= np.bincount(ragged_index(lo, hi - lo), minlength=self.size)
+            near = ragged_index(lo, hi - lo)
+            np.subtract.at(count, near, 1.0)
+            if at_least_one:
+                count[near] = np.maximum(count[near], 1.0)
         return count
+
+    def pair(self, re: np.ndarray, im: np.ndarray) -> None:
+        """Replace float64 ``re`` and ``im`` by their moving sums (the values of
+        ``self(re)`` and ``self(im)``): both running sums in one pass, as the parts of one
+        complex running sum (complex numbers add their parts separately, so each part is
+        the same running sum), then the differences per part."""
+        n = self.size
+        cs = np.empty(n + 1, np.complex128)
+        cs[0] = 0
+        cs.real[1:] = re
+        cs.imag[1:] = im
+        np.cumsum(cs[1:], out=cs[1:])
+        w = self.before + self.after + 1
+        fix, hi, lo = self.fix, self.hi, self.lo
+        for part, out in ((cs.real, re), (cs.imag, im)):
+            if n >= w:
+                np.subtract(part[w:], part[:n + 1 - w], out=out[self.before:n - self.after])
+            out[fix] = part[hi] - part[lo]
 
     def __call__(self, x: np.ndarray, out: np.ndarray | None = None) -> np.ndarray:
         """Return the moving sums of ``x`` (into ``out`` if given): the same values as
@@ -407,10 +431,17 @@ def is_allowed(n: np.ndarray, levels: np.ndarray, table: RunTable) -> np.ndarray
         return (n >= 1) & (n <= table.top)
     # the (length, level) table flattened: one look-up per pulse at 2 n + level (shift and
     # add over the whole array: cheaper than adding to the marks picked by a mask)
-    at = np.clip(n, 0, table.top + 1)
-    at <<= 1
+    if not table.no_zero:
+        at = np.clip(n, 0, table.top + 1)
+        at <<= 1
+        at += levels != 0
+        return table.by_length[at]
+    # clipping 2 n + level instead of n: below 0 it finds (0, space) where n < 0 found
+    # (0, level), above the end (top + 1, mark) where n > top + 1 found (top + 1, level):
+    # all False (no level allows 0 or top + 1)
+    at = n << 1
     at += levels != 0
-    return table.by_length[at]
+    return table.by_length.take(at, mode="clip")
 
 
 def _repair(c: np.ndarray, residual: np.ndarray, grid: np.ndarray, pulse_edge: np.ndarray,
@@ -465,10 +496,11 @@ def _phase_turns(x: np.ndarray, dropped: np.ndarray, sums: _Sums, in_place: bool
     parts of ``x`` over the ranges of ``sums``, those at the indices ``dropped`` left
     out: ``np.angle(S) / (2 * np.pi)`` for S the sums of ``np.exp(2j * np.pi * x)``.
 
-    The cosine and sine parts are summed as two real arrays (complex sums add the parts
-    separately, so the values are the same) and the angle is their ``arctan2`` (as
-    ``np.angle`` takes it), at less memory than one complex array; the sums overwrite
-    the parts (fewer fresh pages). ``in_place``: ``x`` may be overwritten.
+    The cosine and sine parts are taken into two real arrays, their running sums in one
+    complex pass (:meth:`_Sums.pair`: complex sums add the parts separately, so the
+    values are the same), and the angle is their ``arctan2`` (as ``np.angle`` takes it,
+    over contiguous parts); the sums overwrite the parts (fewer fresh pages).
+    ``in_place``: ``x`` may be overwritten.
     """
     if in_place:
         turn = x
@@ -480,8 +512,7 @@ def _phase_turns(x: np.ndarray, dropped: np.ndarray, sums: _Sums, in_place: bool
     im = turn
     re[dropped] = 0.0
     im[dropped] = 0.0
-    sums(re, out=re)
-    sums(im, out=im)
+    sums.pair(re, im)
     out = np.arctan2(im, re, out=im)
     out /= 2 * np.pi
     return out
@@ -498,19 +529,30 @@ def _unwrap(p: np.ndarray) -> np.ndarray:
 def _unwrap_in_place(p: np.ndarray) -> None:
     """Replace ``p`` by :func:`_unwrap` of it (the same values)."""
     dd = np.diff(p)
-    big = np.flatnonzero((dd >= 0.5) | (dd <= -0.5))
+    np.abs(dd, out=dd)
+    big = np.flatnonzero(dd >= 0.5)  # the steps of half a period or more, either way
+    del dd
     # before the first corrected step the correction is 0.0, still added: -0.0 becomes 0.0
     p[1:int(big[0]) + 1 if big.size else p.size] += 0.0
     if big.size == 0:
         return
-    step = dd[big]
-    del dd
+    step = p[big + 1] - p[big]  # (p[big] is no -0.0 now; |step| >= 0.5: the same steps)
     mod = np.mod(step + 0.5, 1.0) - 0.5
     mod[(mod == -0.5) & (step > 0)] = 0.5
     # the running sum of the corrections (zero between them: the same sums as a cumsum
-    # over every step), held constant from each corrected step to the next
+    # over every step), held constant from each corrected step to the next: added a
+    # stretch at a time where there are few (the same additions as a repeated array)
     level = np.cumsum(mod - step)
-    p[big[0] + 1:] += np.repeat(level, np.diff(np.append(big, p.size - 1)))
+    if big.size > _FEW_STRETCHES:
+        p[big[0] + 1:] += np.repeat(level, np.diff(np.append(big, p.size - 1)))
+        return
+    stops = big.tolist()[1:] + [p.size - 1]
+    for a, b, v in zip(big.tolist(), stops, level.tolist(), strict=True):
+        p[a + 1:b + 1] += v
+
+
+#: at most this many wraps of a phase are corrected a stretch at a time
+_FEW_STRETCHES = 32
 
 
 def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
@@ -559,13 +601,11 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
     x[ends] = ratio
     np.cumsum(x, out=x)
     x -= np.repeat(x[e_start], n_edges)
-    keep = np.ones(x.size)
     if capped is not None:
         dropped = np.flatnonzero(capped)
         dropped += np.searchsorted(e_start - np.arange(e_start.size), dropped, "right")
     else:
         dropped = np.zeros(0, np.int64)
-    keep[dropped] = 0.0
     # rough phase over +-2 edges (follows a fast drift), unwrapped and averaged over the
     # window; then the circular mean of what is left around it
     b, a = 2 * half_window, LOOK_AHEAD
@@ -573,9 +613,8 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
     rough = _phase_turns(x, dropped, near)
     del near
     _unwrap_in_place(rough)
-    kept = wide.count_kept(dropped)
-    np.maximum(kept, 1.0, out=kept)
-    rough *= keep
+    kept = wide.count_kept(dropped, at_least_one=True)
+    rough[dropped] *= 0.0  # (a keep mask's product: 0.0 or -0.0 there, the same elsewhere)
     trend = wide(rough, out=rough)
     trend /= kept
     del kept
