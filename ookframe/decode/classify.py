@@ -260,7 +260,8 @@ def head_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarra
 def track_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarray, *,
                gain: float, tolerance: float, iterations: int = 2,
                max_units: int | None = None, levels: np.ndarray | None = None,
-               table: RunTable | None = None) -> np.ndarray:
+               table: RunTable | None = None, offsets: np.ndarray | None = None
+               ) -> np.ndarray:
     """Return the unit in µs used to classify each pulse, tracking slow clock drift.
 
     First-order loop ``u = u + gain * (d_k / n_k - u)`` started at the window's
@@ -274,27 +275,31 @@ def track_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarr
     than ``tolerance`` units do not move the loop (they feed the previous estimate
     back), and no pulse counts for more than ``max_units`` units. With ``levels`` and
     ``table`` pulses go to the nearest allowed run length instead of the nearest whole
-    number.
+    number. ``offsets``: where each window starts in ``durations_us``, if at hand.
     """
     d = np.asarray(durations_us, dtype=np.float64)
     lengths = np.asarray(lengths, dtype=np.int64)
-    u0 = np.repeat(np.asarray(unit0_us, dtype=np.float64), lengths)
+    u0 = np.asarray(unit0_us, dtype=np.float64).repeat(lengths)
     if d.size == 0 or gain <= 0.0:
         return u0
-    offsets = _offsets(lengths)
+    if offsets is None:
+        offsets = _offsets(lengths)
     u_prev = u0
     b, a = [gain], [1.0, gain - 1.0]
+    marks = None if levels is None or table is None else levels == 1
     for _ in range(iterations):
-        if levels is None or table is None:
+        if marks is None:
             n, dev = classify(d, u_prev)
-        else:
-            n, dev = nearest_runs(d / u_prev, levels, table)
+        else:  # nearest_runs, the marks found once
+            r = d / u_prev
+            n = _nearest_units(r, levels, table, marks)  # type: ignore[arg-type]
+            dev = np.abs(r - n)
         if max_units is not None:
             np.minimum(n, max_units, out=n)
         x = d / n
         np.copyto(x, u_prev, where=~(dev <= tolerance))  # off pulses feed the estimate back
         x -= u0
-        y = lfilter(b, a, np.repeat(x, n))
+        y = lfilter(b, a, x.repeat(n))
         u_prev = _restart_windows(y, n, offsets, lengths, u0, gain)
     return u_prev
 

@@ -72,7 +72,8 @@ def classify_windows(spec: FrameSpec, hm: HeadModel, dur: np.ndarray, first: np.
         end_res = g.end_residual
     else:  # duration by duration, with the tracking loop (follows a fast-drifting clock)
         unit = track_unit(d, length, start_unit, gain=dec.loop_gain, tolerance=dec.tolerance,
-                          max_units=hm.cap_units + 1, levels=lv, table=table)
+                          max_units=hm.cap_units + 1, levels=lv, table=table,
+                          offsets=offset)
         ratio = d / unit
         capped = ratio > table.cap_ratio
         n, dev = nearest_runs(ratio, lv, table)
