@@ -238,8 +238,12 @@ def head_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarra
         c = _column_running_sums(n)
         w = ((c <= head_units) & real).astype(np.float64)  # a prefix of every column
         npts = _column_sums(w) + 1.0  # + the origin edge (0, 0)
+        # the sums below over the rows where some column is still in the head (below them
+        # w is 0: the products are +0.0, which leave a sum of terms >= 0 as it is)
+        used = max(int(npts.max()) - 1, 1)
+        tt, c, w = t[:used], c[:used], w[:used]
         # (t, c >= 0 and w 0 or 1: (t c) w = (t w) c and (c c) w = (c w) c, the same bits)
-        tw = t * w
+        tw = tt * w
         cw = c * w
         st = _column_sums(tw)
         sc = _column_sums(cw)
