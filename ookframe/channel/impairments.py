@@ -43,6 +43,14 @@ class Edges:
         ends = cumsum_us(du)  # a new array: the kernels may work on it in place
         return Edges(int(lv[0]), ends[:-1], float(ends[-1]))
 
+    @staticmethod
+    def from_ends(levels: np.ndarray, ends_us: np.ndarray) -> Edges:
+        """Return the edges of a pulse train of alternating ``levels`` (at least one pulse)
+        whose pulses end at ``ends_us`` (the running sum of the durations, as
+        ``from_arrays`` takes it): the toggles are a copy of the ends, for the kernels to
+        work on in place."""
+        return Edges(int(levels[0]), ends_us[:-1].copy(), float(ends_us[-1]))
+
     def pulse_levels(self) -> np.ndarray:
         """Return the level (uint8) of each pulse."""
         levels = np.empty(self.t_us.size + 1, np.uint8)
@@ -155,12 +163,15 @@ _STEPS_US: dict[float, np.ndarray] = {}
 
 
 def _steps_us(n: int, min_width_us: float) -> np.ndarray:
-    """Return ``np.arange(1, n + 1) * min_width_us`` (read-only; cached per width)."""
+    """Return ``np.arange(1, n + 1) * min_width_us`` (read-only; cached per width, grown to
+    the next power of two so trains of slightly different lengths do not rebuild it: an
+    elementwise product, so a longer table's first ``n`` values are the same floats)."""
     steps = _STEPS_US.get(min_width_us)
     if steps is None or steps.size < n:
         if len(_STEPS_US) >= 8:
             _STEPS_US.clear()
-        steps = np.arange(1, max(n, 1024) + 1) * min_width_us
+        size = 1 << max(n - 1, 1023).bit_length()  # the next power of two >= max(n, 1024)
+        steps = np.arange(1, size + 1) * min_width_us
         steps.flags.writeable = False
         _STEPS_US[min_width_us] = steps
     return steps[:n]

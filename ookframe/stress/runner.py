@@ -212,7 +212,8 @@ def run_chunk(
         rx = apply_physical(batch.train, channel, rng, burst_starts_us=batch.starts_us)
         bounds = physical_time_map_us(bounds, channel, batch.starts_us)
     else:
-        rx = apply_channel(batch.train, channel, rng, burst_starts_us=batch.starts_us)
+        rx = apply_channel(batch.train, channel, rng, burst_starts_us=batch.starts_us,
+                           pulse_ends_us=batch.pulse_ends_us)
         bounds = channel_time_map_us(bounds, channel, batch.starts_us)
     decoded = (reference_decoder(receiver, rx) if decoder is None
                else decoder(plan.spec, rx))
