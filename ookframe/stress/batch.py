@@ -106,7 +106,10 @@ def _join_slots(plan: FramePlan, slots: tuple[np.ndarray, np.ndarray, np.ndarray
     gap_w = np.full(gap_slot.size, float(gap))
     if r > 1:
         gap_w[1:].reshape(-1, r)[:, :-1] = plan.gap_us
-    starts = np.flatnonzero(np.concatenate(([True], levels[1:] != levels[:-1])))
+    changed = np.empty(levels.size, bool)
+    changed[0] = True
+    np.not_equal(levels[1:], levels[:-1], out=changed[1:])
+    starts = np.flatnonzero(changed)
     widths = (float(gap), float(plan.gap_us)) if r > 1 else (float(gap),)  # gap_w's values
     counted = _run_quanta(levels.size, starts, unit, gap_slot, gap_w, widths)
     if counted is None:
@@ -114,12 +117,27 @@ def _join_slots(plan: FramePlan, slots: tuple[np.ndarray, np.ndarray, np.ndarray
         pulse_ends_us = None
     else:  # whole quanta: every duration and every running sum of them exact
         quanta, q_us = counted
-        durations_us = _times_q(quanta, q_us)
-        pulse_ends_us = _times_q(np.cumsum(quanta), q_us)
-    train = PulseTrain(levels[starts], durations_us)
+        pulse_ends_us = _times_q(np.cumsum(quanta, out=quanta), q_us)
+        # differences of exact multiples of q_us below 2**52 of it: exact, quanta * q_us
+        durations_us = np.empty(pulse_ends_us.size)
+        durations_us[0] = pulse_ends_us[0]
+        np.subtract(pulse_ends_us[1:], pulse_ends_us[:-1], out=durations_us[1:])
+    train = PulseTrain(_run_levels(levels, starts), durations_us)
     tx_us = r * lens * unit + (r - 1) * plan.gap_us
     begin = gap + np.concatenate(([0.0], np.cumsum(tx_us + gap)[:-1]))
     return Batch(train, begin, begin + tx_us, payload, gap, pulse_ends_us)
+
+
+def _run_levels(levels: np.ndarray, starts: np.ndarray) -> np.ndarray:
+    """Return ``levels[starts]`` for the starts of the runs of equal ``levels`` (uint8):
+    when every level is 0 or 1, neighbouring runs differ, so the run levels alternate from
+    ``levels[0]`` and are written out instead of gathered from the slots."""
+    if int(levels.max()) > 1:
+        return levels[starts]
+    out = np.empty(starts.size, np.uint8)
+    out[0::2] = levels[0]
+    out[1::2] = 1 - levels[0]
+    return out
 
 
 def _slot_levels(
