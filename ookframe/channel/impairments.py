@@ -312,12 +312,14 @@ def _poisson_points_counted(
     # interval r holds the points in [cum[r - 1], cum[r]) (all points lie below cum[-1])
     counts = np.diff(np.searchsorted(pos, cum), prepend=0)
     offset = np.concatenate(([0.0], cum[:-1]))
-    pts = pos - np.repeat(offset, counts)
+    pts = np.subtract(pos, np.repeat(offset, counts), out=pos)  # pos: this call's own array
     pts += np.repeat(starts_us, counts)
     if even and pts.size:
         odd = np.flatnonzero(counts & 1)
-        if odd.size:
-            pts = np.delete(pts, np.cumsum(counts)[odd] - 1)
+        if odd.size:  # each odd interval's last point dropped (np.delete's mask, at hand)
+            keep = np.ones(pts.size, bool)
+            keep[np.cumsum(counts)[odd] - 1] = False
+            pts = pts[keep]
             counts = counts - (counts & 1)
     return pts, counts
 
