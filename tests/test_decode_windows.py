@@ -70,3 +70,26 @@ def test_count_kept_is_the_moving_sum_of_the_keep_mask():
         keep = np.ones(n)
         keep[dropped] = 0.0
         assert sums(keep).tobytes() == sums.count_kept(dropped).tobytes()
+
+
+def test_bursts_of_takes_the_bursts_and_their_neighbours():
+    """``_CandidateWindows.bursts_of``: the windows whose burst is one of the given windows'
+    bursts or the burst just before or after it in the order of the bursts (ranks of the
+    distinct burst ends), bursts in train order or not."""
+    from ookframe.decode.framer import _CandidateWindows
+
+    rng = np.random.default_rng(7)
+    for trial in range(600):
+        n = int(rng.integers(1, 30))
+        burst = rng.integers(0, 12, n)
+        if trial % 4:
+            burst = np.sort(burst)  # as _windows makes them
+        cw = _CandidateWindows(np.zeros(1), np.arange(n), np.ones(n), np.arange(n) + 1, burst)
+        picked = sorted(set(rng.integers(0, n, int(rng.integers(1, n + 1))).tolist()))
+        ends = sorted(set(burst.tolist()))
+        rank = {b: r for r, b in enumerate(ends)}
+        near = {rank[int(burst[k])] + s for k in picked for s in (-1, 0, 1)}
+        want = [k for k in range(n) if rank[int(burst[k])] in near]
+        got = cw.bursts_of(picked)
+        assert got.first.tolist() == want
+        assert got.burst.tolist() == burst[want].tolist()
