@@ -114,3 +114,26 @@ def test_is_allowed_by_one_clipped_index_equals_per_level_lookup():
         lv = rng.integers(0, 2, n.size).astype(np.uint8)
         want = np.where(lv == 1, np.isin(n, mark), np.isin(n, space))
         np.testing.assert_array_equal(is_allowed(n, lv, table), want)
+
+
+def test_bursts_of_takes_the_bursts_and_their_neighbours():
+    """``_CandidateWindows.bursts_of``: the windows whose burst is one of the given windows'
+    bursts or the burst just before or after it in the order of the bursts (ranks of the
+    distinct burst ends), bursts in train order or not."""
+    from ookframe.decode.framer import _CandidateWindows
+
+    rng = np.random.default_rng(7)
+    for trial in range(600):
+        n = int(rng.integers(1, 30))
+        burst = rng.integers(0, 12, n)
+        if trial % 4:
+            burst = np.sort(burst)  # as _windows makes them
+        cw = _CandidateWindows(np.zeros(1), np.arange(n), np.ones(n), np.arange(n) + 1, burst)
+        picked = sorted(set(rng.integers(0, n, int(rng.integers(1, n + 1))).tolist()))
+        ends = sorted(set(burst.tolist()))
+        rank = {b: r for r, b in enumerate(ends)}
+        near = {rank[int(burst[k])] + s for k in picked for s in (-1, 0, 1)}
+        want = [k for k in range(n) if rank[int(burst[k])] in near]
+        got = cw.bursts_of(picked)
+        assert got.first.tolist() == want
+        assert got.burst.tolist() == burst[want].tolist()
