@@ -134,9 +134,13 @@ def bits_to_int(bits: np.ndarray, bit_order: BitOrder = "msb", byte_order: ByteO
 
 def uint_matrix_to_bits(u: np.ndarray, width_bits: int, bit_order: BitOrder = "msb",
                         byte_order: ByteOrder = "big") -> np.ndarray:
-    """Vectorised int_to_bits: (n,) uint64 -> (n, width_bits) uint8 on-air bits."""
-    shifts = np.arange(width_bits - 1, -1, -1, dtype=np.uint64)
-    msb = ((np.asarray(u, dtype=np.uint64)[:, None] >> shifts) & np.uint64(1)).astype(np.uint8)
+    """Vectorised int_to_bits: (n,) uint64 -> (n, width_bits) uint8 on-air bits (the low
+    ``width_bits`` <= 64 bits of each value; unpacked from its big-endian bytes, a few
+    times cheaper than shifting by every bit position)."""
+    if not 0 <= width_bits <= 64:
+        raise ValueError(f"width_bits must be in 0..64, got {width_bits}")
+    big = np.asarray(u, dtype=np.uint64).astype(">u8")
+    msb = np.unpackbits(big.view(np.uint8).reshape(-1, 8), axis=1)[:, 64 - width_bits:]
     return order_bits(msb, bit_order, byte_order)
 
 

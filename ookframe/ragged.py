@@ -12,5 +12,9 @@ def ragged_index(starts: np.ndarray, lengths: np.ndarray, begin: np.ndarray | No
     when the caller has it."""
     lengths = np.asarray(lengths, dtype=np.int64)
     if begin is None:
-        begin = np.cumsum(lengths) - lengths
-    return np.arange(int(lengths.sum())) + np.repeat(np.asarray(starts) - begin, lengths)
+        begin = lengths.cumsum()
+        total = int(begin[-1]) if begin.size else 0
+        begin -= lengths
+    else:
+        total = int(lengths.sum())
+    return np.arange(total) + (np.asarray(starts) - begin).repeat(lengths)

@@ -17,6 +17,7 @@ from ookframe.bits import (
     to_raw,
     to_signed,
     to_unsigned,
+    uint_matrix_to_bits,
 )
 from ookframe.errors import ValueRangeError
 from ookframe.spec.model import FieldSpec
@@ -152,3 +153,21 @@ def test_air_order_is_order_bits_of_the_indices(width, bit_order, byte_order):
     the plan's bit weights come from one, the encoder's bits from the other)."""
     want = order_bits(np.arange(width), bit_order, byte_order).tolist()
     assert air_order(width, bit_order, byte_order) == want
+
+
+@pytest.mark.parametrize("bit_order", ["msb", "lsb"])
+@pytest.mark.parametrize("byte_order", ["big", "little"])
+def test_uint_matrix_to_bits_is_int_to_bits_per_value(bit_order, byte_order):
+    """Every width 0..64: row i is int_to_bits of value i's low width bits (the one-value
+    form); values with high bits above the width set too, and the largest uint64."""
+    rng = np.random.default_rng(7)
+    u = np.concatenate((rng.integers(0, 2**64 - 1, 40, dtype=np.uint64, endpoint=True),
+                        np.array([0, 1, 2**63, 2**64 - 1], np.uint64)))
+    for width in range(65):
+        got = uint_matrix_to_bits(u, width, bit_order, byte_order)
+        assert got.dtype == np.uint8 and got.shape == (u.size, width)
+        for row, value in zip(got, u.tolist(), strict=True):
+            low = value & ((1 << width) - 1)
+            assert row.tolist() == int_to_bits(low, width, bit_order, byte_order).tolist()
+    with pytest.raises(ValueError, match="width_bits"):
+        uint_matrix_to_bits(u, 65)

@@ -455,3 +455,54 @@ def test_reduced_runs_equal_reduceat(seed):
     assert _same(got, np.add.reduceat(weights, starts))
     if seed % 3 == 0:
         assert np.diff(starts, append=n_slots).max() > sb.UNIT_SUMS_MAX
+
+
+def test_steps_table_grows_to_the_same_values():
+    """Reference: np.arange(1, n + 1) * width (what _min_width stepped by at 3ba4d04),
+    whatever table sizes were asked for before (the table grows in powers of two)."""
+    for w in (0.5, 0.3, 1e-3):
+        for n in (1, 5000, 3000, 1025, 70_000, 131_072, 131_073, 10):
+            got = im._steps_us(n, w)
+            assert _same(got, np.arange(1, n + 1) * w) and not got.flags.writeable
+
+
+@pytest.mark.parametrize("example", ["hive_scale", "coldframe_vent", "gate_sensor",
+                                     "greenhouse_probe", "tank_level"])
+@pytest.mark.parametrize("gap_us", [None, 0.0, 123.5, 1000.1])
+def test_batch_pulse_ends_are_the_running_sum(example, gap_us):
+    """Reference: np.cumsum of the batch train's durations (what apply_channel summed at
+    685f57c), bit for bit; given whenever the join counted in whole quanta (a unit and
+    gaps that are binary fractions), else None."""
+    spec = load_example(example)
+    for unit in (spec.unit_us, 125.0, 1e6 / 2400):
+        s = dataclasses.replace(spec, unit_us=unit)
+        for n in (1, 9):
+            b = sb.random_batch(s, n, np.random.default_rng(n), gap_us=gap_us)
+            gap = float(s.gap_us if gap_us is None else gap_us)
+            exact = sb._exact_scale([unit, gap, float(s.gap_us)], 1e9) is not None
+            if exact:
+                assert _same(b.pulse_ends_us, np.cumsum(b.train.durations_us))
+            else:
+                assert b.pulse_ends_us is None
+
+
+@pytest.mark.parametrize("example", ["hive_scale", "gate_sensor", "tank_level"])
+def test_apply_channel_with_pulse_ends_as_without(example):
+    """Reference: apply_channel without pulse_ends_us (the running sum taken inside, as at
+    685f57c): the same output train, the same draws consumed, the inputs untouched; ends
+    that do not fit the train are ignored."""
+    custom = ChannelSpec(jitter_us=3.0, jitter_kind="uniform", idle_noise_us=5000.0,
+                         glitch_rate_per_ms=0.05, glitch_width_us=20.0, dropout_prob=0.01,
+                         drift_pct_per_s=0.5, mark_bias_us=-3.0)
+    spec = dataclasses.replace(load_example(example), unit_us=250.0)
+    b = sb.random_batch(spec, 7, np.random.default_rng(2))
+    ends = b.pulse_ends_us
+    assert ends is not None
+    kept = ends.copy()
+    for ch in [*PRESETS.values(), custom]:
+        for given in (ends, ends[:-1], np.cumsum(np.ones(len(b.train)))[:-1]):
+            a, g = np.random.default_rng(5), np.random.default_rng(5)
+            want = apply_channel(b.train, ch, a, burst_starts_us=b.starts_us)
+            got = apply_channel(b.train, ch, g, burst_starts_us=b.starts_us, pulse_ends_us=given)
+            assert got == want and a.random() == g.random()
+    assert _same(ends, kept) and _same(ends, np.cumsum(b.train.durations_us))

@@ -263,7 +263,11 @@ def test_kernels_match_reference_on_example_trains(path):
                 # the caller's ratio (if it passes one) is the reference's own d / unit
                 given = kw.pop("ratio", None)
                 assert given is None or _same(given, ratio)
-                g, w = grid_runs(*a, ratio=given, **kw), _ref_grid_runs(*a, **kw)
+                # and its window offsets (if it passes them) the windows' own starts
+                offsets = kw.pop("offsets", None)
+                assert offsets is None or _same(offsets, np.cumsum(lengths) - lengths)
+                g = grid_runs(*a, ratio=given, offsets=offsets, **kw)
+                w = _ref_grid_runs(*a, **kw)
                 for field in ("units", "deviation", "residual", "end_residual"):
                     assert _same(getattr(g, field), getattr(w, field)), (k, seed, field)
                 for x, y in zip(nearest_runs(ratio, lv, table),

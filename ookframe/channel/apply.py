@@ -38,6 +38,7 @@ def apply_channel(
     rng: np.random.Generator,
     *,
     burst_starts_us: np.ndarray | None = None,
+    pulse_ends_us: np.ndarray | None = None,
 ) -> PulseTrain:
     """Return the train as the receiver outputs it after ``channel`` (see ``ORDER``).
 
@@ -47,6 +48,11 @@ def apply_channel(
     by ``channel_time_map_us``. Edges never cross: a pulse narrower than
     ``channel.min_width_us`` is widened to it (pushing the next edge); with quantisation
     a pulse shrunk to nothing vanishes and its neighbours merge.
+
+    ``pulse_ends_us``: where each pulse of ``train`` ends, when the caller has these
+    running sums of its durations at hand with every sum exact (as ``Batch.pulse_ends_us``
+    holds them; the same floats ``np.cumsum`` gives then): used instead of summing the
+    durations again. Ignored unless the train's levels alternate and the lengths agree.
     """
     require_train(train, "train")
     require(channel, ChannelSpec, "channel", "e.g. ookframe.get_preset('ideal')")
@@ -56,7 +62,12 @@ def apply_channel(
     c = channel
     # every kernel below gets toggle times that only this call holds (from_arrays makes a
     # new array; each kernel returns a new one or its input's), so they may work in place
-    e = Edges.from_arrays(train.levels, train.durations_us)
+    lv = train.levels
+    if (pulse_ends_us is not None and pulse_ends_us.shape == lv.shape
+            and (lv[1:] != lv[:-1]).all()):
+        e = Edges.from_ends(lv, pulse_ends_us)
+    else:
+        e = Edges.from_arrays(lv, train.durations_us)
     if c.clock_error_pct or c.drift_pct_per_s:
         e = _k_clock(e, c.clock_error_pct, c.drift_pct_per_s, burst_starts_us)
     if c.mark_bias_us:

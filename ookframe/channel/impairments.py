@@ -43,6 +43,14 @@ class Edges:
         ends = cumsum_us(du)  # a new array: the kernels may work on it in place
         return Edges(int(lv[0]), ends[:-1], float(ends[-1]))
 
+    @staticmethod
+    def from_ends(levels: np.ndarray, ends_us: np.ndarray) -> Edges:
+        """Return the edges of a pulse train of alternating ``levels`` (at least one pulse)
+        whose pulses end at ``ends_us`` (the running sum of the durations, as
+        ``from_arrays`` takes it): the toggles are a copy of the ends, for the kernels to
+        work on in place."""
+        return Edges(int(levels[0]), ends_us[:-1].copy(), float(ends_us[-1]))
+
     def pulse_levels(self) -> np.ndarray:
         """Return the level (uint8) of each pulse."""
         levels = np.empty(self.t_us.size + 1, np.uint8)
@@ -155,12 +163,15 @@ _STEPS_US: dict[float, np.ndarray] = {}
 
 
 def _steps_us(n: int, min_width_us: float) -> np.ndarray:
-    """Return ``np.arange(1, n + 1) * min_width_us`` (read-only; cached per width)."""
+    """Return ``np.arange(1, n + 1) * min_width_us`` (read-only; cached per width, grown to
+    the next power of two so trains of slightly different lengths do not rebuild it: an
+    elementwise product, so a longer table's first ``n`` values are the same floats)."""
     steps = _STEPS_US.get(min_width_us)
     if steps is None or steps.size < n:
         if len(_STEPS_US) >= 8:
             _STEPS_US.clear()
-        steps = np.arange(1, max(n, 1024) + 1) * min_width_us
+        size = 1 << max(n - 1, 1023).bit_length()  # the next power of two >= max(n, 1024)
+        steps = np.arange(1, size + 1) * min_width_us
         steps.flags.writeable = False
         _STEPS_US[min_width_us] = steps
     return steps[:n]
@@ -301,12 +312,14 @@ def _poisson_points_counted(
     # interval r holds the points in [cum[r - 1], cum[r]) (all points lie below cum[-1])
     counts = np.diff(np.searchsorted(pos, cum), prepend=0)
     offset = np.concatenate(([0.0], cum[:-1]))
-    pts = pos - np.repeat(offset, counts)
+    pts = np.subtract(pos, np.repeat(offset, counts), out=pos)  # pos: this call's own array
     pts += np.repeat(starts_us, counts)
     if even and pts.size:
         odd = np.flatnonzero(counts & 1)
-        if odd.size:
-            pts = np.delete(pts, np.cumsum(counts)[odd] - 1)
+        if odd.size:  # each odd interval's last point dropped (np.delete's mask, at hand)
+            keep = np.ones(pts.size, bool)
+            keep[np.cumsum(counts)[odd] - 1] = False
+            pts = pts[keep]
             counts = counts - (counts & 1)
     return pts, counts
 

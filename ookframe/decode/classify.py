@@ -32,6 +32,7 @@ class RunTable:
     same: bool  # both levels allow exactly 1 .. top (then rounding decides)
     lookup: np.ndarray  # (2 x top + 2) bool: lookup[lv, n] for 0 <= n <= top + 1
     by_length: np.ndarray  # lookup transposed and flattened: by_length[2 n + lv]
+    no_zero: bool = False  # neither level allows 0 (so 2 n + lv may be clipped as one index)
 
 
 def run_table(space: tuple[int, ...], mark: tuple[int, ...]) -> RunTable:
@@ -44,7 +45,7 @@ def run_table(space: tuple[int, ...], mark: tuple[int, ...]) -> RunTable:
     for lv in (0, 1):
         lookup[lv, allowed[lv]] = True
     return RunTable(allowed, mids, top, float(top + 1), same, lookup,  # type: ignore[arg-type]
-                    np.ascontiguousarray(lookup.T).ravel())
+                    np.ascontiguousarray(lookup.T).ravel(), not lookup[:, 0].any())
 
 
 def nearest_runs(ratio: np.ndarray, levels: np.ndarray, table: RunTable
@@ -60,15 +61,17 @@ def nearest_runs(ratio: np.ndarray, levels: np.ndarray, table: RunTable
     return units, np.abs(r - units)
 
 
-def _nearest_units(r: np.ndarray, levels: np.ndarray, table: RunTable) -> np.ndarray:
-    """Return the first part of :func:`nearest_runs` (``r``: float64 ratios)."""
+def _nearest_units(r: np.ndarray, levels: np.ndarray, table: RunTable,
+                   marks: np.ndarray | None = None) -> np.ndarray:
+    """Return the first part of :func:`nearest_runs` (``r``: float64 ratios; ``marks``:
+    ``levels == 1``, if at hand)."""
     if table.same:
         units = np.rint(r)
         np.clip(units, 1.0, float(table.top), out=units)
         units = units.astype(np.int64)
     else:  # both levels looked up over the whole array (cheaper than masked parts)
-        units = np.where(levels == 1, _nearest_allowed(table, 1, r),
-                         _nearest_allowed(table, 0, r))
+        units = np.where(levels == 1 if marks is None else marks,
+                         _nearest_allowed(table, 1, r), _nearest_allowed(table, 0, r))
     beyond = r > table.cap_ratio
     if beyond.any():
         units[beyond] = np.rint(r[beyond]).astype(np.int64)
@@ -187,7 +190,8 @@ def _column_running_sums(n: np.ndarray) -> np.ndarray:
 
 def head_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarray,
               head_units: int, iterations: int = 2, *, levels: np.ndarray | None = None,
-              table: RunTable | None = None) -> np.ndarray:
+              table: RunTable | None = None, offsets: np.ndarray | None = None
+              ) -> np.ndarray:
     """Return per window the unit in µs refitted over its pulses of the head.
 
     Each window starts at its first signature pulse; its pulses wholly inside the first
@@ -195,7 +199,8 @@ def head_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarra
     ``unit0_us``) give the least-squares slope of edge time over chip count (every edge
     weighs the same), ``iterations`` times.
     The longer baseline (preamble + sync rather than the signature alone) makes the
-    estimate good enough for long runs right after the sync.
+    estimate good enough for long runs right after the sync. ``offsets``: where each
+    window starts in ``durations_us``, if at hand.
     """
     d = np.asarray(durations_us, dtype=np.float64)
     lengths = np.asarray(lengths, dtype=np.int64)
@@ -206,40 +211,61 @@ def head_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarra
     rows = min(max(head_units, 0), int(lengths.max(initial=0)))
     if rows == 0 or d.size == 0:
         return unit
-    offsets = _offsets(lengths)
+    if offsets is None:
+        offsets = _offsets(lengths)
     row = np.arange(rows)[:, None]
     real = row < lengths  # the window has that pulse
-    at = np.minimum(offsets + row, d.size - 1)
-    # edge times: the running sum over all windows less its value where the window began
-    cs = np.cumsum(d)
-    t = cs[at]
-    t -= np.where(offsets > 0, cs[offsets - 1], 0.0)
+    at = offsets + row
+    np.minimum(at, d.size - 1, out=at)
+    # edge times: the running sum over all windows (after a leading 0) less its value
+    # where the window began
+    cs = np.empty(d.size + 1)
+    cs[0] = 0.0
+    d.cumsum(out=cs[1:])
+    t = cs[at + 1]
+    t -= cs[offsets]
     d = d[at]
-    lv = None if levels is None or table is None else np.asarray(levels)[at]
+    lv = marks = None
+    if levels is not None and table is not None:
+        lv = np.asarray(levels)[at]
+        marks = lv == 1
+    fitted = np.zeros(unit.shape)
     for _ in range(iterations):
         if lv is None:
             n, _ = classify(d, unit)
         else:
-            n = _nearest_units(d / unit, lv, table)  # type: ignore[arg-type]
+            n = _nearest_units(d / unit, lv, table, marks)  # type: ignore[arg-type]
         c = _column_running_sums(n)
         w = ((c <= head_units) & real).astype(np.float64)  # a prefix of every column
         npts = _column_sums(w) + 1.0  # + the origin edge (0, 0)
-        st = _column_sums(t * w)
-        sc = _column_sums(c * w)
-        stc = _column_sums(t * c * w)
-        scc = _column_sums(c * c * w)
+        # the sums below over the rows where some column is still in the head (below them
+        # w is 0: the products are +0.0, which leave a sum of terms >= 0 as it is)
+        used = max(int(npts.max()) - 1, 1)
+        tt, c, w = t[:used], c[:used], w[:used]
+        # (t, c >= 0 and w 0 or 1: (t c) w = (t w) c and (c c) w = (c w) c, the same bits)
+        tw = tt * w
+        cw = c * w
+        st = _column_sums(tw)
+        sc = _column_sums(cw)
+        tw *= c
+        cw *= c
+        stc = _column_sums(tw)
+        scc = _column_sums(cw)
         den = npts * scc - sc * sc
-        with np.errstate(divide="ignore", invalid="ignore"):
-            fitted = (npts * stc - st * sc) / den
-        ok = (npts >= 3) & (den > 0) & (fitted > 0)
-        unit = np.where(ok, fitted, unit)
+        # the fit only where it can hold (elsewhere 0.0, not taken: no 0 / 0 worked out)
+        fit = den > 0
+        np.divide(npts * stc - st * sc, den, out=fitted, where=fit)
+        fit &= npts >= 3
+        fit &= fitted > 0
+        unit = np.where(fit, fitted, unit)
     return unit
 
 
 def track_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarray, *,
                gain: float, tolerance: float, iterations: int = 2,
                max_units: int | None = None, levels: np.ndarray | None = None,
-               table: RunTable | None = None) -> np.ndarray:
+               table: RunTable | None = None, offsets: np.ndarray | None = None
+               ) -> np.ndarray:
     """Return the unit in µs used to classify each pulse, tracking slow clock drift.
 
     First-order loop ``u = u + gain * (d_k / n_k - u)`` started at the window's
@@ -253,27 +279,31 @@ def track_unit(durations_us: np.ndarray, lengths: np.ndarray, unit0_us: np.ndarr
     than ``tolerance`` units do not move the loop (they feed the previous estimate
     back), and no pulse counts for more than ``max_units`` units. With ``levels`` and
     ``table`` pulses go to the nearest allowed run length instead of the nearest whole
-    number.
+    number. ``offsets``: where each window starts in ``durations_us``, if at hand.
     """
     d = np.asarray(durations_us, dtype=np.float64)
     lengths = np.asarray(lengths, dtype=np.int64)
-    u0 = np.repeat(np.asarray(unit0_us, dtype=np.float64), lengths)
+    u0 = np.asarray(unit0_us, dtype=np.float64).repeat(lengths)
     if d.size == 0 or gain <= 0.0:
         return u0
-    offsets = _offsets(lengths)
+    if offsets is None:
+        offsets = _offsets(lengths)
     u_prev = u0
     b, a = [gain], [1.0, gain - 1.0]
+    marks = None if levels is None or table is None else levels == 1
     for _ in range(iterations):
-        if levels is None or table is None:
+        if marks is None:
             n, dev = classify(d, u_prev)
-        else:
-            n, dev = nearest_runs(d / u_prev, levels, table)
+        else:  # nearest_runs, the marks found once
+            r = d / u_prev
+            n = _nearest_units(r, levels, table, marks)  # type: ignore[arg-type]
+            dev = np.abs(r - n)
         if max_units is not None:
             np.minimum(n, max_units, out=n)
         x = d / n
         np.copyto(x, u_prev, where=~(dev <= tolerance))  # off pulses feed the estimate back
         x -= u0
-        y = lfilter(b, a, np.repeat(x, n))
+        y = lfilter(b, a, x.repeat(n))
         u_prev = _restart_windows(y, n, offsets, lengths, u0, gain)
     return u_prev
 
@@ -345,40 +375,79 @@ class _Sums:
     Every sum is ``cs[hi] - cs[lo]`` of one running sum ``cs`` (leading 0): for elements
     whose range no segment edge cuts, ``hi - lo`` is the same, so those differences are
     taken between two slices of ``cs``; only the first ``before`` and last ``after``
-    elements of each segment look their bounds up (``fix``, ``lo``, ``hi``).
+    elements of each segment look their bounds up (``fix``, ``lo``, ``hi``; in no
+    particular order, and an element of a segment shorter than ``before`` or ``after``
+    may be listed twice, with the same bounds).
+    ``first``: where each segment starts (``cumsum(lengths) - lengths``), if at hand.
     """
 
-    def __init__(self, lengths: np.ndarray, before: int, after: int) -> None:
+    def __init__(self, lengths: np.ndarray, before: int, after: int,
+                 first: np.ndarray | None = None) -> None:
         lengths = np.asarray(lengths, dtype=np.int64)
-        self.size = int(lengths.sum())
-        self.before, self.after = before, after
-        first = np.cumsum(lengths) - lengths
+        if first is None:
+            first = lengths.cumsum()
+            first -= lengths
         stop = first + lengths
-        head = np.minimum(lengths, before)
-        tail = np.minimum(lengths, after)
-        fix = np.concatenate((ragged_index(first, head), ragged_index(stop - tail, tail)))
-        seg = np.concatenate((np.repeat(np.arange(lengths.size), head),
-                              np.repeat(np.arange(lengths.size), tail)))
-        self.fix = fix
-        self.lo = np.maximum(fix - before, first[seg])
-        self.hi = np.minimum(fix + (after + 1), stop[seg])
+        self.size = int(stop[-1]) if stop.size else 0
+        self.before, self.after = before, after
+        # per segment (row) its first ``before`` and last ``after`` elements (columns; no
+        # more than the longest segment holds: ``before`` may stand for a whole segment)
+        longest = int(lengths.max(initial=0))
+        nb, na = min(before, longest), min(after, longest)
+        col = np.arange(nb + na)
+        col[nb:] -= nb + na  # 0 .. nb - 1, then -na .. -1 from the stop
+        lo_row, hi_row = first[:, None], stop[:, None]
+        fix = np.where(col >= 0, lo_row, hi_row) + col
+        lo = np.maximum(fix - before, lo_row)
+        hi = np.minimum(fix + (after + 1), hi_row)
+        if stop.size and int(lengths.min()) < max(nb, na):  # short segments
+            real = (fix >= lo_row) & (fix < hi_row)
+            self.fix, self.lo, self.hi = fix[real], lo[real], hi[real]
+        else:
+            self.fix, self.lo, self.hi = fix.ravel(), lo.ravel(), hi.ravel()
         self.first, self.stop = first, stop
 
-    def count_kept(self, dropped: np.ndarray) -> np.ndarray:
+    def count_kept(self, dropped: np.ndarray, *, at_least_one: bool = False,
+                   seg: np.ndarray | None = None) -> np.ndarray:
         """Return (float64) per element how many elements of its range are not at the
         indices ``dropped`` (ascending, distinct): the same values as the moving sums of
         a keep mask (1.0, 0.0 where dropped), which are whole numbers, counted directly
-        (no running sum)."""
+        (no running sum); ``at_least_one``: 1.0 where none is kept (``np.maximum(count,
+        1.0)``: only a range holding a dropped element can count none); ``seg``: the
+        segment of each dropped element, if at hand."""
         count = np.full(self.size, float(self.before + self.after + 1))
         count[self.fix] = self.hi - self.lo  # where a segment edge cuts the range
         if dropped.size:
             # a dropped element is in the ranges of the elements up to ``after`` before
-            # and ``before`` after it, within its segment
-            seg = np.searchsorted(self.stop, dropped, "right")
+            # and ``before`` after it, within its segment (one subtraction per element
+            # and dropped element in its range: whole numbers, exact in any order)
+            if seg is None:
+                seg = self.stop.searchsorted(dropped, "right")
             lo = np.maximum(dropped - self.after, self.first[seg])
             hi = np.minimum(dropped + (self.before + 1), self.stop[seg])
-            count -= np.bincount(ragged_index(lo, hi - lo), minlength=self.size)
+            near = ragged_index(lo, hi - lo)
+            np.subtract.at(count, near, 1.0)
+            if at_least_one:
+                count[near] = np.maximum(count[near], 1.0)
         return count
+
+    def pair(self, re: np.ndarray, im: np.ndarray) -> None:
+        """Replace float64 ``re`` and ``im`` by their moving sums (the values of
+        ``self(re)`` and ``self(im)``): both running sums in one pass, as the parts of one
+        complex running sum (complex numbers add their parts separately, so each part is
+        the same running sum), then the differences per part."""
+        n = self.size
+        cs = np.empty(n + 1, np.complex128)
+        cs[0] = 0
+        cs.real[1:] = re
+        cs.imag[1:] = im
+        np.cumsum(cs[1:], out=cs[1:])
+        w = self.before + self.after + 1
+        fix, hi, lo = self.fix, self.hi, self.lo
+        for part, out in ((cs.real, re), (cs.imag, im)):
+            if n >= w:
+                np.subtract(part[w:], part[:n + 1 - w], out=out[self.before:n - self.after])
+            out[fix] = part[hi] - part[lo]
 
     def __call__(self, x: np.ndarray, out: np.ndarray | None = None) -> np.ndarray:
         """Return the moving sums of ``x`` (into ``out`` if given): the same values as
@@ -407,10 +476,17 @@ def is_allowed(n: np.ndarray, levels: np.ndarray, table: RunTable) -> np.ndarray
         return (n >= 1) & (n <= table.top)
     # the (length, level) table flattened: one look-up per pulse at 2 n + level (shift and
     # add over the whole array: cheaper than adding to the marks picked by a mask)
-    at = np.clip(n, 0, table.top + 1)
-    at <<= 1
+    if not table.no_zero:
+        at = np.clip(n, 0, table.top + 1)
+        at <<= 1
+        at += levels != 0
+        return table.by_length[at]
+    # clipping 2 n + level instead of n: below 0 it finds (0, space) where n < 0 found
+    # (0, level), above the end (top + 1, mark) where n > top + 1 found (top + 1, level):
+    # all False (no level allows 0 or top + 1)
+    at = n << 1
     at += levels != 0
-    return table.by_length[at]
+    return table.by_length.take(at, mode="clip")
 
 
 def _repair(c: np.ndarray, residual: np.ndarray, grid: np.ndarray, pulse_edge: np.ndarray,
@@ -431,24 +507,31 @@ def _repair(c: np.ndarray, residual: np.ndarray, grid: np.ndarray, pulse_edge: n
 
 
 def _repair_moves(residual: np.ndarray, pulse_edge: np.ndarray, n: np.ndarray,
-                  ok: np.ndarray, levels: np.ndarray, table: RunTable
+                  ok: np.ndarray, levels: np.ndarray, table: RunTable,
+                  ends: np.ndarray | None = None
                   ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Return the moves of :func:`_repair` (same arguments): (the edges moved, ascending
-    and distinct; the step of each, +-1.0; the pulse ending at each)."""
-    bad = np.flatnonzero(~ok)
-    e0, e1 = pulse_edge[bad] - 1, pulse_edge[bad]
-    edge = np.where(np.abs(residual[e0]) >= np.abs(residual[e1]), e0, e1)
+    and distinct; the step of each, +-1.0; the pulse ending at each). ``ends``: True at
+    the edges that end a pulse (those of ``pulse_edge``), if at hand."""
+    bad = (~ok).nonzero()[0]
+    e1 = pulse_edge[bad]  # a bad pulse's end edge; its start edge ends the pulse before
+    e0 = e1 - 1
+    back = np.abs(residual[e0]) >= np.abs(residual[e1])
+    edge = np.where(back, e0, e1)
     step = np.where(residual[edge] > 0, 1.0, -1.0)
     # the pulses before and after the chosen edge (a window's first and last edges are
-    # not moved: they bound one pulse only)
-    p_before = np.searchsorted(pulse_edge, edge)  # pulse ending at ``edge``
-    inner = (p_before < pulse_edge.size) & (pulse_edge[np.minimum(p_before, pulse_edge.size
-                                                                  - 1)] == edge)
-    inner &= (p_before + 1 < pulse_edge.size)
-    inner[inner] &= pulse_edge[p_before[inner] + 1] - 1 == edge[inner]
+    # not moved: they bound one pulse only): its start edge must end a pulse, and the
+    # edge after it too (after the last edge of all: edge 0, a window's first)
+    if ends is None:
+        ends = np.zeros(int(pulse_edge[-1]) + 1 if pulse_edge.size else 0, bool)
+        ends[pulse_edge] = True
+    inner = ends[edge]
+    inner &= ends.take(edge + 1, mode="wrap")
+    p_before = bad - back  # the pulse ending at ``edge``
     edge, step, p_before = edge[inner], step[inner], p_before[inner]
-    n_before = n[p_before] + step.astype(np.int64)
-    n_after = n[p_before + 1] - step.astype(np.int64)
+    whole = step.astype(np.int64)
+    n_before = n[p_before] + whole
+    n_after = n[p_before + 1] - whole
     fits = is_allowed(n_before, levels[p_before], table) & is_allowed(
         n_after, levels[p_before + 1], table)
     edge, step, p_before = edge[fits], step[fits], p_before[fits]
@@ -465,10 +548,11 @@ def _phase_turns(x: np.ndarray, dropped: np.ndarray, sums: _Sums, in_place: bool
     parts of ``x`` over the ranges of ``sums``, those at the indices ``dropped`` left
     out: ``np.angle(S) / (2 * np.pi)`` for S the sums of ``np.exp(2j * np.pi * x)``.
 
-    The cosine and sine parts are summed as two real arrays (complex sums add the parts
-    separately, so the values are the same) and the angle is their ``arctan2`` (as
-    ``np.angle`` takes it), at less memory than one complex array; the sums overwrite
-    the parts (fewer fresh pages). ``in_place``: ``x`` may be overwritten.
+    The cosine and sine parts are taken into two real arrays, their running sums in one
+    complex pass (:meth:`_Sums.pair`: complex sums add the parts separately, so the
+    values are the same), and the angle is their ``arctan2`` (as ``np.angle`` takes it,
+    over contiguous parts); the sums overwrite the parts (fewer fresh pages).
+    ``in_place``: ``x`` may be overwritten.
     """
     if in_place:
         turn = x
@@ -480,8 +564,7 @@ def _phase_turns(x: np.ndarray, dropped: np.ndarray, sums: _Sums, in_place: bool
     im = turn
     re[dropped] = 0.0
     im[dropped] = 0.0
-    sums(re, out=re)
-    sums(im, out=im)
+    sums.pair(re, im)
     out = np.arctan2(im, re, out=im)
     out /= 2 * np.pi
     return out
@@ -497,28 +580,40 @@ def _unwrap(p: np.ndarray) -> np.ndarray:
 
 def _unwrap_in_place(p: np.ndarray) -> None:
     """Replace ``p`` by :func:`_unwrap` of it (the same values)."""
-    dd = np.diff(p)
-    big = np.flatnonzero((dd >= 0.5) | (dd <= -0.5))
+    dd = p[1:] - p[:-1]  # np.diff
+    np.abs(dd, out=dd)
+    big = (dd >= 0.5).nonzero()[0]  # the steps of half a period or more, either way
+    del dd
     # before the first corrected step the correction is 0.0, still added: -0.0 becomes 0.0
     p[1:int(big[0]) + 1 if big.size else p.size] += 0.0
     if big.size == 0:
         return
-    step = dd[big]
-    del dd
+    step = p[big + 1] - p[big]  # (p[big] is no -0.0 now; |step| >= 0.5: the same steps)
     mod = np.mod(step + 0.5, 1.0) - 0.5
     mod[(mod == -0.5) & (step > 0)] = 0.5
     # the running sum of the corrections (zero between them: the same sums as a cumsum
-    # over every step), held constant from each corrected step to the next
+    # over every step), held constant from each corrected step to the next: added a
+    # stretch at a time where there are few (the same additions as a repeated array)
     level = np.cumsum(mod - step)
-    p[big[0] + 1:] += np.repeat(level, np.diff(np.append(big, p.size - 1)))
+    if big.size > _FEW_STRETCHES:
+        p[big[0] + 1:] += np.repeat(level, np.diff(np.append(big, p.size - 1)))
+        return
+    stops = big.tolist()[1:] + [p.size - 1]
+    for a, b, v in zip(big.tolist(), stops, level.tolist(), strict=True):
+        p[a + 1:b + 1] += v
+
+
+#: at most this many wraps of a phase are corrected a stretch at a time
+_FEW_STRETCHES = 32
 
 
 def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
               unit_us: np.ndarray, table: RunTable, *, half_window: int = PHASE_HALF_WINDOW,
-              capped: np.ndarray | None = None, ratio: np.ndarray | None = None
-              ) -> GridRuns:
+              capped: np.ndarray | None = None, ratio: np.ndarray | None = None,
+              offsets: np.ndarray | None = None) -> GridRuns:
     # ``unit_us``: one unit per window, or one per pulse (a tracked clock); ``ratio``, if
-    # given, the durations divided by it (``d / np.repeat(unit_us, lengths)``)
+    # given, the durations divided by it (``d / np.repeat(unit_us, lengths)``);
+    # ``offsets``, if given, where each window starts (``cumsum(lengths) - lengths``)
     """Return the run length of every pulse of ragged windows from its edges' places on
     the chip grid, not from its own duration.
 
@@ -540,42 +635,44 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
     """
     d = np.asarray(durations_us, dtype=np.float64)
     lengths = np.asarray(lengths, dtype=np.int64)
-    n_edges = lengths + 1
     if ratio is None:
         u = np.asarray(unit_us, dtype=np.float64)
-        u_pulse = u if u.size == d.size and u.size != lengths.size else np.repeat(u, lengths)
+        u_pulse = u if u.size == d.size and u.size != lengths.size else u.repeat(lengths)
         ratio = d / u_pulse  # durations in (tracked) units
         del u_pulse
+    if offsets is None:
+        offsets = _offsets(lengths)
+    k = lengths.size
+    n_edges = lengths + 1
     # edge times from each window's first edge: per window 0, d0, d0 + d1, ...; every edge
     # but a window's first ends a pulse (``ends``), and ``inner`` says which differences
     # of neighbouring edges are pulses (not the step from one window to the next)
-    e_start = np.cumsum(n_edges) - n_edges
-    ends = np.ones(int(n_edges.sum()), bool)
+    e_start = offsets + np.arange(k)  # window w has w edges before it more than pulses
+    ends = np.ones(d.size + k, bool)
     ends[e_start] = False
     inner = ends[1:]
     # (temporaries are overwritten in place and dropped early where the arithmetic stays
     # the same: fewer fresh pages per call)
     x = np.zeros(ends.size)
     x[ends] = ratio
-    np.cumsum(x, out=x)
-    x -= np.repeat(x[e_start], n_edges)
-    keep = np.ones(x.size)
+    x.cumsum(out=x)
+    x -= x[e_start].repeat(n_edges)
     if capped is not None:
-        dropped = np.flatnonzero(capped)
-        dropped += np.searchsorted(e_start - np.arange(e_start.size), dropped, "right")
+        dropped = capped.nonzero()[0]
+        seg = offsets.searchsorted(dropped, "right")  # one past the window of each
+        dropped += seg  # pulse -> its end edge
+        seg -= 1
     else:
-        dropped = np.zeros(0, np.int64)
-    keep[dropped] = 0.0
+        dropped = seg = np.zeros(0, np.int64)
     # rough phase over +-2 edges (follows a fast drift), unwrapped and averaged over the
     # window; then the circular mean of what is left around it
     b, a = 2 * half_window, LOOK_AHEAD
-    near, wide = _Sums(n_edges, 4, a), _Sums(n_edges, b, a)
+    near, wide = _Sums(n_edges, 4, a, e_start), _Sums(n_edges, b, a, e_start)
     rough = _phase_turns(x, dropped, near)
     del near
     _unwrap_in_place(rough)
-    kept = wide.count_kept(dropped)
-    np.maximum(kept, 1.0, out=kept)
-    rough *= keep
+    kept = wide.count_kept(dropped, at_least_one=True, seg=seg)
+    rough[dropped] *= 0.0  # (a keep mask's product: 0.0 or -0.0 there, the same elsewhere)
     trend = wide(rough, out=rough)
     trend /= kept
     del kept
@@ -589,23 +686,25 @@ def grid_runs(durations_us: np.ndarray, levels: np.ndarray, lengths: np.ndarray,
     del phase
     c = np.rint(grid)
     residual = grid - c
-    n = np.diff(c)[inner].astype(np.int64)
+    n = (c[1:] - c[:-1])[inner].astype(np.int64)  # np.diff
     ok = is_allowed(n, levels, table)
     if not ok.all():  # move the less sure edge of a bad pulse to its other grid point
-        pulse_edge = np.flatnonzero(ends)
-        edge, step, p_before = _repair_moves(residual, pulse_edge, n, ok, levels, table)
+        pulse_edge = ends.nonzero()[0]
+        edge, step, p_before = _repair_moves(residual, pulse_edge, n, ok, levels, table,
+                                             ends)
         c[edge] += step
         residual[edge] = grid[edge] - c[edge]
         # only the pulses on either side of a moved edge change: their lengths (whole
-        # numbers: the same differences as over all edges) and verdicts are redone
-        near = np.unique(np.concatenate((p_before, p_before + 1)))
+        # numbers: the same differences as over all edges) and verdicts are redone (a
+        # pulse listed twice gets the same values twice)
+        near = np.concatenate((p_before, p_before + 1))
         pe = pulse_edge[near]
         n[near] = (c[pe] - c[pe - 1]).astype(np.int64)
         ok[near] = is_allowed(n[near], levels[near], table)
     del c
-    bad = np.flatnonzero(~ok)
+    bad = (~ok).nonzero()[0]
     if bad.size:
-        n[bad] = nearest_runs(ratio[bad], levels[bad], table)[0]
+        n[bad] = _nearest_units(ratio[bad], levels[bad], table)
     ar = np.abs(residual)
     ar[dropped] = 0.0
     dev = np.maximum(ar[:-1], ar[1:])[inner]

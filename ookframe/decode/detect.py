@@ -41,6 +41,19 @@ def edge_tolerance(table: RunTable) -> float:
     return max(MAX_EDGE_OFFSET, run_spacing(table) / 4.0)
 
 
+#: at most this many candidates, find_candidates sums their durations by one running sum
+#: down the columns (cheaper per call), else by one add per edge (cheaper per element)
+FEW_COLUMNS = 128
+
+
+def _chips(r: np.ndarray) -> np.ndarray:
+    """Return the chip count at each edge of runs of lengths ``r``: ``[0, cumsum(r)]``
+    as float64 (the running sum written in place)."""
+    c = np.zeros(r.size + 1)
+    np.cumsum(r, out=c[1:], dtype=np.float64)
+    return c
+
+
 def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np.ndarray,
                     sig_units: np.ndarray, unit_us: float, table: RunTable,
                     clock_error: float, *, edges_us: np.ndarray | None = None
@@ -77,7 +90,8 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
     if k == 0 or n <= 0:
         return np.zeros(0, np.int64), np.zeros(0)
     r = sig_units.astype(np.float64)
-    tol = edge_tolerance(table)
+    spacing = run_spacing(table)
+    tol = max(MAX_EDGE_OFFSET, spacing / 4.0)  # edge_tolerance(table)
     lo_us = np.maximum(r - 2 * tol, 0.0) * (1.0 - clock_error) * unit_us
     hi_us = np.minimum(r + 2 * tol, table.cap_ratio) * (1.0 + clock_error) * unit_us
     cand = np.flatnonzero(_runs_fit(levels, durations_us, sig_levels, lo_us, hi_us))
@@ -87,12 +101,18 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
     # edge times from each candidate's first edge: the running sums of its k durations,
     # built as the rows of an (edge, candidate) array ``tt``, one vector add per edge (the
     # same sums in the same order as a running sum along each candidate, at far less
-    # cost than one over many short rows), then transposed for the fit
+    # cost than one over many short rows), then transposed for the fit; the durations
+    # are gathered straight into ``tt`` (mode "clip": every index is in range, so the
+    # same values, without the copy numpy's default mode makes of its output). For few
+    # candidates one running sum down the columns does the same adds in one call.
     tt = np.empty((k + 1, cand.size))
     tt[0] = 0.0
-    np.take(durations_us, cand + np.arange(k)[:, None], out=tt[1:])
-    for j in range(2, k + 1):
-        tt[j] += tt[j - 1]
+    np.take(durations_us, cand + np.arange(k)[:, None], out=tt[1:], mode="clip")
+    if cand.size <= FEW_COLUMNS:
+        np.cumsum(tt, axis=0, out=tt)
+    else:
+        for j in range(2, k + 1):
+            tt[j] += tt[j - 1]
     t = tt.T.copy()
     d = sliding_window_view(durations_us, k)[cand] if k < SHORT_SIGNATURE_RUNS else None
     scratch = np.empty_like(t)
@@ -103,7 +123,7 @@ def find_candidates(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np
     # values as over the rows in range alone)
     with np.errstate(invalid="ignore", over="ignore"):
         line_worst = _worst_edge_columns(tt, r, unit, offset)
-    if run_spacing(table) > 1:  # the line, else the best grid (see above)
+    if spacing > 1:  # the line, else the best grid (see above)
         worst = np.where(ok, line_worst, np.inf)
         miss = np.flatnonzero(worst >= MAX_EDGE_OFFSET)
         if miss.size:
@@ -142,24 +162,47 @@ def _runs_fit(levels: np.ndarray, durations_us: np.ndarray, sig_levels: np.ndarr
 
     One pass over the train per distinct (level, bounds) of the signature (a preamble
     has few), then the signature's tests ANDed along it as shifted slices: cheaper than
-    narrowing the positions run by run (the same values: every test is per pulse).
+    narrowing the positions run by run (the same values: every test is per pulse). A
+    test that recurs at evenly spaced runs (a periodic preamble) is ANDed over all its
+    shifts by doubling (:func:`_and_over_shifts`): AND is exact in any order and grouping.
     """
     k = sig_levels.size
     n = durations_us.size - k + 1
-    tests: dict[tuple[int, float, float], np.ndarray] = {}
+    shifts: dict[tuple[int, float, float], list[int]] = {}
+    for j, key in enumerate(zip(sig_levels.tolist(), lo_us.tolist(), hi_us.tolist(),
+                                strict=True)):
+        shifts.setdefault(key, []).append(j)
     fits = np.ones(n, bool)
-    for j in range(k):
-        key = (int(sig_levels[j]), float(lo_us[j]), float(hi_us[j]))
-        ok = tests.get(key)
-        if ok is None:
-            ok = levels == sig_levels[j]
-            ok &= durations_us > lo_us[j]
-            ok &= durations_us < hi_us[j]
-            tests[key] = ok
-        fits &= ok[j:j + n]
+    for (level, lo, hi), js in shifts.items():
+        ok = levels == level
+        ok &= durations_us > lo
+        ok &= durations_us < hi
+        _and_over_shifts(fits, ok, js)
     return fits
 
 
+def _and_over_shifts(fits: np.ndarray, ok: np.ndarray, js: list[int]) -> None:
+    """AND into ``fits`` (length n) ``ok[j:j + n]`` for every shift j of ``js`` (ascending,
+    ``ok`` long enough for the last). Evenly spaced shifts j0 + q p (q < m) take about
+    2 log2(m) passes: the AND of 2h shifts is that of h shifts and of the same h moved
+    by h p, and m's binary digits say which of these blocks to AND in."""
+    n = fits.size
+    j0, m = js[0], len(js)
+    p = js[1] - j0 if m > 1 else 1
+    if m < 4 or js != list(range(j0, j0 + m * p, p)):
+        for j in js:
+            fits &= ok[j:j + n]
+        return
+    block = ok[j0:]  # block[i]: the AND over h shifts from j0 + i (h = 1, 2, 4, ...)
+    h, done = 1, 0
+    while True:
+        if m & h:
+            fits &= block[done * p:done * p + n]
+            done += h
+        if 2 * h > m:
+            return
+        block = block[:-h * p] & block[h * p:]
+        h *= 2
 #: fits whose worst edge offsets differ by less than this (units) count as equally good
 FIT_STEP = 0.1
 #: steps by which the best fit must beat the latest candidate to be framed as well
@@ -177,11 +220,20 @@ def _one_per_cluster(cand: np.ndarray, unit: np.ndarray, worst: np.ndarray, k: i
     the clock (short signatures), leaving some edge far off its chip: then the best fit
     is the true one. Both are framed; a frame found from the earlier one covers the other.
     """
-    cluster = np.concatenate(([0], np.cumsum(np.diff(cand) >= k)))
+    n = cand.size
+    split = cand[1:] - cand[:-1] >= k  # a new cluster starts after each True
+    cluster = np.zeros(n, np.int64)
+    np.cumsum(split, dtype=np.int64, out=cluster[1:])
     score = np.floor(worst / FIT_STEP)
     order = np.lexsort((-cand, score, cluster))  # per cluster: best score, latest first
-    best_i = order[np.concatenate(([True], cluster[order][1:] != cluster[order][:-1]))]
-    last = np.append(cluster[1:] != cluster[:-1], True)
+    sorted_cluster = cluster[order]
+    first = np.empty(n, bool)
+    first[0] = True
+    np.not_equal(sorted_cluster[1:], sorted_cluster[:-1], out=first[1:])
+    best_i = order[first]
+    last = np.empty(n, bool)  # the latest of each cluster
+    last[:-1] = split
+    last[-1] = True
     last_i = np.flatnonzero(last)
     # the best fit also, where it is clearly better than the latest (by CLEARLY_BETTER)
     clearly = score[best_i] <= score[last_i] - CLEARLY_BETTER
@@ -192,7 +244,7 @@ def _one_per_cluster(cand: np.ndarray, unit: np.ndarray, worst: np.ndarray, k: i
     # ends at a clearly worse fit (a shift reaching into the sync) is a place the sync may
     # follow, so the latest of each such run is framed too.
     good = score < score[best_i][cluster] + CLEARLY_BETTER
-    keep[:-1] |= good[:-1] & ~good[1:] & (cluster[1:] == cluster[:-1])
+    keep[:-1] |= good[:-1] & ~good[1:] & ~split
     return cand[keep], unit[keep]
 
 def _spans_fit(cand: np.ndarray, durations_us: np.ndarray, r: np.ndarray, max_unit_us: float,
@@ -210,20 +262,19 @@ def _spans_fit(cand: np.ndarray, durations_us: np.ndarray, r: np.ndarray, max_un
     k = r.size
     if k < 4 or cand.size == 0:
         return cand
-    c = np.concatenate(([0.0], np.cumsum(r)))
+    c = _chips(r)
     t = pulse_edges_us(durations_us) if edges_us is None else edges_us
     begin = t[cand]
     total = t[cand + k] - begin
-    # every test over all candidates, worked out in place, and one selection at the end
-    # (cheaper than narrowing three arrays after each test; the same verdicts)
-    keep = np.ones(cand.size, bool)
-    for j in sorted({k * q // 8 for q in range(1, 8)} - {0}):
-        part = t[cand + j]
-        part -= begin
-        part *= c[k]
-        part -= c[j] * total
-        np.abs(part, out=part)
-        keep &= part <= 2 * tol * (c[k] + c[j]) * max_unit_us
+    # every test over all candidates at once, one row per tested edge j (the same
+    # operations, element by element, as one test after the other)
+    js = np.array(sorted({k * q // 8 for q in range(1, 8)} - {0}))
+    part = t[cand + js[:, None]]
+    part -= begin
+    part *= c[k]
+    part -= c[js][:, None] * total
+    np.abs(part, out=part)
+    keep = (part <= (2 * tol * (c[k] + c[js]) * max_unit_us)[:, None]).all(axis=0)
     return cand[keep]
 
 
@@ -247,14 +298,23 @@ def _fit_line(t: np.ndarray, r: np.ndarray, scratch: np.ndarray | None = None
               ) -> tuple[np.ndarray, np.ndarray]:
     """Return (unit, offset) of :func:`_edge_line` from its edge times ``t``; ``scratch``
     (the shape of ``t``) holds the centred times if given."""
-    c = np.concatenate(([0.0], np.cumsum(r)))
-    cm = c.mean()
-    tm = t.mean(axis=1)
+    c = _chips(r)
+    # the means as numpy's mean works them out (a sum, then one division by the count)
+    cm = np.add.reduce(c) / c.size
+    tm = np.add.reduce(t, axis=1)
+    tm /= t.shape[1]
     centred = np.subtract(t, tm[:, None], out=scratch)
-    slope = (centred @ (c - cm)) / ((c - cm) @ (c - cm))
+    dc = c - cm
+    slope = (centred @ dc) / (dc @ dc)
     unit = np.where(slope > 0, slope, np.nan)
     offset = (tm - slope * cm) / unit
     return unit, offset
+
+
+#: at most this many edge offsets (heads x edges) a step, :func:`_minimax_edge` searches
+#: head by head in Python floats (cheaper than numpy's cost per call), else all heads at
+#: once in arrays; the same values
+SCALAR_WORK = 96
 
 
 def _minimax_edge(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: float, *,
@@ -267,39 +327,87 @@ def _minimax_edge(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: f
     In the inverse unit v the offset of edge j is t_j v - c_j - o, linear in (v, o); the
     best o halves the spread of t_j v - c_j, and that spread is convex (a maximum of
     linear functions less a minimum of them) in v: a golden-section search over v finds
-    its minimum, all rows at once (every row on its own: the rows' values do not depend
-    on the other rows). The edges are laid out as the rows of one array, the heads as
-    its columns, so the largest and smallest offsets are taken across rows (``tt``: that
-    array, C-ordered, if the caller has it).
+    its minimum, every row on its own (the rows' values do not depend on the other
+    rows). Few rows are searched one by one in Python floats (:func:`_minimax_rows`),
+    more all at once in arrays (:func:`_minimax_columns`; ``tt``: ``t.T``, C-ordered,
+    if the caller has it): the same values.
     """
-    c = np.concatenate(([0.0], np.cumsum(r)))[:, None]
+    if t.shape[0] * t.shape[1] <= SCALAR_WORK:
+        return _minimax_rows(t, r, lo_unit_us, hi_unit_us)
     if tt is None:
         tt = np.ascontiguousarray(t.T)
+    return _minimax_columns(tt, r, lo_unit_us, hi_unit_us)
+
+
+def _minimax_rows(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: float
+                  ) -> tuple[np.ndarray, np.ndarray]:
+    """Return :func:`_minimax_edge` of rows ``t`` (the same values), row by row in Python
+    floats: each elementwise step (``*``, ``-``, ``/``) is the same IEEE double operation
+    as numpy's on float64, and a largest or smallest value is exact in any order; the
+    times are finite (candidates' durations are bounded), so no NaN orders differently."""
+    cs = _chips(r).tolist()
+    phi = (math.sqrt(5.0) - 1.0) / 2.0
+    lo_v, hi_v = 1.0 / hi_unit_us, 1.0 / lo_unit_us
+    units: list[float] = []
+    worst: list[float] = []
+    for row in t.tolist():
+        edges = list(zip(row, cs, strict=True))
+
+        def half_spread(v: float, edges: list[tuple[float, float]] = edges) -> float:
+            e = [tj * v - cj for tj, cj in edges]
+            return (max(e) - min(e)) / 2.0
+
+        a, b = lo_v, hi_v
+        step = (b - a) * phi
+        x1, x2 = b - step, a + step
+        f1, f2 = half_spread(x1), half_spread(x2)
+        for _ in range(MINIMAX_STEPS):
+            if f1 <= f2:  # the minimum lies in [a, x2]
+                b, x2, f2 = x2, x1, f1
+                x1 = b - (b - a) * phi
+                f1 = half_spread(x1)
+            else:
+                a, x1, f1 = x1, x2, f2
+                x2 = a + (b - a) * phi
+                f2 = half_spread(x2)
+        units.append(1.0 / (x1 if f1 <= f2 else x2))
+        worst.append(f1 if f1 <= f2 else f2)
+    return np.array(units, dtype=np.float64), np.array(worst, dtype=np.float64)
+
+
+def _minimax_columns(tt: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: float
+                     ) -> tuple[np.ndarray, np.ndarray]:
+    """Return :func:`_minimax_edge` for edge times laid out as columns (``tt``: one
+    column per row of ``t``), all rows at once: the largest and smallest offsets are
+    taken across rows of ``tt``, which numpy does a whole row at a time."""
+    c = _chips(r)[:, None]
     buf = np.empty_like(tt)
 
     def half_spread(v: np.ndarray) -> np.ndarray:
         e = np.multiply(tt, v, out=buf)
-        e -= c
-        out = e.max(axis=0)
-        out -= e.min(axis=0)
+        np.subtract(e, c, out=e)
+        out = np.maximum.reduce(e, axis=0)
+        out -= np.minimum.reduce(e, axis=0)
         out /= 2.0
         return out
 
-    a = np.full(t.shape[0], 1.0 / hi_unit_us)
-    b = np.full(t.shape[0], 1.0 / lo_unit_us)
+    a = np.full(tt.shape[1], 1.0 / hi_unit_us)
+    b = np.full(tt.shape[1], 1.0 / lo_unit_us)
     phi = (math.sqrt(5.0) - 1.0) / 2.0
-    x1, x2 = b - phi * (b - a), a + phi * (b - a)
+    step = b - a
+    step *= phi
+    x1, x2 = b - step, a + step
     f1, f2 = half_spread(x1), half_spread(x2)
     for _ in range(MINIMAX_STEPS):
         left = f1 <= f2  # the minimum lies in [a, x2]
         b = np.where(left, x2, b)
         a = np.where(left, a, x1)
-        x2n = np.where(left, x1, a + phi * (b - a))
-        x1n = np.where(left, b - phi * (b - a), x2)
-        new = np.where(left, x1n, x2n)
+        step = b - a
+        step *= phi  # phi (b - a) once, for both ends
+        new = np.where(left, b - step, a + step)
         fn = half_spread(new)
+        x1, x2 = np.where(left, new, x2), np.where(left, x1, new)
         f1, f2 = np.where(left, fn, f2), np.where(left, f1, fn)
-        x1, x2 = x1n, x2n
     return 1.0 / np.where(f1 <= f2, x1, x2), np.minimum(f1, f2)
 
 
@@ -318,7 +426,7 @@ def _spread_floor(t: np.ndarray, r: np.ndarray, lo_unit_us: float, hi_unit_us: f
     spread at either end of the range gives two lines under h; the smallest value of the
     larger of them over the range (at an end or where they cross) is under h's minimum.
     """
-    c = np.concatenate(([0.0], np.cumsum(r)))
+    c = _chips(r)
     lo_v, hi_v = 1.0 / hi_unit_us, 1.0 / lo_unit_us
     rows = np.arange(t.shape[0])
 
@@ -346,7 +454,7 @@ def _worst_edge_columns(tt: np.ndarray, r: np.ndarray, unit: np.ndarray, offset:
     """Return :func:`_worst_edge` of ``tt.T`` (the same values) for edge times laid out as
     columns (one per row of ``t``): every element is worked out alike, and the largest
     is taken across rows of ``tt``, which numpy does a whole row at a time."""
-    c = np.concatenate(([0.0], np.cumsum(r)))[:, None]
+    c = _chips(r)[:, None]
     w = np.divide(tt, unit, out=np.empty_like(tt))
     w -= offset
     w -= c
@@ -359,7 +467,7 @@ def _worst_edge(t: np.ndarray, r: np.ndarray, unit: np.ndarray, offset: np.ndarr
     """Return per row the largest distance (units) of an edge at times ``t`` from the
     line ``unit``, ``offset`` (see :func:`_edge_line`) for rows with run lengths ``r``
     (``out``: space the shape of ``t`` to work in)."""
-    c = np.concatenate(([0.0], np.cumsum(r)))
+    c = _chips(r)
     w = np.divide(t, unit[:, None], out=out)
     w -= offset[:, None]
     w -= c

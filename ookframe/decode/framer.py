@@ -507,24 +507,22 @@ def _anchors(d: np.ndarray, short: np.ndarray, min_us: float, low_us: float) -> 
     the ``ANCHOR_CONTEXT_PULSES`` on each side all but ``ANCHOR_SHORT_NEIGHBOURS`` at least
     ``min_us``, and none shorter than ``low_us`` (a shrunk pulse, not receiver noise);
     beyond the train's ends: idle."""
-    keep = np.arange(short.size)
+    n = max(ANCHOR_CONTEXT_PULSES, 2)
+    # per pulse, with n pulses of idle (at least min_us, not below low_us) either side:
+    # whether it is at least min_us (counted) and whether it is below low_us
+    longer = np.ones(d.size + 2 * n, np.int8)
+    np.greater_equal(d, min_us, out=longer[n:n + d.size].view(bool))
+    shorter = np.zeros(d.size + 2 * n, bool)
+    np.less(d, low_us, out=shorter[n:n + d.size])
     # the 2 either side first (all but one kept): most noise fails there
-    for n, spare in ((2, 1), (ANCHOR_CONTEXT_PULSES, ANCHOR_SHORT_NEIGHBOURS)):
-        at = short[keep]
-        longer = np.zeros(at.size, np.int64)  # neighbours at least min_us
-        shorter = np.zeros(at.size, bool)  # a neighbour below low_us
-        for k in itertools.chain(range(-n, 0), range(1, n + 1)):
-            v = d.take(at + k, mode="clip")  # wrong only at the train's ends: redone below
-            longer += v >= min_us
-            shorter |= v < low_us
-        ends = np.flatnonzero((at < n) | (at >= d.size - n))
-        if ends.size:
-            j = at[ends][:, None] + np.concatenate((np.arange(-n, 0), np.arange(1, n + 1)))
-            ctx = np.where((j >= 0) & (j < d.size), d[np.clip(j, 0, d.size - 1)], np.inf)
-            longer[ends] = (ctx >= min_us).sum(axis=1)
-            shorter[ends] = (ctx < low_us).any(axis=1)
-        keep = keep[(longer >= 2 * n - spare) & ~shorter]
-    return keep
+    at = short + n
+    near = longer[at - 2] + longer[at - 1] + longer[at + 1] + longer[at + 2]
+    keep = np.flatnonzero((near >= 3) & ~(shorter[at - 2] | shorter[at - 1]
+                                          | shorter[at + 1] | shorter[at + 2]))
+    m = ANCHOR_CONTEXT_PULSES  # then the few left against their wider context
+    j = at[keep][:, None] + np.concatenate((np.arange(-m, 0), np.arange(1, m + 1)))
+    return keep[(longer[j].sum(axis=1) >= 2 * m - ANCHOR_SHORT_NEIGHBOURS)
+                & ~shorter[j].any(axis=1)]
 
 
 @dataclass(frozen=True, eq=False)
@@ -549,7 +547,16 @@ class _CandidateWindows:
 
     def bursts_of(self, windows: list[int]) -> _CandidateWindows:
         """Return the windows in the bursts of ``windows`` and the bursts next to them."""
-        ids = np.unique(self.burst, return_inverse=True)[1]
+        b = self.burst
+        if b.size and bool((b[1:] >= b[:-1]).all()):
+            # the bursts ascend (windows in train order): a burst's rank counts the changes
+            # before it, as ``np.unique``'s inverse does
+            ids = np.zeros(b.size, np.int64)
+            np.cumsum(b[1:] != b[:-1], out=ids[1:])
+            want = np.zeros(int(ids[-1]) + 3, bool)  # rank r at r + 1: r - 1 >= -1 fits
+            want[ids[np.asarray(windows, np.int64)][:, None] + np.arange(3)] = True
+            return self.select(want[ids + 1])
+        ids = np.unique(b, return_inverse=True)[1]
         near = np.unique(ids[np.asarray(windows, np.int64)][:, None] + np.arange(-1, 2))
         return self.select(np.isin(ids, near))
 

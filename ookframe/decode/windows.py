@@ -53,32 +53,35 @@ def classify_windows(spec: FrameSpec, hm: HeadModel, dur: np.ndarray, first: np.
     """
     dec = spec.decoder
     length = stop - first
-    offset = np.concatenate(([0], np.cumsum(length)[:-1]))
-    idx = ragged_index(first, length)
+    offset = length.cumsum()
+    offset -= length
+    idx = ragged_index(first, length, offset)
     d = dur[idx]
     lv = levels[idx]
     table = hm.runs
     start_unit = head_unit(d, length, unit0, hm.body_chip - int(hm.prefix_units.sum()),
-                           levels=lv, table=table)
+                           levels=lv, table=table, offsets=offset)
     if grid:
-        unit = np.repeat(start_unit, length)
+        unit = start_unit.repeat(length)
         ratio = d / unit
         capped = ratio > table.cap_ratio
         g = grid_runs(d, lv, length, start_unit, table, capped=capped,
-                      half_window=phase_half_window(dec.loop_gain), ratio=ratio)
+                      half_window=phase_half_window(dec.loop_gain), ratio=ratio,
+                      offsets=offset)
         n, dev = g.units, g.deviation  # fresh arrays: capped pulses are set below
         end_res = g.end_residual
     else:  # duration by duration, with the tracking loop (follows a fast-drifting clock)
         unit = track_unit(d, length, start_unit, gain=dec.loop_gain, tolerance=dec.tolerance,
-                          max_units=hm.cap_units + 1, levels=lv, table=table)
+                          max_units=hm.cap_units + 1, levels=lv, table=table,
+                          offsets=offset)
         ratio = d / unit
         capped = ratio > table.cap_ratio
         n, dev = nearest_runs(ratio, lv, table)
         end_res = np.zeros(d.size)
     # the few capped pulses: each window ends at its first (ascending, so the first of
     # each window is its first occurrence)
-    cap_at = np.flatnonzero(capped)
-    cap_window = np.searchsorted(offset, cap_at, side="right") - 1
+    cap_at = capped.nonzero()[0]
+    cap_window = offset.searchsorted(cap_at, "right") - 1
     first_of = np.ones(cap_window.size, bool)
     first_of[1:] = cap_window[1:] != cap_window[:-1]
     windows_capped = cap_window[first_of]
@@ -113,11 +116,17 @@ class WindowRuns:
 def lay_out(hm: HeadModel, ws: Windows, levels: np.ndarray) -> WindowRuns:
     """Return the runs of every window of ``ws`` laid end to end (see :class:`WindowRuns`)."""
     k = ws.first.size
-    m = ws.length.astype(np.int64)
-    n_pre = int(hm.prefix_units.size)
-    at = ragged_index(ws.offset, m)
-    meas_units = ws.units[at]
-    chips = int(hm.prefix_units.sum()) + np.add.reduceat(meas_units, np.cumsum(m) - m) \
+    m = np.asarray(ws.length, dtype=np.int64)
+    prefix_levels, prefix_units = hm.prefix_levels, hm.prefix_units
+    n_pre = int(prefix_units.size)
+    if int(m.sum()) == ws.units.size:  # no window was cut short: all their pulses, in order
+        meas_units, meas_levels, m_start = ws.units, ws.levels, ws.offset
+    else:
+        m_start = m.cumsum()
+        m_start -= m
+        at = ragged_index(ws.offset, m)
+        meas_units, meas_levels = ws.units[at], ws.levels[at]
+    chips = int(prefix_units.sum()) + np.add.reduceat(meas_units, m_start) \
         if k else np.zeros(0, np.int64)
     last_level = levels[ws.first + m - 1]
     gap = np.zeros(k, np.int64)
@@ -128,21 +137,24 @@ def lay_out(hm: HeadModel, ws: Windows, levels: np.ndarray) -> WindowRuns:
             gap[1:] = np.where(g > 0, g, np.where(last_level[:-1] == 1, cpb, 0))
         else:
             gap[1:] = np.where(last_level[:-1] == 1, hm.cap_units, 0)
-    has_gap = (gap > 0).astype(np.int64)
-    run_stop = np.cumsum(has_gap + n_pre + m)
+    has_gap = gap > 0
+    run_stop = (m + n_pre + has_gap).cumsum()
     run_start = run_stop - n_pre - m
     total = int(run_stop[-1]) if k else 0
     lv = np.zeros(total, np.uint8)
     un = np.empty(total, np.int64)
-    gaps = run_start[has_gap > 0] - 1
-    un[gaps] = gap[has_gap > 0]
+    gaps = run_start[has_gap] - 1
+    un[gaps] = gap[has_gap]
     pre = run_start[:, None] + np.arange(n_pre)
-    lv[pre] = hm.prefix_levels
-    un[pre] = hm.prefix_units
-    dest = ragged_index(run_start + n_pre, m)
-    lv[dest] = ws.levels[at]  # the windows' pulses of ``levels``: the same values
+    lv[pre] = prefix_levels
+    un[pre] = prefix_units
+    dest = np.ones(total, bool)  # the measured pulses: every run but the gaps and prefixes
+    dest[gaps] = False
+    dest[pre] = False
+    lv[dest] = meas_levels  # the windows' pulses of ``levels``: the same values
     un[dest] = meas_units
-    chip0 = np.cumsum(un) - un
+    chip0 = un.cumsum()
+    chip0 -= un
     return WindowRuns(lv, un, chip0, run_start, run_stop, n_pre)
 
 

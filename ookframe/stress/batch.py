@@ -21,7 +21,9 @@ class Batch:
     starts_us / ends_us: where transmission i begins (first chip) and ends (last chip
     of its last repeat), in µs from the train start. payload_hex: the fields section of
     transmission i as ``DecodedFrame.payload_hex`` reports it (field bytes as packed on
-    air, un-whitened).
+    air, un-whitened). pulse_ends_us: where each pulse of ``train`` ends (the running sum
+    of its durations, every sum exact) when the join counted it exactly, else None; for
+    ``apply_channel(..., pulse_ends_us=)``, which then need not sum the durations again.
     """
 
     train: PulseTrain
@@ -29,6 +31,7 @@ class Batch:
     ends_us: np.ndarray
     payload_hex: tuple[str, ...]
     gap_us: float
+    pulse_ends_us: np.ndarray | None = None
 
     @property
     def n(self) -> int:
@@ -103,13 +106,38 @@ def _join_slots(plan: FramePlan, slots: tuple[np.ndarray, np.ndarray, np.ndarray
     gap_w = np.full(gap_slot.size, float(gap))
     if r > 1:
         gap_w[1:].reshape(-1, r)[:, :-1] = plan.gap_us
-    starts = np.flatnonzero(np.concatenate(([True], levels[1:] != levels[:-1])))
+    changed = np.empty(levels.size, bool)
+    changed[0] = True
+    np.not_equal(levels[1:], levels[:-1], out=changed[1:])
+    starts = np.flatnonzero(changed)
     widths = (float(gap), float(plan.gap_us)) if r > 1 else (float(gap),)  # gap_w's values
-    train = PulseTrain(levels[starts],
-                       _run_durations_us(levels.size, starts, unit, gap_slot, gap_w, widths))
+    counted = _run_quanta(levels.size, starts, unit, gap_slot, gap_w, widths)
+    if counted is None:
+        durations_us = _reduced_runs_us(levels.size, starts, unit, gap_slot, gap_w)
+        pulse_ends_us = None
+    else:  # whole quanta: every duration and every running sum of them exact
+        quanta, q_us = counted
+        pulse_ends_us = _times_q(np.cumsum(quanta, out=quanta), q_us)
+        # differences of exact multiples of q_us below 2**52 of it: exact, quanta * q_us
+        durations_us = np.empty(pulse_ends_us.size)
+        durations_us[0] = pulse_ends_us[0]
+        np.subtract(pulse_ends_us[1:], pulse_ends_us[:-1], out=durations_us[1:])
+    train = PulseTrain(_run_levels(levels, starts), durations_us)
     tx_us = r * lens * unit + (r - 1) * plan.gap_us
     begin = gap + np.concatenate(([0.0], np.cumsum(tx_us + gap)[:-1]))
-    return Batch(train, begin, begin + tx_us, payload, gap)
+    return Batch(train, begin, begin + tx_us, payload, gap, pulse_ends_us)
+
+
+def _run_levels(levels: np.ndarray, starts: np.ndarray) -> np.ndarray:
+    """Return ``levels[starts]`` for the starts of the runs of equal ``levels`` (uint8):
+    when every level is 0 or 1, neighbouring runs differ, so the run levels alternate from
+    ``levels[0]`` and are written out instead of gathered from the slots."""
+    if int(levels.max()) > 1:
+        return levels[starts]
+    out = np.empty(starts.size, np.uint8)
+    out[0::2] = levels[0]
+    out[1::2] = 1 - levels[0]
+    return out
 
 
 def _slot_levels(
@@ -174,18 +202,43 @@ def _run_durations_us(
     below 2**52 of it, every sum is exact in any order, so runs are counted instead (the
     same floats as the reduction then). ``gap_widths``: the values ``gap_us`` takes (at
     least those; default: found from ``gap_us``)."""
+    counted = _run_quanta(n_slots, starts, unit_us, gap_slot, gap_us, gap_widths)
+    if counted is None:
+        return _reduced_runs_us(n_slots, starts, unit_us, gap_slot, gap_us)
+    quanta, q_us = counted
+    return _times_q(quanta, q_us)
+
+
+def _times_q(quanta: np.ndarray, q_us: float) -> np.ndarray:
+    """Return ``quanta * q_us`` (float64) for whole quanta below 2**53 and ``q_us`` a power
+    of two: converted, then scaled in place (exact both; cheaper than the mixed product)."""
+    out = quanta.astype(np.float64)
+    out *= q_us
+    return out
+
+
+def _run_quanta(
+    n_slots: int, starts: np.ndarray, unit_us: float, gap_slot: np.ndarray, gap_us: np.ndarray,
+    gap_widths: tuple[float, ...] | None = None,
+) -> tuple[np.ndarray, float] | None:
+    """Return (the summed weights of :func:`_run_durations_us` in whole quanta, int64; the
+    quantum in µs, a power of two) when every weight is a whole number of one power-of-two
+    quantum and all their sums stay below 2**52 quanta (then ``quanta * q_us`` and every
+    running sum of it times ``q_us`` are exact: the floats any order of float additions
+    gives), else None."""
     bound = (n_slots - gap_slot.size) * unit_us + float(gap_us.sum())
     widths = np.unique(gap_us).tolist() if gap_widths is None else list(gap_widths)
-    if not _sums_exact([unit_us, *widths], bound):
-        return _reduced_runs_us(n_slots, starts, unit_us, gap_slot, gap_us)
-    durations_us = np.empty(starts.size)  # slots per run, then chips per run, then µs
-    np.subtract(starts[1:], starts[:-1], out=durations_us[:-1])
-    durations_us[-1] = n_slots - starts[-1]
+    scale = _exact_scale([unit_us, *widths], bound)
+    if scale is None:
+        return None
+    quanta = np.empty(starts.size, np.int64)  # slots per run, then chips per run, then quanta
+    np.subtract(starts[1:], starts[:-1], out=quanta[:-1])
+    quanta[-1] = n_slots - starts[-1]
     run = np.searchsorted(starts, gap_slot, side="right") - 1
-    np.subtract.at(durations_us, run, 1.0)
-    durations_us *= unit_us
-    np.add.at(durations_us, run, gap_us)
-    return durations_us
+    np.subtract.at(quanta, run, 1)
+    quanta *= int(unit_us * scale)  # exact: unit_us * scale is a whole number below 2**52
+    np.add.at(quanta, run, (gap_us * scale).astype(np.int64))
+    return quanta, 1.0 / scale
 
 
 #: longest run of chip slots whose sum is looked up in ``_unit_sums_us`` (longer ones, and
@@ -238,12 +291,13 @@ def _reduced_runs_us(n_slots: int, starts: np.ndarray, unit_us: float, gap_slot:
     return out
 
 
-def _sums_exact(values: list[float], bound: float) -> bool:
-    """True when every value is >= +0.0 and a multiple of one power of two ``q`` with
-    ``bound / q < 2**52`` (then every sum of them up to ``bound`` is exact)."""
+def _exact_scale(values: list[float], bound: float) -> int | None:
+    """Return ``1 / q`` when every value is >= +0.0 and a multiple of one power of two
+    ``q`` with ``bound / q < 2**52`` (then every sum of them up to ``bound`` is exact;
+    ``1 / q``: the largest denominator of the values, a power of two), else None."""
     scale = 1
     for v in values:
         if not math.isfinite(v) or math.copysign(1.0, v) < 0:
-            return False
+            return None
         scale = max(scale, v.as_integer_ratio()[1])
-    return math.isfinite(bound) and bound * scale < 2.0**52
+    return scale if math.isfinite(bound) and bound * scale < 2.0**52 else None

@@ -131,8 +131,10 @@ def match_frames(batch: Batch, decoded: Sequence, time_map_us: np.ndarray) -> Co
         decoded = list(decoded)
     n = batch.n
     m = len(decoded)
-    start_us = np.fromiter((fr.start_us for fr in decoded), np.float64, m)
-    crc_ok = np.fromiter((bool(fr.crc_ok) for fr in decoded), bool, m)
+    # list comprehensions, then one conversion each (cheaper than generators; a bool
+    # array takes each value's truth as bool() does)
+    start_us = np.fromiter([fr.start_us for fr in decoded], np.float64, m)
+    crc_ok = np.fromiter([fr.crc_ok for fr in decoded], bool, m)
     window = np.searchsorted(time_map_us, start_us, side="right") - 1
     inside = (window >= 0) & (window < n)
     got_any = np.zeros(n, bool)
@@ -163,9 +165,7 @@ def _payload_right(
     payload is the one sent in that window (bool array)."""
     sent = batch.payload_hex
     pairs = zip(frames.tolist(), windows.tolist(), strict=True)
-    return np.fromiter(
-        (decoded[k].payload_hex == sent[i] for k, i in pairs), bool, frames.size
-    )
+    return np.fromiter([decoded[k].payload_hex == sent[i] for k, i in pairs], bool, frames.size)
 
 
 def reference_decoder(spec: object, train: PulseTrain) -> list:
@@ -212,7 +212,8 @@ def run_chunk(
         rx = apply_physical(batch.train, channel, rng, burst_starts_us=batch.starts_us)
         bounds = physical_time_map_us(bounds, channel, batch.starts_us)
     else:
-        rx = apply_channel(batch.train, channel, rng, burst_starts_us=batch.starts_us)
+        rx = apply_channel(batch.train, channel, rng, burst_starts_us=batch.starts_us,
+                           pulse_ends_us=batch.pulse_ends_us)
         bounds = channel_time_map_us(bounds, channel, batch.starts_us)
     decoded = (reference_decoder(receiver, rx) if decoder is None
                else decoder(plan.spec, rx))
