@@ -542,3 +542,26 @@ def test_no_stuffing_is_identity():
     assert np.array_equal(lc.stuff(b), b) and np.array_equal(lc.unstuff(b), b)
     assert lc.max_run_units is None and lc.max_stuffed_bits(40) == 0
     assert code("manchester").max_stuffed_bits(40) == 0
+
+
+BLOCK_CODES = [name for name, cls in sorted(LINE_CODES.items()) if issubclass(cls, BlockCode)]
+
+
+@pytest.mark.parametrize("name", BLOCK_CODES)
+def test_block_encode_equals_codeword_by_codeword(name):
+    """Every block code of the registry: ``encode`` of 1-D and 2-D bits (rows of several
+    lengths, empty ones included) equals the codewords written out block by block in
+    Python (data block MSB first, codeword chips MSB first, as the class docstring says)."""
+    lc = LINE_CODES[name](LineCodeSpec(name=name))
+    k, n = lc.DATA_BITS, lc.CODE_CHIPS
+    rng = np.random.default_rng(11)
+    for shape in ((0,), (k,), (k * 9,), (5, k * 7), (3, 0), (40, k * 33)):
+        bits = rng.integers(0, 2, shape).astype(np.uint8)
+        rows = bits.reshape(int(np.prod(shape[:-1])), shape[-1])
+        want = [[int(c) for i in range(0, row.size, k)
+                 for c in format(lc.codewords[int("".join(map(str, row[i:i + k])), 2)],
+                                 f"0{n}b")] for row in rows]
+        got = lc.encode(bits)
+        assert got.dtype == np.uint8
+        assert got.shape == (*shape[:-1], shape[-1] // k * n)
+        assert got.reshape(rows.shape[0], shape[-1] // k * n).tolist() == want

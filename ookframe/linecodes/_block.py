@@ -42,6 +42,16 @@ class BlockCode(LineCode):
         return np.array(self.codewords, dtype=np.uint8)
 
     @cached_property
+    def _chip_table(self) -> np.ndarray:
+        """(2 ** k x n) uint8: the chips (first sent first) of every data block value."""
+        return ((self._encode_table[:, None] >> self._chip_shifts) & 1).astype(np.uint8)
+
+    @cached_property
+    def _chip_columns(self) -> tuple[np.ndarray, ...]:
+        """Column j of :attr:`_chip_table` (contiguous): chip j of every block value."""
+        return tuple(np.ascontiguousarray(c) for c in self._chip_table.T)
+
+    @cached_property
     def _decode_table(self) -> np.ndarray:
         inv = np.full(1 << self.CODE_CHIPS, -1, dtype=np.int16)
         inv[self._encode_table] = np.arange(len(self.codewords), dtype=np.int16)
@@ -104,9 +114,11 @@ class BlockCode(LineCode):
             raise ValueError(f"{self.name} codes {k} bits per block; got {b.shape[-1]} bits")
         blocks = b.reshape(*b.shape[:-1], b.shape[-1] // k, k)
         values = (blocks << self._data_shifts).sum(axis=-1, dtype=np.uint8) if k > 1 else blocks[..., 0]
-        words = self._encode_table[values]
-        chips = (words[..., None] >> self._chip_shifts) & 1
-        return chips.reshape(*b.shape[:-1], values.shape[-1] * self.CODE_CHIPS).astype(np.uint8)
+        # chip j of every block: one lookup of the table's column j, written in place
+        chips = np.empty((*values.shape, self.CODE_CHIPS), np.uint8)
+        for j, column in enumerate(self._chip_columns):
+            np.take(column, values, out=chips[..., j])
+        return chips.reshape(*b.shape[:-1], values.shape[-1] * self.CODE_CHIPS)
 
     def encode_rows(self, bits: np.ndarray, lengths: np.ndarray
                     ) -> tuple[np.ndarray, np.ndarray]:
